@@ -1,0 +1,193 @@
+/**
+ * RFC 9457 problem details. The only place that maps error kinds to HTTP statuses.
+ */
+import type { FastifyReply } from 'fastify';
+import { DomainError, ERROR_CATALOGUE, type ErrorCode, type ErrorKind, type FieldProblem } from '../core/errors.js';
+
+export const PROBLEM_CONTENT_TYPE = 'application/problem+json';
+
+const STATUS_OF_KIND: Record<ErrorKind, number> = {
+  invalid: 400,
+  unauthenticated: 401,
+  forbidden: 403,
+  'not-found': 404,
+  conflict: 409,
+  'too-large': 413,
+  unprocessable: 422,
+  'rate-limited': 429,
+  internal: 500,
+  unavailable: 503,
+};
+
+export function statusOf(code: ErrorCode): number {
+  return STATUS_OF_KIND[ERROR_CATALOGUE[code].kind];
+}
+
+/** Problem type URI, relative to the service; GET on it describes the code. */
+export function problemType(code: ErrorCode): string {
+  return `/problems/${code.toLowerCase().replace(/_/g, '-')}`;
+}
+
+export function codeFromSlug(slug: string): ErrorCode | undefined {
+  const code = slug.toUpperCase().replace(/-/g, '_');
+  return Object.prototype.hasOwnProperty.call(ERROR_CATALOGUE, code) ? (code as ErrorCode) : undefined;
+}
+
+export interface Problem {
+  type: string;
+  title: string;
+  status: number;
+  detail: string;
+  code: ErrorCode;
+  instance?: string;
+  errors?: FieldProblem[];
+  /** For formula and equation errors: the text and a caret line under the bad character. */
+  text?: string;
+  position?: number;
+  caret?: string;
+  params?: Record<string, unknown>;
+}
+
+export function problem(code: ErrorCode, detail: string, extra: Partial<Problem> = {}): Problem {
+  return {
+    type: problemType(code),
+    title: ERROR_CATALOGUE[code].title,
+    status: statusOf(code),
+    detail,
+    code,
+    ...extra,
+  };
+}
+
+export function problemFromDomainError(e: DomainError, instance?: string): Problem {
+  const p = problem(e.code, e.detail, {});
+  if (instance) p.instance = instance;
+  if (e.fields.length > 0) p.errors = [...e.fields];
+  if (e.text !== undefined) p.text = e.text;
+  if (e.position !== undefined) p.position = e.position;
+  const caret = e.caret();
+  if (caret !== undefined) p.caret = caret;
+  if (Object.keys(e.params).length > 0) p.params = jsonSafe(e.params) as Record<string, unknown>;
+  return p;
+}
+
+function jsonSafe(x: unknown): unknown {
+  return JSON.parse(JSON.stringify(x, (_k, v) => (typeof v === 'bigint' ? v.toString() : v)));
+}
+
+export function sendProblem(reply: FastifyReply, p: Problem): FastifyReply {
+  return reply.code(p.status).header('content-type', PROBLEM_CONTENT_TYPE).send(JSON.stringify(p));
+}
+
+/** An ajv error as Fastify hands it over (only the fields we read). */
+export interface AjvLikeError {
+  instancePath?: string;
+  keyword?: string;
+  message?: string;
+  params?: Record<string, unknown>;
+  schemaPath?: string;
+}
+
+function describeValue(v: unknown): string {
+  if (v === undefined) return 'nothing';
+  const s = JSON.stringify(v);
+  return s.length > 40 ? s.slice(0, 37) + '...' : s;
+}
+
+function valueAt(root: unknown, pointer: string): unknown {
+  if (pointer === '') return root;
+  let cur: unknown = root;
+  for (const raw of pointer.split('/').slice(1)) {
+    const key = raw.replace(/~1/g, '/').replace(/~0/g, '~');
+    if (cur === null || typeof cur !== 'object') return undefined;
+    cur = (cur as Record<string, unknown>)[key];
+  }
+  return cur;
+}
+
+function escapeToken(t: string): string {
+  return t.replace(/~/g, '~0').replace(/\//g, '~1');
+}
+
+/**
+ * Turn ajv errors into field problems with proper RFC 6901 pointers (ajv's instancePath
+ * already is one; a missing or unknown property is appended to it) and sentences
+ * that say what is accepted.
+ */
+export function fieldProblemsFromAjv(errors: readonly AjvLikeError[], data: unknown, prefix = ''): FieldProblem[] {
+  const out: FieldProblem[] = [];
+  const seen = new Set<string>();
+  // anyOf/oneOf produce a summary error plus one per branch; keep the most specific ones.
+  for (const err of errors) {
+    const base = err.instancePath ?? '';
+    const params = err.params ?? {};
+    let pointer = base;
+    let message: string;
+    const got = valueAt(data, base);
+    switch (err.keyword) {
+      case 'required': {
+        const missing = String(params['missingProperty'] ?? '');
+        pointer = `${base}/${escapeToken(missing)}`;
+        message = `"${missing}" is required`;
+        break;
+      }
+      case 'additionalProperties': {
+        const extra = String(params['additionalProperty'] ?? '');
+        pointer = `${base}/${escapeToken(extra)}`;
+        message = `"${extra}" is not a known field here (check its spelling)`;
+        break;
+      }
+      case 'enum': {
+        const allowed = (params['allowedValues'] as unknown[] | undefined) ?? [];
+        message = `must be one of ${allowed.map((a) => JSON.stringify(a)).join(', ')}; got ${describeValue(got)}`;
+        break;
+      }
+      case 'const':
+        message = `must be ${JSON.stringify(params['allowedValue'])}; got ${describeValue(got)}`;
+        break;
+      case 'type':
+        message = `must be of type ${String(params['type'])}; got ${describeValue(got)}`;
+        break;
+      case 'minimum':
+      case 'maximum':
+      case 'exclusiveMinimum':
+      case 'exclusiveMaximum': {
+        const op = { minimum: '>=', maximum: '<=', exclusiveMinimum: '>', exclusiveMaximum: '<' }[err.keyword];
+        message = `must be ${op} ${String(params['limit'])}; got ${describeValue(got)}`;
+        break;
+      }
+      case 'minLength':
+      case 'maxLength':
+        message = `${err.message ?? 'has the wrong length'}; got ${describeValue(got)}`;
+        break;
+      case 'pattern':
+      case 'format':
+        message = `${err.message ?? 'has the wrong format'}; got ${describeValue(got)}`;
+        break;
+      case 'anyOf':
+      case 'oneOf':
+        message = `does not match any accepted form; got ${describeValue(got)}`;
+        break;
+      default:
+        message = `${err.message ?? 'is not valid'}; got ${describeValue(got)}`;
+    }
+    const full = prefix + pointer;
+    const key = `${full}|${message}`;
+    if (seen.has(key)) continue;
+    seen.add(key);
+    out.push({ pointer: full, message });
+  }
+  // If both a summary anyOf error and specific branch errors exist at the same pointer, the
+  // branch errors are more useful; drop the summary only when something more specific exists.
+  const specific = new Set(out.filter((p) => !p.message.startsWith('does not match any accepted form')).map((p) => p.pointer));
+  return out.filter((p) => !(p.message.startsWith('does not match any accepted form') && [...specific].some((s) => s.startsWith(p.pointer + '/') || s === p.pointer)));
+}
+
+export function validationProblem(fields: FieldProblem[], where: string): Problem {
+  const first = fields[0];
+  const detail =
+    fields.length === 1 && first
+      ? `${where} field ${first.pointer || '(root)'} ${first.message}`
+      : `${fields.length} ${where} fields are invalid: ${fields.map((f) => f.pointer || '(root)').join(', ')}`;
+  return problem('VALIDATION_FAILED', detail, { errors: fields });
+}

@@ -1,0 +1,109 @@
+/**
+ * Schema-first routes with zod as the single source of truth.
+ *
+ * Each route's zod schemas are turned once into JSON Schema (z.toJSONSchema, draft-07) so
+ * that Fastify's own compiled validator (ajv) and serializer (fast-json-stringify) do the
+ * per-request work: measured here at about 0.6 of a bare route, against about 0.4 for the
+ * zod type provider (npm run bench prints both). Request schemas therefore carry only
+ * checks JSON Schema can state (types, ranges, enums, required, no unknown fields);
+ * checks that depend on other fields (a range in the unit the caller chose) are done by
+ * the domain and reported with the same pointers.
+ */
+import type { FastifyInstance, FastifyReply, FastifyRequest, RouteShorthandOptions } from 'fastify';
+import { z } from 'zod';
+
+const cache = new WeakMap<z.ZodType, { input?: object; output?: object }>();
+
+export function jsonSchemaOf(schema: z.ZodType, io: 'input' | 'output'): Record<string, unknown> {
+  let entry = cache.get(schema);
+  if (!entry) {
+    entry = {};
+    cache.set(schema, entry);
+  }
+  const hit = entry[io];
+  if (hit) return hit as Record<string, unknown>;
+  const js = z.toJSONSchema(schema, { target: 'draft-7', io, unrepresentable: 'any' }) as Record<string, unknown>;
+  delete js['$schema'];
+  entry[io] = js;
+  return js;
+}
+
+export interface RouteSpec<
+  B extends z.ZodType | undefined,
+  Q extends z.ZodType | undefined,
+  P extends z.ZodType | undefined,
+> {
+  method: 'GET' | 'POST';
+  url: string;
+  summary: string;
+  description?: string;
+  tags: string[];
+  body?: B;
+  querystring?: Q;
+  params?: P;
+  /** Response schemas by status; 200/201 bodies are serialized by their schema. */
+  response?: Record<number, z.ZodType>;
+  /** Extra content types this route can produce besides JSON (for the OpenAPI document). */
+  produces?: string[];
+  /** Requires a bearer token (documented in OpenAPI). */
+  auth?: boolean;
+  bodyLimit?: number;
+  config?: Record<string, unknown>;
+  handler: (
+    req: FastifyRequest & {
+      body: B extends z.ZodType ? z.output<B> : undefined;
+      query: Q extends z.ZodType ? z.output<Q> : Record<string, never>;
+      params: P extends z.ZodType ? z.output<P> : Record<string, never>;
+    },
+    reply: FastifyReply,
+  ) => Promise<unknown>;
+}
+
+export const problemJsonSchema = {
+  type: 'object',
+  description: 'RFC 9457 problem details',
+  properties: {
+    type: { type: 'string' },
+    title: { type: 'string' },
+    status: { type: 'integer' },
+    detail: { type: 'string' },
+    code: { type: 'string' },
+    errors: {
+      type: 'array',
+      items: { type: 'object', properties: { pointer: { type: 'string' }, message: { type: 'string' } } },
+    },
+  },
+  required: ['type', 'title', 'status', 'detail'],
+} as const;
+
+export function defineRoute<
+  B extends z.ZodType | undefined = undefined,
+  Q extends z.ZodType | undefined = undefined,
+  P extends z.ZodType | undefined = undefined,
+>(app: FastifyInstance, spec: RouteSpec<B, Q, P>): void {
+  const schema: Record<string, unknown> = {
+    summary: spec.summary,
+    tags: spec.tags,
+  };
+  if (spec.description) schema['description'] = spec.description;
+  if (spec.body) schema['body'] = jsonSchemaOf(spec.body, 'input');
+  if (spec.querystring) schema['querystring'] = jsonSchemaOf(spec.querystring, 'input');
+  if (spec.params) schema['params'] = jsonSchemaOf(spec.params, 'input');
+  const response: Record<string, unknown> = {};
+  for (const [status, s] of Object.entries(spec.response ?? {})) {
+    response[status] = jsonSchemaOf(s, 'output');
+  }
+  response['4xx'] = { ...problemJsonSchema, description: 'Problem details (RFC 9457), application/problem+json' };
+  schema['response'] = response;
+  if (spec.produces) schema['produces'] = ['application/json', ...spec.produces];
+  if (spec.auth) schema['security'] = [{ bearer: [] }];
+  const opts: RouteShorthandOptions = { schema };
+  if (spec.bodyLimit) opts.bodyLimit = spec.bodyLimit;
+  if (spec.config) opts.config = spec.config;
+  app.route({
+    method: spec.method,
+    url: spec.url,
+    ...opts,
+    handler: spec.handler as unknown as (req: FastifyRequest, reply: FastifyReply) => Promise<unknown>,
+  });
+}
