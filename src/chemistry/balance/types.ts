@@ -23,6 +23,8 @@ export interface HalfReaction extends Reaction {
   readonly oxidised: Species;
   readonly reduced: Species;
   readonly medium: Medium;
+  /** Set when the couple alone does not fix the balance and a convention chose it (e.g. O3/O2: one O3 to one O2). */
+  readonly convention?: string;
 }
 
 export interface Couple {

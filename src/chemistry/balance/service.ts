@@ -1,0 +1,99 @@
+/**
+ * Balancing from text input: parse every formula (errors carry the field pointer),
+ * balance, and shape the answer. Used by the HTTP route and the CLI.
+ */
+import { DomainError, isDomainError } from '../../core/errors.js';
+import { formatUnicode, parseFormula } from '../formula/index.js';
+import type { Species } from '../formula/types.js';
+import { balanceReaction, balanceRedox, mediumForPH } from './index.js';
+import type { Medium, Reaction, Term } from './types.js';
+
+export interface BalanceTextInput {
+  reactants?: readonly string[];
+  products?: readonly string[];
+  oxidant?: { from: string; to: string };
+  reductant?: { from: string; to: string };
+  medium?: Medium | undefined;
+  pH?: number | undefined;
+}
+
+export function parseAt(text: string, pointer: string, elements?: ReadonlySet<string>): Species {
+  try {
+    return elements ? parseFormula(text, { elements }) : parseFormula(text);
+  } catch (e) {
+    if (isDomainError(e)) throw e.under(pointer);
+    throw e;
+  }
+}
+
+function termsOut(terms: readonly Term[]) {
+  return terms.map((t) => ({ species: t.species.text, coefficient: Number(t.coefficient), side: t.side }));
+}
+
+function unicodeEquation(r: Reaction): string {
+  const side = (s: 'reactant' | 'product') =>
+    r.terms
+      .filter((t) => t.side === s)
+      .map((t) => (t.coefficient === 1n ? '' : t.coefficient.toString()) + formatUnicode(t.species.text))
+      .join(' + ');
+  return `${side('reactant')} → ${side('product')}`;
+}
+
+export function chooseMedium(medium: Medium | undefined, pH: number | undefined): { medium: Medium; reason: string } {
+  if (medium) return { medium, reason: 'medium given by the caller' };
+  if (pH !== undefined) {
+    const m = mediumForPH(pH);
+    return { medium: m, reason: `pH ${pH} ${m === 'base' ? '> 7: basic medium (OH-, H2O)' : '≤ 7: acidic medium (H+, H2O)'}` };
+  }
+  return { medium: 'acid', reason: 'no medium or pH given: acidic medium, as standard potential tables are written' };
+}
+
+export function balanceService(input: BalanceTextInput, elements?: ReadonlySet<string>) {
+  if (input.reactants && input.products) {
+    const reactants = input.reactants.map((t, i) => parseAt(t, `/reactants/${i}`, elements));
+    const products = input.products.map((t, i) => parseAt(t, `/products/${i}`, elements));
+    const r = balanceReaction({ reactants, products });
+    return {
+      kind: 'reaction' as const,
+      equation: r.equation,
+      equationUnicode: unicodeEquation(r),
+      terms: termsOut(r.terms),
+      electrons: r.electrons,
+      method: 'Null space of the element-and-charge matrix over exact rationals; smallest whole coefficients',
+    };
+  }
+  if (input.oxidant && input.reductant) {
+    const oxidant = { from: parseAt(input.oxidant.from, '/oxidant/from', elements), to: parseAt(input.oxidant.to, '/oxidant/to', elements) };
+    const reductant = {
+      from: parseAt(input.reductant.from, '/reductant/from', elements),
+      to: parseAt(input.reductant.to, '/reductant/to', elements),
+    };
+    const { medium, reason } = chooseMedium(input.medium, input.pH);
+    let r;
+    try {
+      r = balanceRedox({ oxidant, reductant, medium });
+    } catch (e) {
+      if (isDomainError(e) && e.code === 'BALANCE_COUPLE_DIRECTION') {
+        // Say which couple is backwards, by trying each half alone.
+        throw e.fields.length ? e : new DomainError(e.code, { detail: e.detail, params: e.params, fields: [{ pointer: '/oxidant', message: e.detail }] });
+      }
+      throw e;
+    }
+    return {
+      kind: 'redox' as const,
+      equation: r.equation,
+      equationUnicode: unicodeEquation(r),
+      terms: termsOut(r.terms),
+      electrons: r.electrons,
+      medium,
+      mediumReason: reason,
+      halfReactions: {
+        reduction: { equation: r.reduction.equation, electrons: r.reduction.electrons, ...(r.reduction.convention ? { convention: r.reduction.convention } : {}) },
+        oxidation: { equation: r.oxidation.equation, electrons: r.oxidation.electrons, ...(r.oxidation.convention ? { convention: r.oxidation.convention } : {}) },
+      },
+      multipliers: { oxidant: Number(r.multipliers.oxidant), reductant: Number(r.multipliers.reductant) },
+      method: 'Half-reaction method: each couple completed with H2O and H+ (acid) or OH- (base) and electrons, electrons matched by their least common multiple, exact rationals',
+    };
+  }
+  throw new DomainError('VALIDATION_FAILED', { detail: 'Give reactants and products, or an oxidant and a reductant couple.' });
+}

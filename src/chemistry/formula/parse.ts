@@ -1,0 +1,386 @@
+/**
+ * Formula notation
+ * ================
+ *
+ * Elements   A capital letter followed by any lowercase letters: Fe, Cl, Mn, O. The symbol must be
+ *            one of the 118 IUPAC element symbols (or, when the caller passes a set, one of the
+ *            symbols of its atomic-weights table). "CL" is C and L, and L is not an element.
+ * Counts     A whole number of at least 1 after an element or a group: H2O, Fe2(SO4)3.
+ *            Subscript digits are read as counts too (H₂O).
+ * Groups     Parentheses and square brackets, nested to any depth, with an optional count:
+ *            Fe(OH)3, Ca(OCl)2, K4[Fe(CN)6].
+ * Hydrates   Parts joined by "·", "." or "*", each part after the first with an optional leading
+ *            multiplier: CuSO4·5H2O, Ca(OCl)2.4H2O, Na2CO3*10H2O. Spaces around the dot are allowed.
+ * Charge     Written after the formula, before any phase label:
+ *              ^ form, always accepted and never ambiguous: MnO4^-, SO4^2-, Fe^3+, MnO4^2-, NH4^+
+ *              repeated signs: SO4-- (charge 2-), Fe+++ (charge 3+)
+ *              one trailing sign: charge 1+ or 1-, any digits before it are a count:
+ *                MnO4- (four O, charge 1-), NH4+, HCO3-, ClO2-, OH-, H+, Fe(OH)2+
+ *              a monatomic ion written as ONE element symbol, ONE digit and a sign: the digit is the
+ *                charge: Fe2+, Fe3+, Mn2+, Ca2+, S2-
+ *              superscripts: SO₄²⁻, Fe³⁺
+ *            Refused as ambiguous (FORMULA_AMBIGUOUS_CHARGE, naming both readings; use the ^ form):
+ *              two or more digits before a single sign: SO42- (SO4^2- or SO42^-?), MnO42-, HPO42-;
+ *              digits after a closing square bracket then a sign: [Fe(H2O)6]3+ (charge 3+ or count 3?).
+ *            Note: by the one-sign rule FeOH2+ reads as FeOH2^+ (count 2); write FeOH^2+ for the
+ *            hydroxo-iron(III) ion. Likewise O2- reads as the oxide ion O^2-; write O2^- for superoxide.
+ * Phase      At the very end, after any charge: (s), (l), (g), (aq): Fe(OH)3(s), Fe2+(aq), O2(g).
+ *            A space before the label is allowed.
+ * Electron   "e-" (also "e^-", "e−"): composition {}, charge 1-.
+ * Spaces     Not allowed inside a formula except around a hydrate dot and before a phase label.
+ *
+ * Every error is a DomainError (FORMULA_EMPTY, FORMULA_SYNTAX, FORMULA_UNKNOWN_ELEMENT,
+ * FORMULA_AMBIGUOUS_CHARGE) with `text` = the formula (or the equation it stands in) and
+ * `position` = the 0-based index of the character at fault.
+ *
+ * Grammar (recursive descent over the tokens of tokens.ts):
+ *   species  := electron | formula charge? phase? END
+ *   formula  := part (DOT multiplier? part)*
+ *   part     := item+
+ *   item     := ELEMENT count? | "(" item+ ")" count? | "[" item+ "]" count?
+ *   charge   := "^" NUMBER? SIGN+ | SIGN+ | SUPCHARGE
+ */
+import { DomainError } from '../../core/errors.js';
+import { IUPAC_ELEMENTS, lex, quote, type Token } from './tokens.js';
+import type { Phase, Species } from './types.js';
+
+export interface ElementItem {
+  readonly kind: 'element';
+  readonly symbol: string;
+  count: number;
+  readonly pos: number;
+}
+export interface GroupItem {
+  readonly kind: 'group';
+  readonly bracket: '(' | '[';
+  readonly items: readonly Item[];
+  count: number;
+  readonly pos: number;
+}
+export type Item = ElementItem | GroupItem;
+
+export interface FormulaPart {
+  readonly multiplier: number | null;
+  readonly items: readonly Item[];
+}
+
+/** The parsed structure of a formula; the formatters typeset from it. */
+export interface FormulaAst {
+  readonly electron: boolean;
+  readonly parts: readonly FormulaPart[];
+  readonly charge: number;
+  readonly phase: Phase | null;
+}
+
+export interface ParseOptions {
+  /** Accepted element symbols (default: the 118 IUPAC symbols). Pass the symbols of the atomic-weights table to refuse elements it has no weight for. */
+  readonly elements?: ReadonlySet<string>;
+}
+
+const ELECTRON_SPELLINGS = new Set(['e-', 'e^-', 'e−', 'e^−', 'e⁻']);
+
+/** Parse a formula such as "MnO4-", "Fe(OH)3(s)", "CuSO4·5H2O", "SO4^2-" or "e-". */
+export function parseFormula(text: string, options: ParseOptions = {}): Species {
+  const trimmed = text.trim();
+  return parseFormulaIn(trimmed, 0, trimmed.length, options.elements ?? IUPAC_ELEMENTS).species;
+}
+
+/** Parse a formula and return its structure too (for typesetting). */
+export function parseFormulaAst(text: string, options: ParseOptions = {}): { species: Species; ast: FormulaAst } {
+  const trimmed = text.trim();
+  return parseFormulaIn(trimmed, 0, trimmed.length, options.elements ?? IUPAC_ELEMENTS);
+}
+
+/**
+ * Parse the formula in source[start, end). Errors carry `text` = the whole source and
+ * positions into it, so a formula inside an equation is reported in place.
+ */
+export function parseFormulaIn(
+  source: string,
+  start: number,
+  end: number,
+  elements: ReadonlySet<string>,
+): { species: Species; ast: FormulaAst } {
+  while (start < end && /\s/.test(source[start] as string)) start++;
+  while (end > start && /\s/.test(source[end - 1] as string)) end--;
+  const text = source.slice(start, end);
+  if (text === '') {
+    throw new DomainError('FORMULA_EMPTY', {
+      detail: source.trim() === ''
+        ? 'The formula is empty; enter a chemical formula such as "MnO4-", "Fe2+" or "Fe(OH)3(s)"'
+        : `In ${quote(source)} a formula is missing at position ${start}; enter a chemical formula such as "MnO4-" or "Fe2+"`,
+      text: source,
+      position: start,
+      params: { formula: source },
+    });
+  }
+  if (ELECTRON_SPELLINGS.has(text)) {
+    return {
+      species: { text, composition: {}, charge: -1, phase: null },
+      ast: { electron: true, parts: [], charge: -1, phase: null },
+    };
+  }
+  const tokens = lex({ source, start, end }, elements);
+  const ast = new Parser(source, start, tokens).species();
+  const composition: Record<string, number> = {};
+  for (const part of ast.parts) addItems(composition, part.items, part.multiplier ?? 1);
+  return { species: { text, composition, charge: ast.charge, phase: ast.phase }, ast };
+}
+
+function addItems(into: Record<string, number>, items: readonly Item[], factor: number): void {
+  for (const item of items) {
+    if (item.kind === 'element') into[item.symbol] = (into[item.symbol] ?? 0) + item.count * factor;
+    else addItems(into, item.items, item.count * factor);
+  }
+}
+
+function describe(t: Token): string {
+  switch (t.kind) {
+    case 'element':
+      return `the element ${quote(t.symbol)}`;
+    case 'number':
+      return `the number ${quote(t.digits)}`;
+    case 'open':
+      return `${quote(t.bracket)}`;
+    case 'close':
+      return `${quote(t.bracket)}`;
+    case 'dot':
+      return `the hydrate dot ${quote(t.char)}`;
+    case 'caret':
+      return '"^"';
+    case 'sign':
+      return `the sign ${quote(t.sign > 0 ? '+' : '-')}`;
+    case 'supcharge':
+      return 'a superscript charge';
+    case 'phase':
+      return `the phase label (${t.phase})`;
+    case 'end':
+      return 'the end';
+  }
+}
+
+const CLOSER = { '(': ')', '[': ']' } as const;
+const BRACKET_NAME = { '(': 'parenthesis', '[': 'square bracket' } as const;
+
+class Parser {
+  private i = 0;
+  /** The count token read last, with the item it was given to (a single trailing sign may turn it into a charge). */
+  private lastCount: { token: Extract<Token, { kind: 'number' }>; item: Item; afterClose: ']' | ')' | null } | null = null;
+
+  constructor(
+    private readonly source: string,
+    private readonly start: number,
+    private readonly tokens: readonly Token[],
+  ) {}
+
+  private peek(): Token {
+    return this.tokens[this.i] as Token;
+  }
+  private next(): Token {
+    return this.tokens[this.i++] as Token;
+  }
+
+  private fail(position: number, what: string): DomainError {
+    return new DomainError('FORMULA_SYNTAX', {
+      detail: `In ${quote(this.source)} ${what}`,
+      text: this.source,
+      position,
+      params: { formula: this.source },
+    });
+  }
+
+  species(): FormulaAst {
+    const parts: FormulaPart[] = [];
+    for (;;) {
+      let multiplier: number | null = null;
+      const t = this.peek();
+      if (t.kind === 'number') {
+        if (parts.length === 0) {
+          throw this.fail(t.pos, `the formula starts with the number ${quote(t.digits)} at position ${t.pos}; a formula starts with an element symbol or a bracket (coefficients belong in an equation, e.g. "2H2O = ...")`);
+        }
+        if (t.value === 0) throw this.fail(t.pos, `the hydrate multiplier at position ${t.pos} is 0; it must be a whole number of at least 1`);
+        multiplier = t.value;
+        this.next();
+      }
+      const here = this.peek();
+      const items = this.items(null);
+      if (items.length === 0) {
+        const after = parts.length === 0 ? 'at the start' : 'after the hydrate dot';
+        throw this.fail(here.pos, `${describe(here)} at position ${here.pos} cannot stand ${after}; expected an element symbol (e.g. Fe) or an opening bracket`);
+      }
+      parts.push({ multiplier, items });
+      if (this.peek().kind === 'dot') {
+        this.next();
+        this.lastCount = null;
+        continue;
+      }
+      break;
+    }
+
+    const charge = this.charge(parts);
+    let phase: Phase | null = null;
+    const p = this.peek();
+    if (p.kind === 'phase') {
+      phase = p.phase;
+      this.next();
+    }
+    const e = this.peek();
+    if (e.kind !== 'end') throw this.trailing(e, charge !== 0, phase !== null);
+    return { electron: false, parts, charge, phase };
+  }
+
+  private items(open: Extract<Token, { kind: 'open' }> | null): Item[] {
+    const items: Item[] = [];
+    for (;;) {
+      const t = this.peek();
+      if (t.kind === 'element') {
+        this.next();
+        const item: ElementItem = { kind: 'element', symbol: t.symbol, count: 1, pos: t.pos };
+        this.count(item, null);
+        items.push(item);
+      } else if (t.kind === 'open') {
+        this.next();
+        const inner = this.items(t);
+        const close = this.next(); // checked by the inner call
+        const item: GroupItem = { kind: 'group', bracket: t.bracket, items: inner, count: 1, pos: t.pos };
+        this.count(item, close.kind === 'close' ? close.bracket : null);
+        items.push(item);
+      } else break;
+    }
+    if (open !== null) {
+      const t = this.peek();
+      const name = BRACKET_NAME[open.bracket];
+      if (items.length === 0) {
+        throw this.fail(t.pos, `the ${name} opened at position ${open.pos} is empty; expected an element symbol inside it`);
+      }
+      if (t.kind !== 'close') {
+        const at = t.kind === 'end' ? 'at the end' : `before ${describe(t)} at position ${t.pos}`;
+        throw this.fail(t.pos, `a closing ${name} ${quote(CLOSER[open.bracket])} is missing ${at} for the one opened at position ${open.pos}`);
+      }
+      if (t.bracket !== CLOSER[open.bracket]) {
+        throw this.fail(t.pos, `the ${quote(t.bracket)} at position ${t.pos} does not close the ${quote(open.bracket)} opened at position ${open.pos}; expected ${quote(CLOSER[open.bracket])}`);
+      }
+    }
+    return items;
+  }
+
+  private count(item: Item, afterClose: ']' | ')' | null): void {
+    const t = this.peek();
+    if (t.kind !== 'number') {
+      this.lastCount = null;
+      return;
+    }
+    this.next();
+    if (t.value === 0) throw this.fail(t.pos, `the count at position ${t.pos} is 0; a count is a whole number of at least 1 (leave it out for 1)`);
+    item.count = t.value;
+    this.lastCount = { token: t, item, afterClose };
+  }
+
+  private charge(parts: readonly FormulaPart[]): number {
+    const t = this.peek();
+    if (t.kind === 'supcharge') {
+      this.next();
+      return t.charge;
+    }
+    if (t.kind === 'caret') {
+      this.next();
+      let magnitude: number | null = null;
+      const n = this.peek();
+      if (n.kind === 'number') {
+        this.next();
+        if (n.value === 0) throw this.fail(n.pos, `the charge at position ${n.pos} is 0; leave out the charge of a neutral species`);
+        magnitude = n.value;
+      }
+      const signs = this.signs();
+      if (signs.length === 0) {
+        const s = this.peek();
+        throw this.fail(s.pos, `after "^" at position ${t.pos} a charge is expected, a number and a sign such as ^2- or ^+, but found ${describe(s)}`);
+      }
+      if (magnitude !== null && signs.length > 1) {
+        throw this.fail((signs[1] as Token).pos, `the charge after "^" at position ${t.pos} has a number and more than one sign; write one sign, e.g. ^2-`);
+      }
+      return (magnitude ?? signs.length) * (signs[0] as Extract<Token, { kind: 'sign' }>).sign;
+    }
+    if (t.kind !== 'sign') return 0;
+
+    const before = this.tokens[this.i - 1];
+    const signs = this.signs();
+    const sign = (signs[0] as Extract<Token, { kind: 'sign' }>).sign;
+    if (signs.length > 1) return sign * signs.length;
+
+    const last = this.lastCount;
+    if (!last || before !== last.token || last.token.subscript) return sign;
+
+    // digits directly before a single sign: count or charge?
+    const digits = last.token.digits;
+    const only = parts.length === 1 && parts[0]?.items.length === 1 ? parts[0].items[0] : undefined;
+    const monatomic = only !== undefined && only.kind === 'element' && only === last.item;
+    if (monatomic && digits.length === 1) {
+      last.item.count = 1;
+      return sign * Number(digits);
+    }
+    if (digits.length >= 2 || last.afterClose === ']' || monatomic) {
+      throw this.ambiguous(last.token, sign, last.afterClose === ']');
+    }
+    return sign;
+  }
+
+  private signs(): Extract<Token, { kind: 'sign' }>[] {
+    const out: Extract<Token, { kind: 'sign' }>[] = [];
+    for (;;) {
+      const s = this.peek();
+      if (s.kind !== 'sign') break;
+      if (out.length > 0 && s.sign !== (out[0] as Extract<Token, { kind: 'sign' }>).sign) {
+        throw this.fail(s.pos, `the charge mixes + and - at position ${s.pos}; write one kind of sign, e.g. ^2- or ++`);
+      }
+      out.push(s);
+      this.next();
+    }
+    return out;
+  }
+
+  private ambiguous(token: Extract<Token, { kind: 'number' }>, sign: 1 | -1, afterBracket: boolean): DomainError {
+    const prefix = this.source.slice(this.start, token.pos);
+    const digits = token.digits;
+    const s = sign > 0 ? '+' : '-';
+    const readings: { text: string; count: string; charge: string }[] = [];
+    if (afterBracket) readings.push({ text: `${prefix}^${digits}${s}`, count: '1', charge: `${digits}${s}` });
+    for (let k = digits.length; k >= 1; k--) {
+      const countPart = digits.slice(0, k);
+      const chargePart = digits.slice(k);
+      if (chargePart.startsWith('0')) continue;
+      readings.push({ text: `${prefix}${countPart}^${chargePart}${s}`, count: countPart, charge: `${chargePart === '' ? '1' : chargePart}${s}` });
+    }
+    // the most likely intent first: the last digit (or the whole number after "]") as the charge
+    readings.sort((a, b) => (a.count.length === b.count.length ? 0 : a.count.length < b.count.length ? -1 : 1));
+    const likely = afterBracket ? readings[0] : readings.find((r) => r.count === digits.slice(0, -1)) ?? readings[0];
+    const ordered = likely ? [likely, ...readings.filter((r) => r !== likely)] : readings;
+    const listed = ordered.map((r) => `${quote(r.text)} (count ${r.count}, charge ${r.charge})`);
+    const options = listed.length === 2 ? `${listed[0]} or ${listed[1]}` : listed.slice(0, -1).join(', ') + ` or ${listed[listed.length - 1]}`;
+    return new DomainError('FORMULA_AMBIGUOUS_CHARGE', {
+      detail: `In ${quote(this.source)} the digits ${quote(digits)} at position ${token.pos} before the sign can be read ${ordered.length === 2 ? 'two' : 'several'} ways: ${options}. Write the charge with ^ to say which you mean, e.g. ${quote(ordered[0]?.text ?? '')}`,
+      text: this.source,
+      position: token.pos,
+      params: { formula: this.source, readings: ordered.map((r) => r.text) },
+    });
+  }
+
+  private trailing(t: Token, hadCharge: boolean, hadPhase: boolean): DomainError {
+    if (hadPhase) {
+      return this.fail(t.pos, `${describe(t)} at position ${t.pos} follows the phase label; the phase label comes last (e.g. "Fe2+(aq)")`);
+    }
+    if (t.kind === 'number' && hadCharge) {
+      return this.fail(t.pos, `the number ${quote(t.digits)} at position ${t.pos} follows the sign; write the charge number before the sign with ^ (e.g. "SO4^2-")`);
+    }
+    if (hadCharge) {
+      return this.fail(t.pos, `${describe(t)} at position ${t.pos} follows the charge; only a phase label ((s), (l), (g), (aq)) may come after the charge`);
+    }
+    if (t.kind === 'close') {
+      return this.fail(t.pos, `the ${quote(t.bracket)} at position ${t.pos} has no matching opening bracket`);
+    }
+    if (t.kind === 'caret') {
+      return this.fail(t.pos, `"^" at position ${t.pos} must be followed by a charge such as ^2- or ^+`);
+    }
+    return this.fail(t.pos, `${describe(t)} at position ${t.pos} is not expected here; expected an element symbol, a bracket, a hydrate dot, a charge or a phase label`);
+  }
+}

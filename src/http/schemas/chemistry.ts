@@ -1,0 +1,138 @@
+import { z } from 'zod';
+import { CoupleSchema, Formula, Medium, PH, TemperatureC } from './common.js';
+
+export const BalanceBody = z
+  .strictObject({
+    reactants: z.array(Formula).min(1).max(40).optional().describe('Reactant formulas (with products: any reaction)'),
+    products: z.array(Formula).min(1).max(40).optional(),
+    oxidant: CoupleSchema.optional().describe('Oxidant couple: from the oxidised form to the reduced form'),
+    reductant: CoupleSchema.optional().describe('Reductant couple: from the reduced form to the oxidised form'),
+    medium: Medium.optional().describe('acid (H+, H2O) or base (OH-, H2O); default from pH, else acid'),
+    pH: PH.optional().describe('Chooses the medium when medium is not given: base above pH 7'),
+  })
+  .describe('Either reactants and products, or an oxidant and a reductant couple');
+
+const TermOut = z.object({
+  species: z.string(),
+  coefficient: z.number().int(),
+  side: z.enum(['reactant', 'product']),
+});
+
+const HalfOut = z.object({
+  equation: z.string(),
+  electrons: z.number().int(),
+  convention: z.string().optional(),
+});
+
+export const BalanceResponse = z.object({
+  kind: z.enum(['reaction', 'redox']),
+  equation: z.string(),
+  equationUnicode: z.string(),
+  terms: z.array(TermOut),
+  electrons: z.number().int(),
+  medium: Medium.optional(),
+  mediumReason: z.string().optional(),
+  halfReactions: z.object({ reduction: HalfOut, oxidation: HalfOut }).optional(),
+  multipliers: z.object({ oxidant: z.number().int(), reductant: z.number().int() }).optional(),
+  method: z.string(),
+});
+
+export const DerivationStep = z.object({
+  rowId: z.string(),
+  table: z.string(),
+  equation: z.string(),
+  coefficient: z.string(),
+  kind: z.enum(['redox', 'equilibrium']),
+  value: z.string(),
+  source: z.string(),
+  citation: z.string().optional(),
+});
+
+export const PotentialBody = z.strictObject({
+  from: Formula.describe('Oxidised form'),
+  to: Formula.describe('Reduced form'),
+  pH: PH.optional(),
+  temperatureC: TemperatureC.optional(),
+  medium: Medium.optional(),
+  activities: z.record(z.string(), z.number().gt(0)).optional().describe('Activities (or mol/L) by species formula; unit activity otherwise'),
+  partialPressuresAtm: z.record(z.string(), z.number().gt(0)).optional(),
+  standardPotentialV: z
+    .strictObject({ value: z.number().min(-4).max(4), source: z.string().min(3).max(300) })
+    .optional()
+    .describe('A site value of E° (25 °C) for this couple and where it comes from; replaces the tabled or derived value'),
+  temperatureCorrection: z.boolean().default(true).describe('Apply dE°/dT where a table gives it'),
+});
+
+const ActivityOut = z.object({ species: z.string(), activity: z.number(), origin: z.string() });
+
+export const PotentialResponse = z.object({
+  couple: z.object({ from: z.string(), to: z.string() }),
+  halfReaction: z.string(),
+  halfReactionUnicode: z.string(),
+  medium: Medium,
+  electrons: z.number().int(),
+  standardPotentialV: z.number(),
+  valueUsed: z.enum(['tabled', 'derived', 'override']),
+  override: z.object({ value: z.number(), source: z.string() }).nullable(),
+  temperatureC: z.number(),
+  temperatureCorrectionV: z.number(),
+  temperatureNote: z.string(),
+  potentialV: z.number(),
+  nernst: z
+    .object({ slopeV: z.number(), log10Q: z.number(), activities: z.array(ActivityOut), unitActivity: z.array(z.string()) })
+    .nullable(),
+  derivation: z.array(DerivationStep),
+  tabledCheck: z
+    .object({ tabledV: z.number(), derivedV: z.number(), discrepancyV: z.number(), flagged: z.boolean(), note: z.string() })
+    .nullable(),
+  constants: z.array(z.object({ name: z.string(), value: z.string(), source: z.string() })),
+});
+
+const ConcentrationIn = z.strictObject({
+  value: z.number().min(0),
+  unit: z.enum(['mg/L', 'ug/L', 'µg/L', 'mol/L', 'mmol/L', 'atm']),
+});
+
+export const CellBody = z.strictObject({
+  oxidant: CoupleSchema.describe('Oxidant couple: from the oxidised form to the reduced form'),
+  reductant: CoupleSchema.describe('Reductant couple: from the reduced form to the oxidised form'),
+  pH: PH,
+  temperatureC: TemperatureC,
+  concentrations: z.record(z.string(), ConcentrationIn).optional().describe('Concentrations by species formula; atm for gases'),
+  ionicStrength: z.number().min(0).max(0.5).optional().describe('mol/L; Davies activity coefficients are used up to 0.5'),
+  tdsMgPerL: z.number().min(0).max(20000).optional().describe('Total dissolved solids, to estimate ionic strength'),
+  medium: Medium.optional(),
+});
+
+const HalfAtConditions = z.object({
+  couple: z.object({ from: z.string(), to: z.string() }),
+  equation: z.string(),
+  electrons: z.number().int(),
+  standardPotentialV: z.number(),
+  standardPotentialAtTV: z.number(),
+  potentialV: z.number(),
+  valueUsed: z.enum(['tabled', 'derived', 'override']),
+  derivation: z.array(DerivationStep),
+});
+
+export const CellResponse = z.object({
+  reaction: z.string(),
+  reactionUnicode: z.string(),
+  medium: Medium,
+  electrons: z.number().int(),
+  standardCellPotentialV: z.number(),
+  cellPotentialV: z.number(),
+  marginV: z.number(),
+  deltaGkJPerMol: z.number(),
+  standardDeltaGkJPerMol: z.number(),
+  log10K: z.number(),
+  feasible: z.boolean(),
+  feasibilityLimitPH: z.number().nullable(),
+  feasibleSide: z.enum(['above', 'below', 'all', 'none']).nullable(),
+  equilibriumResidual: z
+    .object({ species: z.string(), molPerL: z.number(), mgPerL: z.number().nullable() })
+    .nullable(),
+  ionicStrength: z.object({ value: z.number(), origin: z.string() }),
+  halfReactions: z.object({ oxidant: HalfAtConditions, reductant: HalfAtConditions }),
+  notes: z.array(z.string()),
+});

@@ -1,0 +1,164 @@
+import { describe, expect, it } from 'vitest';
+import { DomainError } from '../../../src/core/errors.js';
+import { parseFormula } from '../../../src/chemistry/formula/parse.js';
+import { ELEMENT_SYMBOLS, IUPAC_ELEMENTS } from '../../../src/chemistry/formula/tokens.js';
+
+function fails(text: string, options?: { elements?: ReadonlySet<string> }): DomainError {
+  try {
+    parseFormula(text, options);
+  } catch (e) {
+    if (e instanceof DomainError) return e;
+    throw e;
+  }
+  throw new Error(`expected ${JSON.stringify(text)} to fail`);
+}
+
+describe('element set', () => {
+  it('holds the 118 IUPAC symbols, each once', () => {
+    expect(ELEMENT_SYMBOLS.length).toBe(118);
+    expect(IUPAC_ELEMENTS.size).toBe(118);
+    // spot checks at the ends of the periods
+    expect(ELEMENT_SYMBOLS[0]).toBe('H');
+    expect(ELEMENT_SYMBOLS[25]).toBe('Fe');
+    expect(ELEMENT_SYMBOLS[117]).toBe('Og');
+  });
+});
+
+describe('parseFormula: edge cases', () => {
+  it.each([
+    // [text, composition, charge, phase]
+    ['e-', {}, -1, null],
+    ['e^-', {}, -1, null],
+    ['H+', { H: 1 }, 1, null],
+    ['OH-', { O: 1, H: 1 }, -1, null],
+    ['  Fe2+  ', { Fe: 1 }, 2, null],
+    ['Fe+++', { Fe: 1 }, 3, null],
+    ['SO4--', { S: 1, O: 4 }, -2, null],
+    ['H₂O', { H: 2, O: 1 }, 0, null],
+    ['SO₄²⁻', { S: 1, O: 4 }, -2, null],
+    ['MnO₄-', { Mn: 1, O: 4 }, -1, null],
+    ['Fe³⁺', { Fe: 1 }, 3, null],
+    ['Fe2+ (aq)', { Fe: 1 }, 2, 'aq'],
+    ['CuSO4 · 5H2O', { Cu: 1, S: 1, O: 9, H: 10 }, 0, null],
+  ] as const)('%s', (text, composition, charge, phase) => {
+    const s = parseFormula(text);
+    expect(s.composition).toEqual(composition);
+    expect(s.charge).toBe(charge);
+    expect(s.phase).toBe(phase);
+    expect(s.text).toBe(text.trim());
+  });
+});
+
+describe('parseFormula: the notation', () => {
+  it.each([
+    // ^ form
+    ['MnO4^-', { Mn: 1, O: 4 }, -1, null],
+    ['MnO4^2-', { Mn: 1, O: 4 }, -2, null],
+    ['SO4^2-', { S: 1, O: 4 }, -2, null],
+    ['Fe^3+', { Fe: 1 }, 3, null],
+    ['NH4^+', { N: 1, H: 4 }, 1, null],
+    ['HPO4^2-', { H: 1, P: 1, O: 4 }, -2, null],
+    // one trailing sign: the digits are a count
+    ['MnO4-', { Mn: 1, O: 4 }, -1, null],
+    ['NH4+', { N: 1, H: 4 }, 1, null],
+    ['HCO3-', { H: 1, C: 1, O: 3 }, -1, null],
+    ['ClO2-', { Cl: 1, O: 2 }, -1, null],
+    ['NO3-', { N: 1, O: 3 }, -1, null],
+    ['H2PO4-', { H: 2, P: 1, O: 4 }, -1, null],
+    ['Fe(OH)2+', { Fe: 1, O: 2, H: 2 }, 1, null],
+    ['OCl-', { O: 1, Cl: 1 }, -1, null],
+    // monatomic ion: one symbol, one digit, a sign: the digit is the charge
+    ['Fe2+', { Fe: 1 }, 2, null],
+    ['Fe3+', { Fe: 1 }, 3, null],
+    ['Mn2+', { Mn: 1 }, 2, null],
+    ['Ca2+', { Ca: 1 }, 2, null],
+    ['S2-', { S: 1 }, -2, null],
+    ['Cl-', { Cl: 1 }, -1, null],
+    // neutral, groups, hydrates, phases
+    ['H2O', { H: 2, O: 1 }, 0, null],
+    ['O3', { O: 3 }, 0, null],
+    ['Fe(OH)3', { Fe: 1, O: 3, H: 3 }, 0, null],
+    ['Fe(OH)3(s)', { Fe: 1, O: 3, H: 3 }, 0, 's'],
+    ['Fe2(SO4)3', { Fe: 2, S: 3, O: 12 }, 0, null],
+    ['K4[Fe(CN)6]', { K: 4, Fe: 1, C: 6, N: 6 }, 0, null],
+    ['K4Fe(CN)6', { K: 4, Fe: 1, C: 6, N: 6 }, 0, null],
+    ['Ca3(PO4)2', { Ca: 3, P: 2, O: 8 }, 0, null],
+    ['[Fe(H2O)6]^3+', { Fe: 1, H: 12, O: 6 }, 3, null],
+    ['CuSO4·5H2O', { Cu: 1, S: 1, O: 9, H: 10 }, 0, null],
+    ['Ca(OCl)2.4H2O', { Ca: 1, O: 6, Cl: 2, H: 8 }, 0, null],
+    ['Na2CO3*10H2O', { Na: 2, C: 1, O: 13, H: 20 }, 0, null],
+    ['Fe2+(aq)', { Fe: 1 }, 2, 'aq'],
+    ['MnO4-(aq)', { Mn: 1, O: 4 }, -1, 'aq'],
+    ['O2(g)', { O: 2 }, 0, 'g'],
+    ['H2O(l)', { H: 2, O: 1 }, 0, 'l'],
+    ['SO4^2-(aq)', { S: 1, O: 4 }, -2, 'aq'],
+    ['Co', { Co: 1 }, 0, null],
+    ['CO', { C: 1, O: 1 }, 0, null],
+    ['Cs+', { Cs: 1 }, 1, null],
+  ] as const)('%s', (text, composition, charge, phase) => {
+    const s = parseFormula(text);
+    expect(s.composition).toEqual(composition);
+    expect(s.charge).toBe(charge);
+    expect(s.phase).toBe(phase);
+  });
+});
+
+describe('parseFormula: errors carry the formula and the position of the bad character', () => {
+  it.each([
+    // [text, code, position, words the detail must contain]
+    ['', 'FORMULA_EMPTY', 0, 'empty'],
+    ['   ', 'FORMULA_EMPTY', 0, 'empty'],
+    ['Fe(OH3', 'FORMULA_SYNTAX', 6, 'a closing parenthesis ")" is missing at the end for the one opened at position 2'],
+    ['Fe(OH]3', 'FORMULA_SYNTAX', 5, 'does not close the "(" opened at position 2'],
+    ['Fe)', 'FORMULA_SYNTAX', 2, 'no matching opening bracket'],
+    ['()', 'FORMULA_SYNTAX', 1, 'empty'],
+    ['Fe#', 'FORMULA_SYNTAX', 2, 'the character "#" at position 2'],
+    ['fe2+', 'FORMULA_SYNTAX', 0, 'did you mean "Fe"?'],
+    ['H0', 'FORMULA_SYNTAX', 1, 'count at position 1 is 0'],
+    ['H02', 'FORMULA_SYNTAX', 1, 'starts with 0'],
+    ['2H2O', 'FORMULA_SYNTAX', 0, 'coefficients belong in an equation'],
+    ['Mn O4', 'FORMULA_SYNTAX', 2, 'space at position 2'],
+    ['Fe2+3', 'FORMULA_SYNTAX', 4, 'write the charge number before the sign with ^'],
+    ['SO4-2', 'FORMULA_SYNTAX', 4, 'write the charge number before the sign with ^'],
+    ['Fe(s)2', 'FORMULA_SYNTAX', 5, 'the phase label comes last'],
+    ['Fe^', 'FORMULA_SYNTAX', 3, 'after "^" at position 2 a charge is expected'],
+    ['Fe^2', 'FORMULA_SYNTAX', 4, 'after "^" at position 2 a charge is expected'],
+    ['H2O.', 'FORMULA_SYNTAX', 4, 'after the hydrate dot'],
+    ['SO4+-', 'FORMULA_SYNTAX', 4, 'mixes + and -'],
+    ['Fe2+Cl', 'FORMULA_SYNTAX', 4, 'follows the charge'],
+    ['Xx2', 'FORMULA_UNKNOWN_ELEMENT', 0, 'the symbol "Xx" at position 0 is not an element symbol'],
+    ['CL2', 'FORMULA_UNKNOWN_ELEMENT', 1, 'did you mean "Cl"'],
+    ['NaQ', 'FORMULA_UNKNOWN_ELEMENT', 2, '"Q"'],
+    ['SO42-', 'FORMULA_AMBIGUOUS_CHARGE', 2, '"SO4^2-" (count 4, charge 2-) or "SO42^-" (count 42, charge 1-)'],
+    ['MnO42-', 'FORMULA_AMBIGUOUS_CHARGE', 3, '"MnO4^2-"'],
+    ['HPO42-', 'FORMULA_AMBIGUOUS_CHARGE', 3, '"HPO4^2-"'],
+    ['S22-', 'FORMULA_AMBIGUOUS_CHARGE', 1, '"S2^2-"'],
+    ['[Fe(H2O)6]3+', 'FORMULA_AMBIGUOUS_CHARGE', 10, '"[Fe(H2O)6]^3+"'],
+  ] as const)('%j → %s at %i', (text, code, position, words) => {
+    const e = fails(text);
+    expect(e.code).toBe(code);
+    expect(e.position).toBe(position);
+    expect(e.text).toBe(text.trim());
+    expect(e.detail).toContain(words);
+    if (text.trim() !== '') expect(e.detail).toContain(`"${text.trim()}"`);
+  });
+
+  it('names both readings of an ambiguous charge in params and suggests the ^ form', () => {
+    const e = fails('SO42-');
+    expect(e.params['readings']).toEqual(['SO4^2-', 'SO42^-']);
+    expect(e.detail).toContain('Write the charge with ^');
+  });
+
+  it('draws a caret under the bad character', () => {
+    expect(fails('Fe(OH]3').caret()).toBe('Fe(OH]3\n     ^');
+  });
+
+  it('refuses an element that is not in the table passed by the caller', () => {
+    const elements = new Set(['H', 'O', 'Fe']);
+    expect(parseFormula('Fe(OH)3', { elements }).composition).toEqual({ Fe: 1, O: 3, H: 3 });
+    const e = fails('MnO4-', { elements });
+    expect(e.code).toBe('FORMULA_UNKNOWN_ELEMENT');
+    expect(e.position).toBe(0);
+    expect(e.detail).toContain('atomic-weights table in use has no entry');
+  });
+});
