@@ -87,6 +87,7 @@ export const ERROR_CATALOGUE = {
   ARCHIVE_TOO_NEW: { kind: 'unavailable', title: 'The archive was written by a newer version' },
   ARCHIVE_CORRUPT: { kind: 'internal', title: 'The archive failed verification' },
   ID_INVALID: { kind: 'invalid', title: 'The id is not valid' },
+  CONFIG_INVALID: { kind: 'internal', title: 'A configuration setting is not valid' },
 
   // users and access
   AUTH_REQUIRED: { kind: 'unauthenticated', title: 'A valid bearer token is required' },

@@ -1,0 +1,188 @@
+/**
+ * CSV export of the sheet history (the figures a monthly operating report needs).
+ *
+ * Format: RFC 4180 — a header line, CRLF after every record, a field quoted with " when it holds a
+ * comma, a double quote, CR or LF, and a double quote inside a field doubled. UTF-8, no byte-order
+ * mark (pass `bom: true` for spreadsheet programs that need one). Headers carry their units
+ * ("dose_mg_per_L", "flow_m3_per_d", "feed_kg_per_d"); times are UTC ISO 8601. Numbers are written
+ * in full (String(number)), not rounded.
+ *
+ * Text that a spreadsheet would run as a formula (starting with = + - @ tab or CR) is prefixed with
+ * an apostrophe (OWASP "CSV injection"); numbers are never altered.
+ *
+ * One row per sheet, superseded sheets included and marked: status "superseded" and the id of the
+ * sheet that corrects it in superseded_by.
+ */
+import { DomainError } from '../core/errors.js';
+import { fromBaseDec, isUnitOf, temperatureToC, toBase, type Quantity, type QuantityKind } from '../core/quantity.js';
+import type { ArchiveContext } from './context.js';
+import { SUMMARY_COLUMNS, sheetFilter, toSummary, type SheetQuery, type SheetSummary, type SummaryRow } from './sheets.js';
+
+export type CsvValue = string | number | boolean | null | undefined;
+
+export interface CsvSheet {
+  readonly summary: SheetSummary;
+  readonly request: unknown;
+  readonly result: unknown;
+}
+
+/** One exported column: a header with its unit, and how to read the value from a stored sheet. */
+export interface CsvColumn {
+  readonly header: string;
+  readonly value: (sheet: CsvSheet) => CsvValue;
+}
+
+const HEADER_RE = /^[A-Za-z][A-Za-z0-9_]*$/;
+
+/** The columns every export starts with (identity, time and status of the sheet). */
+export const BASE_CSV_COLUMNS: readonly CsvColumn[] = [
+  { header: 'sheet_id', value: (s) => s.summary.id },
+  { header: 'kind', value: (s) => s.summary.kind },
+  { header: 'plant_id', value: (s) => s.summary.plantId },
+  { header: 'plant_version', value: (s) => s.summary.plantVersion },
+  { header: 'sampled_at_utc', value: (s) => s.summary.sampledAt },
+  { header: 'created_at_utc', value: (s) => s.summary.createdAt },
+  { header: 'signer_name', value: (s) => s.summary.signer.name },
+  { header: 'status', value: (s) => (s.summary.supersededBy === null ? 'current' : 'superseded') },
+  { header: 'superseded_by', value: (s) => s.summary.supersededBy },
+  { header: 'supersedes', value: (s) => s.summary.supersedes },
+  { header: 'pdf_sha256', value: (s) => s.summary.pdfSha256 },
+];
+
+// ---------------------------------------------------------------------------------------------
+// Reading figures out of stored JSON
+
+function at(value: unknown, path: readonly string[]): unknown {
+  let v = value;
+  for (const k of path) {
+    if (typeof v !== 'object' || v === null || Array.isArray(v)) return undefined;
+    v = (v as Record<string, unknown>)[k];
+  }
+  return v;
+}
+
+function asQuantity(v: unknown): Quantity | null {
+  if (typeof v !== 'object' || v === null) return null;
+  const q = v as { value?: unknown; unit?: unknown };
+  return typeof q.value === 'number' && Number.isFinite(q.value) && typeof q.unit === 'string' ? { value: q.value, unit: q.unit } : null;
+}
+
+/** A quantity at one of `paths` (first found, in request or result), in the kind's base unit; null if absent or in a unit of another kind. */
+export function quantityIn(kind: Exclude<QuantityKind, 'temperature'>, ...paths: readonly (readonly ['request' | 'result', ...string[]])[]): (s: CsvSheet) => number | null {
+  return (s) => {
+    for (const [where, ...path] of paths) {
+      const q = asQuantity(at(where === 'request' ? s.request : s.result, path));
+      if (q && isUnitOf(kind, q.unit)) return toBase(kind, q);
+    }
+    return null;
+  };
+}
+
+function numberAt(where: 'request' | 'result', ...path: string[]): (s: CsvSheet) => number | null {
+  return (s) => {
+    const v = at(where === 'request' ? s.request : s.result, path);
+    return typeof v === 'number' && Number.isFinite(v) ? v : null;
+  };
+}
+
+function textAt(where: 'request' | 'result', ...path: string[]): (s: CsvSheet) => string | null {
+  return (s) => {
+    const v = at(where === 'request' ? s.request : s.result, path);
+    return typeof v === 'string' ? v : null;
+  };
+}
+
+const SAMPLE_CONCENTRATIONS = ['iron', 'manganese', 'sulfide', 'arsenite', 'nitrite', 'ammoniaN', 'bromide', 'toc'] as const;
+
+/**
+ * Columns for dose sheets, read from the request and result as the HTTP contract of the daily-dose
+ * issue defines them (`POST /api/v1/doses`: oxidant, flow, sample {pH, temperatureC, iron, …};
+ * answer: dose {value, unit, basis}, feed {massRate, solutionRate}, flags [{code, severity}]).
+ * Quantities are converted to the unit in the header; an absent figure is an empty cell.
+ */
+export const DOSE_CSV_COLUMNS: readonly CsvColumn[] = [
+  { header: 'oxidant', value: (s) => textAt('request', 'oxidant')(s) ?? textAt('result', 'oxidant')(s) },
+  { header: 'flow_m3_per_d', value: quantityIn('flow', ['result', 'flow'], ['request', 'flow']) },
+  { header: 'sample_pH', value: numberAt('request', 'sample', 'pH') },
+  {
+    header: 'sample_temperature_C',
+    value: (s) => {
+      const v = at(s.request, ['sample', 'temperatureC']);
+      if (typeof v === 'number' && Number.isFinite(v)) return v;
+      const q = asQuantity(at(s.request, ['sample', 'temperature']));
+      return q && isUnitOf('temperature', q.unit) ? temperatureToC(q) : null;
+    },
+  },
+  ...SAMPLE_CONCENTRATIONS.map((c): CsvColumn => ({
+    header: `${c === 'ammoniaN' ? 'ammonia_as_N' : c}_mg_per_L`,
+    value: quantityIn('concentration', ['request', 'sample', c]),
+  })),
+  { header: 'dose_mg_per_L', value: quantityIn('concentration', ['result', 'dose']) },
+  { header: 'dose_basis', value: textAt('result', 'dose', 'basis') },
+  { header: 'feed_kg_per_d', value: quantityIn('massRate', ['result', 'feed', 'massRate']) },
+  {
+    header: 'feed_lb_per_d',
+    value: (s) => {
+      const kg = quantityIn('massRate', ['result', 'feed', 'massRate'])(s);
+      return kg === null ? null : fromBaseDec('massRate', kg, 'lb/d').toNumber();
+    },
+  },
+  { header: 'solution_L_per_h', value: quantityIn('solutionRate', ['result', 'feed', 'solutionRate']) },
+  {
+    header: 'flags',
+    value: (s) => {
+      const flags = at(s.result, ['flags']);
+      if (!Array.isArray(flags)) return null;
+      return flags
+        .map((f) => (typeof f === 'object' && f !== null ? (f as { code?: unknown; severity?: unknown }) : {}))
+        .filter((f) => typeof f.code === 'string')
+        .map((f) => (typeof f.severity === 'string' ? `${String(f.code)}(${f.severity})` : String(f.code)))
+        .join(' ');
+    },
+  },
+];
+
+// ---------------------------------------------------------------------------------------------
+// RFC 4180
+
+/** One CSV field: formula-like text defused, quoted when needed. */
+export function csvField(value: CsvValue): string {
+  let text: string;
+  if (value === null || value === undefined) text = '';
+  else if (typeof value === 'number') text = Number.isFinite(value) ? String(value) : '';
+  else if (typeof value === 'boolean') text = value ? 'true' : 'false';
+  else text = /^[=+\-@\t\r]/.test(value) ? `'${value}` : value;
+  return /[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
+}
+
+export function csvLine(values: readonly CsvValue[]): string {
+  return values.map(csvField).join(',') + '\r\n';
+}
+
+export interface ExportCsvOptions extends SheetQuery {
+  /** Columns after the base columns; default DOSE_CSV_COLUMNS. */
+  readonly columns?: readonly CsvColumn[];
+  readonly bom?: boolean;
+}
+
+/** The CSV text for the sheets matching the query, ordered by sample time. */
+export function exportCsv(ctx: ArchiveContext, options: ExportCsvOptions = {}): string {
+  const columns = [...BASE_CSV_COLUMNS, ...(options.columns ?? DOSE_CSV_COLUMNS)];
+  const headers = new Set<string>();
+  for (const c of columns) {
+    if (!HEADER_RE.test(c.header) || headers.has(c.header)) {
+      throw new DomainError('INTERNAL', { detail: `CSV header ${JSON.stringify(c.header)} is repeated or not of the form name_unit (letters, digits, underscores).` });
+    }
+    headers.add(c.header);
+  }
+  const { where, params } = sheetFilter(options);
+  const out: string[] = [options.bom ? '\uFEFF' : '', csvLine(columns.map((c) => c.header))];
+  const rows = ctx.db
+    .prepare(`SELECT ${SUMMARY_COLUMNS}, s.request_json, s.result_json FROM sheets s ${where} ORDER BY s.sampled_at, s.seq`)
+    .all(...params) as (SummaryRow & { request_json: string; result_json: string })[];
+  for (const r of rows) {
+    const sheet: CsvSheet = { summary: toSummary(r), request: JSON.parse(r.request_json), result: JSON.parse(r.result_json) };
+    out.push(csvLine(columns.map((c) => c.value(sheet))));
+  }
+  return out.join('');
+}

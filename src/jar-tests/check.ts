@@ -1,0 +1,331 @@
+/**
+ * Check a jar-test plan someone wrote: recompute each jar's dose from its aliquot
+ * (or the aliquot a stated dose needs), and report every problem with a stable code
+ * and a message an engineer can act on. Bad input (not a plan with problems, but a
+ * request that cannot be read) throws DomainError JAR_TEST_INVALID with field pointers.
+ */
+import {
+  FieldCheck,
+  JAR_TEST_DEFAULTS as D,
+  aliquotForDose,
+  doseFromAliquot,
+  fmt,
+  isMultipleOf,
+  nominalDoseFromAliquot,
+  roundToResolution,
+  type JarProblem,
+} from './common.js';
+import type { Solubility } from './product.js';
+
+/** Stable problem codes of the plan check. */
+export const CHECK_CODES = {
+  MISSING_DOSE_AND_ALIQUOT: 'MISSING_DOSE_AND_ALIQUOT',
+  DOSE_MISMATCH: 'DOSE_MISMATCH',
+  DOSE_UNREACHABLE: 'DOSE_UNREACHABLE',
+  ALIQUOT_TOO_LARGE: 'ALIQUOT_TOO_LARGE',
+  BELOW_PIPETTE_RESOLUTION: 'BELOW_PIPETTE_RESOLUTION',
+  NOT_PIPETTE_MULTIPLE: 'NOT_PIPETTE_MULTIPLE',
+  ALIQUOT_BELOW_MINIMUM: 'ALIQUOT_BELOW_MINIMUM',
+  DUPLICATE_DOSE: 'DUPLICATE_DOSE',
+  NON_MONOTONIC_LADDER: 'NON_MONOTONIC_LADDER',
+  NOT_BRACKETING: 'NOT_BRACKETING',
+  NO_ESTIMATE: 'NO_ESTIMATE',
+  STOCK_ABOVE_SOLUBILITY: 'STOCK_ABOVE_SOLUBILITY',
+  NO_CONTACT_TIMES: 'NO_CONTACT_TIMES',
+  DUPLICATE_CONTACT_TIME: 'DUPLICATE_CONTACT_TIME',
+  TOO_FEW_JARS: 'TOO_FEW_JARS',
+} as const;
+export type CheckCode = keyof typeof CHECK_CODES;
+
+export interface CheckJarPlanInput {
+  readonly oxidant: string;
+  /** Stoichiometric estimate, mg/L; without it the bracketing is not checked. */
+  readonly estimateMgPerL?: number;
+  readonly backgroundMgPerL?: number;
+  readonly jarVolumeL: number;
+  readonly stockStrengthGPerL: number;
+  readonly jars: readonly { readonly doseMgPerL?: number; readonly aliquotMl?: number }[];
+  readonly contactTimesMin?: readonly number[];
+  /** Default 0.1 mL (common practice). */
+  readonly pipetteResolutionMl?: number;
+  readonly solubility?: Solubility;
+  readonly minAliquotMl?: number;
+  readonly maxAliquotFraction?: number;
+}
+
+export interface CheckedJar {
+  readonly jar: number;
+  /** As stated in the plan (null when not stated). */
+  readonly doseMgPerL: number | null;
+  readonly aliquotMl: number | null;
+  /** Dose the (stated or recomputed) aliquot gives, dilution accounted for: a·C/(V + a/1000). */
+  readonly recomputedDoseMgPerL: number | null;
+  /** The stated aliquot, or the aliquot a stated dose needs rounded to the pipette. */
+  readonly recomputedAliquotMl: number | null;
+  /** a·C/V, the dose ignoring dilution by the aliquot. */
+  readonly nominalDoseMgPerL: number | null;
+  readonly problems: readonly JarProblem[];
+}
+
+export interface JarPlanCheck {
+  readonly oxidant: string;
+  readonly jarVolumeL: number;
+  readonly stockStrengthGPerL: number;
+  readonly pipetteResolutionMl: number;
+  readonly expectedDemandMgPerL: number | null;
+  readonly jars: readonly CheckedJar[];
+  /** Problems of the plan as a whole (bracketing, order, stock, contact times). */
+  readonly problems: readonly JarProblem[];
+  /** True when no jar or plan problem has severity "error". */
+  readonly ok: boolean;
+  /** How the dose tolerance is made up (for the message reader). */
+  readonly toleranceRule: string;
+}
+
+const DUPLICATE_RELATIVE = 0.005;
+const FIGURE_ROUNDING_RELATIVE = 0.005;
+const FIGURE_ROUNDING_ABSOLUTE_MG_PER_L = 0.005;
+
+function validate(input: CheckJarPlanInput): void {
+  const c = new FieldCheck();
+  if (typeof input.oxidant !== 'string' || input.oxidant.length === 0) c.add('/oxidant', 'give the oxidant product id');
+  if (input.estimateMgPerL !== undefined) c.nonNegative(input.estimateMgPerL, '/estimateMgPerL', 'the stoichiometric estimate (mg/L)');
+  if (input.backgroundMgPerL !== undefined) c.nonNegative(input.backgroundMgPerL, '/backgroundMgPerL', 'the background demand (mg/L)');
+  c.positive(input.jarVolumeL, '/jarVolumeL', 'the jar volume (L)');
+  c.positive(input.stockStrengthGPerL, '/stockStrengthGPerL', 'the stock strength (g/L)');
+  if (input.pipetteResolutionMl !== undefined) c.positive(input.pipetteResolutionMl, '/pipetteResolutionMl', 'the pipette resolution (mL)');
+  if (input.minAliquotMl !== undefined) c.positive(input.minAliquotMl, '/minAliquotMl', 'the minimum aliquot (mL)');
+  if (input.maxAliquotFraction !== undefined) c.fraction(input.maxAliquotFraction, '/maxAliquotFraction', 'the largest aliquot as a fraction of the jar volume');
+  if (input.solubility !== undefined) c.positive(input.solubility.gPerL, '/solubility/gPerL', 'the solubility (g/L)');
+  if (!Array.isArray(input.jars) || input.jars.length === 0 || input.jars.length > 50) {
+    c.add('/jars', 'give from 1 to 50 jars, each with doseMgPerL, aliquotMl or both');
+  } else {
+    input.jars.forEach((j, i) => {
+      if (j === null || typeof j !== 'object') {
+        c.add(`/jars/${i}`, 'each jar must be an object with doseMgPerL and/or aliquotMl');
+        return;
+      }
+      if (j.doseMgPerL !== undefined) c.nonNegative(j.doseMgPerL, `/jars/${i}/doseMgPerL`, `the dose of jar ${i + 1} (mg/L)`);
+      if (j.aliquotMl !== undefined) c.nonNegative(j.aliquotMl, `/jars/${i}/aliquotMl`, `the aliquot of jar ${i + 1} (mL)`);
+    });
+  }
+  if (input.contactTimesMin !== undefined) {
+    if (!Array.isArray(input.contactTimesMin)) c.add('/contactTimesMin', 'give the contact times as a list of minutes');
+    else input.contactTimesMin.forEach((t, i) => c.positive(t, `/contactTimesMin/${i}`, 'a contact time (min)'));
+  }
+  c.throwIfAny('The jar-test plan to check is not valid');
+}
+
+/**
+ * Check a written jar-test plan. Each problem has a stable code (CHECK_CODES), a severity and a message.
+ *
+ * A stated dose is accepted when it is within the sum of
+ *   - the dilution by the aliquot (|a·C/V − a·C/(V + a/1000)|: either form is accepted when the aliquot is small),
+ *   - half a pipette step (0.5·r·C/V: a target dose whose aliquot was rounded to the pipette),
+ *   - the rounding of the printed figure (0.5 % of the dose, at least 0.005 mg/L)
+ * of the dose recomputed from the aliquot.
+ */
+export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
+  validate(input);
+  const V = input.jarVolumeL;
+  const C = input.stockStrengthGPerL;
+  const res = input.pipetteResolutionMl ?? D.pipetteResolutionMl.value;
+  const minAliquot = input.minAliquotMl ?? Math.max(D.minAliquotMl.value, D.minAliquotResolutionSteps.value * res);
+  const maxFraction = input.maxAliquotFraction ?? D.maxAliquotFraction.value;
+  const maxAliquot = maxFraction * V * 1000;
+  const halfStepDose = (0.5 * res * C) / V;
+  const planProblems: JarProblem[] = [];
+
+  const jars: CheckedJar[] = input.jars.map((j, i): CheckedJar => {
+    const n = i + 1;
+    const problems: JarProblem[] = [];
+    const stated = j.doseMgPerL ?? null;
+    const statedAliquot = j.aliquotMl ?? null;
+    if (stated === null && statedAliquot === null) {
+      problems.push({ code: CHECK_CODES.MISSING_DOSE_AND_ALIQUOT, severity: 'error', jar: n, message: `Jar ${n} has neither a dose nor an aliquot; give one of them.` });
+      return { jar: n, doseMgPerL: null, aliquotMl: null, recomputedDoseMgPerL: null, recomputedAliquotMl: null, nominalDoseMgPerL: null, problems };
+    }
+    if (stated !== null && stated >= 1000 * C) {
+      problems.push({
+        code: CHECK_CODES.DOSE_UNREACHABLE,
+        severity: 'error',
+        jar: n,
+        message: `Jar ${n}: ${fmt(stated)} mg/L cannot be reached with a ${fmt(C)} g/L (${fmt(1000 * C)} mg/L) stock however much is added; use a stronger stock.`,
+      });
+      if (statedAliquot === null) {
+        return { jar: n, doseMgPerL: stated, aliquotMl: null, recomputedDoseMgPerL: null, recomputedAliquotMl: null, nominalDoseMgPerL: null, problems };
+      }
+    }
+
+    let aliquot: number;
+    const fromDose = statedAliquot === null;
+    if (statedAliquot !== null) {
+      aliquot = statedAliquot;
+    } else {
+      const d = stated!;
+      const nominalAliquot = aliquotForDose(d, C, V, false);
+      const exact = nominalAliquot > maxAliquot ? aliquotForDose(d, C, V, true) : nominalAliquot;
+      aliquot = roundToResolution(exact, res);
+    }
+    const recomputed = doseFromAliquot(aliquot, C, V);
+    const nominal = nominalDoseFromAliquot(aliquot, C, V);
+    const what = fromDose ? `the aliquot ${fmt(stated!)} mg/L needs, ${fmt(aliquot)} mL,` : `${fmt(aliquot)} mL`;
+
+    if (aliquot > 0 && aliquot < res) {
+      problems.push({
+        code: CHECK_CODES.BELOW_PIPETTE_RESOLUTION,
+        severity: 'error',
+        jar: n,
+        message: `Jar ${n}: ${what} is below the pipette resolution ${fmt(res)} mL and cannot be measured; use a weaker stock (about ${fmt((C * aliquot) / minAliquot, 2)} g/L gives ${fmt(minAliquot)} mL).`,
+      });
+    } else if (fromDose && stated! > 0 && aliquot === 0) {
+      problems.push({
+        code: CHECK_CODES.BELOW_PIPETTE_RESOLUTION,
+        severity: 'error',
+        jar: n,
+        message: `Jar ${n}: ${fmt(stated!)} mg/L needs ${fmt(aliquotForDose(stated!, C, V, false))} mL, which rounds to 0 at the ${fmt(res)} mL pipette resolution; use a weaker stock.`,
+      });
+    } else if (!fromDose && !isMultipleOf(aliquot, res)) {
+      const rounded = roundToResolution(aliquot, res);
+      problems.push({
+        code: CHECK_CODES.NOT_PIPETTE_MULTIPLE,
+        severity: 'warning',
+        jar: n,
+        message: `Jar ${n}: ${fmt(aliquot)} mL is not a multiple of the ${fmt(res)} mL pipette resolution; it will be measured as ${fmt(rounded)} mL, giving ${fmt(doseFromAliquot(rounded, C, V), 3)} mg/L.`,
+      });
+    }
+    if (aliquot >= res && aliquot < minAliquot) {
+      problems.push({
+        code: CHECK_CODES.ALIQUOT_BELOW_MINIMUM,
+        severity: 'warning',
+        jar: n,
+        message: `Jar ${n}: ${what} is below ${fmt(minAliquot)} mL; half a pipette step is ${fmt((res / 2 / aliquot) * 100, 2)} % of it. A weaker stock gives larger, more precise aliquots.`,
+      });
+    }
+
+    if (stated !== null && statedAliquot !== null && stated < 1000 * C) {
+      const dilution = Math.abs(nominal - recomputed);
+      const tolerance = dilution + halfStepDose + Math.max(FIGURE_ROUNDING_RELATIVE * recomputed, FIGURE_ROUNDING_ABSOLUTE_MG_PER_L);
+      const diff = stated - recomputed;
+      if (Math.abs(diff) > tolerance) {
+        const needed = roundToResolution(aliquotForDose(stated, C, V, aliquot > maxAliquot), res);
+        problems.push({
+          code: CHECK_CODES.DOSE_MISMATCH,
+          severity: 'error',
+          jar: n,
+          message:
+            `Jar ${n}: ${fmt(aliquot)} mL of ${fmt(C)} g/L in ${fmt(V)} L gives ${fmt(recomputed, 3)} mg/L (a·C/(V + a/1000)), not the stated ${fmt(stated)} mg/L ` +
+            `(off by ${fmt(Math.abs(diff), 2)} mg/L, more than the ${fmt(tolerance, 2)} mg/L rounding explains). For ${fmt(stated)} mg/L add ${fmt(needed)} mL.`,
+        });
+      }
+    }
+
+    if (aliquot > maxAliquot) {
+      const pct = (aliquot / (V * 1000)) * 100;
+      const accounted = stated !== null && Math.abs(stated - recomputed) <= halfStepDose + Math.max(FIGURE_ROUNDING_RELATIVE * recomputed, FIGURE_ROUNDING_ABSOLUTE_MG_PER_L) && Math.abs(stated - nominal) > Math.abs(stated - recomputed);
+      problems.push({
+        code: CHECK_CODES.ALIQUOT_TOO_LARGE,
+        severity: accounted ? 'info' : 'warning',
+        jar: n,
+        message: accounted
+          ? `Jar ${n}: ${fmt(aliquot)} mL is ${fmt(pct, 3)} % of the jar; the stated dose already accounts for the dilution.`
+          : `Jar ${n}: ${what} is ${fmt(pct, 3)} % of the ${fmt(V)} L jar (over ${fmt(maxFraction * 100)} %), so it dilutes the jar: the dose is ${fmt(recomputed, 3)} mg/L, not the nominal ${fmt(nominal, 3)} mg/L. Use a stronger stock or state the diluted dose.`,
+      });
+    }
+
+    return {
+      jar: n,
+      doseMgPerL: stated,
+      aliquotMl: statedAliquot,
+      recomputedDoseMgPerL: recomputed,
+      recomputedAliquotMl: aliquot,
+      nominalDoseMgPerL: nominal,
+      problems,
+    };
+  });
+
+  // Plan-level and cross-jar problems, on each jar's effective dose (stated, else recomputed).
+  const effective = jars.map((j) => j.doseMgPerL ?? j.recomputedDoseMgPerL);
+  effective.forEach((d, i) => {
+    if (d === null) return;
+    const prev = effective.findIndex((e, k) => k < i && e !== null && (e === d || Math.abs(e - d) <= DUPLICATE_RELATIVE * Math.max(e, d)));
+    if (prev >= 0) {
+      (jars[i]!.problems as JarProblem[]).push({
+        code: CHECK_CODES.DUPLICATE_DOSE,
+        severity: 'warning',
+        jar: i + 1,
+        message: `Jar ${i + 1} repeats the dose of jar ${prev + 1} (${fmt(d, 3)} mg/L); a repeat adds no point to the demand curve unless it is meant as a replicate.`,
+      });
+    }
+  });
+  const known = effective.filter((d): d is number => d !== null);
+  const rising = known.every((d, i) => i === 0 || d >= known[i - 1]!);
+  const falling = known.every((d, i) => i === 0 || d <= known[i - 1]!);
+  if (!rising && !falling) {
+    planProblems.push({
+      code: CHECK_CODES.NON_MONOTONIC_LADDER,
+      severity: 'warning',
+      message: `The doses in jar order (${known.map((d) => fmt(d, 3)).join(', ')} mg/L) neither rise nor fall; order the jars by dose so an aliquot put in the wrong jar shows.`,
+    });
+  }
+
+  let expected: number | null = null;
+  if (input.estimateMgPerL === undefined) {
+    planProblems.push({ code: CHECK_CODES.NO_ESTIMATE, severity: 'info', message: 'No stoichiometric estimate was given, so bracketing was not checked; give the sample readings or estimateMgPerL.' });
+  } else {
+    expected = input.estimateMgPerL + (input.backgroundMgPerL ?? 0);
+    const below = known.some((d) => d < expected!);
+    const above = known.some((d) => d > expected!);
+    if (!below || !above) {
+      const side = !below && !above ? 'below or above' : !below ? 'below' : 'above';
+      planProblems.push({
+        code: CHECK_CODES.NOT_BRACKETING,
+        severity: 'error',
+        message: `No jar is ${side} the expected demand ${fmt(expected)} mg/L (doses ${known.map((d) => fmt(d, 3)).join(', ')} mg/L); add a jar ${side} it so the ladder brackets the demand.`,
+      });
+    }
+  }
+
+  if (input.solubility !== undefined && C > input.solubility.gPerL) {
+    const at = input.solubility.temperatureC !== undefined ? ` at ${input.solubility.temperatureC} °C` : '';
+    planProblems.push({
+      code: CHECK_CODES.STOCK_ABOVE_SOLUBILITY,
+      severity: 'error',
+      message: `A ${fmt(C)} g/L stock is above the solubility ${fmt(input.solubility.gPerL)} g/L${at}; it will not dissolve fully and the doses will be low. Use ${fmt(input.solubility.gPerL / 2, 2)} g/L or less.`,
+    });
+  }
+
+  const times = input.contactTimesMin ?? [];
+  if (times.length === 0) {
+    planProblems.push({
+      code: CHECK_CODES.NO_CONTACT_TIMES,
+      severity: 'error',
+      message: `The plan gives no contact times; state when each jar is sampled (e.g. ${D.contactTimesMin.value.join(', ')} min, common practice) and include the plant's available contact time.`,
+    });
+  } else {
+    const dup = times.filter((t, i) => times.indexOf(t) !== i);
+    if (dup.length > 0) planProblems.push({ code: CHECK_CODES.DUPLICATE_CONTACT_TIME, severity: 'warning', message: `Contact time ${dup.map((t) => fmt(t)).join(', ')} min is listed twice.` });
+  }
+
+  if (input.jars.length < 3) {
+    planProblems.push({
+      code: CHECK_CODES.TOO_FEW_JARS,
+      severity: 'warning',
+      message: `${input.jars.length} jar(s) cannot give a demand line; use at least 3 jars that keep a residual (6 is usual).`,
+    });
+  }
+
+  const all = [...planProblems, ...jars.flatMap((j) => j.problems)];
+  return {
+    oxidant: input.oxidant,
+    jarVolumeL: V,
+    stockStrengthGPerL: C,
+    pipetteResolutionMl: res,
+    expectedDemandMgPerL: expected,
+    jars,
+    problems: planProblems,
+    ok: !all.some((p) => p.severity === 'error'),
+    toleranceRule:
+      'stated dose accepted within dilution by the aliquot + half a pipette step (0.5·r·C/V) + 0.5 % of the dose (at least 0.005 mg/L) of the recomputed dose a·C/(V + a/1000)',
+  };
+}

@@ -1,0 +1,201 @@
+/**
+ * Shared pieces of the jar-test module: defaults (each with its basis), the
+ * aliquot/dose arithmetic with and without the dilution by the aliquot, and
+ * input validation that reports every bad field at once.
+ *
+ * Units used throughout:
+ *   dose and residual     mg/L (on the oxidant's trade basis, e.g. "as KMnO4", "as Cl2")
+ *   stock strength        g/L (= mg/mL) on the same basis
+ *   jar volume            L
+ *   aliquot               mL
+ * so an aliquot a (mL) of a stock C (g/L = mg/mL) in a jar V (L) carries a·C mg.
+ */
+import { DomainError, type FieldProblem } from '../core/errors.js';
+import { Dec } from '../core/decimal.js';
+
+/** Severity of a problem or warning: error = the plan is wrong; warning = usable with care; info = not checked or advice. */
+export type Severity = 'error' | 'warning' | 'info';
+
+/** One finding in a plan, a check or an evaluation. `code` is stable (acceptance checks may rely on it). */
+export interface JarProblem {
+  readonly code: string;
+  readonly severity: Severity;
+  readonly message: string;
+  /** 1-based jar number when the finding concerns one jar. */
+  readonly jar?: number;
+}
+
+/** A default with the reason it is what it is. */
+export interface StatedDefault<T> {
+  readonly value: T;
+  readonly basis: string;
+}
+
+/**
+ * Defaults of the jar-test module. None of these is a published constant; each
+ * is a rule of thumb of laboratory practice and is marked as such, and each is a
+ * parameter of the function that uses it.
+ */
+export const JAR_TEST_DEFAULTS = {
+  jars: { value: 6, basis: 'common practice: a six-place gang stirrer' },
+  ladderFromFraction: { value: 0.5, basis: 'common practice: ladder from 50 % of the expected demand' },
+  ladderToFraction: { value: 1.5, basis: 'common practice: ladder to 150 % of the expected demand' },
+  pipetteResolutionMl: { value: 0.1, basis: 'common practice: 1 mL and 5 mL graduated pipettes read to 0.1 mL' },
+  minAliquotMl: {
+    value: 1.0,
+    basis: 'common practice: at least 1.0 mL and at least 10 pipette steps, so rounding to the pipette changes a dose by 5 % at most',
+  },
+  minAliquotResolutionSteps: { value: 10, basis: 'common practice: see minAliquotMl' },
+  maxAliquotFraction: {
+    value: 0.01,
+    basis: 'common practice: an aliquot of at most 1 % of the jar volume dilutes the jar by at most 1 %, which is negligible beside the other errors',
+  },
+  stockStrengthsGPerL: {
+    value: [0.1, 0.25, 0.5, 1, 2, 5, 10] as readonly number[],
+    basis: 'common practice: round stock strengths that are easy to make up and to check',
+  },
+  flaskVolumesMl: { value: [100, 250, 500, 1000] as readonly number[], basis: 'standard volumetric flask sizes (class A)' },
+  stockVolumeFactor: {
+    value: 2,
+    basis: 'common practice: make at least twice the stock the ladder uses, enough to rinse the pipette and repeat a jar',
+  },
+  minWeighMassG: {
+    value: 0.1,
+    basis: 'common practice: weigh at least 0.1 g so a 0.1 mg analytical balance reads the mass to 0.1 %',
+  },
+  minTradeVolumeMl: {
+    value: 1.0,
+    basis: 'common practice: measure at least 1.0 mL of a trade solution with a volumetric or graduated pipette',
+  },
+  contactTimesMin: { value: [5, 15, 30] as readonly number[], basis: 'common practice: sample at 5, 15 and 30 min of contact' },
+  detectionLimitMgPerL: {
+    value: 0.05,
+    basis: 'common practice: the lower working limit of a DPD field colorimeter reading for residual oxidant',
+  },
+  margin: {
+    value: { kind: 'relative', fraction: 0.1 } as DoseMargin,
+    basis: 'common practice: +10 % over the bench dose covers day-to-day change in raw-water demand and bench-to-plant scale-up',
+  },
+} as const;
+
+/** The margin added to the bench result to give the plant dose. */
+export type DoseMargin =
+  | { readonly kind: 'relative'; readonly fraction: number }
+  | { readonly kind: 'absolute'; readonly mgPerL: number };
+
+// ---------------------------------------------------------------------------
+// arithmetic
+
+/**
+ * Dose in the jar from an aliquot, with the dilution by the aliquot accounted for:
+ *   dose = a·C / (V + a/1000)   [mg/L]  (a mL, C mg/mL, V L)
+ */
+export function doseFromAliquot(aliquotMl: number, stockGPerL: number, jarVolumeL: number): number {
+  return (aliquotMl * stockGPerL) / (jarVolumeL + aliquotMl / 1000);
+}
+
+/** Nominal dose, ignoring the dilution by the aliquot: dose = a·C / V. */
+export function nominalDoseFromAliquot(aliquotMl: number, stockGPerL: number, jarVolumeL: number): number {
+  return (aliquotMl * stockGPerL) / jarVolumeL;
+}
+
+/**
+ * Aliquot (mL, not rounded) for a dose.
+ *   nominal:             a = D·V / C
+ *   dilution corrected:  a = D·V / (C − D/1000)   (solves D = a·C / (V + a/1000))
+ * The corrected form needs the stock (in mg/L, 1000·C) to be stronger than the dose.
+ */
+export function aliquotForDose(doseMgPerL: number, stockGPerL: number, jarVolumeL: number, correctDilution: boolean): number {
+  if (!correctDilution) return (doseMgPerL * jarVolumeL) / stockGPerL;
+  return (doseMgPerL * jarVolumeL) / (stockGPerL - doseMgPerL / 1000);
+}
+
+/** Round a volume to a multiple of the pipette resolution (decimal arithmetic, half to even). */
+export function roundToResolution(volumeMl: number, resolutionMl: number): number {
+  const steps = new Dec(volumeMl).dividedBy(resolutionMl).toDecimalPlaces(0, Dec.ROUND_HALF_EVEN);
+  return steps.times(resolutionMl).toNumber();
+}
+
+/** True when a volume is an exact multiple of the resolution (decimal arithmetic, so 2.3 is a multiple of 0.1). */
+export function isMultipleOf(volumeMl: number, resolutionMl: number): boolean {
+  return new Dec(volumeMl).mod(resolutionMl).isZero();
+}
+
+/** Evenly spaced values from a to b inclusive (n ≥ 2), through Dec so 0.5..1.5 gives 0.7 not 0.7000000000000001. */
+export function evenlySpaced(a: number, b: number, n: number): number[] {
+  if (n === 1) return [a];
+  const step = new Dec(b).minus(a).dividedBy(n - 1);
+  return Array.from({ length: n }, (_, i) => new Dec(a).plus(step.times(i)).toNumber());
+}
+
+// ---------------------------------------------------------------------------
+// validation
+
+/** Collects bad fields, then throws one JAR_TEST_INVALID naming all of them. */
+export class FieldCheck {
+  readonly problems: FieldProblem[] = [];
+
+  add(pointer: string, message: string): void {
+    this.problems.push({ pointer, message });
+  }
+
+  finite(value: unknown, pointer: string, what: string): value is number {
+    if (typeof value !== 'number' || !Number.isFinite(value)) {
+      this.add(pointer, `${what} must be a finite number`);
+      return false;
+    }
+    return true;
+  }
+
+  positive(value: unknown, pointer: string, what: string): boolean {
+    if (!this.finite(value, pointer, what)) return false;
+    if (value <= 0) {
+      this.add(pointer, `${what} must be greater than 0 (got ${value})`);
+      return false;
+    }
+    return true;
+  }
+
+  nonNegative(value: unknown, pointer: string, what: string): boolean {
+    if (!this.finite(value, pointer, what)) return false;
+    if (value < 0) {
+      this.add(pointer, `${what} must not be negative (got ${value})`);
+      return false;
+    }
+    return true;
+  }
+
+  fraction(value: unknown, pointer: string, what: string): boolean {
+    if (!this.finite(value, pointer, what)) return false;
+    if (value <= 0 || value > 1) {
+      this.add(pointer, `${what} must be a fraction in (0, 1] (got ${value}); give 97 % as 0.97`);
+      return false;
+    }
+    return true;
+  }
+
+  integerInRange(value: unknown, pointer: string, what: string, min: number, max: number): boolean {
+    if (typeof value !== 'number' || !Number.isInteger(value) || value < min || value > max) {
+      this.add(pointer, `${what} must be a whole number from ${min} to ${max} (got ${String(value)})`);
+      return false;
+    }
+    return true;
+  }
+
+  throwIfAny(subject: string): void {
+    if (this.problems.length === 0) return;
+    const first = this.problems[0]!;
+    const more = this.problems.length > 1 ? ` (and ${this.problems.length - 1} more)` : '';
+    throw new DomainError('JAR_TEST_INVALID', {
+      detail: `${subject}: ${first.pointer || '/'} ${first.message}${more}.`,
+      fields: this.problems,
+    });
+  }
+}
+
+/** Format a number for a message: up to 4 significant figures, no trailing zeros. */
+export function fmt(x: number, sig = 4): string {
+  if (!Number.isFinite(x)) return String(x);
+  if (x === 0) return '0';
+  return new Dec(x).toSignificantDigits(sig, Dec.ROUND_HALF_EVEN).toString();
+}

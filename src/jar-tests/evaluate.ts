@@ -1,0 +1,553 @@
+/**
+ * Evaluate jar-test results: oxidant consumed per jar, the demand curve, a least-squares
+ * line of residual oxidant against applied dose, the apparent total demand where that
+ * line crosses zero residual, the background demand it implies, the lowest dose that met
+ * every target at each contact time, and a recommended plant dose with its margin.
+ */
+import { DomainError } from '../core/errors.js';
+import { FieldCheck, JAR_TEST_DEFAULTS as D, fmt, type DoseMargin, type JarProblem } from './common.js';
+import { inversePrediction, olsFit, studentTQuantile, type LinearFit } from './stats.js';
+
+export interface JarResultInput {
+  readonly contactTimeMin: number;
+  readonly residualOxidantMgPerL?: number;
+  /** Dissolved iron after 0.45 µm filtration, mg/L as Fe. */
+  readonly ironMgPerL?: number;
+  /** Dissolved manganese after 0.45 µm filtration, mg/L as Mn. */
+  readonly manganeseMgPerL?: number;
+  readonly turbidityNTU?: number;
+  readonly note?: string;
+}
+
+export interface JarInput {
+  /** Applied dose, mg/L on the oxidant's basis. */
+  readonly doseMgPerL: number;
+  readonly results: readonly JarResultInput[];
+}
+
+/** A limit from the limits table (tables/limits.json), used when the caller gives no target. */
+export interface LimitTarget {
+  readonly valueMgPerL: number;
+  /** Source id, e.g. the one that resolves to 40 CFR 143.3 (US secondary drinking water regulations). */
+  readonly source: string;
+  readonly name?: string;
+}
+
+export interface JarTargets {
+  readonly ironMgPerL?: number;
+  readonly manganeseMgPerL?: number;
+  /** The residual oxidant the plant must carry (at least). */
+  readonly residualOxidantMgPerL?: number;
+  /** The most residual oxidant allowed (e.g. no visible permanganate). */
+  readonly residualOxidantMaxMgPerL?: number;
+}
+
+export interface EvaluateJarTestInput {
+  readonly oxidant: string;
+  /** Dose basis without "as" ("KMnO4", "Cl2"); default "oxidant". */
+  readonly basis?: string;
+  /** Stoichiometric estimate of the sample's demand, mg/L on the basis. */
+  readonly estimateMgPerL: number;
+  readonly jarVolumeL: number;
+  readonly jars: readonly JarInput[];
+  readonly targets?: JarTargets;
+  /** Default Fe and Mn targets when the caller gives none: the US secondary levels from the limits table. */
+  readonly limits?: { readonly iron?: LimitTarget; readonly manganese?: LimitTarget };
+  /** Default 0.05 mg/L (common practice for DPD). */
+  readonly detectionLimitMgPerL?: number;
+  /** Contact time whose residuals are fitted; default the longest with residual readings. */
+  readonly fitContactTimeMin?: number;
+  /** Contact time the plant provides; the recommendation uses the longest bench time not beyond it. */
+  readonly plantContactTimeMin?: number;
+  /** Default +10 % (common practice). */
+  readonly margin?: DoseMargin;
+}
+
+export type TargetAnalyte = 'iron' | 'manganese' | 'residualOxidant' | 'residualOxidantMax';
+
+export interface ResolvedTarget {
+  readonly analyte: TargetAnalyte;
+  readonly limitMgPerL: number;
+  readonly comparison: 'at most' | 'at least';
+  readonly origin: 'caller' | 'default limit';
+  readonly source?: string;
+  readonly name?: string;
+}
+
+export interface EvaluatedResult {
+  readonly contactTimeMin: number;
+  readonly residualOxidantMgPerL: number | null;
+  readonly residualBelowDetection: boolean | null;
+  /** applied − residual, mg/L (null without a residual reading). */
+  readonly consumedMgPerL: number | null;
+  readonly ironMgPerL: number | null;
+  readonly manganeseMgPerL: number | null;
+  readonly turbidityNTU: number | null;
+  readonly note: string | null;
+  /** Whether every target was met; null when no target applies. */
+  readonly meetsTargets: boolean | null;
+  /** Why not: e.g. "iron 0.42 > 0.3 mg/L", "manganese not measured". */
+  readonly failures: readonly string[];
+}
+
+export interface EvaluatedJar {
+  readonly jar: number;
+  readonly doseMgPerL: number;
+  readonly results: readonly EvaluatedResult[];
+}
+
+export interface DemandCurve {
+  readonly contactTimeMin: number;
+  readonly points: readonly { readonly jar: number; readonly doseMgPerL: number; readonly consumedMgPerL: number; readonly residualMgPerL: number; readonly belowDetection: boolean }[];
+}
+
+export interface ResidualFit {
+  readonly contactTimeMin: number;
+  readonly contactTimeChoice: 'caller' | 'longest';
+  readonly jarsUsed: readonly number[];
+  readonly jarsExcluded: readonly { readonly jar: number; readonly reason: string }[];
+  readonly n: number;
+  readonly slope: number;
+  readonly intercept: number;
+  readonly r2: number;
+  readonly slopeStdError: number;
+  readonly interceptStdError: number;
+  readonly residualStdError: number;
+  readonly degreesOfFreedom: number;
+  /** Least-squares line of consumed oxidant against applied dose, over the same jars. */
+  readonly demandLine: { readonly slope: number; readonly intercept: number; readonly r2: number };
+}
+
+export interface LowestDose {
+  readonly contactTimeMin: number;
+  readonly doseMgPerL: number | null;
+  readonly jar: number | null;
+  readonly jarsMeeting: readonly number[];
+  /** Jars at higher doses that did not meet every target (e.g. permanganate overdose raising Mn). */
+  readonly higherDosesFailing: readonly number[];
+  readonly note: string;
+}
+
+export interface RecommendedDose {
+  readonly doseMgPerL: number;
+  readonly baseDoseMgPerL: number;
+  readonly basis: 'lowest-dose-meeting-targets' | 'apparent-demand-plus-residual';
+  readonly contactTimeMin: number;
+  readonly margin: DoseMargin & { readonly mgPerL: number; readonly basis: string };
+  /** Residual the fitted line predicts at the recommended dose (null without a usable fit). */
+  readonly expectedResidualMgPerL: number | null;
+  readonly reason: string;
+}
+
+export interface JarTestEvaluation {
+  readonly oxidant: string;
+  readonly basis: string;
+  readonly jarVolumeL: number;
+  readonly estimateMgPerL: number;
+  readonly detectionLimitMgPerL: number;
+  readonly contactTimesMin: readonly number[];
+  readonly jars: readonly EvaluatedJar[];
+  readonly demandCurves: readonly DemandCurve[];
+  readonly fit: ResidualFit;
+  /** Dose at which the fitted residual is zero, −intercept/slope, with its standard error and 95 % interval. */
+  readonly apparentDemand: { readonly doseMgPerL: number; readonly stdError: number; readonly ci95: readonly [number, number]; readonly method: string } | null;
+  /** apparent − stoichiometric estimate. */
+  readonly backgroundDemand: { readonly doseMgPerL: number; readonly stdError: number } | null;
+  readonly targets: readonly ResolvedTarget[];
+  readonly lowestDoseMeetingTargets: readonly LowestDose[];
+  readonly recommendedDose: RecommendedDose | null;
+  readonly problems: readonly JarProblem[];
+  readonly notes: readonly string[];
+}
+
+function validate(input: EvaluateJarTestInput): void {
+  const c = new FieldCheck();
+  if (typeof input.oxidant !== 'string' || input.oxidant.length === 0) c.add('/oxidant', 'give the oxidant product id');
+  c.nonNegative(input.estimateMgPerL, '/estimateMgPerL', 'the stoichiometric estimate (mg/L)');
+  c.positive(input.jarVolumeL, '/jarVolumeL', 'the jar volume (L)');
+  if (!Array.isArray(input.jars) || input.jars.length === 0 || input.jars.length > 50) {
+    c.add('/jars', 'give from 1 to 50 jars, each with doseMgPerL and results');
+  } else {
+    input.jars.forEach((j, i) => {
+      const p = `/jars/${i}`;
+      if (j === null || typeof j !== 'object') return c.add(p, 'each jar must be an object with doseMgPerL and results');
+      c.nonNegative(j.doseMgPerL, `${p}/doseMgPerL`, `the dose of jar ${i + 1} (mg/L)`);
+      const results: readonly JarResultInput[] = j.results;
+      if (!Array.isArray(results)) return c.add(`${p}/results`, 'give the results as a list (one entry per contact time)');
+      const seen = new Set<number>();
+      results.forEach((r: JarResultInput, k: number) => {
+        const q = `${p}/results/${k}`;
+        if (r === null || typeof r !== 'object') return c.add(q, 'each result must be an object with contactTimeMin');
+        if (c.positive(r.contactTimeMin, `${q}/contactTimeMin`, 'the contact time (min)')) {
+          if (seen.has(r.contactTimeMin)) c.add(`${q}/contactTimeMin`, `jar ${i + 1} has two results at ${r.contactTimeMin} min; give one per contact time`);
+          seen.add(r.contactTimeMin);
+        }
+        for (const key of ['residualOxidantMgPerL', 'ironMgPerL', 'manganeseMgPerL', 'turbidityNTU'] as const) {
+          if (r[key] !== undefined) c.nonNegative(r[key], `${q}/${key}`, key);
+        }
+      });
+    });
+  }
+  const t = input.targets;
+  if (t !== undefined) {
+    for (const key of ['ironMgPerL', 'manganeseMgPerL', 'residualOxidantMgPerL', 'residualOxidantMaxMgPerL'] as const) {
+      if (t[key] !== undefined) c.nonNegative(t[key], `/targets/${key}`, `the target ${key}`);
+    }
+    if (t.residualOxidantMgPerL !== undefined && t.residualOxidantMaxMgPerL !== undefined && t.residualOxidantMaxMgPerL < t.residualOxidantMgPerL) {
+      c.add('/targets/residualOxidantMaxMgPerL', 'the largest residual allowed must not be below the residual required');
+    }
+  }
+  for (const key of ['iron', 'manganese'] as const) {
+    const l = input.limits?.[key];
+    if (l !== undefined) c.nonNegative(l.valueMgPerL, `/limits/${key}/valueMgPerL`, `the ${key} limit (mg/L)`);
+  }
+  if (input.detectionLimitMgPerL !== undefined) c.nonNegative(input.detectionLimitMgPerL, '/detectionLimitMgPerL', 'the detection limit (mg/L)');
+  if (input.fitContactTimeMin !== undefined) c.positive(input.fitContactTimeMin, '/fitContactTimeMin', 'the contact time to fit (min)');
+  if (input.plantContactTimeMin !== undefined) c.positive(input.plantContactTimeMin, '/plantContactTimeMin', "the plant's contact time (min)");
+  const m = input.margin;
+  if (m !== undefined) {
+    if (m.kind === 'relative') {
+      if (c.nonNegative(m.fraction, '/margin/fraction', 'the relative margin') && m.fraction > 1) c.add('/margin/fraction', 'the relative margin must be a fraction from 0 to 1 (0.1 = +10 %)');
+    } else if (m.kind === 'absolute') c.nonNegative(m.mgPerL, '/margin/mgPerL', 'the absolute margin (mg/L)');
+    else c.add('/margin/kind', 'the margin kind must be "relative" or "absolute"');
+  }
+  c.throwIfAny('The jar-test results are not valid');
+}
+
+function resolveTargets(input: EvaluateJarTestInput, notes: string[]): ResolvedTarget[] {
+  const t = input.targets ?? {};
+  const measured = (key: 'ironMgPerL' | 'manganeseMgPerL') => input.jars.some((j) => j.results.some((r) => r[key] !== undefined));
+  const out: ResolvedTarget[] = [];
+  for (const [analyte, key, label] of [
+    ['iron', 'ironMgPerL', 'iron'],
+    ['manganese', 'manganeseMgPerL', 'manganese'],
+  ] as const) {
+    const given = t[key];
+    if (given !== undefined) {
+      out.push({ analyte, limitMgPerL: given, comparison: 'at most', origin: 'caller' });
+      continue;
+    }
+    const limit = input.limits?.[analyte];
+    if (limit === undefined) {
+      notes.push(`No ${label} target given and no default limit passed in; ${label} is not a target.`);
+    } else if (!measured(key)) {
+      notes.push(`No ${label} target given and ${label} was not measured, so the default limit (${fmt(limit.valueMgPerL)} mg/L) is not applied.`);
+    } else {
+      out.push({ analyte, limitMgPerL: limit.valueMgPerL, comparison: 'at most', origin: 'default limit', source: limit.source, ...(limit.name !== undefined ? { name: limit.name } : {}) });
+      notes.push(
+        `No ${label} target given: using ${fmt(limit.valueMgPerL)} mg/L${limit.name !== undefined ? ` (${limit.name})` : ''} from source "${limit.source}" as the default target; local regulations govern.`,
+      );
+    }
+  }
+  if (t.residualOxidantMgPerL !== undefined) out.push({ analyte: 'residualOxidant', limitMgPerL: t.residualOxidantMgPerL, comparison: 'at least', origin: 'caller' });
+  if (t.residualOxidantMaxMgPerL !== undefined) out.push({ analyte: 'residualOxidantMax', limitMgPerL: t.residualOxidantMaxMgPerL, comparison: 'at most', origin: 'caller' });
+  return out;
+}
+
+function judge(r: JarResultInput, targets: readonly ResolvedTarget[]): { meets: boolean | null; failures: string[] } {
+  if (targets.length === 0) return { meets: null, failures: [] };
+  const failures: string[] = [];
+  for (const t of targets) {
+    const value =
+      t.analyte === 'iron' ? r.ironMgPerL : t.analyte === 'manganese' ? r.manganeseMgPerL : r.residualOxidantMgPerL;
+    const name = t.analyte === 'iron' ? 'iron' : t.analyte === 'manganese' ? 'manganese' : 'residual oxidant';
+    if (value === undefined) failures.push(`${name} not measured`);
+    else if (t.comparison === 'at most' && value > t.limitMgPerL) failures.push(`${name} ${fmt(value)} > ${fmt(t.limitMgPerL)} mg/L`);
+    else if (t.comparison === 'at least' && value < t.limitMgPerL) failures.push(`${name} ${fmt(value)} < ${fmt(t.limitMgPerL)} mg/L`);
+  }
+  return { meets: failures.length === 0, failures };
+}
+
+const T95 = 0.975;
+
+/**
+ * Evaluate a jar test.
+ * Throws DomainError JAR_TEST_INVALID (field pointers) for bad input, and JAR_TEST_TOO_FEW_POINTS when fewer
+ * than 3 jars (at 2 or more doses) kept a residual above the detection limit at the fitted contact time.
+ * A fitted slope ≤ 0 is reported as the problem FIT_SLOPE_NOT_POSITIVE (no apparent demand).
+ */
+export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation {
+  validate(input);
+  const basis = input.basis ?? 'oxidant';
+  const problems: JarProblem[] = [];
+  const notes: string[] = [];
+  const dl = input.detectionLimitMgPerL ?? D.detectionLimitMgPerL.value;
+  if (input.detectionLimitMgPerL === undefined) notes.push(`Detection limit ${dl} mg/L (${D.detectionLimitMgPerL.basis}).`);
+  const targets = resolveTargets(input, notes);
+
+  const times = [...new Set(input.jars.flatMap((j) => j.results.map((r) => r.contactTimeMin)))].sort((a, b) => a - b);
+  if (times.length === 0) {
+    throw new DomainError('JAR_TEST_INVALID', {
+      detail: 'No jar has any result; give each jar its readings at one or more contact times.',
+      fields: input.jars.map((_, i) => ({ pointer: `/jars/${i}/results`, message: 'no results' })),
+    });
+  }
+
+  const jars: EvaluatedJar[] = input.jars.map((j, i) => ({
+    jar: i + 1,
+    doseMgPerL: j.doseMgPerL,
+    results: [...j.results]
+      .sort((a, b) => a.contactTimeMin - b.contactTimeMin)
+      .map((r): EvaluatedResult => {
+        const residual = r.residualOxidantMgPerL ?? null;
+        const { meets, failures } = judge(r, targets);
+        return {
+          contactTimeMin: r.contactTimeMin,
+          residualOxidantMgPerL: residual,
+          residualBelowDetection: residual === null ? null : residual <= dl,
+          consumedMgPerL: residual === null ? null : j.doseMgPerL - residual,
+          ironMgPerL: r.ironMgPerL ?? null,
+          manganeseMgPerL: r.manganeseMgPerL ?? null,
+          turbidityNTU: r.turbidityNTU ?? null,
+          note: r.note ?? null,
+          meetsTargets: meets,
+          failures,
+        };
+      }),
+  }));
+  for (const j of jars) {
+    for (const r of j.results) {
+      if (r.consumedMgPerL !== null && r.consumedMgPerL < -dl) {
+        problems.push({
+          code: 'RESIDUAL_ABOVE_DOSE',
+          severity: 'warning',
+          jar: j.jar,
+          message: `Jar ${j.jar} at ${fmt(r.contactTimeMin)} min: the residual ${fmt(r.residualOxidantMgPerL!)} mg/L is above the ${fmt(j.doseMgPerL)} mg/L applied; check the stock strength, the aliquot and the residual method's blank.`,
+        });
+      }
+    }
+  }
+
+  const demandCurves: DemandCurve[] = times.map((t) => ({
+    contactTimeMin: t,
+    points: jars.flatMap((j) => {
+      const r = j.results.find((x) => x.contactTimeMin === t);
+      if (r === undefined || r.residualOxidantMgPerL === null) return [];
+      return [{ jar: j.jar, doseMgPerL: j.doseMgPerL, consumedMgPerL: r.consumedMgPerL!, residualMgPerL: r.residualOxidantMgPerL, belowDetection: r.residualBelowDetection! }];
+    }),
+  }));
+
+  // ---- the fit
+  const residualTimes = times.filter((t) => jars.some((j) => j.results.some((r) => r.contactTimeMin === t && r.residualOxidantMgPerL !== null)));
+  let fitTime: number;
+  let choice: 'caller' | 'longest';
+  if (input.fitContactTimeMin !== undefined) {
+    if (!residualTimes.includes(input.fitContactTimeMin)) {
+      throw new DomainError('JAR_TEST_INVALID', {
+        detail: `No residual readings at ${fmt(input.fitContactTimeMin)} min; residuals were read at ${residualTimes.join(', ') || 'no'} min.`,
+        fields: [{ pointer: '/fitContactTimeMin', message: `must be one of the contact times with residual readings: ${residualTimes.join(', ') || 'none'}` }],
+      });
+    }
+    fitTime = input.fitContactTimeMin;
+    choice = 'caller';
+  } else {
+    if (residualTimes.length === 0) {
+      throw new DomainError('JAR_TEST_TOO_FEW_POINTS', {
+        detail: 'No residual oxidant was read in any jar, so there is no demand line; measure the residual in each jar at each contact time.',
+        params: { n: 0, detectionLimitMgPerL: dl },
+        fields: input.jars.map((_, i) => ({ pointer: `/jars/${i}/results`, message: 'no residualOxidantMgPerL' })),
+      });
+    }
+    fitTime = residualTimes[residualTimes.length - 1]!;
+    choice = 'longest';
+  }
+  notes.push(`Residual line fitted at ${fmt(fitTime)} min (${choice === 'caller' ? 'chosen by the caller' : 'the longest contact time with residual readings'}).`);
+  const used: { jar: number; x: number; y: number; consumed: number }[] = [];
+  const excluded: { jar: number; reason: string }[] = [];
+  for (const j of jars) {
+    const r = j.results.find((x) => x.contactTimeMin === fitTime);
+    if (r === undefined) excluded.push({ jar: j.jar, reason: `no result at ${fmt(fitTime)} min` });
+    else if (r.residualOxidantMgPerL === null) excluded.push({ jar: j.jar, reason: 'no residual reading' });
+    else if (r.residualOxidantMgPerL <= dl) excluded.push({ jar: j.jar, reason: `residual ${fmt(r.residualOxidantMgPerL)} mg/L at or below the detection limit ${fmt(dl)} mg/L` });
+    else used.push({ jar: j.jar, x: j.doseMgPerL, y: r.residualOxidantMgPerL, consumed: r.consumedMgPerL! });
+  }
+  const distinctDoses = new Set(used.map((u) => u.x)).size;
+  if (used.length < 3 || distinctDoses < 2) {
+    const which = used.length > 0 ? ` (jar ${used.map((u) => u.jar).join(', ')})` : '';
+    throw new DomainError('JAR_TEST_TOO_FEW_POINTS', {
+      detail:
+        `Only ${used.length} jar(s)${which} kept a residual above the detection limit ${fmt(dl)} mg/L at ${fmt(fitTime)} min` +
+        `${used.length >= 3 ? ', all at one dose' : ''}; the demand line needs at least 3 jars at 2 or more doses. Repeat the test with more jars above the expected demand, or fit another contact time.`,
+      params: { n: used.length, distinctDoses, detectionLimitMgPerL: dl, contactTimeMin: fitTime, jarsUsed: used.map((u) => u.jar) },
+      fields: [{ pointer: '/jars', message: `${used.length} jar(s) with a measurable residual at ${fmt(fitTime)} min; at least 3 needed` }],
+    });
+  }
+  const f: LinearFit = olsFit(used.map((u) => u.x), used.map((u) => u.y));
+  const dline = olsFit(used.map((u) => u.x), used.map((u) => u.consumed));
+  const fit: ResidualFit = {
+    contactTimeMin: fitTime,
+    contactTimeChoice: choice,
+    jarsUsed: used.map((u) => u.jar),
+    jarsExcluded: excluded,
+    n: f.n,
+    slope: f.slope,
+    intercept: f.intercept,
+    r2: f.r2,
+    slopeStdError: f.slopeStdError,
+    interceptStdError: f.interceptStdError,
+    residualStdError: f.residualStdError,
+    degreesOfFreedom: f.degreesOfFreedom,
+    demandLine: { slope: dline.slope, intercept: dline.intercept, r2: dline.r2 },
+  };
+
+  let apparentDemand: JarTestEvaluation['apparentDemand'] = null;
+  let backgroundDemand: JarTestEvaluation['backgroundDemand'] = null;
+  if (!(f.slope > 0)) {
+    problems.push({
+      code: 'FIT_SLOPE_NOT_POSITIVE',
+      severity: 'error',
+      message: `The residual at ${fmt(fitTime)} min does not rise with dose (slope ${fmt(f.slope, 3)}), so the line never crosses zero residual and gives no demand. Check the stock strength and the residual readings, or widen the ladder.`,
+    });
+  } else {
+    const inv = inversePrediction(f, 0);
+    const t = studentTQuantile(T95, f.degreesOfFreedom);
+    const half = t * inv.stdError;
+    apparentDemand = {
+      doseMgPerL: inv.x,
+      stdError: inv.stdError,
+      ci95: [inv.x - half, inv.x + half],
+      method: `−intercept/slope of the residual line; standard error (s/|slope|)·√(1/n + (x0 − x̄)²/Sxx); 95 % interval ± t(0.975, ${f.degreesOfFreedom}) = ±${fmt(t, 4)} × se`,
+    };
+    backgroundDemand = { doseMgPerL: inv.x - input.estimateMgPerL, stdError: inv.stdError };
+    if (inv.x < 0) {
+      problems.push({
+        code: 'APPARENT_DEMAND_NEGATIVE',
+        severity: 'error',
+        message: `The fitted line crosses zero residual at ${fmt(inv.x, 3)} mg/L, below zero: the residuals exceed the doses. Check the stock strength and the residual method.`,
+      });
+    } else if (inv.x < input.estimateMgPerL) {
+      problems.push({
+        code: 'APPARENT_BELOW_ESTIMATE',
+        severity: 'warning',
+        message: `The apparent demand ${fmt(inv.x, 3)} mg/L is below the stoichiometric estimate ${fmt(input.estimateMgPerL, 3)} mg/L: oxidation may be incomplete at ${fmt(fitTime)} min, or the sample readings are high. Check dissolved Fe and Mn in the jars.`,
+      });
+    }
+    if (f.degreesOfFreedom > 0 && f.slope - 1 > 2 * f.slopeStdError) {
+      problems.push({
+        code: 'FIT_SLOPE_ABOVE_ONE',
+        severity: 'warning',
+        message: `The residual rises faster than the dose (slope ${fmt(f.slope, 3)} ± ${fmt(f.slopeStdError, 2)}), which no demand can do; check the stock strength and the residual method's calibration.`,
+      });
+    }
+  }
+  if (Number.isFinite(f.r2) && f.r2 < 0.9) {
+    problems.push({
+      code: 'FIT_POOR',
+      severity: 'warning',
+      message: `The residual line fits poorly (r² = ${fmt(f.r2, 3)} over ${f.n} jars); treat the apparent demand as rough and repeat the jars that stand off the line.`,
+    });
+  }
+
+  // ---- targets
+  if (targets.length === 0) notes.push('No targets apply, so no lowest dose meeting targets is reported.');
+  const lowest: LowestDose[] = targets.length === 0 ? [] : times.map((t): LowestDose => {
+    const rows = jars
+      .map((j) => ({ j, r: j.results.find((x) => x.contactTimeMin === t) }))
+      .filter((x): x is { j: EvaluatedJar; r: EvaluatedResult } => x.r !== undefined)
+      .sort((a, b) => a.j.doseMgPerL - b.j.doseMgPerL);
+    const meeting = rows.filter((x) => x.r.meetsTargets === true);
+    if (meeting.length === 0) {
+      return { contactTimeMin: t, doseMgPerL: null, jar: null, jarsMeeting: [], higherDosesFailing: [], note: `No jar met every target at ${fmt(t)} min.` };
+    }
+    const first = meeting[0]!;
+    const failingAbove = rows.filter((x) => x.j.doseMgPerL > first.j.doseMgPerL && x.r.meetsTargets !== true).map((x) => x.j.jar);
+    const note =
+      `Jar ${first.j.jar} (${fmt(first.j.doseMgPerL, 3)} mg/L) is the lowest dose meeting every target at ${fmt(t)} min` +
+      (failingAbove.length > 0 ? `; jar(s) ${failingAbove.join(', ')} at higher doses did not (${rows.find((x) => x.j.jar === failingAbove[0])!.r.failures.join('; ')}).` : '.');
+    return { contactTimeMin: t, doseMgPerL: first.j.doseMgPerL, jar: first.j.jar, jarsMeeting: meeting.map((x) => x.j.jar), higherDosesFailing: failingAbove, note };
+  });
+
+  // ---- recommendation
+  const margin = input.margin ?? D.margin.value;
+  const marginBasis = input.margin === undefined ? D.margin.basis : 'margin given by the caller';
+  let benchTime: number;
+  if (input.plantContactTimeMin === undefined) {
+    benchTime = times[times.length - 1]!;
+    problems.push({
+      code: 'PLANT_CONTACT_TIME_NOT_GIVEN',
+      severity: 'info',
+      message: `No plant contact time given: the recommendation uses the longest bench time, ${fmt(benchTime)} min. Give the plant's available contact time so the recommendation does not assume more contact than the plant has.`,
+    });
+  } else {
+    const within = times.filter((t) => t <= input.plantContactTimeMin!);
+    if (within.length === 0) {
+      benchTime = times[0]!;
+      problems.push({
+        code: 'PLANT_CONTACT_SHORTER_THAN_BENCH',
+        severity: 'warning',
+        message: `The plant's contact time (${fmt(input.plantContactTimeMin)} min) is shorter than the first bench sample (${fmt(times[0]!)} min); the recommendation at ${fmt(benchTime)} min may be low. Sample the jars earlier.`,
+      });
+    } else benchTime = within[within.length - 1]!;
+  }
+  const atBench = lowest.find((l) => l.contactTimeMin === benchTime);
+  const residualTarget = input.targets?.residualOxidantMgPerL ?? 0;
+  let recommendedDose: RecommendedDose | null = null;
+  const withMargin = (base: number) => (margin.kind === 'relative' ? base * margin.fraction : margin.mgPerL);
+  const marginText = margin.kind === 'relative' ? `+${fmt(margin.fraction * 100)} %` : `+${fmt(margin.mgPerL)} mg/L`;
+  const predict = (x: number) => (f.slope > 0 ? Math.max(0, f.slope * x + f.intercept) : null);
+  if (atBench !== undefined && atBench.doseMgPerL !== null) {
+    const base = atBench.doseMgPerL;
+    const m = withMargin(base);
+    recommendedDose = {
+      doseMgPerL: base + m,
+      baseDoseMgPerL: base,
+      basis: 'lowest-dose-meeting-targets',
+      contactTimeMin: benchTime,
+      margin: { ...margin, mgPerL: m, basis: marginBasis },
+      expectedResidualMgPerL: predict(base + m),
+      reason: `Lowest bench dose meeting every target at ${fmt(benchTime)} min (jar ${atBench.jar}, ${fmt(base, 3)} mg/L) ${marginText} (${marginBasis}).`,
+    };
+  } else if (apparentDemand !== null && apparentDemand.doseMgPerL >= 0) {
+    const base = apparentDemand.doseMgPerL + residualTarget;
+    const m = withMargin(base);
+    recommendedDose = {
+      doseMgPerL: base + m,
+      baseDoseMgPerL: base,
+      basis: 'apparent-demand-plus-residual',
+      contactTimeMin: fitTime,
+      margin: { ...margin, mgPerL: m, basis: marginBasis },
+      expectedResidualMgPerL: predict(base + m),
+      reason:
+        `${targets.length === 0 ? 'No targets apply' : `No jar met every target at ${fmt(benchTime)} min`}: apparent demand ${fmt(apparentDemand.doseMgPerL, 3)} mg/L (at ${fmt(fitTime)} min) + target residual ${fmt(residualTarget)} mg/L, ${marginText} (${marginBasis}).`,
+    };
+    if (fitTime > benchTime) {
+      problems.push({
+        code: 'FIT_TIME_BEYOND_PLANT_CONTACT',
+        severity: 'warning',
+        message: `The apparent demand comes from ${fmt(fitTime)} min of contact, longer than the ${fmt(benchTime)} min the plant provides; the plant may need more oxidant or more contact.`,
+      });
+    }
+  } else {
+    problems.push({
+      code: 'NO_RECOMMENDATION',
+      severity: 'error',
+      message: 'No jar met every target and the residual line gives no demand, so no plant dose can be recommended; repeat the test with a wider ladder.',
+    });
+  }
+  if (recommendedDose !== null && input.targets?.residualOxidantMaxMgPerL !== undefined && recommendedDose.expectedResidualMgPerL !== null && recommendedDose.expectedResidualMgPerL > input.targets.residualOxidantMaxMgPerL) {
+    problems.push({
+      code: 'RECOMMENDED_ABOVE_RESIDUAL_MAX',
+      severity: 'warning',
+      message: `At the recommended ${fmt(recommendedDose.doseMgPerL, 3)} mg/L the residual line predicts ${fmt(recommendedDose.expectedResidualMgPerL, 2)} mg/L, above the ${fmt(input.targets.residualOxidantMaxMgPerL)} mg/L allowed; use a smaller margin or confirm at the plant.`,
+    });
+  }
+
+  return {
+    oxidant: input.oxidant,
+    basis,
+    jarVolumeL: input.jarVolumeL,
+    estimateMgPerL: input.estimateMgPerL,
+    detectionLimitMgPerL: dl,
+    contactTimesMin: times,
+    jars,
+    demandCurves,
+    fit,
+    apparentDemand,
+    backgroundDemand,
+    targets,
+    lowestDoseMeetingTargets: lowest,
+    recommendedDose,
+    problems,
+    notes,
+  };
+}

@@ -1,0 +1,206 @@
+import { afterEach, describe, expect, it } from 'vitest';
+import { BASE_CSV_COLUMNS, DOSE_CSV_COLUMNS, csvField, type Archive, type CsvColumn } from '../../src/archive/index.js';
+import { doseSheetInput, ensureAuthor, openTestArchive, tempDataDir } from './fixtures/archive-fixture.js';
+
+const cleanups: (() => void)[] = [];
+afterEach(() => {
+  while (cleanups.length) cleanups.pop()!();
+});
+function fresh(): { archive: Archive; author: { userId: string; signerId: string } } {
+  const t = tempDataDir('csv');
+  const archive = openTestArchive(t.dir);
+  cleanups.push(() => {
+    archive.close();
+    t.cleanup();
+  });
+  const author = ensureAuthor(archive);
+  archive.savePlant({ id: 'demo-plant' }, { createdBy: 'x' });
+  archive.savePlant({ id: 'other-plant' }, { createdBy: 'x' });
+  return { archive, author };
+}
+
+/** A small RFC 4180 reader written for the test (quoted fields, doubled quotes, CRLF records). */
+function parseCsv(text: string): string[][] {
+  const rows: string[][] = [];
+  let row: string[] = [];
+  let field = '';
+  let i = 0;
+  let quoted = false;
+  while (i < text.length) {
+    const c = text[i]!;
+    if (quoted) {
+      if (c === '"' && text[i + 1] === '"') {
+        field += '"';
+        i += 2;
+        continue;
+      }
+      if (c === '"') {
+        quoted = false;
+        i++;
+        continue;
+      }
+      field += c;
+      i++;
+      continue;
+    }
+    if (c === '"' && field === '') {
+      quoted = true;
+      i++;
+    } else if (c === ',') {
+      row.push(field);
+      field = '';
+      i++;
+    } else if (c === '\r' && text[i + 1] === '\n') {
+      row.push(field);
+      rows.push(row);
+      row = [];
+      field = '';
+      i += 2;
+    } else {
+      expect(c, `bare ${JSON.stringify(c)} outside quotes at ${i}`).not.toMatch(/[\r\n"]/);
+      field += c;
+      i++;
+    }
+  }
+  expect(field, 'the last record ends with CRLF').toBe('');
+  expect(row).toEqual([]);
+  return rows;
+}
+
+describe('csvField (RFC 4180 §2)', () => {
+  it.each([
+    [null, ''],
+    [undefined, ''],
+    [0, '0'],
+    [-0.25, '-0.25'], // numbers are never defused
+    [1.5e-7, '1.5e-7'],
+    [true, 'true'],
+    ['plain', 'plain'],
+    ['a,b', '"a,b"'],
+    ['say "hi"', '"say ""hi"""'],
+    ['two\r\nlines', '"two\r\nlines"'],
+    ['line\nfeed', '"line\nfeed"'],
+    ['=HYPERLINK("x")', '"\'=HYPERLINK(""x"")"'], // OWASP CSV injection: text formula prefixed with '
+    ['+1', "'+1"],
+    ['-2', "'-2"],
+    ['@SUM(A1)', "'@SUM(A1)"],
+  ])('%j → %j', (value, text) => {
+    expect(csvField(value)).toBe(text);
+  });
+});
+
+describe('exportCsv', () => {
+  it('has a header with units, one CRLF-terminated row per sheet, ordered by sample time', () => {
+    const { archive, author } = fresh();
+    archive.appendSheet(doseSheetInput(author, { plantId: 'demo-plant', plantVersion: 1, sampledAt: '2026-03-02T08:00:00Z' }));
+    archive.appendSheet(doseSheetInput(author, { plantId: 'demo-plant', plantVersion: 1, sampledAt: '2026-03-01T08:00:00Z' }));
+    const text = archive.exportCsv({ plantId: 'demo-plant', from: '2026-03-01', to: '2026-03-31' });
+    expect(text.startsWith('sheet_id,kind,plant_id,plant_version,sampled_at_utc,created_at_utc,signer_name,status,superseded_by,supersedes,pdf_sha256,')).toBe(true);
+    const rows = parseCsv(text);
+    expect(rows[0]).toEqual([...BASE_CSV_COLUMNS, ...DOSE_CSV_COLUMNS].map((c) => c.header));
+    expect(rows[0]).toEqual(expect.arrayContaining(['dose_mg_per_L', 'flow_m3_per_d', 'feed_kg_per_d', 'feed_lb_per_d', 'solution_L_per_h', 'iron_mg_per_L']));
+    expect(rows).toHaveLength(3);
+    const col = (name: string) => rows[0]!.indexOf(name);
+    expect(rows.slice(1).map((r) => r[col('sampled_at_utc')])).toEqual(['2026-03-01T08:00:00.000Z', '2026-03-02T08:00:00.000Z']);
+    for (const r of rows.slice(1)) expect(r).toHaveLength(rows[0]!.length);
+  });
+
+  it('converts figures to the units in the header', () => {
+    const { archive, author } = fresh();
+    archive.appendSheet(
+      doseSheetInput(author, {
+        plantId: 'demo-plant',
+        plantVersion: 1,
+        request: {
+          oxidant: 'sodium-hypochlorite',
+          flow: { value: 2, unit: 'MGD' },
+          sample: { pH: 7.8, temperatureC: 15, iron: { value: 800, unit: 'ug/L' }, ammoniaN: { value: 0.1, unit: 'mg/L' } },
+        },
+        result: {
+          dose: { value: 2.5, unit: 'mg/L', basis: 'as Cl2' },
+          feed: { massRate: { value: 41.7, unit: 'lb/d' }, solutionRate: null },
+          flags: [{ code: 'DBP_CAUTION', severity: 'warning' }, { code: 'LOCAL_RULES', severity: 'info' }],
+        },
+      }),
+    );
+    const rows = parseCsv(archive.exportCsv({ plantId: 'demo-plant' }));
+    const get = (name: string) => rows[1]![rows[0]!.indexOf(name)];
+    // 1 MGD = 3785.411784 m3/d exactly (US gallon = 3.785411784 L; NIST SP 811, 2008, appendix B)
+    expect(Number(get('flow_m3_per_d'))).toBeCloseTo(2 * 3785.411784, 9);
+    // 1 lb = 0.45359237 kg exactly (NIST SP 811, 2008, appendix B)
+    expect(Number(get('feed_kg_per_d'))).toBeCloseTo(41.7 * 0.45359237, 12);
+    expect(Number(get('feed_lb_per_d'))).toBeCloseTo(41.7, 12);
+    expect(get('iron_mg_per_L')).toBe('0.8');
+    expect(get('ammonia_as_N_mg_per_L')).toBe('0.1');
+    expect(get('manganese_mg_per_L')).toBe('');
+    expect(get('solution_L_per_h')).toBe(''); // a gas or unknown solution rate stays empty
+    expect(get('dose_mg_per_L')).toBe('2.5');
+    expect(get('dose_basis')).toBe('as Cl2');
+    expect(get('oxidant')).toBe('sodium-hypochlorite');
+    expect(get('sample_pH')).toBe('7.8');
+    expect(get('sample_temperature_C')).toBe('15');
+    expect(get('flags')).toBe('DBP_CAUTION(warning) LOCAL_RULES(info)');
+  });
+
+  it('marks superseded sheets and names the correction', () => {
+    const { archive, author } = fresh();
+    const a = archive.appendSheet(doseSheetInput(author, { plantId: 'demo-plant', plantVersion: 1, sampledAt: '2026-03-05T07:00:00Z' }));
+    const b = archive.appendSheet(doseSheetInput(author, { plantId: 'demo-plant', plantVersion: 1, sampledAt: '2026-03-05T07:00:00Z', supersedes: a.id }));
+    const rows = parseCsv(archive.exportCsv({ plantId: 'demo-plant' }));
+    const h = rows[0]!;
+    expect(rows.slice(1).map((r) => [r[h.indexOf('sheet_id')], r[h.indexOf('status')], r[h.indexOf('superseded_by')], r[h.indexOf('supersedes')]])).toEqual([
+      [a.id, 'superseded', b.id, ''],
+      [b.id, 'current', '', a.id],
+    ]);
+  });
+
+  it('quotes text with commas, quotes and line breaks so the file parses back', () => {
+    const { archive, author } = fresh();
+    const tricky = 'Night shift, "B" crew\r\nrelief';
+    archive.appendSheet(doseSheetInput(author, { plantId: 'demo-plant', plantVersion: 1, result: { dose: { value: 1, unit: 'mg/L', basis: tricky } } }));
+    const rows = parseCsv(archive.exportCsv({ plantId: 'demo-plant' }));
+    expect(rows[1]![rows[0]!.indexOf('dose_basis')]).toBe(tricky);
+  });
+
+  it('filters by plant and date range', () => {
+    const { archive, author } = fresh();
+    const mk = (plantId: string, sampledAt: string) => archive.appendSheet(doseSheetInput(author, { plantId, plantVersion: 1, sampledAt })).id;
+    mk('demo-plant', '2026-02-28T12:00:00Z');
+    const inside = mk('demo-plant', '2026-03-31T22:00:00Z');
+    mk('other-plant', '2026-03-10T12:00:00Z');
+    mk('demo-plant', '2026-04-01T00:00:00Z');
+    const rows = parseCsv(archive.exportCsv({ plantId: 'demo-plant', from: '2026-03-01', to: '2026-03-31' }));
+    expect(rows.slice(1).map((r) => r[0])).toEqual([inside]);
+  });
+
+  it('takes its own columns (e.g. for another result shape), after the base columns', () => {
+    const { archive, author } = fresh();
+    archive.appendSheet(doseSheetInput(author, { plantId: 'demo-plant', plantVersion: 1, kind: 'jar-test-evaluation', result: { fit: { demandMgPerL: 0.84, r2: 0.991 } } }));
+    const columns: CsvColumn[] = [
+      { header: 'jar_demand_mg_per_L', value: (s) => (s.result as { fit: { demandMgPerL: number } }).fit.demandMgPerL },
+      { header: 'fit_r2', value: (s) => (s.result as { fit: { r2: number } }).fit.r2 },
+    ];
+    const rows = parseCsv(archive.exportCsv({ plantId: 'demo-plant', kind: 'jar-test-evaluation', columns }));
+    expect(rows[0]!.slice(-2)).toEqual(['jar_demand_mg_per_L', 'fit_r2']);
+    expect(rows[1]!.slice(-2)).toEqual(['0.84', '0.991']);
+    expect(rows[1]![1]).toBe('jar-test-evaluation');
+  });
+
+  it('an export of nothing is just the header line', () => {
+    const { archive } = fresh();
+    const text = archive.exportCsv({ plantId: 'demo-plant', from: '2026-01-01', to: '2026-01-31' });
+    expect(parseCsv(text)).toHaveLength(1);
+    expect(text.endsWith('\r\n')).toBe(true);
+  });
+
+  it('refuses repeated or malformed headers', () => {
+    const { archive } = fresh();
+    expect(() => archive.exportCsv({ columns: [{ header: 'sheet_id', value: () => 1 }] })).toThrow(/header/);
+    expect(() => archive.exportCsv({ columns: [{ header: 'dose (mg/L)', value: () => 1 }] })).toThrow(/header/);
+  });
+
+  it('with bom: true starts with a UTF-8 byte-order mark', () => {
+    const { archive } = fresh();
+    expect(archive.exportCsv({ bom: true }).charCodeAt(0)).toBe(0xfeff);
+  });
+});

@@ -1,0 +1,165 @@
+import { existsSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import Database from 'better-sqlite3';
+import { afterEach, describe, expect, it } from 'vitest';
+import { DomainError } from '../../src/core/errors.js';
+import { ARCHIVE_FILE_NAME, MIGRATIONS, latestVersion, migrate, openArchive, schemaVersion, type Migration } from '../../src/archive/index.js';
+import { tempDataDir } from './fixtures/archive-fixture.js';
+
+const SECRET = 'ab'.repeat(32);
+const cleanups: (() => void)[] = [];
+afterEach(() => {
+  while (cleanups.length) cleanups.pop()!();
+});
+function dir(): string {
+  const t = tempDataDir('migrations');
+  cleanups.push(t.cleanup);
+  return t.dir;
+}
+
+function caught(fn: () => unknown): DomainError {
+  try {
+    fn();
+  } catch (e) {
+    if (e instanceof DomainError) return e;
+    throw e;
+  }
+  throw new Error('expected a DomainError');
+}
+
+describe('opening the archive', () => {
+  it('creates a missing (nested) data folder and the database file', () => {
+    const d = join(dir(), 'nested', 'reports');
+    expect(existsSync(d)).toBe(false);
+    const a = openArchive({ dataDir: d, signerKeySecret: SECRET });
+    try {
+      expect(a.file).toBe(join(d, ARCHIVE_FILE_NAME));
+      expect(existsSync(a.file)).toBe(true);
+    } finally {
+      a.close();
+    }
+  });
+
+  it('sets WAL, synchronous=FULL, foreign keys and a busy timeout', () => {
+    const a = openArchive({ dataDir: dir(), signerKeySecret: SECRET, busyTimeoutMs: 4321 });
+    try {
+      expect(a.db.pragma('journal_mode', { simple: true })).toBe('wal');
+      expect(a.db.pragma('synchronous', { simple: true })).toBe(2); // 2 = FULL (SQLite PRAGMA synchronous docs)
+      expect(a.db.pragma('foreign_keys', { simple: true })).toBe(1);
+      expect(a.db.pragma('busy_timeout', { simple: true })).toBe(4321);
+    } finally {
+      a.close();
+    }
+  });
+
+  it('refuses a file that is not a database with ARCHIVE_CORRUPT', () => {
+    const d = dir();
+    writeFileSync(join(d, ARCHIVE_FILE_NAME), 'this is not an SQLite file, just text '.repeat(50));
+    const e = caught(() => openArchive({ dataDir: d, signerKeySecret: SECRET }));
+    expect(e.code).toBe('ARCHIVE_CORRUPT');
+    expect(e.detail).toContain(ARCHIVE_FILE_NAME);
+  });
+});
+
+describe('migrations', () => {
+  it('a fresh archive runs every migration once and records number and description', () => {
+    const a = openArchive({ dataDir: dir(), signerKeySecret: SECRET });
+    try {
+      expect(a.migration).toEqual({ from: 0, to: latestVersion(), applied: MIGRATIONS.map((m) => m.version) });
+      const rows = a.db.prepare('SELECT version, description, applied_at FROM schema_version ORDER BY version').all() as {
+        version: number;
+        description: string;
+        applied_at: string;
+      }[];
+      expect(rows.map((r) => [r.version, r.description])).toEqual(MIGRATIONS.map((m) => [m.version, m.description]));
+      for (const r of rows) expect(Number.isFinite(Date.parse(r.applied_at))).toBe(true);
+      const tables = (a.db.prepare("SELECT name FROM sqlite_schema WHERE type = 'table' ORDER BY name").all() as { name: string }[]).map((t) => t.name);
+      expect(tables).toEqual(expect.arrayContaining(['plant_versions', 'schema_version', 'sheets', 'signers', 'user_events', 'users']));
+    } finally {
+      a.close();
+    }
+  });
+
+  it('re-opening applies nothing and keeps the data', () => {
+    const d = dir();
+    const a = openArchive({ dataDir: d, signerKeySecret: SECRET });
+    const { user } = a.createUser({ name: 'Night operator (invented)', role: 'operator', createdBy: 'system:test' });
+    a.close();
+    const b = openArchive({ dataDir: d, signerKeySecret: SECRET });
+    try {
+      expect(b.migration).toEqual({ from: latestVersion(), to: latestVersion(), applied: [] });
+      expect(b.getUser(user.id)?.name).toBe('Night operator (invented)');
+      expect((b.db.prepare('SELECT count(*) AS n FROM schema_version').get() as { n: number }).n).toBe(MIGRATIONS.length);
+    } finally {
+      b.close();
+    }
+  });
+
+  it('refuses an archive from a newer version with ARCHIVE_TOO_NEW, naming both versions, and leaves it unchanged', () => {
+    const d = dir();
+    openArchive({ dataDir: d, signerKeySecret: SECRET }).close();
+    const file = join(d, ARCHIVE_FILE_NAME);
+    const future = latestVersion() + 5;
+    const raw = new Database(file);
+    raw.prepare('INSERT INTO schema_version (version, description, applied_at) VALUES (?, ?, ?)').run(future, 'from the future', '2031-01-01T00:00:00.000Z');
+    raw.close();
+
+    const e = caught(() => openArchive({ dataDir: d, signerKeySecret: SECRET }));
+    expect(e.code).toBe('ARCHIVE_TOO_NEW');
+    expect(e.params).toMatchObject({ archiveVersion: future, supportedVersion: latestVersion() });
+    expect(e.detail).toContain(`schema version ${future}`);
+    expect(e.detail).toContain(`up to ${latestVersion()}`);
+    expect(e.detail).toMatch(/DATA_DIR/);
+    expect(e.detail).toMatch(/unchanged/);
+
+    const check = new Database(file, { readonly: true });
+    expect(schemaVersion(check)).toBe(future);
+    expect((check.prepare('SELECT count(*) AS n FROM schema_version').get() as { n: number }).n).toBe(MIGRATIONS.length + 1);
+    check.close();
+  });
+
+  it('a later migration runs on re-open, in its own transaction, after the earlier ones', () => {
+    const d = dir();
+    openArchive({ dataDir: d, signerKeySecret: SECRET }).close();
+    const next: Migration = {
+      version: latestVersion() + 1,
+      description: 'test: add a notes table',
+      up: (db) => db.exec('CREATE TABLE test_notes (id INTEGER PRIMARY KEY, text TEXT NOT NULL) STRICT'),
+    };
+    const a = openArchive({ dataDir: d, signerKeySecret: SECRET, migrations: [...MIGRATIONS, next] });
+    try {
+      expect(a.migration).toEqual({ from: latestVersion(), to: next.version, applied: [next.version] });
+      expect(a.db.prepare("SELECT 1 FROM sqlite_schema WHERE name = 'test_notes'").get()).toBeDefined();
+    } finally {
+      a.close();
+    }
+    // The build without that migration now refuses the archive.
+    expect(caught(() => openArchive({ dataDir: d, signerKeySecret: SECRET })).code).toBe('ARCHIVE_TOO_NEW');
+  });
+
+  it('a failing migration is rolled back: no half-made table, version unchanged', () => {
+    const d = dir();
+    openArchive({ dataDir: d, signerKeySecret: SECRET }).close();
+    const broken: Migration = {
+      version: latestVersion() + 1,
+      description: 'test: fails half way',
+      up: (db) => {
+        db.exec('CREATE TABLE half_made (x INTEGER) STRICT');
+        db.exec('THIS IS NOT SQL');
+      },
+    };
+    expect(() => openArchive({ dataDir: d, signerKeySecret: SECRET, migrations: [...MIGRATIONS, broken] })).toThrow();
+    const raw = new Database(join(d, ARCHIVE_FILE_NAME), { readonly: true });
+    expect(schemaVersion(raw)).toBe(latestVersion());
+    expect(raw.prepare("SELECT 1 FROM sqlite_schema WHERE name = 'half_made'").get()).toBeUndefined();
+    raw.close();
+  });
+
+  it('refuses a migration list that is not numbered 1, 2, 3, …', () => {
+    const db = new Database(':memory:');
+    const m = (version: number): Migration => ({ version, description: `m${version}`, up: () => {} });
+    expect(() => migrate(db, { migrations: [m(1), m(3)] })).toThrow(/out of order/);
+    expect(() => migrate(db, { migrations: [m(2)] })).toThrow(/out of order/);
+    db.close();
+  });
+});

@@ -1,0 +1,252 @@
+/**
+ * Tamper detection. Each test builds a small archive, closes it, then changes the SQLite file
+ * through a raw better-sqlite3 connection (dropping the append-only triggers first, as anyone with
+ * write access to the file could), reopens it and checks that verification names the damage.
+ */
+import { createHash } from 'node:crypto';
+import { afterEach, describe, expect, it } from 'vitest';
+import { recordHash, type Archive, type SheetSummary } from '../../src/archive/index.js';
+import type { SheetRow } from '../../src/archive/sheets.js';
+import { doseSheetInput, ensureAuthor, fakeVerifyPdf, openTestArchive, rawTamper, tempDataDir } from './fixtures/archive-fixture.js';
+
+const cleanups: (() => void)[] = [];
+afterEach(() => {
+  while (cleanups.length) cleanups.pop()!();
+});
+
+/** An archive with `n` sheets (plant profile included), closed; returns its folder and the stored summaries. */
+function built(n = 4): { dir: string; file: string; sheets: SheetSummary[]; reopen: () => Archive } {
+  const t = tempDataDir('verify');
+  cleanups.push(t.cleanup);
+  const a = openTestArchive(t.dir);
+  const author = ensureAuthor(a);
+  a.savePlant({ id: 'demo-plant', name: 'invented' }, { createdBy: 'x' });
+  const sheets = Array.from({ length: n }, (_, i) =>
+    a.appendSheet(doseSheetInput(author, { plantId: 'demo-plant', plantVersion: 1, pdfBytes: 3000 + i })),
+  );
+  const file = a.file;
+  a.close();
+  const reopen = () => {
+    const b = openTestArchive(t.dir);
+    cleanups.unshift(() => b.close());
+    return b;
+  };
+  return { dir: t.dir, file, sheets, reopen };
+}
+
+const sha256 = (b: Buffer | string) => createHash('sha256').update(b).digest('hex');
+
+describe('an untouched archive', () => {
+  it('verifies as a whole and sheet by sheet, signatures included', async () => {
+    const { sheets, reopen } = built(4);
+    const a = reopen();
+    const v = await a.verifyArchive({ verifyPdfSignature: fakeVerifyPdf });
+    expect(v).toMatchObject({ valid: true, records: 4, firstBrokenId: null, problems: [], signaturesChecked: 4, plantVersions: 1 });
+    expect(v.head).toEqual({ lastId: sheets[3]!.id, lastSeq: 4, recordHash: sheets[3]!.recordHash });
+    for (const s of sheets) {
+      expect(await a.verifySheet(s.id, { verifyPdfSignature: fakeVerifyPdf })).toEqual({
+        id: s.id,
+        seq: s.seq,
+        valid: true,
+        hashMatches: true,
+        recordHashMatches: true,
+        chainValid: true,
+        signatureValid: true,
+        problems: [],
+      });
+    }
+  });
+
+  it('an empty archive is valid with 0 records', async () => {
+    const { reopen } = built(0);
+    expect(await reopen().verifyArchive()).toMatchObject({ valid: true, records: 0, firstBrokenId: null });
+  });
+
+  it('without a signature verifier, signatureValid is null (not claimed)', async () => {
+    const { sheets, reopen } = built(1);
+    expect(await reopen().verifySheet(sheets[0]!.id, { verifyPdfSignature: null })).toMatchObject({ valid: true, signatureValid: null });
+  });
+
+  it('a verifier that throws counts as an invalid signature, with its message', async () => {
+    const { sheets, reopen } = built(1);
+    const v = await reopen().verifySheet(sheets[0]!.id, {
+      verifyPdfSignature: async () => {
+        throw new Error('no signature dictionary');
+      },
+    });
+    expect(v).toMatchObject({ valid: false, signatureValid: false, hashMatches: true });
+    expect(v.problems.join()).toContain('no signature dictionary');
+  });
+});
+
+describe('tampering is detected', () => {
+  it('one byte of a stored PDF: hash, record hash and signature all fail', async () => {
+    const { file, sheets, reopen } = built(4);
+    const victim = sheets[1]!;
+    await rawTamper(file, ['sheets'], (db) => {
+      const { pdf } = db.prepare('SELECT pdf FROM sheets WHERE id = ?').get(victim.id) as { pdf: Buffer };
+      const i = Math.floor(pdf.length / 2);
+      pdf[i] = pdf[i]! ^ 0x01;
+      db.prepare('UPDATE sheets SET pdf = ? WHERE id = ?').run(pdf, victim.id);
+    });
+    const a = reopen();
+    const s = await a.verifySheet(victim.id, { verifyPdfSignature: fakeVerifyPdf });
+    expect(s).toMatchObject({ valid: false, hashMatches: false, recordHashMatches: false, chainValid: true, signatureValid: false });
+    const v = await a.verifyArchive();
+    expect(v).toMatchObject({ valid: false, records: 4, firstBrokenId: victim.id });
+    expect(v.problems.map((p) => p.check)).toEqual(['pdf-hash', 'record-hash']);
+    // the neighbours still verify on their own
+    expect((await a.verifySheet(sheets[2]!.id, { verifyPdfSignature: fakeVerifyPdf })).valid).toBe(true);
+  });
+
+  it('a PDF byte changed together with pdf_sha256: the record hash still catches it', async () => {
+    const { file, sheets, reopen } = built(3);
+    const victim = sheets[1]!;
+    await rawTamper(file, ['sheets'], (db) => {
+      const { pdf } = db.prepare('SELECT pdf FROM sheets WHERE id = ?').get(victim.id) as { pdf: Buffer };
+      pdf[20] = pdf[20]! ^ 0x80;
+      db.prepare('UPDATE sheets SET pdf = ?, pdf_sha256 = ? WHERE id = ?').run(pdf, sha256(pdf), victim.id);
+    });
+    const s = await reopen().verifySheet(victim.id, { verifyPdfSignature: null });
+    expect(s).toMatchObject({ valid: false, hashMatches: true, recordHashMatches: false });
+  });
+
+  it('one byte of result_json: the record hash fails', async () => {
+    const { file, sheets, reopen } = built(4);
+    const victim = sheets[2]!;
+    await rawTamper(file, ['sheets'], (db) => {
+      const { result_json } = db.prepare('SELECT result_json FROM sheets WHERE id = ?').get(victim.id) as { result_json: string };
+      const changed = result_json.replace(/"value":1\.(\d)/, (_m, d: string) => `"value":1.${(Number(d) + 1) % 10}`);
+      expect(changed).not.toBe(result_json);
+      expect(changed.length).toBe(result_json.length);
+      db.prepare('UPDATE sheets SET result_json = ? WHERE id = ?').run(changed, victim.id);
+    });
+    const a = reopen();
+    expect(await a.verifySheet(victim.id, { verifyPdfSignature: null })).toMatchObject({ valid: false, hashMatches: true, recordHashMatches: false, chainValid: true });
+    const v = await a.verifyArchive();
+    expect(v.firstBrokenId).toBe(victim.id);
+    expect(v.problems).toEqual([expect.objectContaining({ id: victim.id, check: 'record-hash' })]);
+  });
+
+  it('a row rewritten with a freshly computed record_hash breaks the next link', async () => {
+    const { file, sheets, reopen } = built(4);
+    const victim = sheets[1]!;
+    await rawTamper(file, ['sheets'], (db) => {
+      const row = db.prepare('SELECT * FROM sheets WHERE id = ?').get(victim.id) as SheetRow;
+      const forged = { ...row, result_json: row.result_json.replace('as KMnO4', 'as Cl2') };
+      db.prepare('UPDATE sheets SET result_json = ?, record_hash = ? WHERE id = ?').run(forged.result_json, recordHash(forged, sha256(row.pdf)), victim.id);
+    });
+    const a = reopen();
+    expect((await a.verifySheet(victim.id, { verifyPdfSignature: null })).valid).toBe(true);
+    const next = await a.verifySheet(sheets[2]!.id, { verifyPdfSignature: null });
+    expect(next).toMatchObject({ valid: false, chainValid: false, recordHashMatches: true });
+    const v = await a.verifyArchive();
+    expect(v).toMatchObject({ valid: false, firstBrokenId: sheets[2]!.id });
+    expect(v.problems.map((p) => p.check)).toEqual(['chain']);
+  });
+
+  it('a deleted middle row: the record after it fails (sequence gap and chain link)', async () => {
+    const { file, sheets, reopen } = built(5);
+    await rawTamper(file, ['sheets'], (db) => db.prepare('DELETE FROM sheets WHERE id = ?').run(sheets[2]!.id));
+    const a = reopen();
+    const v = await a.verifyArchive();
+    expect(v).toMatchObject({ valid: false, records: 4, firstBrokenId: sheets[3]!.id });
+    expect(v.problems.map((p) => [p.id, p.check])).toEqual([
+      [sheets[3]!.id, 'sequence'],
+      [sheets[3]!.id, 'chain'],
+    ]);
+    expect(await a.verifySheet(sheets[3]!.id, { verifyPdfSignature: null })).toMatchObject({ chainValid: false, recordHashMatches: true });
+  });
+
+  it('the first row deleted: the new first record does not start the chain', async () => {
+    const { file, sheets, reopen } = built(3);
+    await rawTamper(file, ['sheets'], (db) => db.prepare('DELETE FROM sheets WHERE seq = 1').run());
+    const v = await reopen().verifyArchive();
+    expect(v).toMatchObject({ valid: false, firstBrokenId: sheets[1]!.id });
+  });
+
+  it('reordered seq (two records swapped): detected', async () => {
+    const { file, sheets, reopen } = built(4);
+    await rawTamper(file, ['sheets'], (db) => {
+      db.prepare('UPDATE sheets SET seq = 100 WHERE seq = 2').run();
+      db.prepare('UPDATE sheets SET seq = 2 WHERE seq = 3').run();
+      db.prepare('UPDATE sheets SET seq = 3 WHERE seq = 100').run();
+    });
+    const v = await reopen().verifyArchive();
+    expect(v.valid).toBe(false);
+    expect(v.firstBrokenId).toBe(sheets[2]!.id); // now at seq 2
+    expect(v.problems.map((p) => p.check)).toEqual(expect.arrayContaining(['chain', 'record-hash']));
+  });
+
+  it('the last rows deleted: the sequence counter shows the cut tail', async () => {
+    const { file, reopen } = built(4);
+    await rawTamper(file, ['sheets'], (db) => db.prepare('DELETE FROM sheets WHERE seq >= 3').run());
+    const v = await reopen().verifyArchive();
+    expect(v).toMatchObject({ valid: false, records: 2, firstBrokenId: null });
+    expect(v.problems).toEqual([expect.objectContaining({ check: 'tail', message: expect.stringMatching(/last 2 record/) })]);
+  });
+
+  it('the last rows deleted and the counter reset: only a head recorded elsewhere catches it', async () => {
+    const { file, sheets, reopen } = built(4);
+    const head = { records: 4, recordHash: sheets[3]!.recordHash };
+    await rawTamper(file, ['sheets'], (db) => {
+      db.prepare('DELETE FROM sheets WHERE seq = 4').run();
+      db.prepare("UPDATE sqlite_sequence SET seq = 3 WHERE name = 'sheets'").run();
+    });
+    const a = reopen();
+    expect((await a.verifyArchive()).valid).toBe(true); // a truncated chain is still a consistent chain
+    const v = await a.verifyArchive({ expectedHead: head });
+    expect(v.valid).toBe(false);
+    expect(v.problems.map((p) => p.check)).toEqual(['head', 'head']);
+  });
+
+  it('a plant profile changed in place: plant-hash problem', async () => {
+    const { file, reopen } = built(1);
+    await rawTamper(file, ['plant_versions'], (db) => db.prepare(`UPDATE plant_versions SET profile_json = '{"id":"demo-plant","name":"changed"}'`).run());
+    const v = await reopen().verifyArchive();
+    expect(v.valid).toBe(false);
+    expect(v.problems).toEqual([expect.objectContaining({ id: 'demo-plant@v1', check: 'plant-hash' })]);
+  });
+});
+
+describe('every stored column is covered', () => {
+  /** Change one value minimally: flip a byte of a BLOB, one character of a text, add 1 to an integer, fill a NULL. */
+  function tweak(value: unknown): unknown {
+    if (value === null) return 'DS-20260101-0000000000';
+    if (typeof value === 'number') return value + 1;
+    if (Buffer.isBuffer(value)) {
+      const b = Buffer.from(value);
+      b[b.length - 3] = b[b.length - 3]! ^ 0x01;
+      return b;
+    }
+    const s = String(value);
+    const i = Math.floor(s.length / 2);
+    return s.slice(0, i) + (s[i] === '0' ? '1' : '0') + s.slice(i + 1);
+  }
+
+  const COLUMNS = [
+    'seq', 'id', 'record_format', 'kind', 'plant_id', 'plant_version', 'sampled_at', 'created_at', 'created_by', 'signer_id',
+    'signer_name', 'signer_role', 'signer_subject', 'request_json', 'result_json', 'pdf', 'pdf_sha256', 'content_sha256',
+    'supersedes', 'prev_hash', 'record_hash',
+  ];
+
+  it('the list below names every column of the table', () => {
+    const { reopen } = built(0);
+    const cols = (reopen().db.prepare('PRAGMA table_info(sheets)').all() as { name: string }[]).map((c) => c.name);
+    expect(cols).toEqual(COLUMNS);
+  });
+
+  it.each(COLUMNS)('changing %s of the middle record is detected', async (column) => {
+    const { file, sheets, reopen } = built(3);
+    const victim = sheets[1]!;
+    await rawTamper(file, ['sheets'], (db) => {
+      const row = db.prepare('SELECT * FROM sheets WHERE seq = 2').get() as Record<string, unknown>;
+      const seq = column === 'seq' ? 50 : tweak(row[column]); // a seq +1 would collide with the next row
+      db.prepare(`UPDATE sheets SET ${column} = ? WHERE seq = 2`).run(seq);
+    });
+    const v = await reopen().verifyArchive();
+    expect(v.valid).toBe(false);
+    expect(v.firstBrokenId).not.toBeNull();
+    if (column !== 'seq' && column !== 'id') expect(v.firstBrokenId).toBe(victim.id);
+  });
+});

@@ -1,0 +1,176 @@
+import { describe, expect, it } from 'vitest';
+import fc from 'fast-check';
+import { DomainError } from '../../src/core/errors.js';
+import { CHECK_CODES, checkJarPlan, type CheckJarPlanInput } from '../../src/jar-tests/check.js';
+import { planJarTest } from '../../src/jar-tests/plan.js';
+
+// A sound plan: 1.0 g/L stock, 2 L jars, 1 mg/L per 2 mL (aliquot = D × 2 L ÷ 1.0 mg/mL),
+// doses stated as the nominal a·C/V; estimate 1.8 mg/L lies inside 0.5 … 3.0.
+const SOUND: CheckJarPlanInput = {
+  oxidant: 'potassium-permanganate',
+  estimateMgPerL: 1.8,
+  jarVolumeL: 2,
+  stockStrengthGPerL: 1,
+  jars: [
+    { doseMgPerL: 0.5, aliquotMl: 1 },
+    { doseMgPerL: 1, aliquotMl: 2 },
+    { doseMgPerL: 1.5, aliquotMl: 3 },
+    { doseMgPerL: 2, aliquotMl: 4 },
+    { doseMgPerL: 2.5, aliquotMl: 5 },
+    { doseMgPerL: 3, aliquotMl: 6 },
+  ],
+  contactTimesMin: [5, 15, 30],
+  solubility: { gPerL: 64, temperatureC: 20 },
+};
+
+function allCodes(r: ReturnType<typeof checkJarPlan>): string[] {
+  return [...r.problems, ...r.jars.flatMap((j) => j.problems)].map((p) => p.code);
+}
+
+function invalid(fn: () => unknown): DomainError {
+  try {
+    fn();
+  } catch (e) {
+    if (e instanceof DomainError) return e;
+    throw e;
+  }
+  throw new Error('expected a DomainError');
+}
+
+describe('checkJarPlan: bad input', () => {
+  it.each([
+    ['no jars', { jars: [] }, '/jars'],
+    ['zero jar volume', { jarVolumeL: 0 }, '/jarVolumeL'],
+    ['negative stock', { stockStrengthGPerL: -1 }, '/stockStrengthGPerL'],
+    ['negative aliquot', { jars: [{ aliquotMl: 1 }, { aliquotMl: 2 }, { aliquotMl: -3 }] }, '/jars/2/aliquotMl'],
+    ['NaN dose', { jars: [{ doseMgPerL: Number.NaN }] }, '/jars/0/doseMgPerL'],
+    ['zero contact time', { contactTimesMin: [0, 15] }, '/contactTimesMin/0'],
+  ] as const)('%s → JAR_TEST_INVALID at %s', (_n, over, pointer) => {
+    const e = invalid(() => checkJarPlan({ ...SOUND, ...(over as Partial<CheckJarPlanInput>) }));
+    expect(e.code).toBe('JAR_TEST_INVALID');
+    expect(e.fields.map((f) => f.pointer)).toContain(pointer);
+  });
+});
+
+describe('checkJarPlan: a sound plan', () => {
+  it('passes with no problem, and each dose is recomputed with the dilution by the aliquot', () => {
+    const r = checkJarPlan(SOUND);
+    expect(allCodes(r)).toEqual([]);
+    expect(r.ok).toBe(true);
+    // jar 2: 2 mL × 1 mg/mL / (2 L + 0.002 L) = 0.999001 mg/L (nominal 1.000)
+    expect(r.jars[1]!.recomputedDoseMgPerL).toBeCloseTo(2 / 2.002, 12);
+    expect(r.jars[1]!.nominalDoseMgPerL).toBeCloseTo(1, 12);
+  });
+
+  it('recomputes the aliquot from a dose alone (rounded to the pipette) and the dose that aliquot gives', () => {
+    // 1.53 mg/L from 0.5 g/L in 1 L: 3.06 mL → 3.1 mL → 3.1 × 0.5 / 1.0031 = 1.545210 mg/L
+    const r = checkJarPlan({ ...SOUND, jarVolumeL: 1, stockStrengthGPerL: 0.5, estimateMgPerL: 1.2, jars: [{ doseMgPerL: 0.85 }, { doseMgPerL: 1.53 }, { doseMgPerL: 2.21 }] });
+    expect(r.jars[1]!.recomputedAliquotMl).toBe(3.1);
+    expect(r.jars[1]!.recomputedDoseMgPerL).toBeCloseTo(1.55 / 1.0031, 12);
+    expect(r.ok).toBe(true);
+  });
+
+  it('accepts a target dose beside its pipette-rounded aliquot (rounding, not an error)', () => {
+    // 1.53 mg/L stated with 3.1 mL: recomputed 1.545 mg/L; tolerance = dilution 0.0048 + half step 0.025 + 0.0077 = 0.0375
+    const r = checkJarPlan({ ...SOUND, jarVolumeL: 1, stockStrengthGPerL: 0.5, estimateMgPerL: 1.2, jars: [{ doseMgPerL: 0.85, aliquotMl: 1.7 }, { doseMgPerL: 1.53, aliquotMl: 3.1 }, { doseMgPerL: 2.21, aliquotMl: 4.4 }] });
+    expect(allCodes(r)).not.toContain('DOSE_MISMATCH');
+  });
+});
+
+describe('checkJarPlan: each problem found by a crafted plan', () => {
+  const jars = (list: CheckJarPlanInput['jars']) => ({ ...SOUND, jars: list });
+  it.each<[string, CheckJarPlanInput, string, number | null]>([
+    // [code, plan, expected code, jar (null = plan level)]
+    ['arithmetic error: 2 mL of 1.0 g/L in 2 L is 1.0 mg/L, not 1.5', jars([{ doseMgPerL: 0.5, aliquotMl: 1 }, { doseMgPerL: 1.5, aliquotMl: 2 }, { doseMgPerL: 3, aliquotMl: 6 }]), 'DOSE_MISMATCH', 2],
+    ['ladder 0.5 … 3.0 below an estimate of 4.0 mg/L', { ...SOUND, estimateMgPerL: 4 }, 'NOT_BRACKETING', null],
+    ['estimate 0.2 mg/L below the whole ladder', { ...SOUND, estimateMgPerL: 0.2 }, 'NOT_BRACKETING', null],
+    ['40 mL of 0.1 g/L in 2 L is 2 % of the jar', { ...SOUND, stockStrengthGPerL: 0.1, jars: [{ aliquotMl: 10 }, { aliquotMl: 20 }, { aliquotMl: 40 }] }, 'ALIQUOT_TOO_LARGE', 3],
+    ['0.05 mL cannot be measured with a 0.1 mL pipette', jars([{ aliquotMl: 0.05 }, { aliquotMl: 2 }, { aliquotMl: 6 }]), 'BELOW_PIPETTE_RESOLUTION', 1],
+    ['0.01 mg/L needs 0.02 mL, which rounds to 0', jars([{ doseMgPerL: 0.01 }, { doseMgPerL: 2 }, { doseMgPerL: 3 }]), 'BELOW_PIPETTE_RESOLUTION', 1],
+    ['2.25 mL is not a multiple of 0.1 mL', jars([{ aliquotMl: 1 }, { aliquotMl: 2.25 }, { aliquotMl: 6 }]), 'NOT_PIPETTE_MULTIPLE', 2],
+    ['0.5 mL is measurable but imprecise', jars([{ aliquotMl: 0.5 }, { aliquotMl: 2 }, { aliquotMl: 6 }]), 'ALIQUOT_BELOW_MINIMUM', 1],
+    ['80 g/L KMnO4 is above its solubility', { ...SOUND, stockStrengthGPerL: 80, jars: [{ aliquotMl: 0.1 }, { aliquotMl: 0.2 }, { aliquotMl: 0.3 }] }, 'STOCK_ABOVE_SOLUBILITY', null],
+    ['no contact times', { ...SOUND, contactTimesMin: undefined }, 'NO_CONTACT_TIMES', null],
+    ['an empty contact-time list', { ...SOUND, contactTimesMin: [] }, 'NO_CONTACT_TIMES', null],
+    ['15 min listed twice', { ...SOUND, contactTimesMin: [5, 15, 15] }, 'DUPLICATE_CONTACT_TIME', null],
+    ['jar 2 repeats jar 1', jars([{ doseMgPerL: 1 }, { doseMgPerL: 1 }, { doseMgPerL: 3 }]), 'DUPLICATE_DOSE', 2],
+    ['ladder 1, 3, 2', jars([{ doseMgPerL: 1 }, { doseMgPerL: 3 }, { doseMgPerL: 2 }]), 'NON_MONOTONIC_LADDER', null],
+    ['a jar with neither dose nor aliquot', jars([{ doseMgPerL: 1 }, {}, { doseMgPerL: 3 }]), 'MISSING_DOSE_AND_ALIQUOT', 2],
+    ['3000 mg/L from a 1.0 g/L stock', jars([{ doseMgPerL: 1 }, { doseMgPerL: 3000 }, { doseMgPerL: 4000 }]), 'DOSE_UNREACHABLE', 2],
+    ['two jars', jars([{ doseMgPerL: 1 }, { doseMgPerL: 3 }]), 'TOO_FEW_JARS', null],
+    ['no estimate', { ...SOUND, estimateMgPerL: undefined }, 'NO_ESTIMATE', null],
+  ])('%s → %s', (_name, plan, code, jar) => {
+    const r = checkJarPlan(plan);
+    const where = jar === null ? r.problems : r.jars[jar - 1]!.problems;
+    const found = where.find((p) => p.code === code);
+    expect(found, `codes found: ${allCodes(r).join(', ')}`).toBeDefined();
+    expect(found!.message.length).toBeGreaterThan(30);
+    expect(Object.values(CHECK_CODES)).toContain(code);
+  });
+
+  it('the mismatch message gives the recomputed dose and the aliquot that would be right', () => {
+    // 2 mL → 0.999 mg/L; for 1.5 mg/L: 1.5 × 2 / 1.0 = 3.0 mL
+    const r = checkJarPlan(jars([{ doseMgPerL: 0.5, aliquotMl: 1 }, { doseMgPerL: 1.5, aliquotMl: 2 }, { doseMgPerL: 3, aliquotMl: 6 }]));
+    const m = r.jars[1]!.problems.find((p) => p.code === 'DOSE_MISMATCH')!.message;
+    expect(m).toContain('0.999 mg/L');
+    expect(m).toContain('add 3 mL');
+    expect(r.ok).toBe(false);
+  });
+
+  it('the mismatch threshold beside 2 mL (0.999 mg/L): 1.025 and 0.97 pass, 1.04 and 0.95 do not', () => {
+    // recomputed 0.999001; tolerance = dilution 0.000999 + half step (0.5 × 0.1 × 1 / 2 = 0.025) + 0.005 = 0.031
+    // 1.04 − 0.999 = 0.041 > 0.031 fails; 1.025 − 0.999 = 0.026 passes
+    const at = (d: number) => checkJarPlan(jars([{ doseMgPerL: 0.5, aliquotMl: 1 }, { doseMgPerL: d, aliquotMl: 2 }, { doseMgPerL: 3, aliquotMl: 6 }])).jars[1]!.problems.map((p) => p.code);
+    expect(at(1.025)).not.toContain('DOSE_MISMATCH');
+    expect(at(1.04)).toContain('DOSE_MISMATCH');
+    expect(at(0.97)).not.toContain('DOSE_MISMATCH');
+    expect(at(0.95)).toContain('DOSE_MISMATCH');
+  });
+
+  it('a large aliquot whose stated dose already allows for dilution is only noted', () => {
+    // 40 mL of 0.1 g/L in 2 L: nominal 2.0, diluted 4 / 2.04 = 1.960784 mg/L
+    const stated = checkJarPlan({ ...SOUND, stockStrengthGPerL: 0.1, jars: [{ aliquotMl: 10 }, { aliquotMl: 20 }, { doseMgPerL: 1.96, aliquotMl: 40 }] });
+    expect(stated.jars[2]!.problems.find((p) => p.code === 'ALIQUOT_TOO_LARGE')!.severity).toBe('info');
+    const naive = checkJarPlan({ ...SOUND, stockStrengthGPerL: 0.1, jars: [{ aliquotMl: 10 }, { aliquotMl: 20 }, { doseMgPerL: 2, aliquotMl: 40 }] });
+    const p = naive.jars[2]!.problems.find((x) => x.code === 'ALIQUOT_TOO_LARGE')!;
+    expect(p.severity).toBe('warning');
+    expect(p.message).toContain('1.96 mg/L');
+  });
+});
+
+describe('checkJarPlan: property', () => {
+  it('every plan the planner writes passes the check without errors or mismatches', () => {
+    fc.assert(
+      fc.property(
+        fc.double({ min: 0.1, max: 15, noNaN: true }),
+        fc.constantFrom(1, 2),
+        fc.integer({ min: 3, max: 10 }),
+        fc.constantFrom(0.05, 0.1),
+        (estimate, V, n, res) => {
+          const plan = planJarTest({
+            oxidant: 'potassium-permanganate',
+            product: { basis: 'KMnO4', stock: { kind: 'solid', purityFraction: 0.98, solubility: { gPerL: 64 } } },
+            estimateMgPerL: estimate,
+            jarVolumeL: V,
+            jars: n,
+            pipetteResolutionMl: res,
+          });
+          const r = checkJarPlan({
+            oxidant: plan.oxidant,
+            estimateMgPerL: estimate,
+            jarVolumeL: V,
+            stockStrengthGPerL: plan.stock.strengthGPerL,
+            jars: plan.jars.map((j) => ({ doseMgPerL: j.targetDoseMgPerL, aliquotMl: j.aliquotMl })),
+            contactTimesMin: plan.schedule.contactTimesMin,
+            pipetteResolutionMl: res,
+            solubility: { gPerL: 64 },
+          });
+          expect(r.ok).toBe(true);
+          expect(r.jars.flatMap((j) => j.problems).filter((p) => p.code === 'DOSE_MISMATCH')).toEqual([]);
+          r.jars.forEach((j, i) => expect(j.recomputedDoseMgPerL).toBeCloseTo(plan.jars[i]!.actualDoseMgPerL, 12));
+        },
+      ),
+      { seed: 99, numRuns: 150 },
+    );
+  });
+});

@@ -1,0 +1,324 @@
+import { describe, expect, it } from 'vitest';
+import fc from 'fast-check';
+import { DomainError } from '../../src/core/errors.js';
+import { evaluateJarTest, type EvaluateJarTestInput, type JarInput } from '../../src/jar-tests/evaluate.js';
+import { studentTQuantile } from '../../src/jar-tests/stats.js';
+import { syntheticResiduals } from './prng.js';
+
+function fails(fn: () => unknown): DomainError {
+  try {
+    fn();
+  } catch (e) {
+    if (e instanceof DomainError) return e;
+    throw e;
+  }
+  throw new Error('expected a DomainError');
+}
+
+// US secondary drinking-water levels, 40 CFR 143.3: iron 0.3 mg/L, manganese 0.05 mg/L.
+// Passed in the way the HTTP layer passes the rows of tables/limits.json.
+const SECONDARY = {
+  iron: { valueMgPerL: 0.3, source: '40-cfr-143.3', name: 'US EPA secondary level, iron' },
+  manganese: { valueMgPerL: 0.05, source: '40-cfr-143.3', name: 'US EPA secondary level, manganese' },
+};
+
+/**
+ * A noise-free invented jar test (permanganate, 2 L jars), built from a stated model:
+ *   demand D(t) = 1.4, 1.7, 1.8 mg/L at 5, 15, 30 min;  residual = max(0, dose − D(t));
+ *   dissolved Fe ≤ 0.3 once dose ≥ 2.5 (5 min), 2.0 (15 min), 1.5 (30 min), else 0.4–0.6;
+ *   dissolved Mn ≤ 0.05 once dose ≥ 3.0 (5 min), 2.5 (15 min), 2.0 (30 min), else 0.08–0.12.
+ * So the lowest dose meeting both is 3.0 at 5 min, 2.5 at 15 min, 2.0 at 30 min.
+ */
+const DOSES = [1.0, 1.5, 2.0, 2.5, 3.0, 3.5];
+const D_AT: Record<number, number> = { 5: 1.4, 15: 1.7, 30: 1.8 };
+const FE: Record<number, [number, number, number]> = { 5: [2.5, 0.1, 0.6], 15: [2.0, 0.1, 0.5], 30: [1.5, 0.05, 0.4] };
+const MN: Record<number, [number, number, number]> = { 5: [3.0, 0.03, 0.12], 15: [2.5, 0.03, 0.1], 30: [2.0, 0.02, 0.08] };
+function modelJars(): JarInput[] {
+  return DOSES.map((dose) => ({
+    doseMgPerL: dose,
+    results: [5, 15, 30].map((t) => ({
+      contactTimeMin: t,
+      residualOxidantMgPerL: Math.max(0, Number((dose - D_AT[t]!).toFixed(10))),
+      ironMgPerL: dose >= FE[t]![0] ? FE[t]![1] : FE[t]![2],
+      manganeseMgPerL: dose >= MN[t]![0] ? MN[t]![1] : MN[t]![2],
+    })),
+  }));
+}
+const MODEL: EvaluateJarTestInput = {
+  oxidant: 'potassium-permanganate',
+  basis: 'KMnO4',
+  estimateMgPerL: 1.6,
+  jarVolumeL: 2,
+  jars: modelJars(),
+  targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05 },
+  plantContactTimeMin: 20,
+};
+
+describe('evaluateJarTest: bad input and too few points (edge cases first)', () => {
+  it.each([
+    ['negative dose', { jars: [{ doseMgPerL: -1, results: [] }] }, '/jars/0/doseMgPerL'],
+    ['no jars', { jars: [] }, '/jars'],
+    ['two results at one time', { jars: [{ doseMgPerL: 1, results: [{ contactTimeMin: 5 }, { contactTimeMin: 5 }] }] }, '/jars/0/results/1/contactTimeMin'],
+    ['negative manganese', { jars: [{ doseMgPerL: 1, results: [{ contactTimeMin: 5, manganeseMgPerL: -0.1 }] }] }, '/jars/0/results/0/manganeseMgPerL'],
+    ['margin of 10 (not a fraction)', { margin: { kind: 'relative', fraction: 10 } }, '/margin/fraction'],
+    ['negative target', { targets: { ironMgPerL: -0.3 } }, '/targets/ironMgPerL'],
+    ['zero jar volume', { jarVolumeL: 0 }, '/jarVolumeL'],
+  ] as const)('%s → JAR_TEST_INVALID at %s', (_n, over, pointer) => {
+    const e = fails(() => evaluateJarTest({ ...MODEL, ...(over as Partial<EvaluateJarTestInput>) }));
+    expect(e.code).toBe('JAR_TEST_INVALID');
+    expect(e.fields.map((f) => f.pointer)).toContain(pointer);
+  });
+
+  it('a fit contact time with no residuals is refused, naming the times that have them', () => {
+    const e = fails(() => evaluateJarTest({ ...MODEL, fitContactTimeMin: 10 }));
+    expect(e.fields[0]!.pointer).toBe('/fitContactTimeMin');
+    expect(e.detail).toContain('5, 15, 30');
+  });
+
+  it('only 2 jars above the detection limit → JAR_TEST_TOO_FEW_POINTS with the jars named', () => {
+    // doses 1, 2, 3, 4 with residual = max(0, dose − 2.5): 0, 0, 0.5, 1.5 → only jars 3 and 4 keep a residual
+    const jars = [1, 2, 3, 4].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: Math.max(0, d - 2.5) }] }));
+    const e = fails(() => evaluateJarTest({ ...MODEL, jars, targets: {} }));
+    expect(e.code).toBe('JAR_TEST_TOO_FEW_POINTS');
+    expect(e.params).toMatchObject({ n: 2, jarsUsed: [3, 4], detectionLimitMgPerL: 0.05, contactTimeMin: 30 });
+    expect(e.detail).toContain('at least 3');
+  });
+
+  it('no residual read at all → JAR_TEST_TOO_FEW_POINTS (n = 0)', () => {
+    const jars = [1, 2, 3].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, ironMgPerL: 0.1 }] }));
+    expect(fails(() => evaluateJarTest({ ...MODEL, jars })).params).toMatchObject({ n: 0 });
+  });
+
+  it('three replicates at one dose cannot make a line', () => {
+    const jars = [2, 2, 2].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 0.3 }] }));
+    expect(fails(() => evaluateJarTest({ ...MODEL, jars })).params).toMatchObject({ n: 3, distinctDoses: 1 });
+  });
+
+  it('a residual that falls with dose is a problem (no demand), not a crash', () => {
+    const jars = [2, 2.5, 3].map((d, i) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 0.9 - 0.2 * i, ironMgPerL: 0.1, manganeseMgPerL: 0.02 }] }));
+    const r = evaluateJarTest({ ...MODEL, jars });
+    expect(r.fit.slope).toBeLessThan(0);
+    expect(r.apparentDemand).toBeNull();
+    expect(r.backgroundDemand).toBeNull();
+    expect(r.problems.map((p) => p.code)).toContain('FIT_SLOPE_NOT_POSITIVE');
+    // the targets still give a recommendation: lowest dose meeting at 30 min (plant 20 min is shorter than 30 → first time)
+    expect(r.recommendedDose!.basis).toBe('lowest-dose-meeting-targets');
+  });
+});
+
+describe('evaluateJarTest: worked example from the stated model', () => {
+  const r = evaluateJarTest(MODEL);
+
+  it('fits the longest contact time over the jars that kept a residual', () => {
+    // at 30 min residuals 0, 0, 0.2, 0.7, 1.2, 1.7: jars 3–6 are above 0.05 mg/L
+    expect(r.fit.contactTimeMin).toBe(30);
+    expect(r.fit.contactTimeChoice).toBe('longest');
+    expect(r.fit.jarsUsed).toEqual([3, 4, 5, 6]);
+    expect(r.fit.jarsExcluded.map((x) => x.jar)).toEqual([1, 2]);
+    expect(r.fit.n).toBe(4);
+    // exact line residual = dose − 1.8
+    expect(r.fit.slope).toBeCloseTo(1, 10);
+    expect(r.fit.intercept).toBeCloseTo(-1.8, 10);
+    expect(r.fit.r2).toBeCloseTo(1, 10);
+    expect(r.notes.join(' ')).toContain('longest');
+  });
+
+  it('apparent demand = −intercept/slope = 1.8 mg/L; background = 1.8 − 1.6 = 0.2 mg/L', () => {
+    expect(r.apparentDemand!.doseMgPerL).toBeCloseTo(1.8, 10);
+    expect(r.backgroundDemand!.doseMgPerL).toBeCloseTo(0.2, 10);
+  });
+
+  it('oxidant consumed per jar and the demand curve: consumed = applied − residual', () => {
+    // jar 6 at 5 min: 3.5 − (3.5 − 1.4) = 1.4 mg/L consumed; jar 1 at 30 min: 1.0 − 0 = 1.0
+    expect(r.jars[5]!.results[0]!.consumedMgPerL).toBeCloseTo(1.4, 10);
+    expect(r.jars[0]!.results[2]!.consumedMgPerL).toBeCloseTo(1.0, 10);
+    expect(r.jars[0]!.results[2]!.residualBelowDetection).toBe(true);
+    expect(r.demandCurves.map((c) => c.contactTimeMin)).toEqual([5, 15, 30]);
+    expect(r.demandCurves[2]!.points.map((p) => p.consumedMgPerL)).toEqual(DOSES.map((d) => expect.closeTo(Math.min(d, 1.8), 10)));
+    // consumed = x − y, so its line has slope 1 − m and intercept −b: here 0 and 1.8
+    expect(r.fit.demandLine.slope).toBeCloseTo(0, 10);
+    expect(r.fit.demandLine.intercept).toBeCloseTo(1.8, 10);
+  });
+
+  it('the lowest dose meeting every target at each contact time', () => {
+    expect(r.lowestDoseMeetingTargets.map((l) => [l.contactTimeMin, l.doseMgPerL, l.jar])).toEqual([
+      [5, 3.0, 5],
+      [15, 2.5, 4],
+      [30, 2.0, 3],
+    ]);
+    expect(r.jars[0]!.results[0]!.failures).toEqual(['iron 0.6 > 0.3 mg/L', 'manganese 0.12 > 0.05 mg/L']);
+  });
+
+  it('recommended plant dose: lowest dose at the longest bench time within the plant contact, + 10 % (common practice)', () => {
+    // plant 20 min → bench 15 min → 2.5 mg/L × 1.10 = 2.75 mg/L
+    const rec = r.recommendedDose!;
+    expect(rec.basis).toBe('lowest-dose-meeting-targets');
+    expect(rec.contactTimeMin).toBe(15);
+    expect(rec.baseDoseMgPerL).toBe(2.5);
+    expect(rec.margin).toMatchObject({ kind: 'relative', fraction: 0.1 });
+    expect(rec.margin.mgPerL).toBeCloseTo(0.25, 12);
+    expect(rec.doseMgPerL).toBeCloseTo(2.75, 12);
+    expect(rec.margin.basis).toContain('common practice');
+    // the residual line at 2.75: 2.75 − 1.8 = 0.95 mg/L
+    expect(rec.expectedResidualMgPerL).toBeCloseTo(0.95, 10);
+  });
+
+  it.each([
+    // [plant contact, margin, bench time, dose, extra problem code]
+    [60, undefined, 30, 2.2, null], // 2.0 × 1.1
+    [20, { kind: 'absolute', mgPerL: 0.2 } as const, 15, 2.7, null],
+    [3, undefined, 5, 3.3, 'PLANT_CONTACT_SHORTER_THAN_BENCH'], // 3.0 × 1.1
+    [undefined, undefined, 30, 2.2, 'PLANT_CONTACT_TIME_NOT_GIVEN'],
+  ])('plant contact %s min, margin %j → bench %s min, %s mg/L', (plant, margin, bench, dose, code) => {
+    const e = evaluateJarTest({ ...MODEL, plantContactTimeMin: plant, margin });
+    expect(e.recommendedDose!.contactTimeMin).toBe(bench);
+    expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(dose, 12);
+    if (code !== null) expect(e.problems.map((p) => p.code)).toContain(code);
+  });
+
+  it('targets default to the 40 CFR 143.3 secondary levels passed in, and say so', () => {
+    const e = evaluateJarTest({ ...MODEL, targets: undefined, limits: SECONDARY });
+    expect(e.targets).toEqual([
+      expect.objectContaining({ analyte: 'iron', limitMgPerL: 0.3, origin: 'default limit', source: '40-cfr-143.3' }),
+      expect.objectContaining({ analyte: 'manganese', limitMgPerL: 0.05, origin: 'default limit', source: '40-cfr-143.3' }),
+    ]);
+    expect(e.notes.join(' ')).toContain('40-cfr-143.3');
+    expect(e.lowestDoseMeetingTargets.map((l) => l.doseMgPerL)).toEqual([3.0, 2.5, 2.0]);
+  });
+
+  it('a caller target wins over the default limit for that analyte only', () => {
+    const e = evaluateJarTest({ ...MODEL, targets: { ironMgPerL: 0.1 }, limits: SECONDARY });
+    expect(e.targets.map((t) => [t.analyte, t.limitMgPerL, t.origin])).toEqual([
+      ['iron', 0.1, 'caller'],
+      ['manganese', 0.05, 'default limit'],
+    ]);
+  });
+
+  it('a default limit for an analyte nobody measured is not applied', () => {
+    const jars = MODEL.jars.map((j) => ({ ...j, results: j.results.map(({ manganeseMgPerL: _m, ...rest }) => rest) }));
+    const e = evaluateJarTest({ ...MODEL, jars, targets: undefined, limits: SECONDARY });
+    expect(e.targets.map((t) => t.analyte)).toEqual(['iron']);
+    expect(e.notes.join(' ')).toContain('manganese was not measured');
+  });
+
+  it('permanganate overdose: a higher dose that fails again is reported (pink filtrate reads as Mn)', () => {
+    const jars = modelJars();
+    (jars[5]!.results[2] as { manganeseMgPerL: number }).manganeseMgPerL = 0.2;
+    const e = evaluateJarTest({ ...MODEL, jars });
+    const at30 = e.lowestDoseMeetingTargets.find((l) => l.contactTimeMin === 30)!;
+    expect(at30.doseMgPerL).toBe(2.0);
+    expect(at30.higherDosesFailing).toEqual([6]);
+    expect(at30.note).toContain('manganese 0.2 > 0.05');
+  });
+
+  it('no targets at all: recommend apparent demand + target residual + margin', () => {
+    // (1.8 + 0) × 1.1 = 1.98 mg/L
+    const jars = MODEL.jars.map((j) => ({ ...j, results: j.results.map((x) => ({ contactTimeMin: x.contactTimeMin, residualOxidantMgPerL: x.residualOxidantMgPerL })) }));
+    const e = evaluateJarTest({ ...MODEL, jars, targets: undefined });
+    expect(e.lowestDoseMeetingTargets).toEqual([]);
+    expect(e.recommendedDose!.basis).toBe('apparent-demand-plus-residual');
+    expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(1.98, 10);
+  });
+
+  it('targets no jar met: fall back to apparent demand + target residual (1.8 + 0.2) × 1.1 = 2.2', () => {
+    const e = evaluateJarTest({ ...MODEL, targets: { ironMgPerL: 0.01, residualOxidantMgPerL: 0.2 }, plantContactTimeMin: 30 });
+    expect(e.lowestDoseMeetingTargets.every((l) => l.doseMgPerL === null)).toBe(true);
+    expect(e.recommendedDose!.basis).toBe('apparent-demand-plus-residual');
+    expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(2.2, 10);
+  });
+
+  it('a residual maximum that the margin would exceed is warned about', () => {
+    // +10 %: recommended 2.75 predicts 2.75 − 1.8 = 0.95 mg/L residual, within 1.0
+    const e = evaluateJarTest({ ...MODEL, targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05, residualOxidantMaxMgPerL: 1.0 } });
+    expect(e.problems.map((p) => p.code)).not.toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
+    const f = evaluateJarTest({ ...MODEL, margin: { kind: 'absolute', mgPerL: 0.5 }, targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05, residualOxidantMaxMgPerL: 1.0 } });
+    // lowest meeting at 15 min now also needs residual ≤ 1.0: jar 4 (0.8 at 15 min) → 2.5 + 0.5 = 3.0 → line 1.2 > 1.0
+    expect(f.recommendedDose!.doseMgPerL).toBeCloseTo(3.0, 10);
+    expect(f.problems.map((p) => p.code)).toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
+  });
+});
+
+describe('evaluateJarTest: readings that need a second look', () => {
+  const line = (pairs: [number, number][]) => pairs.map(([d, r]) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: r }] }));
+  it.each<[string, [number, number][], number, string]>([
+    ['apparent demand below the estimate', [[1, 0.5], [2, 1.5], [3, 2.5]], 1.6, 'APPARENT_BELOW_ESTIMATE'],
+    ['residual above the applied dose', [[1, 1.5], [2, 2.5], [3, 3.5]], 0, 'RESIDUAL_ABOVE_DOSE'],
+    ['residual rising faster than dose', [[2, 0.2], [2.5, 1.2], [3, 2.2], [3.5, 3.2]], 0, 'FIT_SLOPE_ABOVE_ONE'],
+    ['a scattered line', [[2, 0.2], [2.5, 1.0], [3, 0.3], [3.5, 1.1]], 0, 'FIT_POOR'],
+  ])('%s → %s', (_n, pairs, estimate, code) => {
+    const e = evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: estimate, jarVolumeL: 1, jars: line(pairs), plantContactTimeMin: 30 });
+    expect(e.problems.map((p) => p.code)).toContain(code);
+  });
+});
+
+describe('evaluateJarTest: recovers a known demand from noisy synthetic results', () => {
+  // Model: residual = max(0, dose − D) + N(0, σ²) with D = 1.8 mg/L, σ = 0.03 mg/L, readings clipped at 0;
+  // 8 jars 0.8 … 3.6 mg/L in steps of 0.4; noise from the seeded mulberry32 PRNG (tests/jar-tests/prng.ts).
+  const doses = [0.8, 1.2, 1.6, 2.0, 2.4, 2.8, 3.2, 3.6];
+  const D = 1.8;
+  const run = (seed: number, detectionLimitMgPerL?: number) => {
+    const ys = syntheticResiduals(doses, D, 0.03, seed);
+    return evaluateJarTest({
+      oxidant: 'potassium-permanganate',
+      basis: 'KMnO4',
+      estimateMgPerL: 1.5,
+      jarVolumeL: 2,
+      jars: doses.map((d, i) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: ys[i]! }] })),
+      detectionLimitMgPerL,
+    });
+  };
+
+  it('one seeded run: D recovered within 3 standard errors and 0.05 mg/L; background ≈ 0.3 mg/L', () => {
+    const e = run(2024);
+    const a = e.apparentDemand!;
+    expect(e.fit.jarsUsed).toEqual([4, 5, 6, 7, 8]); // 2.0 … 3.6 mg/L kept a residual
+    expect(Math.abs(a.doseMgPerL - D)).toBeLessThan(3 * a.stdError);
+    expect(Math.abs(a.doseMgPerL - D)).toBeLessThan(0.05);
+    expect(a.ci95[0]).toBeLessThan(D);
+    expect(a.ci95[1]).toBeGreaterThan(D);
+    // the interval is ± t(0.975, n − 2) × se
+    expect(a.ci95[1] - a.doseMgPerL).toBeCloseTo(studentTQuantile(0.975, 3) * a.stdError, 12);
+    expect(Math.abs(e.fit.slope - 1)).toBeLessThan(3 * e.fit.slopeStdError);
+    expect(e.fit.r2).toBeGreaterThan(0.99);
+    expect(Math.abs(e.backgroundDemand!.doseMgPerL - 0.3)).toBeLessThan(0.05);
+    expect(e.notes.join(' ')).toContain('0.05 mg/L');
+  });
+
+  it('over 400 seeds the 95 % interval covers D = 1.8 in 90–99 % of runs', () => {
+    // detection limit 0.1 mg/L ≈ 3σ keeps jars whose true residual is 0 out of the fit
+    // (a 0.05 mg/L limit is only 1.7σ and lets about 5 % of them in, which biases the line).
+    let covered = 0;
+    const seeds = 400;
+    for (let s = 1; s <= seeds; s++) {
+      const a = run(s, 0.1).apparentDemand!;
+      if (a.ci95[0] <= D && D <= a.ci95[1]) covered++;
+    }
+    expect(covered / seeds).toBeGreaterThan(0.9);
+    expect(covered / seeds).toBeLessThan(0.99);
+  });
+
+  it('property: for any demand 0.5–4 mg/L and noise 0.005–0.05 mg/L the estimate lies in its 99.9 % interval', () => {
+    // (D̂ − D)/se follows Student's t with n − 2 degrees of freedom, so a fixed multiple of se (say 5) fails
+    // about 1.5 % of runs at 3 degrees of freedom; the t quantile makes the bound exact: 0.1 % of runs.
+    fc.assert(
+      fc.property(fc.double({ min: 0.5, max: 4, noNaN: true }), fc.double({ min: 0.005, max: 0.05, noNaN: true }), fc.integer({ min: 1, max: 2 ** 31 - 1 }), (demand, sigma, seed) => {
+        const ds = [demand - 0.5, demand - 0.25, ...[0.3, 0.5, 0.7, 0.9, 1.1, 1.3, 1.5, 1.7].map((k) => demand + k)].map((d) => Math.max(0, d));
+        const ys = syntheticResiduals(ds, demand, sigma, seed);
+        const e = evaluateJarTest({
+          oxidant: 'sodium-hypochlorite',
+          basis: 'Cl2',
+          estimateMgPerL: demand,
+          jarVolumeL: 1,
+          detectionLimitMgPerL: Math.max(0.05, 3 * sigma),
+          jars: ds.map((d, i) => ({ doseMgPerL: d, results: [{ contactTimeMin: 15, residualOxidantMgPerL: ys[i]! }] })),
+        });
+        const a = e.apparentDemand!;
+        expect(e.fit.n).toBe(8);
+        const bound = studentTQuantile(0.9995, e.fit.degreesOfFreedom) * a.stdError + 1e-9;
+        expect(Math.abs(a.doseMgPerL - demand)).toBeLessThanOrEqual(bound);
+        expect(Math.abs(e.backgroundDemand!.doseMgPerL)).toBeLessThanOrEqual(bound);
+      }),
+      { seed: 31337, numRuns: 200 },
+    );
+  });
+});

@@ -1,0 +1,259 @@
+import { describe, expect, it } from 'vitest';
+import fc from 'fast-check';
+import { DomainError } from '../../src/core/errors.js';
+import { planJarTest, type PlanJarTestInput } from '../../src/jar-tests/plan.js';
+import type { JarProductFacts } from '../../src/jar-tests/product.js';
+import { isMultipleOf } from '../../src/jar-tests/common.js';
+
+// Product facts as the HTTP layer passes them in from the oxidant table. The numbers here are
+// test inputs, not reference values: the purity is an invented assay; 64 g/L is about the
+// solubility of KMnO4 near 20 °C (value from memory of the CRC Handbook; the tests do not depend on it).
+const KMNO4: JarProductFacts = {
+  name: 'potassium permanganate',
+  basis: 'KMnO4',
+  activeSpecies: 'MnO4-',
+  productFormula: 'KMnO4',
+  stock: { kind: 'solid', purityFraction: 0.97, solubility: { gPerL: 64, temperatureC: 20, source: 'test' } },
+};
+// 12.5 % trade hypochlorite = 125 g/L available chlorine (trade percent = g/L ÷ 10).
+const NAOCL: JarProductFacts = {
+  name: 'sodium hypochlorite',
+  basis: 'Cl2',
+  activeSpecies: 'OCl-',
+  stock: { kind: 'trade-solution', tradeStrengthGPerL: 125 },
+  decays: { note: 'faster when warm, concentrated or in light', measureBy: 'iodometric titration (or DPD titration)' },
+};
+const OZONE: JarProductFacts = { name: 'ozone', basis: 'O3', stock: { kind: 'generated', measureBy: 'indigo colorimetric', solubility: { gPerL: 0.04 } } };
+
+const base = (over: Partial<PlanJarTestInput> = {}): PlanJarTestInput => ({
+  oxidant: 'potassium-permanganate',
+  product: KMNO4,
+  estimateMgPerL: 2.0,
+  jarVolumeL: 2,
+  ...over,
+});
+
+function codes(p: { warnings: readonly { code: string }[] }): string[] {
+  return p.warnings.map((w) => w.code);
+}
+
+function invalid(fn: () => unknown): DomainError {
+  try {
+    fn();
+  } catch (e) {
+    if (e instanceof DomainError) return e;
+    throw e;
+  }
+  throw new Error('expected a DomainError');
+}
+
+describe('planJarTest: bad input (edge cases first)', () => {
+  it.each([
+    ['negative estimate', { estimateMgPerL: -1 }, '/estimateMgPerL'],
+    ['zero jar volume', { jarVolumeL: 0 }, '/jarVolumeL'],
+    ['one jar', { jars: 1 }, '/jars'],
+    ['one explicit dose', { doses: [1] }, '/doses'],
+    ['a negative dose', { doses: [1, -2, 3] }, '/doses/1'],
+    ['all doses zero', { doses: [0, 0] }, '/doses'],
+    ['zero pipette resolution', { pipetteResolutionMl: 0 }, '/pipetteResolutionMl'],
+    ['negative contact time', { contactTimesMin: [5, -15] }, '/contactTimesMin/1'],
+    ['purity as a percent', { product: { ...KMNO4, stock: { kind: 'solid', purityFraction: 97 } } }, '/product/stock/purityFraction'],
+    ['ladder that does not straddle 1', { ladderFromFraction: 1.1 }, '/ladderToFraction'],
+  ] as const)('%s → JAR_TEST_INVALID at %s', (_name, over, pointer) => {
+    const e = invalid(() => planJarTest(base(over as Partial<PlanJarTestInput>)));
+    expect(e.code).toBe('JAR_TEST_INVALID');
+    expect(e.fields.map((f) => f.pointer)).toContain(pointer);
+  });
+
+  it('a zero expected demand without doses asks for the doses', () => {
+    const e = invalid(() => planJarTest(base({ estimateMgPerL: 0 })));
+    expect(e.code).toBe('JAR_TEST_INVALID');
+    expect(e.fields.map((f) => f.pointer)).toEqual(['/estimateMgPerL', '/doses']);
+  });
+
+  it('a stock above the solubility is refused, naming the ceiling', () => {
+    const e = invalid(() => planJarTest(base({ stockStrengthGPerL: 80 })));
+    expect(e.fields[0]!.pointer).toBe('/stockStrengthGPerL');
+    expect(e.detail).toContain('64 g/L');
+  });
+
+  it('a stock weaker than the dose cannot reach it', () => {
+    // 0.001 g/L = 1 mg/L: a·C/(V + a/1000) < 1 mg/L whatever a is
+    const e = invalid(() => planJarTest(base({ stockStrengthGPerL: 0.001, doses: [0.5, 2] })));
+    expect(e.fields[0]!.pointer).toBe('/stockStrengthGPerL');
+  });
+
+  it('a generated stock without its measured strength is refused, asking for it', () => {
+    const e = invalid(() => planJarTest(base({ oxidant: 'ozone', product: OZONE, estimateMgPerL: 1 })));
+    expect(e.code).toBe('JAR_TEST_INVALID');
+    expect(e.fields[0]!.pointer).toBe('/stockStrengthGPerL');
+  });
+});
+
+describe('planJarTest: worked examples', () => {
+  it('1.0 g/L stock in 2 L jars: 1 mg/L needs 2 mL', () => {
+    // aliquot = dose × jar volume ÷ stock = D mg/L × 2 L ÷ 1.0 mg/mL = 2·D mL
+    //   0.5 → 1 mL, 1.0 → 2 mL, 1.5 → 3 mL, 2.0 → 4 mL, 2.5 → 5 mL, 3.0 → 6 mL (all ≤ 20 mL = 1 % of 2 L)
+    // actual dose with the aliquot's volume: 2 mg / 2.002 L = 0.999001 mg/L, 6 mg / 2.006 L = 2.991027 mg/L
+    const p = planJarTest(base({ stockStrengthGPerL: 1, doses: [0.5, 1, 1.5, 2, 2.5, 3] }));
+    expect(p.stock.strengthChoice).toBe('caller');
+    expect(p.jars.map((j) => j.aliquotMl)).toEqual([1, 2, 3, 4, 5, 6]);
+    expect(p.jars[1]!.actualDoseMgPerL).toBeCloseTo(2 / 2.002, 12);
+    expect(p.jars[5]!.actualDoseMgPerL).toBeCloseTo(6 / 2.006, 12);
+    expect(p.dilutionCorrected).toBe(false);
+    // expected residual if the 2.0 mg/L estimate is all the demand: max(0, 2.991027 − 2.0)
+    expect(p.jars[5]!.expectedResidualMgPerL).toBeCloseTo(6 / 2.006 - 2, 12);
+    expect(p.jars[0]!.expectedResidualMgPerL).toBe(0);
+    // mass: 1.0 g/L × 0.1 L ÷ 0.97 = 0.103093 g ≥ 0.1 g, and 100 mL holds 2 × 21 mL used
+    expect(p.stock.flaskVolumeMl).toBe(100);
+    expect(p.stock.productMassG).toBeCloseTo(0.1 / 0.97, 12);
+  });
+
+  it('default ladder, stock and flask for permanganate at 2.0 mg/L in 2 L jars', () => {
+    // ladder: 6 doses from 50 % to 150 % of 2.0 mg/L: 1.0, 1.4, 1.8, 2.2, 2.6, 3.0 mg/L
+    // stock: the weakest round strength whose aliquots lie in [1.0 mL, 20 mL]:
+    //   0.1 g/L → 20 … 60 mL (too large); 0.25 g/L → 8 … 24 mL (too large); 0.5 g/L → 4 … 12 mL ✓
+    // flask: stock used 4+5.6+7.2+8.8+10.4+12 = 48 mL, wanted 96 mL;
+    //   100 mL needs 0.5 × 0.1 ÷ 0.97 = 0.0515 g (< 0.1 g); 250 mL needs 0.5 × 0.25 ÷ 0.97 = 0.128866 g ✓
+    const p = planJarTest(base());
+    expect(p.ladder.source).toBe('default');
+    expect(p.jars.map((j) => j.targetDoseMgPerL)).toEqual([1, 1.4, 1.8, 2.2, 2.6, 3]);
+    expect(p.stock.strengthGPerL).toBe(0.5);
+    expect(p.jars.map((j) => j.aliquotMl)).toEqual([4, 5.6, 7.2, 8.8, 10.4, 12]);
+    expect(p.stock.stockUsedMl).toBeCloseTo(48, 9);
+    expect(p.stock.flaskVolumeMl).toBe(250);
+    expect(p.stock.productMassG).toBeCloseTo(0.125 / 0.97, 12);
+    expect(p.stock.preparation).toMatchObject({ kind: 'weigh', purityFraction: 0.97, purityAssumed: false });
+    expect(p.ladder.brackets).toBe(true);
+    expect(p.warnings).toEqual([]);
+    expect(p.assumptions.join(' ')).toContain('0.1 mL');
+  });
+
+  it('background demand moves the ladder: estimate 1.2 + background 0.5 = 1.7 mg/L (hypochlorite, 1 L jars)', () => {
+    // ladder 0.85 … 2.55 mg/L in steps of 0.34; largest aliquot allowed 10 mL (1 % of 1 L)
+    //   0.1 g/L → 25.5 mL (too large); 0.25 g/L → 10.2 mL (too large); 0.5 g/L → 1.7 … 5.1 mL ✓
+    // aliquots 1.7, 2.38→2.4, 3.06→3.1, 3.74→3.7, 4.42→4.4, 5.1 mL; jar 2 gets 2.4 × 0.5 / 1.0024 = 1.197127 mg/L
+    // trade solution: 100 mL needs 0.5 × 100 ÷ 125 = 0.4 mL (< 1.0 mL); 250 mL needs 1.0 mL ✓
+    const p = planJarTest(base({ oxidant: 'sodium-hypochlorite', product: NAOCL, estimateMgPerL: 1.2, backgroundMgPerL: 0.5, jarVolumeL: 1 }));
+    expect(p.estimate.expectedDemandMgPerL).toBeCloseTo(1.7, 12);
+    expect(p.stock.strengthGPerL).toBe(0.5);
+    expect(p.jars.map((j) => j.aliquotMl)).toEqual([1.7, 2.4, 3.1, 3.7, 4.4, 5.1]);
+    expect(p.jars[1]!.actualDoseMgPerL).toBeCloseTo(1.2 / 1.0024, 12);
+    expect(p.stock.productMassG).toBeNull();
+    expect(p.stock.flaskVolumeMl).toBe(250);
+    expect(p.stock.preparation).toMatchObject({ kind: 'dilute', tradeVolumeMl: 1, tradeStrengthMustBeMeasured: true });
+    const decay = p.warnings.find((w) => w.code === 'TRADE_STRENGTH_DECAYS')!;
+    expect(decay.severity).toBe('warning');
+    expect(decay.message).toContain('iodometric');
+    expect(p.stock.instructions[0]).toContain('measure');
+  });
+
+  it('a trade strength measured on the day turns the decay warning into advice', () => {
+    const p = planJarTest(base({ product: { ...NAOCL, stock: { kind: 'trade-solution', tradeStrengthGPerL: 118, strengthMeasured: true } }, estimateMgPerL: 1.7, jarVolumeL: 1 }));
+    expect(p.warnings.find((w) => w.code === 'TRADE_STRENGTH_DECAYS')!.severity).toBe('info');
+  });
+
+  it('dilution correction: a 20 mg/L ozone stock in 1 L jars', () => {
+    // nominal aliquot for 2 mg/L: 2 × 1 ÷ 0.02 = 100 mL = 10 % of the jar (> 1 %), so every aliquot is
+    // a = D·V/(C − D/1000): 0.5 → 0.5/0.0195 = 25.641 → 25.6 mL; 2.0 → 2/0.018 = 111.111 → 111.1 mL
+    // actual: 25.6 × 0.02 / 1.0256 = 0.499220 mg/L; 111.1 × 0.02 / 1.1111 = 1.999820 mg/L
+    const p = planJarTest(base({ oxidant: 'ozone', product: OZONE, estimateMgPerL: 1, jarVolumeL: 1, stockStrengthGPerL: 0.02, doses: [0.5, 1, 1.5, 2] }));
+    expect(p.dilutionCorrected).toBe(true);
+    expect(p.jars[0]!.aliquotMl).toBe(25.6);
+    expect(p.jars[3]!.aliquotMl).toBe(111.1);
+    expect(p.jars[0]!.actualDoseMgPerL).toBeCloseTo(0.512 / 1.0256, 12);
+    expect(p.jars[3]!.actualDoseMgPerL).toBeCloseTo(2.222 / 1.1111, 12);
+    expect(codes(p)).toContain('DILUTION_CORRECTED');
+    expect(codes(p)).toContain('GENERATED_STOCK_MEASURE');
+    expect(p.stock.preparation).toMatchObject({ kind: 'generate', measureBy: 'indigo colorimetric' });
+  });
+
+  it('a ladder too wide for any one stock keeps the smallest aliquot measurable and corrects the largest', () => {
+    // doses 0.5 … 20 mg/L in 2 L: aliquots ≥ 1 mL need C ≤ 0.5·2/1 = 1 g/L; at 1 g/L the 20 mg/L jar takes
+    // 20 × 2 / (1 − 0.02) = 40.816 → 40.8 mL (2 % of the jar)
+    const p = planJarTest(base({ doses: [0.5, 5, 10, 20] }));
+    expect(p.stock.strengthGPerL).toBe(1);
+    expect(p.dilutionCorrected).toBe(true);
+    expect(p.jars[3]!.aliquotMl).toBe(40.8);
+    expect(p.jars[3]!.actualDoseMgPerL).toBeCloseTo(40.8 / 2.0408, 12);
+  });
+
+  it('explicit doses that miss the estimate are warned about, not changed', () => {
+    const p = planJarTest(base({ doses: [0.5, 1, 1.5] }));
+    expect(p.jars.map((j) => j.targetDoseMgPerL)).toEqual([0.5, 1, 1.5]);
+    expect(p.ladder.brackets).toBe(false);
+    expect(codes(p)).toContain('NOT_BRACKETING');
+  });
+
+  it('doses that round to the same aliquot, out of order, and too few jars are warned about', () => {
+    // 1 g/L in 2 L: 1.00 and 1.02 mg/L need 2.00 and 2.04 mL → both 2.0 mL
+    const p = planJarTest(base({ stockStrengthGPerL: 1, doses: [1.0, 1.02] }));
+    expect(codes(p)).toEqual(expect.arrayContaining(['DUPLICATE_DOSE', 'TOO_FEW_JARS', 'NOT_BRACKETING']));
+    const q = planJarTest(base({ stockStrengthGPerL: 1, doses: [3, 1, 2] }));
+    expect(codes(q)).toContain('NON_MONOTONIC_LADDER');
+  });
+
+  it('no purity, a tiny weighing and no solubility are each said', () => {
+    // 0.1 g/L in at most 250 mL: 0.025 g, below the 0.1 g minimum
+    const p = planJarTest(base({ product: { name: 'potassium permanganate', basis: 'KMnO4', stock: { kind: 'solid' } }, estimateMgPerL: 0.2, jarVolumeL: 1, flaskVolumesMl: [100, 250] }));
+    expect(p.stock.strengthGPerL).toBe(0.1);
+    expect(codes(p)).toEqual(expect.arrayContaining(['PURITY_ASSUMED', 'MASS_BELOW_WEIGHING_MINIMUM', 'SOLUBILITY_NOT_CHECKED']));
+    expect(p.stock.productMassG).toBeCloseTo(0.025, 12);
+  });
+
+  it('a control jar (dose 0) gets no aliquot and no warning', () => {
+    const p = planJarTest(base({ stockStrengthGPerL: 1, doses: [0, 1, 2, 3] }));
+    expect(p.jars[0]).toMatchObject({ aliquotMl: 0, actualDoseMgPerL: 0 });
+    expect(codes(p)).not.toContain('ALIQUOT_ROUNDS_TO_ZERO');
+  });
+
+  it('the schedule: rapid mix per ASTM D2035 (common practice speeds), contact times, 0.45 µm filtration, what to measure', () => {
+    const p = planJarTest(base());
+    const rapid = p.schedule.steps.find((s) => s.source === 'astm-d2035')!;
+    expect(rapid.durationMin).toBe(1);
+    expect(rapid.speedRpm).toEqual({ min: 100, max: 300 });
+    expect(rapid.basis).toContain('common practice');
+    expect(p.schedule.contactTimesMin).toEqual([5, 15, 30]);
+    expect(p.schedule.filtration.poreSizeUm).toBe(0.45);
+    expect(p.schedule.filtration.note).toContain('permanganate');
+    const what = p.schedule.measurements.map((m) => m.what).join('; ');
+    for (const w of ['residual oxidant', 'iron', 'manganese', 'pH', 'temperature', 'turbidity', 'colour']) expect(what).toContain(w);
+    expect(p.schedule.measurements[0]!.method).toContain('525 nm');
+    const q = planJarTest(base({ contactTimesMin: [30, 10, 10] }));
+    expect(q.schedule.contactTimesMin).toEqual([10, 30]);
+  });
+});
+
+describe('planJarTest: properties', () => {
+  it('a default ladder brackets the expected demand, rises, and every aliquot is measurable to the pipette', () => {
+    fc.assert(
+      fc.property(
+        fc.double({ min: 0.1, max: 20, noNaN: true }),
+        fc.double({ min: 0, max: 3, noNaN: true }),
+        fc.constantFrom(0.5, 1, 2),
+        fc.integer({ min: 3, max: 12 }),
+        fc.constantFrom(0.05, 0.1, 0.5),
+        (estimate, background, V, n, res) => {
+          const p = planJarTest(base({ estimateMgPerL: estimate, backgroundMgPerL: background, jarVolumeL: V, jars: n, pipetteResolutionMl: res }));
+          const E = estimate + background;
+          const doses = p.jars.map((j) => j.actualDoseMgPerL);
+          expect(p.jars).toHaveLength(n);
+          expect(doses.some((d) => d < E) && doses.some((d) => d > E)).toBe(true);
+          for (let i = 1; i < doses.length; i++) expect(doses[i]!).toBeGreaterThanOrEqual(doses[i - 1]!);
+          const C = p.stock.strengthGPerL;
+          for (const j of p.jars) {
+            expect(isMultipleOf(j.aliquotMl, res)).toBe(true);
+            // the rounded aliquot misses the target by at most half a step of dose, plus the dilution it causes
+            const halfStep = (0.5 * res * C) / V;
+            const dilution = (j.aliquotMl * C) / V - j.actualDoseMgPerL;
+            expect(Math.abs(j.actualDoseMgPerL - j.targetDoseMgPerL)).toBeLessThanOrEqual(halfStep + (p.dilutionCorrected ? halfStep * 0.05 : dilution) + 1e-9);
+            if (!p.dilutionCorrected) expect(j.aliquotMl).toBeLessThanOrEqual(p.maxAliquotMl + res / 2);
+          }
+          expect(p.stock.strengthGPerL).toBeLessThanOrEqual(64);
+          expect(p.stock.productMassG! * 0.97).toBeCloseTo((C * p.stock.flaskVolumeMl) / 1000, 12);
+        },
+      ),
+      { seed: 20240611, numRuns: 150 },
+    );
+  });
+});
