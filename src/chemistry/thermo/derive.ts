@@ -1,0 +1,574 @@
+/**
+ * Standard potential of any half-reaction that is a linear combination of tabled reactions.
+ *
+ * 1. A target that is a tabled reaction up to a multiple (positive or negative) uses that row:
+ *    E° of the reduction is the tabled value; multiplying changes nothing, reversing gives the
+ *    oxidation (ΔG° changes sign, the reduction's E° is the same number).
+ * 2. Otherwise the smallest set of tabled rows (at most MAX_ROWS) whose exact rational sum is the
+ *    target: ΔG° = Σ cᵢ ΔG°ᵢ with ΔG°(redox) = −nFE°, ΔG°(equilibrium) = −RT ln K, and
+ *    E° = −ΔG°/(nF) at 298.15 K. Ties: the redox rows of the most preferred sources, then the
+ *    fewest equilibrium rows.
+ * The search: every species other than H+, OH-, H2O and e- that appears once in the target and
+ * the chosen rows must be matched by another row containing it; when all are matched the exact
+ * linear system is solved; rows of only matched species (such as Kw) may still be added.
+ * Results are cached per ledger by the target's canonical key.
+ */
+import { DomainError } from '../../core/errors.js';
+import { Rational } from '../../core/rational.js';
+import type { Reaction } from '../balance/types.js';
+import { reactionVector } from '../balance/reaction.js';
+import { parseEquation, type ParsedEquation } from '../formula/equation.js';
+import {
+  KEY_ELECTRON,
+  UBIQUITOUS_KEYS,
+  classKeyOf,
+  nernstSlopeV,
+  vectorEquation,
+  type Ledger,
+  type LedgerClass,
+  type LedgerRow,
+  type LedgerRowKind,
+  type ReactionVector,
+} from './ledger.js';
+import { checkTemperatureC, rowAtTemperature } from './temperature.js';
+
+/** Most tabled rows combined for one derivation. */
+export const MAX_ROWS = 4;
+/** A tabled value further than this from its own derivation is flagged (V). */
+export const FLAG_THRESHOLD_V = 0.005;
+
+export type Target = string | ParsedEquation | Reaction;
+
+export interface DerivationStep {
+  readonly rowId: string;
+  readonly equation: string;
+  /** Multiplier of the row as tabled, as an exact rational ("-1", "3/5"); negative = reversed. */
+  readonly coefficient: string;
+  readonly kind: LedgerRowKind;
+  /** What the source printed ("E° = 1.507 V", "pK = 3.25", …). */
+  readonly valueText: string;
+  readonly source: string;
+}
+
+export interface Alternative {
+  readonly standardPotentialV: number;
+  readonly rows: readonly { readonly rowId: string; readonly source: string }[];
+  /** What differs from the combination used. */
+  readonly differs: string;
+}
+
+export interface TabledCheck {
+  readonly tabledV: number;
+  readonly derivedV: number;
+  /** tabled − derived (V). */
+  readonly discrepancyV: number;
+  readonly flagged: boolean;
+  /** The other rows the derived value comes from. */
+  readonly derivation: readonly DerivationStep[];
+}
+
+export interface PotentialResult {
+  /** The target written from its vector: reactants = products. */
+  readonly equation: string;
+  readonly direction: 'reduction' | 'oxidation';
+  /** Electrons transferred by the target as written. */
+  readonly electrons: number;
+  /** E° of the reduction at 25 °C: the value used (tabled, derived or override). */
+  readonly standardPotentialV: number;
+  /** E° with the sign of the reaction as written (+E° for a reduction, −E° for an oxidation). */
+  readonly asWrittenPotentialV: number;
+  /** ΔG° of the reaction as written at 25 °C, kJ/mol. */
+  readonly deltaGkJPerMol: number;
+  /** log10 K of the reaction as written at 25 °C. */
+  readonly log10K: number;
+  readonly temperatureC: number;
+  /** E°(T) − E°(25 °C) of the reduction from the tables' temperature data (0 when turned off). */
+  readonly temperatureCorrectionV: number;
+  readonly standardPotentialAtTemperatureV: number;
+  readonly derivation: readonly DerivationStep[];
+  readonly usedValue: 'tabled' | 'derived' | 'override';
+  /** For a tabled value: the same couple derived from other rows, and whether they disagree by more than 5 mV. */
+  readonly tabledCheck?: TabledCheck;
+  /** What the tables give (null when not derivable), whatever value was used. */
+  readonly tablesStandardPotentialV: number | null;
+  readonly override?: { readonly valueV: number; readonly source: string };
+  /** Other tabled rows that would give a different value for the same couple. */
+  readonly alternatives: readonly Alternative[];
+  readonly notes: readonly string[];
+}
+
+export interface PotentialOptions {
+  readonly override?: { readonly valueV: number; readonly source: string };
+  /** Water temperature, °C (default 25). */
+  readonly temperatureC?: number;
+  /** Apply the tables' temperature data (default true). */
+  readonly temperatureCorrection?: boolean;
+}
+
+/** One row of a combination with its multiplier (of the row as tabled). */
+export interface CombinationPart {
+  readonly row: LedgerRow;
+  readonly coefficient: Rational;
+}
+
+export interface Combination {
+  readonly parts: readonly CombinationPart[];
+  /** Σ cᵢ gᵢ at 25 °C (V). */
+  readonly g25: number;
+  /** The same sum split into its exact part (potential rows, rational) and the rest (log K rows). */
+  readonly g25Exact: Rational;
+  readonly g25Float: number;
+}
+
+/** E° of the reduction for a combination summing to a target with signed electron coefficient e. */
+export function reductionPotentialV(c: Pick<Combination, 'g25Exact' | 'g25Float'>, electronCoefficient: Rational): number {
+  const n = electronCoefficient.neg();
+  return c.g25Exact.div(n).toNumber() + c.g25Float / n.toNumber();
+}
+
+interface SearchOptions {
+  readonly exclude: ReadonlySet<string>;
+  /** Prefer this source's rows within a class (consistency checks use the checked row's source). */
+  readonly preferSource?: string;
+}
+
+// ---------------------------------------------------------------- targets
+
+/** The target as a reaction vector. Strings are parsed as equations. */
+export function targetVector(target: Target, pointer = '/equation'): Map<string, Rational> {
+  if (typeof target === 'string') {
+    try {
+      return reactionVector(parseEquation(target));
+    } catch (e) {
+      if (e instanceof DomainError) throw e.under(pointer);
+      throw e;
+    }
+  }
+  return reactionVector(target);
+}
+
+// ---------------------------------------------------------------- exact linear solve
+
+/** Solve Σ xⱼ columnⱼ = target exactly; null unless the solution exists, is unique and has no zero xⱼ. */
+export function solveCombination(columns: readonly ReactionVector[], target: ReactionVector): Rational[] | null {
+  const keys = new Set<string>(target.keys());
+  for (const c of columns) for (const k of c.keys()) keys.add(k);
+  const m = columns.length;
+  const A: Rational[][] = [...keys].map((k) => [...columns.map((c) => c.get(k) ?? Rational.ZERO), target.get(k) ?? Rational.ZERO]);
+  let r = 0;
+  for (let col = 0; col < m; col++) {
+    let p = r;
+    while (p < A.length && A[p]![col]!.isZero()) p++;
+    if (p === A.length) return null; // dependent columns: not unique (a smaller set would do)
+    [A[r], A[p]] = [A[p]!, A[r]!];
+    const pivotRow = A[r]!;
+    const pivot = pivotRow[col]!;
+    for (let j = col; j <= m; j++) pivotRow[j] = pivotRow[j]!.div(pivot);
+    for (let i = 0; i < A.length; i++) {
+      if (i === r) continue;
+      const f = A[i]![col]!;
+      if (f.isZero()) continue;
+      for (let j = col; j <= m; j++) A[i]![j] = A[i]![j]!.sub(f.mul(pivotRow[j]!));
+    }
+    r++;
+  }
+  for (let i = r; i < A.length; i++) if (!A[i]![m]!.isZero()) return null;
+  const x = A.slice(0, m).map((row) => row[m]!);
+  return x.some((v) => v.isZero()) ? null : x;
+}
+
+// ---------------------------------------------------------------- search
+
+interface ClassSolution {
+  readonly classes: readonly string[];
+  readonly coefficients: readonly Rational[];
+}
+
+function specificKeysOf(v: ReactionVector): string[] {
+  return [...v.keys()].filter((k) => !UBIQUITOUS_KEYS.has(k));
+}
+
+/** All combinations of the smallest size ≥ minSize (≤ MAX_ROWS classes) whose exact sum is the target. */
+function searchClasses(target: ReactionVector, ledger: Ledger, exclude: ReadonlySet<string>, minSize = 1): ClassSolution[] {
+  const direct = ledger.classes.get(classKeyOf(target).key);
+  if (minSize <= 1 && direct && !exclude.has(direct.key)) {
+    const x = solveCombination([direct.vector], target);
+    if (x) return [{ classes: [direct.key], coefficients: x }];
+  }
+  const targetKeys = specificKeysOf(target);
+  const allClasses = [...ledger.classes.values()].filter((c) => !exclude.has(c.key));
+
+  for (let size = Math.max(1, minSize); size <= MAX_ROWS; size++) {
+    const found: ClassSolution[] = [];
+    const visited = new Set<string>();
+    const counts = new Map<string, number>();
+    for (const k of targetKeys) counts.set(k, 1);
+    const chosen: LedgerClass[] = [];
+
+    const add = (c: LedgerClass, d: 1 | -1): void => {
+      for (const k of c.specificKeys) {
+        const n = (counts.get(k) ?? 0) + d;
+        if (n === 0) counts.delete(k);
+        else counts.set(k, n);
+      }
+    };
+    const dfs = (): void => {
+      const sig = chosen
+        .map((c) => c.key)
+        .sort()
+        .join('\n');
+      if (visited.has(sig)) return;
+      visited.add(sig);
+      const unmatched = [...counts].filter(([, n]) => n === 1).map(([k]) => k);
+      if (unmatched.length > 0) {
+        if (chosen.length === size) return;
+        let best: string | undefined;
+        let bestCount = Infinity;
+        for (const k of unmatched) {
+          const n = ledger.classesBySpecies.get(k)?.length ?? 0;
+          if (n < bestCount) {
+            best = k;
+            bestCount = n;
+          }
+        }
+        for (const key of ledger.classesBySpecies.get(best!) ?? []) {
+          const c = ledger.classes.get(key)!;
+          if (exclude.has(key) || chosen.includes(c)) continue;
+          chosen.push(c);
+          add(c, 1);
+          dfs();
+          add(c, -1);
+          chosen.pop();
+        }
+        return;
+      }
+      if (chosen.length === size) {
+        const x = solveCombination(
+          chosen.map((c) => c.vector),
+          target,
+        );
+        if (x) found.push({ classes: chosen.map((c) => c.key), coefficients: x });
+        return;
+      }
+      for (const c of allClasses) {
+        if (chosen.includes(c) || !c.specificKeys.every((k) => counts.has(k))) continue;
+        chosen.push(c);
+        add(c, 1);
+        dfs();
+        add(c, -1);
+        chosen.pop();
+      }
+    };
+    dfs();
+    if (found.length > 0) return found;
+  }
+  return [];
+}
+
+function pickMember(cls: LedgerClass, preferSource: string | undefined) {
+  if (preferSource !== undefined) {
+    const same = cls.members.find((m) => m.row.source === preferSource);
+    if (same) return same;
+  }
+  return cls.members[0]!;
+}
+
+function toCombination(sol: ClassSolution, ledger: Ledger, choose: (cls: LedgerClass) => { row: LedgerRow; lambda: Rational }): Combination {
+  const parts = sol.classes.map((key, i) => {
+    const cls = ledger.classes.get(key)!;
+    const m = choose(cls);
+    return { row: m.row, coefficient: sol.coefficients[i]!.div(m.lambda) };
+  });
+  let exact = Rational.ZERO;
+  let float = 0;
+  for (const p of parts) {
+    if (p.row.gExact) exact = exact.add(p.coefficient.mul(p.row.gExact));
+    else float += p.coefficient.toNumber() * nernstSlopeV(ledger.constants, ledger.constants.T25) * p.row.log10K25!;
+  }
+  return { parts, g25: exact.toNumber() + float, g25Exact: exact, g25Float: float };
+}
+
+/** Σ cᵢ gᵢ at temperature T (K), with the notes of rows held at 25 °C or used out of range. */
+export function combinationG(parts: readonly CombinationPart[], ledger: Ledger, temperatureK: number): { g: number; notes: string[] } {
+  let exact = Rational.ZERO;
+  let float = 0;
+  const notes: string[] = [];
+  const atStandard = Math.abs(temperatureK - ledger.constants.T25) < 1e-9;
+  for (const p of parts) {
+    if (atStandard && p.row.gExact) {
+      exact = exact.add(p.coefficient.mul(p.row.gExact));
+      continue;
+    }
+    const r = rowAtTemperature(p.row, temperatureK, ledger.constants);
+    float += p.coefficient.toNumber() * r.g;
+    if (r.note) notes.push(r.note);
+  }
+  return { g: exact.toNumber() + float, notes };
+}
+
+interface Scored {
+  readonly sol: ClassSolution;
+  readonly combo: Combination;
+  readonly score: readonly number[];
+  readonly ids: string;
+}
+
+function scoreOf(combo: Combination, preferSource: string | undefined): number[] {
+  const pref = (row: LedgerRow): number => (preferSource !== undefined && row.source === preferSource ? 0 : row.sourcePreference);
+  const redox = combo.parts.filter((p) => p.row.kind === 'redox').map((p) => pref(p.row));
+  const eq = combo.parts.filter((p) => p.row.kind === 'equilibrium');
+  return [Math.max(0, ...redox), eq.length, redox.reduce((a, b) => a + b, 0) + eq.reduce((a, p) => a + pref(p.row), 0)];
+}
+
+function compareScores(a: Scored, b: Scored): number {
+  for (let i = 0; i < a.score.length; i++) if (a.score[i] !== b.score[i]) return a.score[i]! - b.score[i]!;
+  return a.ids < b.ids ? -1 : a.ids > b.ids ? 1 : 0;
+}
+
+export interface DerivedCombination {
+  readonly combination: Combination;
+  readonly alternatives: readonly { readonly combination: Combination; readonly differs: string }[];
+  /** True when the target is itself a tabled reaction (up to a multiple). */
+  readonly tabled: boolean;
+}
+
+/**
+ * The best combination of tabled rows for the target vector, or null when none exists.
+ * Cached per ledger by the target's canonical key and the search options.
+ */
+export function deriveCombination(target: ReactionVector, ledger: Ledger, options: SearchOptions = { exclude: new Set() }): DerivedCombination | null {
+  const { key, scale } = classKeyOf(target);
+  const cacheKey = `derive\n${key}\n${[...options.exclude].sort().join(',')}\n${options.preferSource ?? ''}`;
+  let unit = ledger.cache.get(cacheKey) as DerivedCombination | null | undefined;
+  if (unit === undefined) {
+    const normalized = new Map([...target].map(([k, c]) => [k, c.div(scale)]));
+    unit = computeCombination(normalized, ledger, options);
+    ledger.cache.set(cacheKey, unit);
+  }
+  if (unit === null) return null;
+  const scaleCombo = (c: Combination): Combination => ({
+    parts: c.parts.map((p) => ({ row: p.row, coefficient: p.coefficient.mul(scale) })),
+    g25: c.g25 * scale.toNumber(),
+    g25Exact: c.g25Exact.mul(scale),
+    g25Float: c.g25Float * scale.toNumber(),
+  });
+  return {
+    combination: scaleCombo(unit.combination),
+    alternatives: unit.alternatives.map((a) => ({ combination: scaleCombo(a.combination), differs: a.differs })),
+    tabled: unit.tabled,
+  };
+}
+
+function computeCombination(target: ReactionVector, ledger: Ledger, options: SearchOptions): DerivedCombination | null {
+  const solutions = searchClasses(target, ledger, options.exclude);
+  if (solutions.length === 0) return null;
+  const scored: Scored[] = solutions
+    .map((sol) => {
+      const combo = toCombination(sol, ledger, (cls) => pickMember(cls, options.preferSource));
+      return { sol, combo, score: scoreOf(combo, options.preferSource), ids: combo.parts.map((p) => p.row.id).sort().join(',') };
+    })
+    .sort(compareScores);
+  const best = scored[0]!;
+  const alternatives: { combination: Combination; differs: string }[] = [];
+  // Other rows for the same reactions, one swap at a time.
+  best.sol.classes.forEach((key, i) => {
+    const cls = ledger.classes.get(key)!;
+    const used = best.combo.parts[i]!.row;
+    for (const m of cls.members) {
+      if (m.row === used) continue;
+      const combo = toCombination(best.sol, ledger, (c) => (c.key === key ? m : pickMember(c, options.preferSource)));
+      alternatives.push({ combination: combo, differs: `${m.row.id} (${m.row.source}) instead of ${used.id} (${used.source})` });
+    }
+  });
+  // Other combinations of the same size.
+  for (const s of scored.slice(1)) alternatives.push({ combination: s.combo, differs: 'another combination of the same number of rows' });
+  return {
+    combination: best.combo,
+    alternatives: alternatives.slice(0, 12),
+    tabled: best.sol.classes.length === 1 && best.sol.classes[0] === classKeyOf(target).key,
+  };
+}
+
+/**
+ * Every combination of the smallest size ≥ minSize, best first (not cached; for reports).
+ * Used by the consistency report to show a couple derived more than one way.
+ */
+export function deriveAllCombinations(
+  target: ReactionVector,
+  ledger: Ledger,
+  options: SearchOptions & { readonly minSize: number },
+): { readonly size: number; readonly combinations: readonly Combination[] } {
+  const solutions = searchClasses(target, ledger, options.exclude, options.minSize);
+  const scored = solutions
+    .map((sol) => {
+      const combo = toCombination(sol, ledger, (cls) => pickMember(cls, options.preferSource));
+      return { sol, combo, score: scoreOf(combo, options.preferSource), ids: combo.parts.map((p) => p.row.id).sort().join(',') };
+    })
+    .sort(compareScores);
+  return { size: solutions[0]?.classes.length ?? 0, combinations: scored.map((s) => s.combo) };
+}
+
+// ---------------------------------------------------------------- the public function
+
+function steps(c: Combination): DerivationStep[] {
+  return c.parts.map((p) => ({
+    rowId: p.row.id,
+    equation: p.row.equation,
+    coefficient: p.coefficient.toString(),
+    kind: p.row.kind,
+    valueText: p.row.valueText,
+    source: p.row.source,
+  }));
+}
+
+function notDerivable(equation: string, reason: string): DomainError {
+  return new DomainError('POTENTIAL_NOT_DERIVABLE', {
+    detail: `No combination of up to ${MAX_ROWS} tabled reactions gives ${equation}: ${reason}. Give a site value with its source (standardPotentialV) or add the missing reaction with its source to tables/potentials.json or tables/equilibria.json.`,
+    params: { equation },
+    fields: [{ pointer: '/equation', message: reason }],
+  });
+}
+
+/**
+ * E° (reduction, 25 °C) of a half-reaction given as equation text, a parsed equation, or a
+ * balanced (half-)reaction, from the ledger; with its derivation, temperature correction,
+ * a check of a tabled value against its own derivation, and the alternatives the tables hold.
+ */
+export function standardPotential(target: Target, ledger: Ledger, options: PotentialOptions = {}): PotentialResult {
+  const temperatureC = options.temperatureC ?? 25;
+  checkTemperatureC(temperatureC);
+  // Results are pure functions of (reaction, temperature, options): keep the recent ones,
+  // keyed by the equation text (which fixes the reaction) so a hit costs no parsing.
+  const text = typeof target === 'string' ? target.trim() : 'terms' in target ? target.equation : target.text;
+  const memoKey = `potential\n${text}\n${temperatureC}\n${options.temperatureCorrection !== false}\n${
+    options.override ? `${options.override.valueV}\n${options.override.source}` : ''
+  }`;
+  const memo = ledger.cache.get(memoKey) as PotentialResult | undefined;
+  if (memo) return memo;
+  const result = computePotential(targetVector(target), ledger, options, temperatureC);
+  if (ledger.cache.size > MEMO_LIMIT) ledger.cache.clear();
+  ledger.cache.set(memoKey, result);
+  return result;
+}
+
+/** Entries kept in a ledger's cache before it is emptied (bounds memory under arbitrary requests). */
+export const MEMO_LIMIT = 4096;
+
+function computePotential(vector: Map<string, Rational>, ledger: Ledger, options: PotentialOptions, temperatureC: number): PotentialResult {
+  const equation = vectorEquation(vector, ledger);
+  const e = vector.get(KEY_ELECTRON) ?? Rational.ZERO;
+  if (e.isZero()) throw notDerivable(equation, 'the reaction transfers no electrons, so it has an equilibrium constant but no standard potential');
+  const n = e.abs().toNumber();
+  const direction = e.sign() < 0 ? 'reduction' : 'oxidation';
+  const toReductionV = (g: number): number => g / -e.toNumber();
+  const comboV = (c: Combination): number => reductionPotentialV(c, e);
+
+  const derived = deriveCombination(vector, ledger);
+  if (!derived && !options.override) throw notDerivable(equation, 'the tables hold no reactions that add up to it');
+
+  const notes: string[] = [];
+  let tablesV: number | null = null;
+  let tabledCheck: TabledCheck | undefined;
+  let derivation: DerivationStep[] = [];
+  let alternatives: Alternative[] = [];
+  let correction = 0;
+
+  if (derived) {
+    const combo = derived.combination;
+    tablesV = comboV(combo);
+    derivation = steps(combo);
+    alternatives = derived.alternatives.map((a) => ({
+      standardPotentialV: comboV(a.combination),
+      rows: a.combination.parts.map((p) => ({ rowId: p.row.id, source: p.row.source })),
+      differs: a.differs,
+    }));
+    if (derived.tabled) {
+      const row = combo.parts[0]!.row;
+      const other = deriveCombination(vector, ledger, { exclude: new Set([row.classKey]), preferSource: row.source });
+      if (other) {
+        const derivedV = comboV(other.combination);
+        const discrepancyV = tablesV - derivedV;
+        tabledCheck = { tabledV: tablesV, derivedV, discrepancyV, flagged: Math.abs(discrepancyV) > FLAG_THRESHOLD_V, derivation: steps(other.combination) };
+        if (tabledCheck.flagged) {
+          notes.push(
+            `The tabled value ${row.valueText} (${row.id}, ${row.source}) differs by ${(discrepancyV * 1000).toFixed(1)} mV from the value ${derivedV.toFixed(4)} V that follows from other rows; a site value can be given instead.`,
+          );
+        }
+      }
+    }
+    if (temperatureC !== 25 && options.temperatureCorrection !== false) {
+      const T = ledger.constants.T0 + temperatureC;
+      const atT = combinationG(combo.parts, ledger, T);
+      correction = toReductionV(atT.g) - tablesV;
+      notes.push(...atT.notes);
+    }
+  }
+  if (temperatureC !== 25 && options.temperatureCorrection === false) notes.push('Temperature correction of E° turned off by the request.');
+
+  let usedV: number;
+  let usedValue: PotentialResult['usedValue'];
+  if (options.override) {
+    usedV = options.override.valueV;
+    usedValue = 'override';
+    notes.push(
+      `Site value ${options.override.valueV} V (${options.override.source}) used instead of the tables${tablesV !== null ? ` (${tablesV.toFixed(4)} V)` : ''}.`,
+    );
+    if (temperatureC !== 25 && options.temperatureCorrection !== false) {
+      notes.push(derived ? 'The temperature correction is the one the tables give for this couple.' : 'No temperature correction: the tables do not give this couple.');
+    }
+  } else {
+    usedV = tablesV!;
+    usedValue = derived!.tabled ? 'tabled' : 'derived';
+  }
+  const gAsWritten = usedV * -e.toNumber();
+  const k25 = nernstSlopeV(ledger.constants, ledger.constants.T25);
+  return {
+    equation,
+    direction,
+    electrons: n,
+    standardPotentialV: usedV,
+    asWrittenPotentialV: direction === 'reduction' ? usedV : -usedV,
+    deltaGkJPerMol: (-ledger.constants.F * gAsWritten) / 1000,
+    log10K: gAsWritten / k25,
+    temperatureC,
+    temperatureCorrectionV: correction,
+    standardPotentialAtTemperatureV: usedV + correction,
+    derivation,
+    usedValue,
+    ...(tabledCheck ? { tabledCheck } : {}),
+    tablesStandardPotentialV: tablesV,
+    ...(options.override ? { override: { valueV: options.override.valueV, source: options.override.source } } : {}),
+    alternatives,
+    notes,
+  };
+}
+
+export interface Log10KResult {
+  readonly equation: string;
+  /** log10 K of the reaction as written at the temperature. */
+  readonly log10K: number;
+  readonly deltaGkJPerMol: number;
+  readonly temperatureC: number;
+  readonly derivation: readonly DerivationStep[];
+  readonly notes: readonly string[];
+}
+
+/** log10 K (and ΔG°) of any reaction that is a combination of tabled rows, at a temperature. */
+export function reactionLog10K(target: Target, ledger: Ledger, options: { readonly temperatureC?: number } = {}): Log10KResult {
+  const temperatureC = options.temperatureC ?? 25;
+  checkTemperatureC(temperatureC);
+  const vector = targetVector(target);
+  const equation = vectorEquation(vector, ledger);
+  const derived = deriveCombination(vector, ledger);
+  if (!derived) throw notDerivable(equation, 'the tables hold no reactions that add up to it');
+  const T = ledger.constants.T0 + temperatureC;
+  const { g, notes } = combinationG(derived.combination.parts, ledger, T);
+  return {
+    equation,
+    log10K: g / nernstSlopeV(ledger.constants, T),
+    deltaGkJPerMol: (-ledger.constants.F * g) / 1000,
+    temperatureC,
+    derivation: steps(derived.combination),
+    notes,
+  };
+}
