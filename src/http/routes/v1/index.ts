@@ -1,3 +1,6 @@
 import type { FastifyInstance } from 'fastify';
+import { reactionRoutes } from './reactions.js';
 
-export async function v1Routes(_app: FastifyInstance): Promise<void> {}
+export async function v1Routes(app: FastifyInstance): Promise<void> {
+  await app.register(reactionRoutes);
+}

@@ -1,0 +1,89 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { FastifyInstance } from 'fastify';
+import { mkdtempSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { buildApp } from '../../src/http/app.js';
+
+let app: FastifyInstance;
+beforeAll(async () => {
+  app = await buildApp({ dataDir: mkdtempSync(join(tmpdir(), 'oxd-reactions-')) });
+});
+afterAll(async () => {
+  await app.close();
+});
+
+const post = (body: unknown) => app.inject({ method: 'POST', url: '/api/v1/reactions/balance', payload: body as object });
+
+describe('POST /api/v1/reactions/balance', () => {
+  it('balances permanganate–iron(II) in acid (textbook: MnO4- + 3Fe2+ + 7H2O → MnO2 + 3Fe(OH)3 + 5H+; Benjamin, Water Chemistry, 2nd ed., from memory)', async () => {
+    const r = await post({ oxidant: { from: 'MnO4-', to: 'MnO2' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, medium: 'acid' });
+    expect(r.statusCode).toBe(200);
+    const b = r.json();
+    expect(b.equation).toBe('MnO4- + 3Fe2+ + 7H2O → MnO2 + 3Fe(OH)3 + 5H+');
+    expect(b.electrons).toBe(3);
+    expect(b.terms).toEqual(
+      expect.arrayContaining([
+        { species: 'MnO4-', coefficient: 1, side: 'reactant' },
+        { species: 'Fe2+', coefficient: 3, side: 'reactant' },
+        { species: 'H+', coefficient: 5, side: 'product' },
+      ]),
+    );
+  });
+
+  it('chooses the basic medium above pH 7 and says why', async () => {
+    const r = await post({ oxidant: { from: 'MnO4-', to: 'MnO2' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH: 7.5 });
+    const b = r.json();
+    expect(b.medium).toBe('base');
+    expect(b.mediumReason).toMatch(/7\.5/);
+    expect(b.terms.find((t: { species: string }) => t.species === 'OH-')).toMatchObject({ side: 'reactant', coefficient: 5 });
+  });
+
+  it('balances any reaction given as species (0 electrons for non-redox)', async () => {
+    const r = await post({ reactants: ['CaCO3', 'H+'], products: ['Ca2+', 'CO2', 'H2O'] });
+    expect(r.statusCode).toBe(200);
+    expect(r.json()).toMatchObject({ equation: 'CaCO3 + 2H+ → Ca2+ + CO2 + H2O', electrons: 0 });
+  });
+
+  it('a malformed formula is a 400 naming the field and the position', async () => {
+    const r = await post({ reactants: ['Fe(OH3'], products: ['Fe3+'] });
+    expect(r.statusCode).toBe(400);
+    expect(r.headers['content-type']).toMatch(/problem\+json/);
+    const p = r.json();
+    expect(p.errors[0].pointer).toBe('/reactants/0');
+    expect(typeof p.position).toBe('number');
+    expect(p.caret).toContain('^');
+  });
+
+  it('an unknown element is a 400', async () => {
+    const r = await post({ reactants: ['Xx2'], products: ['Xx'] });
+    expect(r.statusCode).toBe(400);
+    expect(r.json().code).toBe('FORMULA_UNKNOWN_ELEMENT');
+  });
+
+  it('species that cannot balance are a 422 saying why', async () => {
+    const r = await post({ reactants: ['Fe2+'], products: ['Mn2+'] });
+    expect(r.statusCode).toBe(422);
+    expect(r.json().code).toBe('BALANCE_IMPOSSIBLE');
+  });
+
+  it('a non-unique balance is a 422 listing the independent sub-reactions', async () => {
+    const r = await post({ reactants: ['H2', 'O2'], products: ['H2O', 'H2O2'] });
+    expect(r.statusCode).toBe(422);
+    const p = r.json();
+    expect(p.code).toBe('BALANCE_NOT_UNIQUE');
+    expect(p.params.subReactions.length).toBeGreaterThanOrEqual(2);
+  });
+
+  it('unknown fields and wrong types are refused with pointers', async () => {
+    const r = await post({ reactants: 'Fe2+', prodcts: ['Fe3+'] });
+    expect(r.statusCode).toBe(400);
+    const pointers = r.json().errors.map((e: { pointer: string }) => e.pointer);
+    expect(pointers).toEqual(expect.arrayContaining(['/reactants', '/prodcts']));
+  });
+
+  it('mixing both forms is refused', async () => {
+    const r = await post({ reactants: ['H2'], products: ['H2'], oxidant: { from: 'MnO4-', to: 'MnO2' } });
+    expect(r.statusCode).toBe(400);
+  });
+});
