@@ -4,6 +4,7 @@
  */
 import { resolve } from 'node:path';
 import { buildApp } from './app.js';
+import { isDomainError } from '../core/errors.js';
 
 const host = process.env['HOST'] ?? '127.0.0.1';
 const portText = process.env['PORT'] ?? '8080';
@@ -14,7 +15,9 @@ if (!Number.isInteger(port) || port < 0 || port > 65535) {
 }
 const dataDir = resolve(process.env['DATA_DIR'] ?? 'reports');
 
-const app = await buildApp({
+let app: Awaited<ReturnType<typeof buildApp>>;
+try {
+  app = await buildApp({
   dataDir,
   logger: { level: process.env['LOG_LEVEL'] ?? 'info' },
   ...(process.env['BOOTSTRAP_TOKEN'] ? { bootstrapToken: process.env['BOOTSTRAP_TOKEN'] } : {}),
@@ -25,7 +28,14 @@ const app = await buildApp({
     console.log('  Keep it safe; it is stored only as a hash.');
     console.log('');
   },
-});
+  });
+} catch (err) {
+  if (isDomainError(err)) {
+    console.error(`oxidant-dosing could not start: ${err.detail}`);
+    process.exit(1);
+  }
+  throw err;
+}
 
 const shutdown = async (signal: string) => {
   app.log.info(`${signal} received, closing`);

@@ -5,8 +5,10 @@
  */
 import { loadReferenceTables } from '../reference/load.js';
 import { atomicWeightMap, type ReferenceTables } from '../reference/schemas.js';
-import { buildLedger, type Ledger } from '../chemistry/thermo/index.js';
+import { consistencyReport, type Ledger } from '../chemistry/thermo/index.js';
 import { openArchive, type Archive } from '../archive/index.js';
+import { buildDosingContext, type DosingContext } from '../dosing/index.js';
+import type { RedoxDeps } from '../water/redox-service.js';
 
 export interface ServiceOptions {
   /** Folder for the archive database and generated sheets (DATA_DIR, default reports/). */
@@ -25,23 +27,127 @@ export interface Services {
   readonly atomicWeights: ReadonlyMap<string, string>;
   readonly ledger: Ledger;
   readonly archive: Archive;
+  readonly dosing: DosingContext;
+  readonly redox: RedoxDeps;
+  readonly potentialRows: PotentialTableOut;
+  /** The consistency report of the potentials (computed on first call, then kept). */
+  consistency(): ConsistencyOut;
   readonly dataDir: string;
   close(): void;
+}
+
+export interface PotentialTableOut {
+  table: string;
+  description: string;
+  rows: {
+    id: string;
+    halfReaction: string;
+    value: string;
+    quantity: string;
+    electrons: number | null;
+    dEdTmVPerK: string | null;
+    uncertaintyV: string | null;
+    source: string;
+    citation: string;
+    note: string | null;
+  }[];
+}
+
+export interface ConsistencyOut {
+  thresholdMV: number;
+  entries: {
+    rowId: string;
+    halfReaction: string;
+    source: string;
+    tabledV: number;
+    derivedV: number;
+    discrepancyMV: number;
+    flagged: boolean;
+    maxDiscrepancyMV: number;
+    via: { rowId: string; coefficient: string; source: string }[];
+    otherDerivations: { derivedV: number; discrepancyMV: number; via: string[] }[];
+  }[];
+  duplicates: { halfReaction: string; rows: { rowId: string; value: string; source: string }[]; spreadMV: number }[];
+  underivable: string[];
+}
+
+function potentialTable(tables: ReferenceTables, citations: ReadonlyMap<string, string>): PotentialTableOut {
+  return {
+    table: 'potentials',
+    description: 'Standard reduction potentials at 25 °C as published (tables/potentials.json); rows printed as log K or pε° by their source are kept in that form.',
+    rows: tables.potentials.map((r) => {
+      const row = r as Record<string, unknown>;
+      const quantity = row['potentialV'] !== undefined ? 'E° (V)' : row['logK'] !== undefined ? 'log K' : 'pε°';
+      const value = String(row['potentialV'] ?? row['logK'] ?? row['peStandard'] ?? '');
+      return {
+        id: r.id,
+        halfReaction: r.halfReaction,
+        value,
+        quantity,
+        electrons: typeof row['electrons'] === 'number' ? (row['electrons'] as number) : null,
+        dEdTmVPerK: typeof row['dEdTmVPerK'] === 'string' ? (row['dEdTmVPerK'] as string) : null,
+        uncertaintyV: typeof row['uncertaintyV'] === 'string' ? (row['uncertaintyV'] as string) : null,
+        source: r.source,
+        citation: citations.get(r.source) ?? r.source,
+        note: typeof row['note'] === 'string' ? (row['note'] as string) : null,
+      };
+    }),
+  };
+}
+
+function consistencyOut(ledger: Ledger): ConsistencyOut {
+  const rep = consistencyReport(ledger);
+  return {
+    thresholdMV: rep.thresholdMV,
+    entries: rep.entries.map((e) => ({
+      rowId: e.rowId,
+      halfReaction: e.equation,
+      source: e.source,
+      tabledV: e.tabledV,
+      derivedV: e.derivedV,
+      discrepancyMV: e.discrepancyMV,
+      flagged: e.flagged,
+      maxDiscrepancyMV: e.maxDiscrepancyMV,
+      via: e.derivation.map((d) => ({ rowId: d.rowId, coefficient: d.coefficient, source: d.source })),
+      otherDerivations: e.otherDerivations.map((o) => ({ derivedV: o.derivedV, discrepancyMV: o.discrepancyMV, via: o.derivation.map((d) => d.rowId) })),
+    })),
+    duplicates: rep.duplicates.map((d) => ({
+      halfReaction: d.equation,
+      rows: d.rows.map((r) => ({ rowId: r.rowId, value: String(r.valueV), source: r.source })),
+      spreadMV: d.spreadMV,
+    })),
+    underivable: [...rep.underivable],
+  };
 }
 
 export async function createServices(options: ServiceOptions): Promise<Services> {
   const tables = loadReferenceTables(options.tablesDir);
   const atomicWeights = atomicWeightMap(tables);
-  const ledger = buildLedger(tables);
+  const dosing = buildDosingContext(tables);
+  const elements = new Set(atomicWeights.keys());
+  const redox: RedoxDeps = {
+    ledger: dosing.ledger,
+    constants: dosing.constants,
+    kwAt: dosing.feasibilityDeps.kwAt,
+    daviesAAt: dosing.feasibilityDeps.daviesAAt,
+    molarMassOf: dosing.molarMassOf,
+    citations: dosing.citations,
+    elements,
+  };
+  let consistency: ConsistencyOut | undefined;
   const archive = openArchive({ dataDir: options.dataDir });
   const boot = archive.bootstrapAdmin({ bootstrapToken: options.bootstrapToken });
   if (boot.created && boot.token) options.onAdminToken?.(boot.token);
   return {
     tables,
-    elements: new Set(atomicWeights.keys()),
+    elements,
     atomicWeights,
-    ledger,
+    ledger: dosing.ledger,
     archive,
+    dosing,
+    redox,
+    potentialRows: potentialTable(tables, dosing.citations),
+    consistency: () => (consistency ??= consistencyOut(dosing.ledger)),
     dataDir: options.dataDir,
     close() {
       archive.close();

@@ -67,24 +67,41 @@ const ActivityOut = z.object({ species: z.string(), activity: z.number(), origin
 
 export const PotentialResponse = z.object({
   couple: z.object({ from: z.string(), to: z.string() }),
-  halfReaction: z.string(),
+  halfReaction: z.string().describe('The couple completed as a reduction in the medium'),
   halfReactionUnicode: z.string(),
   medium: Medium,
   electrons: z.number().int(),
-  standardPotentialV: z.number(),
+  standardPotentialV: z.number().describe('E° at 25 °C of the half-reaction as written (the value used)'),
   valueUsed: z.enum(['tabled', 'derived', 'override']),
   override: z.object({ value: z.number(), source: z.string() }).nullable(),
+  tablesStandardPotentialV: z.number().nullable().describe('What the tables give, whatever value was used'),
   temperatureC: z.number(),
-  temperatureCorrectionV: z.number(),
+  temperatureCorrectionV: z.number().describe('E°(T) − E°(25 °C) from the tables’ dE°/dT and log K(T) data; 0 where none'),
   temperatureNote: z.string(),
-  potentialV: z.number(),
+  potentialV: z.number().describe('E at the given pH, temperature and activities; E°(T) without them'),
   nernst: z
-    .object({ slopeV: z.number(), log10Q: z.number(), activities: z.array(ActivityOut), unitActivity: z.array(z.string()) })
+    .object({
+      slopeV: z.number(),
+      log10Q: z.number(),
+      pH: z.number(),
+      pHNote: z.string(),
+      activities: z.array(ActivityOut),
+      unitActivity: z.array(z.string()),
+    })
     .nullable(),
   derivation: z.array(DerivationStep),
   tabledCheck: z
-    .object({ tabledV: z.number(), derivedV: z.number(), discrepancyV: z.number(), flagged: z.boolean(), note: z.string() })
+    .object({
+      tabledV: z.number(),
+      derivedV: z.number(),
+      discrepancyV: z.number(),
+      flagged: z.boolean(),
+      note: z.string(),
+      derivation: z.array(DerivationStep),
+    })
     .nullable(),
+  alternatives: z.array(z.object({ standardPotentialV: z.number(), rows: z.array(z.string()), differs: z.string() })),
+  notes: z.array(z.string()),
   constants: z.array(z.object({ name: z.string(), value: z.string(), source: z.string() })),
 });
 
@@ -93,15 +110,21 @@ const ConcentrationIn = z.strictObject({
   unit: z.enum(['mg/L', 'ug/L', 'µg/L', 'mol/L', 'mmol/L', 'atm']),
 });
 
+const SiteE0 = z.strictObject({ value: z.number().min(-4).max(4), source: z.string().min(3).max(300) });
+
 export const CellBody = z.strictObject({
   oxidant: CoupleSchema.describe('Oxidant couple: from the oxidised form to the reduced form'),
   reductant: CoupleSchema.describe('Reductant couple: from the reduced form to the oxidised form'),
   pH: PH,
   temperatureC: TemperatureC,
-  concentrations: z.record(z.string(), ConcentrationIn).optional().describe('Concentrations by species formula; atm for gases'),
+  concentrations: z.record(z.string(), ConcentrationIn).optional().describe('Concentrations by species formula (atm for gases); others at unit activity'),
   ionicStrength: z.number().min(0).max(0.5).optional().describe('mol/L; Davies activity coefficients are used up to 0.5'),
-  tdsMgPerL: z.number().min(0).max(20000).optional().describe('Total dissolved solids, to estimate ionic strength'),
+  tdsMgPerL: z.number().min(0).max(20000).optional().describe('Total dissolved solids, to estimate ionic strength (Langelier 1936)'),
   medium: Medium.optional(),
+  standardPotentials: z
+    .strictObject({ oxidant: SiteE0.optional(), reductant: SiteE0.optional() })
+    .optional()
+    .describe('Site values of E° (25 °C) replacing the tabled or derived ones, each with its source'),
 });
 
 const HalfAtConditions = z.object({
@@ -110,9 +133,11 @@ const HalfAtConditions = z.object({
   electrons: z.number().int(),
   standardPotentialV: z.number(),
   standardPotentialAtTV: z.number(),
+  temperatureCorrectionV: z.number(),
   potentialV: z.number(),
   valueUsed: z.enum(['tabled', 'derived', 'override']),
   derivation: z.array(DerivationStep),
+  unitActivity: z.array(z.string()),
 });
 
 export const CellResponse = z.object({
@@ -127,12 +152,14 @@ export const CellResponse = z.object({
   standardDeltaGkJPerMol: z.number(),
   log10K: z.number(),
   feasible: z.boolean(),
-  feasibilityLimitPH: z.number().nullable(),
-  feasibleSide: z.enum(['above', 'below', 'all', 'none']).nullable(),
+  feasibilityLimitPH: z.number().nullable().describe('pH in 0–14 where E = 0 nearest the sample pH; null when none'),
+  feasibilityLimitsPH: z.array(z.number()),
+  feasibleSide: z.enum(['above', 'below', 'everywhere', 'nowhere']),
   equilibriumResidual: z
-    .object({ species: z.string(), molPerL: z.number(), mgPerL: z.number().nullable() })
+    .object({ species: z.string(), molPerL: z.number(), mgPerL: z.number().nullable(), note: z.string() })
     .nullable(),
   ionicStrength: z.object({ value: z.number(), origin: z.string() }),
+  slopeV: z.number(),
   halfReactions: z.object({ oxidant: HalfAtConditions, reductant: HalfAtConditions }),
   notes: z.array(z.string()),
 });

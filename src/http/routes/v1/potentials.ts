@@ -1,0 +1,80 @@
+import type { FastifyInstance } from 'fastify';
+import { z } from 'zod';
+import { CellBody, CellResponse, PotentialBody, PotentialResponse } from '../../schemas/chemistry.js';
+import { defineRoute } from '../../route.js';
+import { couplePotential, evaluateCellText } from '../../../water/redox-service.js';
+
+const PotentialRowOut = z.object({
+  id: z.string(),
+  halfReaction: z.string(),
+  value: z.string().describe('As published: E° in V, or log K / pε° where the source prints those'),
+  quantity: z.string(),
+  electrons: z.number().nullable(),
+  dEdTmVPerK: z.string().nullable(),
+  uncertaintyV: z.string().nullable(),
+  source: z.string(),
+  citation: z.string(),
+  note: z.string().nullable(),
+});
+
+export async function potentialRoutes(app: FastifyInstance): Promise<void> {
+  const deps = () => app.services.redox;
+
+  defineRoute(app, {
+    method: 'POST',
+    url: '/couples/potential',
+    summary: 'Potential of a redox couple: E° (tabled, derived by ΔG° from tabled rows, or a site value) and E at pH, temperature and activities (Nernst)',
+    tags: ['chemistry'],
+    body: PotentialBody,
+    response: { 200: PotentialResponse },
+    handler: async (req) => couplePotential(req.body, deps()),
+  });
+
+  defineRoute(app, {
+    method: 'POST',
+    url: '/cells/evaluate',
+    summary: 'Cell of an oxidant and a reductant couple at the water’s pH and temperature: E°cell, E, ΔG, log K, feasibility and the pH where it stops',
+    tags: ['chemistry'],
+    body: CellBody,
+    response: { 200: CellResponse },
+    handler: async (req) => evaluateCellText(req.body, deps()),
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/tables/potentials',
+    summary: 'Standard reduction potentials (25 °C) as tabled, each row with its source',
+    tags: ['tables'],
+    response: { 200: z.object({ table: z.string(), description: z.string(), rows: z.array(PotentialRowOut) }) },
+    handler: async () => app.services.potentialRows,
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/tables/potentials/consistency',
+    summary: 'Every tabled couple that can also be derived from other rows, with the discrepancy (flagged above 5 mV)',
+    tags: ['tables'],
+    response: {
+      200: z.object({
+        thresholdMV: z.number(),
+        entries: z.array(
+          z.object({
+            rowId: z.string(),
+            halfReaction: z.string(),
+            source: z.string(),
+            tabledV: z.number(),
+            derivedV: z.number(),
+            discrepancyMV: z.number(),
+            flagged: z.boolean(),
+            maxDiscrepancyMV: z.number(),
+            via: z.array(z.object({ rowId: z.string(), coefficient: z.string(), source: z.string() })),
+            otherDerivations: z.array(z.object({ derivedV: z.number(), discrepancyMV: z.number(), via: z.array(z.string()) })),
+          }),
+        ),
+        duplicates: z.array(z.object({ halfReaction: z.string(), rows: z.array(z.object({ rowId: z.string(), value: z.string(), source: z.string() })), spreadMV: z.number() })),
+        underivable: z.array(z.string()),
+      }),
+    },
+    handler: async () => app.services.consistency(),
+  });
+}

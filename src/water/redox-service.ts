@@ -1,0 +1,349 @@
+/**
+ * Couples and cells from text input, at the water's pH and temperature.
+ * Used by POST /api/v1/couples/potential and /api/v1/cells/evaluate, and the CLI.
+ *
+ * Chain for each couple: parse the formulas → complete the half-reaction (H2O, H+ or OH-,
+ * e-) in the medium → E° at 25 °C from the ledger (tabled, derived from tabled rows through
+ * ΔG°, or the caller's site value) → E°(T) from the tables' temperature data → Nernst at the
+ * pH, temperature and activities (slope 2.303RT/F from CODATA R and F at T).
+ */
+import { DomainError, isDomainError } from '../core/errors.js';
+import type { Dec } from '../core/decimal.js';
+import { parseFormula, speciesKey, formatEquationUnicode } from '../chemistry/formula/index.js';
+import type { Species } from '../chemistry/formula/types.js';
+import { balanceRedox, halfReaction, mediumForPH, type HalfReaction, type Medium } from '../chemistry/balance/index.js';
+import { standardPotential, type PotentialResult, type DerivationStep } from '../chemistry/thermo/derive.js';
+import type { Ledger } from '../chemistry/thermo/ledger.js';
+import { nernst, type NernstResult } from './conditions.js';
+import { evaluateCell } from './cell.js';
+import { daviesGamma } from './activity.js';
+import type { PhysicalConstants } from './constants.js';
+
+/** What the service needs; the dosing context provides all of it. */
+export interface RedoxDeps {
+  readonly ledger: Ledger;
+  readonly constants: PhysicalConstants;
+  readonly kwAt: (temperatureC: number) => number;
+  readonly daviesAAt: (temperatureC: number) => number;
+  readonly molarMassOf: (formula: string) => Dec;
+  /** Source id → full citation. */
+  readonly citations: ReadonlyMap<string, string>;
+  readonly elements?: ReadonlySet<string>;
+}
+
+export interface StepOut {
+  rowId: string;
+  table: string;
+  equation: string;
+  coefficient: string;
+  kind: 'redox' | 'equilibrium';
+  value: string;
+  source: string;
+  citation?: string;
+}
+
+function parseAt(text: string, pointer: string, deps: RedoxDeps): Species {
+  try {
+    return deps.elements ? parseFormula(text, { elements: deps.elements }) : parseFormula(text);
+  } catch (e) {
+    if (isDomainError(e)) throw e.under(pointer);
+    throw e;
+  }
+}
+
+function withPointer<T>(pointer: string, f: () => T): T {
+  try {
+    return f();
+  } catch (e) {
+    if (isDomainError(e) && e.fields.length === 0) throw e.under(pointer);
+    throw e;
+  }
+}
+
+export function stepsOut(steps: readonly DerivationStep[], deps: RedoxDeps): StepOut[] {
+  return steps.map((s) => {
+    const row = deps.ledger.byId.get(s.rowId);
+    const citation = deps.citations.get(s.source);
+    return {
+      rowId: s.rowId,
+      table: row ? `tables/${row.file}` : 'tables/',
+      equation: s.equation,
+      coefficient: s.coefficient,
+      kind: s.kind,
+      value: s.valueText,
+      source: s.source,
+      ...(citation ? { citation } : {}),
+    };
+  });
+}
+
+const halfMemo = new Map<string, HalfReaction>();
+function halfFor(ox: Species, red: Species, medium: Medium, pointer: string): HalfReaction {
+  const k = `${ox.text}|${red.text}|${medium}`;
+  let h = halfMemo.get(k);
+  if (!h) {
+    h = withPointer(pointer, () => halfReaction({ oxidised: ox, reduced: red, medium }));
+    if (halfMemo.size > 2048) halfMemo.clear();
+    halfMemo.set(k, h);
+  }
+  return h;
+}
+
+function potentialFor(
+  half: HalfReaction,
+  deps: RedoxDeps,
+  opts: { temperatureC: number; temperatureCorrection: boolean; override?: { valueV: number; source: string } },
+  pointer: string,
+): PotentialResult {
+  return withPointer(pointer, () =>
+    standardPotential(half, deps.ledger, {
+      temperatureC: opts.temperatureC,
+      temperatureCorrection: opts.temperatureCorrection,
+      ...(opts.override ? { override: opts.override } : {}),
+    }),
+  );
+}
+
+function chooseMedium(medium: Medium | undefined, pH: number | undefined): Medium {
+  return medium ?? (pH !== undefined ? mediumForPH(pH) : 'acid');
+}
+
+function keyedActivities(map: Readonly<Record<string, number>> | undefined, pointer: string, deps: RedoxDeps): Map<string, number> {
+  const out = new Map<string, number>();
+  for (const [text, a] of Object.entries(map ?? {})) {
+    const s = parseAt(text, `${pointer}/${text.replace(/~/g, '~0').replace(/\//g, '~1')}`, deps);
+    out.set(speciesKey(s), a);
+  }
+  return out;
+}
+
+function constantsOut(deps: RedoxDeps) {
+  const c = deps.constants;
+  return [
+    { name: 'R (J/(mol·K))', value: String(c.gasConstant.value), source: c.gasConstant.source },
+    { name: 'F (C/mol)', value: String(c.faraday.value), source: c.faraday.source },
+    { name: '0 °C (K)', value: String(c.zeroCelsiusK.value), source: c.zeroCelsiusK.source },
+  ];
+}
+
+function temperatureNote(p: PotentialResult, correction: boolean): string {
+  if (!correction) return 'Temperature correction of E° turned off by the request: E° held at its 25 °C value.';
+  if (p.temperatureC === 25) return 'At 25 °C: no temperature correction.';
+  const notes = p.notes.filter((n) => /temperature|25 °C|dE/i.test(n));
+  return notes.length ? notes.join(' ') : `E° moved from 25 °C to ${p.temperatureC} °C with the tables' temperature data.`;
+}
+
+export interface CoupleInput {
+  from: string;
+  to: string;
+  pH?: number | undefined;
+  temperatureC?: number | undefined;
+  medium?: Medium | undefined;
+  activities?: Readonly<Record<string, number>> | undefined;
+  partialPressuresAtm?: Readonly<Record<string, number>> | undefined;
+  standardPotentialV?: { value: number; source: string } | undefined;
+  temperatureCorrection?: boolean | undefined;
+}
+
+export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
+  const ox = parseAt(input.from, '/from', deps);
+  const red = parseAt(input.to, '/to', deps);
+  const medium = chooseMedium(input.medium, input.pH);
+  const half = halfFor(ox, red, medium, '');
+  const temperatureC = input.temperatureC ?? 25;
+  const correction = input.temperatureCorrection ?? true;
+  const override = input.standardPotentialV ? { valueV: input.standardPotentialV.value, source: input.standardPotentialV.source } : undefined;
+  const p = potentialFor(half, deps, { temperatureC, temperatureCorrection: correction, ...(override ? { override } : {}) }, '');
+  const e0T = p.standardPotentialAtTemperatureV;
+  const atConditions = input.pH !== undefined || input.activities !== undefined || input.partialPressuresAtm !== undefined;
+  let n: NernstResult | null = null;
+  if (atConditions) {
+    n = nernst({
+      half,
+      standardPotentialV: e0T,
+      pH: input.pH ?? 0,
+      temperatureC,
+      activities: keyedActivities(input.activities, '/activities', deps),
+      partialPressuresAtm: keyedActivities(input.partialPressuresAtm, '/partialPressuresAtm', deps),
+      kw: deps.kwAt(temperatureC),
+      constants: deps.constants,
+    });
+  }
+  const tc = p.tabledCheck;
+  return {
+    couple: { from: input.from, to: input.to },
+    halfReaction: half.equation,
+    halfReactionUnicode: formatEquationUnicode(half.equation),
+    medium,
+    electrons: half.electrons,
+    standardPotentialV: p.standardPotentialV,
+    valueUsed: p.usedValue,
+    override: p.override ? { value: p.override.valueV, source: p.override.source } : null,
+    tablesStandardPotentialV: p.tablesStandardPotentialV,
+    temperatureC,
+    temperatureCorrectionV: p.temperatureCorrectionV,
+    temperatureNote: temperatureNote(p, correction),
+    potentialV: n ? n.potentialV : e0T,
+    nernst: n
+      ? {
+          slopeV: n.slopeV,
+          log10Q: n.log10Q,
+          pH: input.pH ?? 0,
+          pHNote: input.pH === undefined ? 'No pH given: H+ at unit activity (pH 0), its standard state.' : `pH ${input.pH}: a(H+) = 10^-${input.pH}`,
+          activities: n.activities.map((a) => ({ species: a.text, activity: a.activity, origin: a.origin + (a.reason ? ` (${a.reason})` : '') })),
+          unitActivity: [...n.notGiven],
+        }
+      : null,
+    derivation: stepsOut(p.derivation, deps),
+    tabledCheck: tc
+      ? {
+          tabledV: tc.tabledV,
+          derivedV: tc.derivedV,
+          discrepancyV: tc.discrepancyV,
+          flagged: tc.flagged,
+          note: tc.flagged
+            ? `The tabled value differs from its own derivation from other tabled rows by ${(tc.discrepancyV * 1000).toFixed(1)} mV (more than 5 mV): the tables disagree.`
+            : `The tabled value agrees with its derivation from other rows within ${(Math.abs(tc.discrepancyV) * 1000).toFixed(1)} mV.`,
+          derivation: stepsOut(tc.derivation, deps),
+        }
+      : null,
+    alternatives: p.alternatives.map((a) => ({ standardPotentialV: a.standardPotentialV, rows: a.rows.map((r) => r.rowId), differs: a.differs })),
+    notes: [...p.notes],
+    constants: constantsOut(deps),
+  };
+}
+
+export interface ConcentrationIn {
+  value: number;
+  unit: 'mg/L' | 'ug/L' | 'µg/L' | 'mol/L' | 'mmol/L' | 'atm';
+}
+
+export interface CellInputText {
+  oxidant: { from: string; to: string };
+  reductant: { from: string; to: string };
+  pH: number;
+  temperatureC: number;
+  concentrations?: Readonly<Record<string, ConcentrationIn>> | undefined;
+  ionicStrength?: number | undefined;
+  tdsMgPerL?: number | undefined;
+  medium?: Medium | undefined;
+  standardPotentials?: { oxidant?: { value: number; source: string } | undefined; reductant?: { value: number; source: string } | undefined } | undefined;
+}
+
+/** Langelier 1936: I ≈ 2.5×10⁻⁵ × TDS (mg/L). */
+const LANGELIER = 2.5e-5;
+
+export function evaluateCellText(input: CellInputText, deps: RedoxDeps) {
+  const ox = { from: parseAt(input.oxidant.from, '/oxidant/from', deps), to: parseAt(input.oxidant.to, '/oxidant/to', deps) };
+  const red = { from: parseAt(input.reductant.from, '/reductant/from', deps), to: parseAt(input.reductant.to, '/reductant/to', deps) };
+  const medium = chooseMedium(input.medium, input.pH);
+  const overall = balanceRedox({ oxidant: ox, reductant: red, medium });
+  const oxHalf = overall.reduction;
+  const redHalf = overall.oxidation;
+  const T = input.temperatureC;
+  const ov = input.standardPotentials?.oxidant;
+  const rv = input.standardPotentials?.reductant;
+  const pOx = potentialFor(oxHalf, deps, { temperatureC: T, temperatureCorrection: true, ...(ov ? { override: { valueV: ov.value, source: ov.source } } : {}) }, '/oxidant');
+  const pRed = potentialFor(redHalf, deps, { temperatureC: T, temperatureCorrection: true, ...(rv ? { override: { valueV: rv.value, source: rv.source } } : {}) }, '/reductant');
+
+  let I = 0;
+  let iOrigin = 'not given: activities taken equal to concentrations (γ = 1)';
+  if (input.ionicStrength !== undefined) {
+    I = input.ionicStrength;
+    iOrigin = 'given';
+  } else if (input.tdsMgPerL !== undefined) {
+    I = LANGELIER * input.tdsMgPerL;
+    iOrigin = `from TDS ${input.tdsMgPerL} mg/L by Langelier (1936), I ≈ 2.5×10⁻⁵ × TDS`;
+  }
+  const A = deps.daviesAAt(T);
+  const activities = new Map<string, number>();
+  const pressures = new Map<string, number>();
+  const notes: string[] = [];
+  for (const [text, q] of Object.entries(input.concentrations ?? {})) {
+    const pointer = `/concentrations/${text.replace(/~/g, '~0').replace(/\//g, '~1')}`;
+    const s = parseAt(text, pointer, deps);
+    const key = speciesKey(s);
+    if (q.unit === 'atm') {
+      pressures.set(key, q.value);
+      continue;
+    }
+    if (q.value <= 0) {
+      throw new DomainError('ACTIVITY_INVALID', {
+        detail: `The concentration of ${text} must be more than 0 for a potential (its logarithm enters Nernst); leave it out for unit activity.`,
+        fields: [{ pointer: `${pointer}/value`, message: 'must be more than 0 in a cell evaluation' }],
+      });
+    }
+    let molPerL: number;
+    if (q.unit === 'mol/L') molPerL = q.value;
+    else if (q.unit === 'mmol/L') molPerL = q.value / 1000;
+    else {
+      const mg = q.unit === 'mg/L' ? q.value : q.value / 1000;
+      molPerL = mg / 1000 / withPointer(pointer, () => deps.molarMassOf(text)).toNumber();
+    }
+    const gamma = s.charge === 0 ? 1 : daviesGamma(s.charge, I, A);
+    activities.set(key, molPerL * gamma);
+  }
+  if (I > 0) notes.push(`Activity coefficients by the Davies equation at I = ${I.toPrecision(3)} mol/L, A = ${A.toFixed(4)} at ${T} °C; neutral species γ = 1.`);
+
+  const molarMassRed = (() => {
+    try {
+      return deps.molarMassOf(input.reductant.from).toNumber();
+    } catch {
+      return undefined;
+    }
+  })();
+  const gammaRed = red.from.charge === 0 ? 1 : daviesGamma(red.from.charge, I, A);
+  const cell = evaluateCell({
+    oxidantHalf: oxHalf,
+    reductantHalf: redHalf,
+    oxidantE0V: pOx.standardPotentialAtTemperatureV,
+    reductantE0V: pRed.standardPotentialAtTemperatureV,
+    pH: input.pH,
+    temperatureC: T,
+    activities,
+    partialPressuresAtm: pressures,
+    kw: deps.kwAt(T),
+    constants: deps.constants,
+    reductantResidual: { activityCoefficient: gammaRed, ...(molarMassRed !== undefined ? { molarMassGPerMol: molarMassRed } : {}) },
+  });
+  const halfOut = (couple: { from: string; to: string }, h: HalfReaction, p: PotentialResult, n: NernstResult) => ({
+    couple,
+    equation: h.equation,
+    electrons: h.electrons,
+    standardPotentialV: p.standardPotentialV,
+    standardPotentialAtTV: p.standardPotentialAtTemperatureV,
+    temperatureCorrectionV: p.temperatureCorrectionV,
+    potentialV: n.potentialV,
+    valueUsed: p.usedValue,
+    derivation: stepsOut(p.derivation, deps),
+    unitActivity: [...n.notGiven],
+  });
+  if (cell.oxidant.notGiven.length || cell.reductant.notGiven.length) {
+    notes.push(`Left at unit activity (no concentration given): ${[...new Set([...cell.oxidant.notGiven, ...cell.reductant.notGiven])].join(', ')}.`);
+  }
+  const res = cell.reductantResidual;
+  return {
+    reaction: overall.equation,
+    reactionUnicode: formatEquationUnicode(overall.equation),
+    medium,
+    electrons: cell.electrons,
+    standardCellPotentialV: cell.standardCellPotentialV,
+    cellPotentialV: cell.cellPotentialV,
+    marginV: cell.marginV,
+    deltaGkJPerMol: cell.deltaGkJPerMol,
+    standardDeltaGkJPerMol: cell.standardDeltaGkJPerMol,
+    log10K: cell.log10K,
+    feasible: cell.feasible,
+    feasibilityLimitPH: cell.feasibilityLimitPH,
+    feasibilityLimitsPH: [...cell.feasibilityLimitsPH],
+    feasibleSide: cell.feasibleSide,
+    equilibriumResidual: res ? { species: res.species, molPerL: res.molPerL, mgPerL: res.mgPerL, note: res.note } : null,
+    ionicStrength: { value: I, origin: iOrigin },
+    slopeV: cell.slopeV,
+    halfReactions: {
+      oxidant: halfOut(input.oxidant, oxHalf, pOx, cell.oxidant),
+      reductant: halfOut(input.reductant, redHalf, pRed, cell.reductant),
+    },
+    notes: [...notes, ...(cell.reductantResidualReason ? [cell.reductantResidualReason] : [])],
+  };
+}

@@ -1,0 +1,186 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { FastifyInstance } from 'fastify';
+import { mkdtempSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { buildApp } from '../../src/http/app.js';
+
+let app: FastifyInstance;
+beforeAll(async () => {
+  app = await buildApp({ dataDir: mkdtempSync(join(tmpdir(), 'oxd-potentials-')) });
+});
+afterAll(async () => {
+  await app.close();
+});
+
+const post = (url: string, body: unknown) => app.inject({ method: 'POST', url, payload: body as object });
+
+describe('POST /api/v1/couples/potential', () => {
+  it('MnO4-/Mn2+ standard potential is the CRC Handbook value 1.507 V (CRC 97th ed., electrochemical series)', async () => {
+    const r = await post('/api/v1/couples/potential', { from: 'MnO4-', to: 'Mn2+' });
+    expect(r.statusCode).toBe(200);
+    const b = r.json();
+    expect(b.standardPotentialV).toBeCloseTo(1.507, 3);
+    expect(b.electrons).toBe(5);
+    expect(b.potentialV).toBe(b.standardPotentialV);
+    expect(b.temperatureCorrectionV).toBe(0);
+    expect(b.derivation[0]).toMatchObject({ rowId: 'crc-mno4-mn2', source: 'crc-97-electrochemical-series' });
+    // The tables disagree with themselves by 10 mV here (1.679 and 1.224 combine to 1.497 V): flagged, not hidden.
+    expect(b.tabledCheck.flagged).toBe(true);
+  });
+
+  it('derives Fe(OH)3/Fe2+ from Fe3+/Fe2+ and the solubility of Fe(OH)3, and reports the combination', async () => {
+    const r = await post('/api/v1/couples/potential', { from: 'Fe(OH)3', to: 'Fe2+' });
+    const b = r.json();
+    expect(b.valueUsed).toBe('derived');
+    const rows = b.derivation.map((d: { rowId: string }) => d.rowId);
+    expect(rows).toContain('crc-fe3-fe2');
+    expect(b.derivation.some((d: { kind: string }) => d.kind === 'equilibrium')).toBe(true);
+    // E° = 0.771 + 0.05916 · log *Ks; with log *Ks between 3 and 5 (Stumm & Morgan 1996; phreeqc.dat) E° lies in 0.95–1.07 V.
+    expect(b.standardPotentialV).toBeGreaterThan(0.93);
+    expect(b.standardPotentialV).toBeLessThan(1.07);
+  });
+
+  it('a site value of E° replaces the tabled one and the answer says so', async () => {
+    const r = await post('/api/v1/couples/potential', { from: 'Fe(OH)3', to: 'Fe2+', standardPotentialV: { value: 0.95, source: 'site study: aged ferrihydrite' } });
+    const b = r.json();
+    expect(b.valueUsed).toBe('override');
+    expect(b.standardPotentialV).toBe(0.95);
+    expect(b.override).toEqual({ value: 0.95, source: 'site study: aged ferrihydrite' });
+    expect(b.tablesStandardPotentialV).not.toBe(0.95);
+  });
+
+  it('Nernst at pH: O2/H2O at pH 7 and 1 atm O2 is 0.815 V (textbook value, e.g. Stumm & Morgan 1996, from memory)', async () => {
+    const r = await post('/api/v1/couples/potential', { from: 'O2(g)', to: 'H2O', pH: 7, partialPressuresAtm: { 'O2(g)': 1 } });
+    expect(r.json().potentialV).toBeCloseTo(0.815, 3);
+  });
+
+  it('the potential at a pH does not depend on the medium the half-reaction is written in', async () => {
+    const acid = (await post('/api/v1/couples/potential', { from: 'MnO4-', to: 'MnO2', pH: 8, medium: 'acid', activities: { 'MnO4-': 1e-5 } })).json();
+    const base = (await post('/api/v1/couples/potential', { from: 'MnO4-', to: 'MnO2', pH: 8, medium: 'base', activities: { 'MnO4-': 1e-5 } })).json();
+    expect(acid.halfReaction).not.toBe(base.halfReaction);
+    // Different tabled rows (CRC 1.679 acid, 0.595 base) — they agree within the tables' own inconsistency (< 20 mV).
+    expect(Math.abs(acid.potentialV - base.potentialV)).toBeLessThan(0.02);
+  });
+
+  it('temperature correction can be turned off', async () => {
+    const on = (await post('/api/v1/couples/potential', { from: 'Fe3+', to: 'Fe2+', temperatureC: 5 })).json();
+    const off = (await post('/api/v1/couples/potential', { from: 'Fe3+', to: 'Fe2+', temperatureC: 5, temperatureCorrection: false })).json();
+    expect(off.temperatureCorrectionV).toBe(0);
+    expect(on.temperatureCorrectionV).not.toBe(0);
+  });
+
+  it('a couple the tables cannot give is a 422 saying what to do', async () => {
+    const r = await post('/api/v1/couples/potential', { from: 'UO2^2+', to: 'U4+' });
+    expect(r.statusCode).toBe(422);
+    expect(r.json().detail).toMatch(/site value|standardPotentialV/);
+  });
+
+  it('a bad formula in a couple names the field', async () => {
+    const r = await post('/api/v1/couples/potential', { from: 'MnO4-', to: 'Mn((' });
+    expect(r.statusCode).toBe(400);
+    expect(r.json().errors[0].pointer).toBe('/to');
+  });
+});
+
+describe('POST /api/v1/cells/evaluate', () => {
+  it('permanganate oxidises Mn(II) at pH 7.2: feasible, 6 electrons, ΔG = −nFE, log K = nFE°/(RT ln 10)', async () => {
+    const r = await post('/api/v1/cells/evaluate', {
+      oxidant: { from: 'MnO4-', to: 'MnO2' },
+      reductant: { from: 'Mn2+', to: 'MnO2' },
+      pH: 7.2,
+      temperatureC: 25,
+      concentrations: { 'MnO4-': { value: 1.5, unit: 'mg/L' }, 'Mn2+': { value: 0.4, unit: 'mg/L' } },
+    });
+    expect(r.statusCode).toBe(200);
+    const b = r.json();
+    expect(b.electrons).toBe(6);
+    expect(b.feasible).toBe(true);
+    // CODATA 2018: F = 96485.33212 C/mol, R = 8.314462618 J/(mol K)
+    expect(b.deltaGkJPerMol).toBeCloseTo((-6 * 96485.33212 * b.cellPotentialV) / 1000, 6);
+    expect(b.log10K).toBeCloseTo((6 * 96485.33212 * b.standardCellPotentialV) / (8.314462618 * 298.15 * Math.LN10), 4);
+    expect(b.standardCellPotentialV).toBeCloseTo(b.halfReactions.oxidant.standardPotentialAtTV - b.halfReactions.reductant.standardPotentialAtTV, 12);
+    expect(b.cellPotentialV).toBeCloseTo(b.halfReactions.oxidant.potentialV - b.halfReactions.reductant.potentialV, 12);
+  });
+
+  it('finds the pH where a cell stops being feasible: O2 vs MnO2/Mn2+ (analytic root of E(pH) = 0)', async () => {
+    const r = await post('/api/v1/cells/evaluate', {
+      oxidant: { from: 'O2(g)', to: 'H2O' },
+      reductant: { from: 'Mn2+', to: 'MnO2' },
+      pH: 7,
+      temperatureC: 25,
+      medium: 'acid',
+      concentrations: { 'O2(g)': { value: 0.21, unit: 'atm' }, 'Mn2+': { value: 1e-5, unit: 'mol/L' } },
+    });
+    const b = r.json();
+    // E = (E°O2 − E°MnO2) − (0.05916/4)·log(1/pO2) ... written per 4 e-: E(pH) = ΔE° + (s/4)·log pO2 − (s/2)·... ; solve directly:
+    const s = (8.314462618 * 298.15 * Math.LN10) / 96485.33212;
+    const eO2 = (pH: number) => b.halfReactions.oxidant.standardPotentialAtTV + (s / 4) * (Math.log10(0.21) - 4 * pH);
+    const eMn = (pH: number) => b.halfReactions.reductant.standardPotentialAtTV - (s / 2) * (Math.log10(1e-5) + 4 * pH);
+    // eO2 − eMn = 0 → linear in pH
+    const a0 = eO2(0) - eMn(0);
+    const a1 = eO2(1) - eMn(1) - a0;
+    const root = -a0 / a1;
+    expect(b.feasibilityLimitPH).toBeCloseTo(root, 5);
+    expect(b.feasibleSide).toBe('above');
+  });
+
+  it('the same cell written with HOCl or with OCl- gives the same E at the same pH when E° of OCl- is tied to HOCl through pKa and Kw', async () => {
+    // Morris 1966: pKa(HOCl) = 3000/T − 10.0686 + 0.0253·T; Harned & Owen 1958: pKw = 4470.99/T − 6.0875 + 0.01706·T.
+    const T = 298.15;
+    const pKa = 3000 / T - 10.0686 + 0.0253 * T;
+    const pKw = 4470.99 / T - 6.0875 + 0.01706 * T;
+    const s = (8.314462618 * T * Math.LN10) / 96485.33212; // CODATA 2018
+    // OCl- + H2O + 2e- → Cl- + 2OH-  =  (HOCl + H+ + 2e- → Cl- + H2O) + (OCl- + H+ → HOCl) + 2(H2O → H+ + OH-)
+    const e0Hocl = 1.482; // CRC 97th ed.
+    const e0Ocl = e0Hocl - (s / 2) * (2 * pKw - pKa);
+    const pH = 8;
+    const totalMolPerL = 2 / 70.906 / 1000; // 2 mg/L free chlorine as Cl2
+    const a0 = 1 / (1 + 10 ** (pH - pKa));
+    const common = { reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH, temperatureC: 25, medium: 'base' as const };
+    const viaHocl = (
+      await post('/api/v1/cells/evaluate', {
+        ...common,
+        oxidant: { from: 'HOCl', to: 'Cl-' },
+        concentrations: { HOCl: { value: a0 * totalMolPerL, unit: 'mol/L' }, 'Fe2+': { value: 1e-5, unit: 'mol/L' } },
+      })
+    ).json();
+    const viaOcl = (
+      await post('/api/v1/cells/evaluate', {
+        ...common,
+        oxidant: { from: 'OCl-', to: 'Cl-' },
+        concentrations: { 'OCl-': { value: (1 - a0) * totalMolPerL, unit: 'mol/L' }, 'Fe2+': { value: 1e-5, unit: 'mol/L' } },
+        standardPotentials: { oxidant: { value: e0Ocl, source: 'derived in this test from CRC HOCl/Cl-, Morris pKa and Harned-Owen Kw' } },
+      })
+    ).json();
+    expect(viaOcl.halfReactions.oxidant.valueUsed).toBe('override');
+    expect(viaOcl.cellPotentialV).toBeCloseTo(viaHocl.cellPotentialV, 3);
+  });
+
+  it('bad input names each field and the accepted range', async () => {
+    const r = await post('/api/v1/cells/evaluate', { oxidant: { from: 'HOCl', to: 'Cl-' }, reductant: { from: 'Mn2+', to: 'MnO2' }, pH: 15, temperatureC: -5 });
+    expect(r.statusCode).toBe(400);
+    const ptrs = r.json().errors.map((e: { pointer: string }) => e.pointer);
+    expect(ptrs).toEqual(expect.arrayContaining(['/pH', '/temperatureC']));
+  });
+});
+
+describe('GET /api/v1/tables/potentials', () => {
+  it('lists every row with its source and citation', async () => {
+    const r = await app.inject({ method: 'GET', url: '/api/v1/tables/potentials' });
+    const b = r.json();
+    expect(b.rows.length).toBeGreaterThan(20);
+    for (const row of b.rows) {
+      expect(row.source).toBeTruthy();
+      expect(row.citation.length).toBeGreaterThan(10);
+    }
+  });
+
+  it('the consistency report lists couples derivable two ways, with MnO4-/MnO2 (CRC 1.679 vs 1.696 derived) flagged', async () => {
+    const r = await app.inject({ method: 'GET', url: '/api/v1/tables/potentials/consistency' });
+    const b = r.json();
+    const e = b.entries.find((x: { rowId: string }) => x.rowId === 'crc-mno4-mno2-acid');
+    expect(e.flagged).toBe(true);
+    expect(Math.abs(e.discrepancyMV)).toBeGreaterThan(5);
+  });
+});
