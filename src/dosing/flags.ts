@@ -1,0 +1,110 @@
+/**
+ * Flags about the water and the targets: raw-water readings against limits (which limit, its
+ * source, and that local regulations govern), residual targets against the maximum residual
+ * disinfectant levels, and legal-but-unusual inputs for drinking water.
+ */
+import type { Dec as DecT } from '../core/decimal.js';
+import type { LimitRow, OxidantRow } from '../reference/dosing-schemas.js';
+import type { Flag, Severity } from './types.js';
+import { roundSigNumber } from './round.js';
+
+/** Iron above which a drinking-water source is unusual (common practice). */
+export const IRON_UNUSUAL_MG_PER_L = 20;
+/** pH below which a drinking-water source is unusual (common practice). */
+export const PH_UNUSUAL_LOW = 5;
+/** pH above which a drinking-water source is unusual (common practice). */
+export const PH_UNUSUAL_HIGH = 10;
+
+const GOVERN = 'Local regulations, permits and licensed operator practice govern.';
+
+const SEVERITY_ORDER: Record<Severity, number> = { danger: 0, warning: 1, info: 2 };
+
+/** Danger first, then warning, then info; stable within a severity; the same flag twice is kept once. */
+export function sortFlags(flags: readonly Flag[]): Flag[] {
+  const seen = new Set<string>();
+  return flags
+    .filter((f) => {
+      const k = `${f.code}|${f.message}`;
+      if (seen.has(k)) return false;
+      seen.add(k);
+      return true;
+    })
+    .map((f, i) => ({ f, i }))
+    .sort((a, b) => SEVERITY_ORDER[a.f.severity] - SEVERITY_ORDER[b.f.severity] || a.i - b.i)
+    .map((x) => x.f);
+}
+
+function limitText(l: LimitRow): string {
+  return `${l.authority} ${l.kind === 'guideline' ? 'guideline value' : l.kind} ${l.valueText} mg/L ${l.basis} (${l.citation}${l.edition && !l.citation.includes(l.edition) ? `, ${l.edition}` : ''})`;
+}
+
+/** Unusual but legal readings: a warning, not an error. */
+export function inputFlags(input: { readonly pH: number; readonly ironMgPerL: DecT | null; readonly temperatureC: number }): Flag[] {
+  const flags: Flag[] = [];
+  if (input.ironMgPerL !== null && input.ironMgPerL.greaterThan(IRON_UNUSUAL_MG_PER_L)) {
+    flags.push({
+      code: 'IRON_UNUSUALLY_HIGH',
+      severity: 'warning',
+      message: `Iron ${roundSigNumber(input.ironMgPerL.toNumber())} mg/L is above ${IRON_UNUSUAL_MG_PER_L} mg/L, unusual for a drinking-water source (common practice): check the reading and the sample; the dose and the solids load scale with it.`,
+      source: 'operator-practice',
+    });
+  }
+  if (input.pH < PH_UNUSUAL_LOW) {
+    flags.push({
+      code: 'PH_UNUSUALLY_LOW',
+      severity: 'warning',
+      message: `pH ${input.pH} is below ${PH_UNUSUAL_LOW}, unusual for drinking water (common practice): check the reading; iron and manganese oxidation are slow at low pH.`,
+      source: 'operator-practice',
+    });
+  } else if (input.pH > PH_UNUSUAL_HIGH) {
+    flags.push({
+      code: 'PH_UNUSUALLY_HIGH',
+      severity: 'warning',
+      message: `pH ${input.pH} is above ${PH_UNUSUAL_HIGH}, unusual for drinking water outside lime softening (common practice): check the reading.`,
+      source: 'operator-practice',
+    });
+  }
+  return flags;
+}
+
+/** Raw-water readings against the finished-water limits they will have to meet. */
+export function rawWaterFlags(input: { readonly readings: readonly { readonly parameter: string; readonly name: string; readonly mgPerL: DecT }[]; readonly limits: readonly LimitRow[] }): Flag[] {
+  const flags: Flag[] = [];
+  for (const r of input.readings) {
+    const v = r.mgPerL.toNumber();
+    const over = input.limits.filter((l) => l.parameter === r.parameter && v > Number(l.valueText));
+    if (over.length === 0) continue;
+    const what =
+      r.parameter === 'arsenic'
+        ? 'Oxidation turns arsenite into arsenate but removes no arsenic: a removal step (coagulation, adsorption) must follow to meet'
+        : 'Oxidation and solids removal (settling, filtration) must bring it below';
+    flags.push({
+      code: `RAW_${r.parameter.toUpperCase()}_ABOVE_LIMIT`,
+      severity: r.parameter === 'arsenic' ? 'warning' : 'info',
+      message: `Raw ${r.name} ${roundSigNumber(v)} mg/L is above ${over.map(limitText).join(' and ')}. ${what} the limit in the finished water. ${GOVERN}`,
+      source: over[0]!.source,
+    });
+  }
+  return flags;
+}
+
+/** The target residual against the maximum residual levels for this oxidant. */
+export function residualFlags(input: { readonly oxidant: OxidantRow; readonly residualMgPerL: DecT; readonly limits: readonly LimitRow[] }): Flag[] {
+  const flags: Flag[] = [];
+  const ox = input.oxidant;
+  const parameter = ox.doseBasis === 'Cl2' ? 'chlorine' : ox.doseBasis === 'ClO2' ? 'chlorine-dioxide' : null;
+  if (parameter === null) return flags;
+  for (const l of input.limits.filter((x) => x.parameter === parameter)) {
+    if (input.residualMgPerL.toNumber() > Number(l.valueText)) {
+      flags.push({
+        code: l.kind === 'MRDL' ? 'RESIDUAL_ABOVE_MRDL' : 'RESIDUAL_ABOVE_GUIDELINE',
+        severity: l.kind === 'MRDL' ? 'danger' : 'warning',
+        message: `The target residual ${input.residualMgPerL.toString()} mg/L ${l.basis} is above the ${limitText(l)}. Lower the target. ${GOVERN}`,
+        source: l.source,
+      });
+    }
+  }
+  return flags;
+}
+
+export { GOVERN as LOCAL_RULES_GOVERN };

@@ -1,0 +1,666 @@
+/**
+ * Daily dose from lab readings. `buildDosingContext` prepares, once, everything that does not
+ * change between requests (tables indexed, every oxidant × contaminant × product × medium
+ * reaction balanced and its ratio derived, product conversion factors, equilibrium constants,
+ * memos for potentials and cells); `computeDose` turns a request into the dose, its terms, the
+ * feed, feasibility, contact check, side effects, flags and cautions, with the source of every
+ * number. Pure: tables come in as arguments, nothing is read from disk.
+ */
+import { Dec, ROUNDING_RULE, type Dec as DecT } from '../core/decimal.js';
+import { DomainError } from '../core/errors.js';
+import { toBaseDec, temperatureToC, cToF, UNIT_FACTORS } from '../core/quantity.js';
+import { molarMass, parseEquation, speciesKey } from '../chemistry/formula/index.js';
+import { mediumForPH, type Medium } from '../chemistry/balance/index.js';
+import { buildLedger, type Ledger } from '../chemistry/thermo/ledger.js';
+import type { PotentialResult } from '../chemistry/thermo/derive.js';
+import type { ReferenceTables, SourceRow } from '../reference/schemas.js';
+import type { CautionRow, ContaminantRow, LimitRow, OxidantRow } from '../reference/dosing-schemas.js';
+import type { KineticsRow } from '../reference/kinetics-schema.js';
+import { equilibriumSpecFromRow, log10KAt, type EquilibriumSpec } from '../water/speciation.js';
+import type { PhysicalConstants } from '../water/constants.js';
+import { daviesA, IONIC_STRENGTH_FROM_TDS } from '../water/activity.js';
+import { caco3EquivalentWeightMgPerMeq, type AcidAdditionResult, type CarbonateConstants } from '../water/carbonate.js';
+import { conversionFactor, productPerBasis, species, stoichiometricRatio, type RatioResult } from './ratio.js';
+import { backgroundDemand, contaminantDemands, mgPerL, type DemandEntry, type DemandWork } from './demand.js';
+import { totalDose, type DoseTerm } from './dose.js';
+import { computeFeed, type FeedConversion, type FeedResult } from './feed.js';
+import { evaluateFeasibility, type FeasibilityDeps, type FeasibilityEntry } from './feasibility.js';
+import { checkContact, type ContactDeps, type ContactResult } from './contact.js';
+import { sideEffects, type SideEffects } from './side-effects.js';
+import { inputFlags, rawWaterFlags, residualFlags, sortFlags, LOCAL_RULES_GOVERN } from './flags.js';
+import { mergePlantIntoRequest, type PlantProfile } from './plant.js';
+import { checkDoseRequest, type DoseRequest } from './request.js';
+import { REPORT_SIG_FIGS, reported, type Flag, type Reported } from './types.js';
+
+export type { DoseRequest } from './request.js';
+export { DoseRequestSchema, parseDoseRequest, checkDoseRequest, OXIDANT_IDS, CONTAMINANT_FIELDS } from './request.js';
+export { PlantProfileSchema, parsePlantProfile, mergePlantIntoRequest, type PlantProfile } from './plant.js';
+export type { Flag, Reported, Severity } from './types.js';
+export { stoichiometricRatio, type RatioResult } from './ratio.js';
+export { computeFeed, type FeedResult } from './feed.js';
+export { DoseResultSchema } from './response.js';
+
+/** The tables computeDose needs (the loaded reference tables satisfy this). */
+export type DosingTables = Pick<
+  ReferenceTables,
+  'oxidants' | 'contaminants' | 'limits' | 'cautions' | 'oxygenSaturation' | 'kineticsTypical' | 'sources' | 'atomicWeights' | 'constants' | 'equilibria' | 'potentials'
+>;
+
+export interface DosingDeps {
+  /** The thermodynamic ledger (src/chemistry/thermo/ledger.ts); built from the tables when omitted. */
+  readonly ledger?: Ledger;
+  /** Equilibria rows the context uses, by role (defaults: the ids of tables/equilibria.json). */
+  readonly equilibriumIds?: Partial<Record<'kw' | 'k1' | 'k2' | 'o2Henry', string>>;
+  /** Entries kept in the cell memo (feasibility at the same inputs); default 512. */
+  readonly cellMemoSize?: number;
+  /**
+   * Entries kept in the result memo: computeDose is a pure function of (request, plant) for a
+   * given context, so an identical request is answered from the memo (the same frozen object).
+   * Default 256; 0 turns it off.
+   */
+  readonly resultMemoSize?: number;
+}
+
+export interface DosingContext {
+  readonly oxidants: ReadonlyMap<string, OxidantRow>;
+  readonly contaminants: readonly ContaminantRow[];
+  readonly limits: readonly LimitRow[];
+  readonly cautions: ReadonlyMap<string, CautionRow>;
+  readonly sources: ReadonlyMap<string, SourceRow>;
+  readonly atomicWeights: ReadonlyMap<string, string>;
+  readonly atomicWeightSource: string;
+  readonly constants: PhysicalConstants;
+  readonly ledger: Ledger;
+  /** Derived once: `${oxidant}|${contaminant}|${product}|${medium}` → ratio (or the error balancing gave). */
+  readonly ratios: ReadonlyMap<string, RatioResult | DomainError>;
+  readonly conversions: ReadonlyMap<string, FeedConversion>;
+  readonly feasibilityDeps: FeasibilityDeps;
+  readonly contactDeps: ContactDeps;
+  /** Internal helpers, precomputed per oxidant. */
+  readonly perOxidant: ReadonlyMap<string, { basisMolarMass: DecT; activePerBasis: number; hydrolysisH: number; solidReduced: { formula: string; mol: number } | null }>;
+  readonly caco3MgPerMeq: number;
+  readonly molarMassOf: (formula: string) => DecT;
+  readonly carbonateConstantsAt: (temperatureC: number) => CarbonateConstants;
+  readonly pKaAt: (equilibriumId: string, temperatureC: number) => number;
+  readonly o2SaturationAt: (temperatureC: number) => number;
+  /** Source id → full citation text. */
+  readonly citations: ReadonlyMap<string, string>;
+  /** Per oxidant: caution texts and rows (its own, the standing note, its storage note). */
+  readonly cautionsByOxidant: ReadonlyMap<string, { readonly texts: readonly string[]; readonly details: DoseResult['cautionDetails'] }>;
+  readonly carbonateMemo: Map<string, AcidAdditionResult>;
+  readonly resultMemo: Map<string, DoseResult>;
+  readonly resultMemoSize: number;
+}
+
+const ratioKey = (o: string, c: string, p: string, m: Medium): string => `${o}|${c}|${p}|${m}`;
+const MGD_M3 = Number(UNIT_FACTORS.flow.MGD);
+const GPM_M3_PER_D = Number(UNIT_FACTORS.flow.gpm);
+
+function constantsFrom(tables: Pick<ReferenceTables, 'constants'>): PhysicalConstants {
+  const get = (id: string) => {
+    const row = tables.constants.find((r) => r.id === id);
+    if (!row) throw new DomainError('TABLE_ROW_NOT_FOUND', { detail: `tables/constants.json has no row "${id}"; add it with its source.`, params: { table: 'constants', id } });
+    return { value: Number(row.value), source: row.source };
+  };
+  return { gasConstant: get('R'), faraday: get('F'), zeroCelsiusK: get('T0') };
+}
+
+/** Small bounded memo of a function of the temperature. */
+function memoT<T>(f: (t: number) => T, limit = 256): (t: number) => T {
+  const m = new Map<number, T>();
+  return (t: number) => {
+    let v = m.get(t);
+    if (v === undefined) {
+      v = f(t);
+      if (m.size >= limit) m.delete(m.keys().next().value as number);
+      m.set(t, v);
+    }
+    return v;
+  };
+}
+
+/** Build once from the tables; reuse for every request. */
+export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}): DosingContext {
+  const atomicWeights = new Map(tables.atomicWeights.map((r) => [r.symbol, r.atomicWeight]));
+  const atomicWeightSource = tables.atomicWeights[0]?.source ?? 'atomic-weights';
+  const constants = constantsFrom(tables);
+  const ledger = deps.ledger ?? buildLedger(tables);
+  const oxidants = new Map(tables.oxidants.map((o) => [o.id, o]));
+  const molarMemo = new Map<string, DecT>();
+  const molarMassOf = (formula: string): DecT => {
+    let m = molarMemo.get(formula);
+    if (!m) {
+      m = molarMass(species(formula), atomicWeights);
+      molarMemo.set(formula, m);
+    }
+    return m;
+  };
+
+  // every pair, balanced and derived once
+  const ratios = new Map<string, RatioResult | DomainError>();
+  for (const ox of tables.oxidants) {
+    for (const ct of tables.contaminants) {
+      for (const p of ct.products) {
+        for (const medium of ['acid', 'base'] as const) {
+          try {
+            ratios.set(ratioKey(ox.id, ct.id, p.id, medium), stoichiometricRatio({ oxidant: ox, contaminant: ct, productId: p.id, medium, atomicWeights, atomicWeightSource }));
+          } catch (e) {
+            if (e instanceof DomainError) ratios.set(ratioKey(ox.id, ct.id, p.id, medium), e);
+            else throw e;
+          }
+        }
+      }
+    }
+  }
+  const conversions = new Map<string, FeedConversion>();
+  const perOxidant = new Map<string, { basisMolarMass: DecT; activePerBasis: number; hydrolysisH: number; solidReduced: { formula: string; mol: number } | null }>();
+  for (const ox of tables.oxidants) {
+    const c = productPerBasis(ox, atomicWeights);
+    conversions.set(ox.id, { basisFormula: ox.doseBasis, productFormula: ox.productFormula, productPerBasis: c.factor, derivation: c.derivation });
+    const active = species(ox.activeSpecies);
+    const reduced = species(ox.reducedProduct);
+    const basisPerActive = conversionFactor(ox.basisRule, active, reduced, species(ox.doseBasis), 'acid', `oxidants.json row ${ox.id}`);
+    let hydrolysisH = 0;
+    if (ox.hydrolysis) {
+      const eq = parseEquation(ox.hydrolysis.equation);
+      const hKey = speciesKey(species('H+'));
+      const aKey = speciesKey(active);
+      let h = 0;
+      let a = 0;
+      for (const t of eq.products) if (speciesKey(t.species) === hKey) h += t.coefficient.toNumber();
+      for (const t of eq.reactants) if (speciesKey(t.species) === hKey) h -= t.coefficient.toNumber();
+      for (const t of eq.reactants) if (speciesKey(t.species) === aKey) a += t.coefficient.toNumber();
+      hydrolysisH = a > 0 ? h / a : 0;
+    }
+    let solidReduced: { formula: string; mol: number } | null = null;
+    if (reduced.phase === 's' && ox.basisRule.kind === 'element') {
+      const el = ox.basisRule.element;
+      solidReduced = { formula: ox.reducedProduct, mol: (active.composition[el] ?? 0) / (reduced.composition[el] ?? 1) };
+    }
+    perOxidant.set(ox.id, { basisMolarMass: molarMassOf(ox.doseBasis), activePerBasis: 1 / basisPerActive.toNumber(), hydrolysisH, solidReduced });
+  }
+
+  // equilibrium constants at temperature
+  const eqRows = new Map(tables.equilibria.map((r) => [r.id, r]));
+  const ids = { kw: 'harned-owen-kw', k1: 'pb-co2-k1', k2: 'pb-co2-k2', o2Henry: 'phreeqc-o2-henry', ...(deps.equilibriumIds ?? {}) };
+  const specs = new Map<string, EquilibriumSpec>();
+  const specOf = (id: string): EquilibriumSpec => {
+    let s = specs.get(id);
+    if (!s) {
+      const row = eqRows.get(id);
+      if (!row) throw new DomainError('TABLE_ROW_NOT_FOUND', { detail: `tables/equilibria.json has no row "${id}", which the dosing context needs.`, params: { table: 'equilibria', id } });
+      s = equilibriumSpecFromRow(row);
+      specs.set(id, s);
+    }
+    return s;
+  };
+  const hKey = speciesKey(species('H+'));
+  const acidSign = new Map<string, number>();
+  const pKaMemo = new Map<string, number>();
+  const pKaAt = (id: string, t: number): number => {
+    const k = `${id}|${t}`;
+    let v = pKaMemo.get(k);
+    if (v === undefined) {
+      let sign = acidSign.get(id);
+      if (sign === undefined) {
+        const eq = parseEquation(eqRows.get(id)?.reaction ?? '');
+        sign = eq.products.some((x) => speciesKey(x.species) === hKey) ? -1 : 1;
+        acidSign.set(id, sign);
+      }
+      v = sign * log10KAt(t, specOf(id), constants).log10K;
+      if (pKaMemo.size > 4096) pKaMemo.clear();
+      pKaMemo.set(k, v);
+    }
+    return v;
+  };
+  const kwAt = memoT((t) => log10KAt(t, specOf(ids.kw), constants).K);
+  const o2HenryAt = memoT((t) => log10KAt(t, specOf(ids.o2Henry), constants).K);
+  const carbonateConstantsAt = memoT((t) => ({ K1: log10KAt(t, specOf(ids.k1), constants).K, K2: log10KAt(t, specOf(ids.k2), constants).K, Kw: kwAt(t) }));
+  const satPoints = tables.oxygenSaturation
+    .filter((r): r is Extract<typeof r, { kind: 'point' }> => r.kind === 'point')
+    .map((r) => ({ t: Number(r.temperatureC), c: Number(r.valueText) }))
+    .sort((a, b) => a.t - b.t);
+  const o2SaturationAt = (t: number): number => {
+    if (satPoints.length === 0) throw new DomainError('TABLE_INVALID', { detail: 'tables/oxygen-saturation.json has no points.' });
+    if (t <= satPoints[0]!.t) return satPoints[0]!.c;
+    for (let i = 1; i < satPoints.length; i++) {
+      const a = satPoints[i - 1]!;
+      const b = satPoints[i]!;
+      if (t <= b.t) return a.c + ((b.c - a.c) * (t - a.t)) / (b.t - a.t);
+    }
+    return satPoints[satPoints.length - 1]!.c;
+  };
+  const o2Molar = molarMassOf('O2').toNumber();
+  const pO2AirAtm = memoT((t) => o2SaturationAt(t) / 1000 / o2Molar / o2HenryAt(t));
+  const daviesAAt = memoT((t) => daviesA(t, constants).A);
+
+  const feasibilityDeps: FeasibilityDeps = {
+    ledger,
+    constants,
+    pKaAt,
+    kwAt,
+    pO2AirAtm,
+    daviesAAt,
+    molarMass: molarMassOf,
+    potentialMemo: new Map<string, PotentialResult>(),
+    cellMemo: new Map<string, FeasibilityEntry>(),
+    cellMemoLimit: deps.cellMemoSize ?? 512,
+  };
+  const contactDeps: ContactDeps = {
+    kinetics: tables.kineticsTypical as readonly KineticsRow[],
+    constants,
+    kwAt,
+    o2HenryAt,
+    o2MolarMass: o2Molar,
+    o2SaturationAt,
+  };
+  const cautionMap = new Map(tables.cautions.map((c) => [c.id, c]));
+  const cautionsByOxidant = new Map<string, { texts: string[]; details: DoseResult['cautionDetails'] }>();
+  for (const ox of tables.oxidants) {
+    const rows = [...ox.cautions.map((id) => cautionMap.get(id)).filter((c): c is CautionRow => c !== undefined), ...tables.cautions.filter((c) => c.standing)];
+    const details: { id: string; category: CautionRow['category']; text: string; source: string }[] = rows.map((c) => ({ id: c.id, category: c.category, text: c.text, source: c.source }));
+    if (ox.storage) details.push({ id: `${ox.id}-storage`, category: 'hazard', text: ox.storage.text, source: ox.storage.source });
+    cautionsByOxidant.set(ox.id, { texts: details.map((d) => d.text), details });
+  }
+  return {
+    citations: new Map(tables.sources.map((s) => [s.id, citation(s)])),
+    carbonateMemo: new Map<string, AcidAdditionResult>(),
+    resultMemo: new Map<string, DoseResult>(),
+    resultMemoSize: deps.resultMemoSize ?? 256,
+    cautionsByOxidant,
+    oxidants,
+    contaminants: tables.contaminants,
+    limits: tables.limits,
+    cautions: cautionMap,
+    sources: new Map(tables.sources.map((s) => [s.id, s])),
+    atomicWeights,
+    atomicWeightSource,
+    constants,
+    ledger,
+    ratios,
+    conversions,
+    feasibilityDeps,
+    contactDeps,
+    perOxidant,
+    caco3MgPerMeq: caco3EquivalentWeightMgPerMeq(atomicWeights).value,
+    molarMassOf,
+    carbonateConstantsAt,
+    pKaAt,
+    o2SaturationAt,
+  };
+}
+
+/** The derived ratio for a pair from the context's memo (throws what balancing threw). */
+export function ratioFor(context: DosingContext, oxidantId: string, contaminantId: string, productId: string, medium: Medium): RatioResult {
+  const r = context.ratios.get(ratioKey(oxidantId, contaminantId, productId, medium));
+  if (r === undefined) {
+    throw new DomainError('CONTAMINANT_UNKNOWN', { detail: `No reaction is known for ${oxidantId} with ${contaminantId} → ${productId}.`, fields: [{ pointer: '/oxidant', message: 'no reaction for this pair' }] });
+  }
+  if (r instanceof DomainError) throw r;
+  return r;
+}
+
+// ---------------------------------------------------------------- result
+
+export interface TraceItem {
+  readonly quantity: string;
+  readonly value: string;
+  readonly how: string;
+  readonly sources: readonly string[];
+}
+
+/** The full answer of computeDose (POST /api/v1/doses). */
+export interface DoseResult {
+  readonly oxidant: { readonly id: string; readonly name: string; readonly form: OxidantRow['form']; readonly basis: string; readonly productFormula: string; readonly activeSpecies: string; readonly reducedProduct: string; readonly source: string };
+  readonly plant: { readonly id: string; readonly name: string; readonly invented: boolean; readonly preferredUnits: 'SI' | 'US'; readonly fromPlant: readonly string[] } | null;
+  readonly dose: Reported & { readonly basis: string };
+  readonly terms: readonly DoseTerm[];
+  readonly demand: readonly DemandEntry[];
+  readonly feed: FeedResult | null;
+  readonly feasibility: readonly FeasibilityEntry[];
+  readonly contact: ContactResult;
+  readonly sideEffects: SideEffects;
+  readonly flags: readonly Flag[];
+  readonly cautions: readonly string[];
+  readonly cautionDetails: readonly { readonly id: string; readonly category: CautionRow['category']; readonly text: string; readonly source: string }[];
+  readonly conditions: { readonly pH: number; readonly temperatureC: number; readonly temperatureF: number; readonly medium: Medium; readonly mediumReason: string; readonly ionicStrengthMolPerL: number; readonly ionicStrengthFrom: string };
+  readonly units: {
+    readonly preferred: 'SI' | 'US';
+    readonly flow: { readonly si: Reported; readonly siHourly: Reported; readonly us: Reported; readonly usGpm: Reported } | null;
+    readonly temperature: { readonly si: Reported; readonly us: Reported };
+    readonly dose: { readonly si: Reported; readonly us: Reported };
+    readonly massRate: { readonly si: Reported; readonly us: Reported } | null;
+    readonly solutionRate: { readonly si: Reported; readonly us: Reported; readonly mLPerMin: Reported } | null;
+  };
+  readonly rounding: { readonly rule: string; readonly significantFigures: number; readonly note: string };
+  readonly traceability: readonly TraceItem[];
+  readonly sources: readonly { readonly id: string; readonly citation: string }[];
+  readonly notes: readonly string[];
+}
+
+function citation(s: SourceRow): string {
+  return `${s.author} (${s.year}). ${s.title}. ${s.publication}${s.edition ? `, ${s.edition}` : ''}. ${s.tableOrEquation}.${s.access === 'memory' ? ' [values recalled from memory; verify]' : ''}`;
+}
+
+export interface ComputeDoseOptions {
+  /** The stored profile named by request.plantId (the caller looks it up). */
+  readonly plant?: PlantProfile;
+}
+
+function deepFreeze<T>(x: T): T {
+  if (x !== null && typeof x === 'object' && !Object.isFrozen(x)) {
+    Object.freeze(x);
+    for (const v of Object.values(x as Record<string, unknown>)) deepFreeze(v);
+  }
+  return x;
+}
+
+/**
+ * Turn a (validated) dose request into the full answer. Throws DomainError with pointers into
+ * the request. The answer is frozen; an identical (request, plant) is answered from the
+ * context's result memo.
+ */
+export function computeDose(request: DoseRequest, context: DosingContext, options: ComputeDoseOptions = {}): DoseResult {
+  if (context.resultMemoSize <= 0) return computeDoseUncached(request, context, options);
+  const key = options.plant ? JSON.stringify([request, options.plant]) : JSON.stringify(request);
+  const memo = context.resultMemo;
+  const hit = memo.get(key);
+  if (hit) {
+    // keep recently used entries at the end (LRU)
+    memo.delete(key);
+    memo.set(key, hit);
+    return hit;
+  }
+  const result = deepFreeze(computeDoseUncached(request, context, options));
+  if (memo.size >= context.resultMemoSize) memo.delete(memo.keys().next().value as string);
+  memo.set(key, result);
+  return result;
+}
+
+/** computeDose without the result memo (every step computed; the pair, potential and cell memos still apply). */
+export function computeDoseUncached(request: DoseRequest, context: DosingContext, options: ComputeDoseOptions = {}): DoseResult {
+  let req = request;
+  let plantInfo: DoseResult['plant'] = null;
+  if (req.plantId !== undefined) {
+    if (!options.plant || options.plant.id !== req.plantId) {
+      throw new DomainError('PLANT_NOT_FOUND', {
+        detail: `No plant profile "${req.plantId}"; list the stored profiles with GET /api/v1/plants or send flow and product in the request.`,
+        fields: [{ pointer: '/plantId', message: `no plant profile "${req.plantId}"` }],
+        params: { plantId: req.plantId },
+      });
+    }
+    const m = mergePlantIntoRequest(req, options.plant);
+    req = m.request;
+    plantInfo = { ...m.plant, fromPlant: m.fromPlant };
+  }
+  checkDoseRequest(req);
+  const ox = context.oxidants.get(req.oxidant);
+  if (!ox) {
+    throw new DomainError('OXIDANT_UNKNOWN', {
+      detail: `Unknown oxidant "${req.oxidant}"; accepted: ${[...context.oxidants.keys()].join(', ')}.`,
+      fields: [{ pointer: '/oxidant', message: `accepted: ${[...context.oxidants.keys()].join(', ')}` }],
+    });
+  }
+  const per = context.perOxidant.get(ox.id)!;
+  const flags: Flag[] = [];
+  const notes: string[] = [];
+  const s = req.sample;
+  const pH = s.pH;
+  const temperatureC = s.temperatureC ?? temperatureToC(s.temperature!, '/sample/temperature');
+  const medium: Medium = req.options?.medium ?? mediumForPH(pH);
+  const mediumReason = req.options?.medium ? `medium ${medium} chosen by the request` : `medium from the pH: ${medium === 'base' ? 'basic (OH-)' : 'acidic (H+)'} because pH ${pH} ${medium === 'base' ? '>' : '≤'} 7`;
+
+  // demand
+  const demands: DemandWork[] = contaminantDemands({
+    oxidant: ox,
+    sample: s,
+    contaminants: context.contaminants,
+    medium,
+    options: req.options,
+    ratio: (o, c, p, m) => ratioFor(context, o, c, p, m),
+    flags,
+  });
+  const bg = backgroundDemand({ background: req.backgroundDemand, sample: s, oxidant: ox, flags });
+  let residual = new Dec(0);
+  let residualReason = 'No target residual given: 0 mg/L.';
+  let residualSource = 'input';
+  if (req.targetResidual) {
+    residual = mgPerL(req.targetResidual, '/targetResidual');
+    residualReason = `Target residual ${residual.toString()} mg/L as ${ox.doseBasis} after contact${plantInfo?.fromPlant.includes('targetResidual') ? ' (from the plant profile)' : ''}.`;
+    residualSource = plantInfo?.fromPlant.includes('targetResidual') ? 'plant profile' : 'input';
+  } else if (ox.doseBasis === 'Cl2' || ox.doseBasis === 'ClO2') {
+    flags.push({ code: 'NO_TARGET_RESIDUAL', severity: 'info', message: `No target residual was given, so the dose only meets the demand; give targetResidual (mg/L as ${ox.doseBasis}) if a residual must remain after contact.`, source: 'input' });
+  }
+  const total = totalDose({ oxidant: ox, demands, background: bg, residualMgPerL: residual, residualReason, residualSource });
+  if (total.doseMgPerL.isZero()) {
+    flags.push({ code: 'DOSE_ZERO', severity: 'info', message: 'The dose is zero: no contaminant, background demand or residual was given.', source: 'input' });
+  }
+
+  // conditions
+  let ionicStrength = 0;
+  let ionicStrengthFrom = 'no TDS given: activity coefficients taken as 1';
+  if (s.tds) {
+    const tds = mgPerL(s.tds, '/sample/tds').toNumber();
+    ionicStrength = Number(IONIC_STRENGTH_FROM_TDS.coefficients['k']) * tds;
+    ionicStrengthFrom = `${IONIC_STRENGTH_FROM_TDS.equation} with TDS ${tds} mg/L (${IONIC_STRENGTH_FROM_TDS.citation})`;
+  }
+
+  // flags on the inputs and limits
+  const ironQ = s.iron ? mgPerL(s.iron, '/sample/iron') : null;
+  flags.push(...inputFlags({ pH, ironMgPerL: ironQ, temperatureC }));
+  const readings: { parameter: string; name: string; mgPerL: DecT }[] = [];
+  if (ironQ) readings.push({ parameter: 'iron', name: 'iron', mgPerL: ironQ });
+  if (s.manganese) readings.push({ parameter: 'manganese', name: 'manganese', mgPerL: mgPerL(s.manganese, '/sample/manganese') });
+  if (s.arsenite) readings.push({ parameter: 'arsenic', name: 'arsenic(III)', mgPerL: mgPerL(s.arsenite, '/sample/arsenite') });
+  flags.push(...rawWaterFlags({ readings, limits: context.limits }));
+  flags.push(...residualFlags({ oxidant: ox, residualMgPerL: residual, limits: context.limits }));
+
+  // feed
+  let feed: FeedResult | null = null;
+  let flowM3PerD: DecT | null = null;
+  if (req.flow) {
+    flowM3PerD = toBaseDec('flow', req.flow, '/flow');
+    feed = computeFeed({
+      oxidant: ox,
+      doseMgPerL: total.doseMgPerL,
+      flowM3PerD,
+      conversion: context.conversions.get(ox.id)!,
+      product: req.product,
+      pump: req.pump,
+      stock: req.stock,
+      batch: req.batch,
+      temperatureC,
+    });
+    flags.push(...feed.flags);
+  } else {
+    flags.push({ code: 'FLOW_NOT_GIVEN', severity: 'info', message: 'No flow was given, so no feed rate: give flow {value, unit} or a plantId.', source: 'input' });
+  }
+
+  // feasibility
+  const feasibility: FeasibilityEntry[] = [];
+  if (total.doseMgPerL.greaterThan(0)) {
+    const oxidantMolPerL = total.doseMgPerL.dividedBy(per.basisMolarMass).toNumber() / 1000 * per.activePerBasis;
+    for (const d of demands) {
+      const ct = d.contaminantRow;
+      const sp = species(ct.species);
+      const count = sp.composition[ct.elementBasis] ?? 1;
+      const contaminantMolPerL = d.concentrationMgPerL.dividedBy(context.molarMassOf(ct.elementBasis)).toNumber() / 1000 / count;
+      try {
+        feasibility.push(
+          evaluateFeasibility(
+            {
+              oxidant: ox,
+              contaminant: ct,
+              productFormula: d.entry.product.formula,
+              reaction: d.entry.reaction,
+              medium,
+              pH,
+              temperatureC,
+              oxidantMolPerL,
+              contaminantMolPerL,
+              ionicStrengthMolPerL: ionicStrength,
+              ionicStrengthFrom,
+              overrides: req.options?.potentialOverrides,
+            },
+            context.feasibilityDeps,
+            flags,
+          ),
+        );
+      } catch (e) {
+        if (!(e instanceof DomainError)) throw e;
+        notes.push(`Feasibility of ${ox.name} with ${ct.name.toLowerCase()} not evaluated: ${e.detail}`);
+        flags.push({ code: 'FEASIBILITY_NOT_EVALUATED', severity: 'info', message: `Feasibility of ${ox.name} with ${ct.name.toLowerCase()} could not be evaluated: ${e.detail}`, source: ox.source });
+      }
+    }
+  }
+
+  // contact
+  let availableMinutes: number | null = null;
+  let availableFrom: ContactResult['availableFrom'] = 'not given';
+  if (req.contactTime) {
+    availableMinutes = toBaseDec('time', req.contactTime, '/contactTime').toNumber();
+    availableFrom = 'given';
+  } else if (req.contactVolume && flowM3PerD) {
+    const m3 = toBaseDec('volume', req.contactVolume, '/contactVolume').dividedBy(1000);
+    availableMinutes = m3.dividedBy(flowM3PerD).times(1440).toNumber();
+    availableFrom = 'contact volume ÷ flow';
+  }
+  const limitById = (id: string | undefined) => (id === undefined ? undefined : context.limits.find((l) => l.id === id));
+  const doMeasured = s.dissolvedOxygen;
+  const contact = checkContact(
+    {
+      oxidant: ox,
+      contaminants: demands.map((d) => {
+        const l = limitById(d.contaminantRow.finishedTarget);
+        return { row: d.contaminantRow, mgPerL: d.concentrationMgPerL, targetMgPerL: l ? Number(l.valueText) : null, targetSource: l ? `${l.citation} ${l.kind}` : null };
+      }),
+      pH,
+      temperatureC,
+      availableMinutes,
+      availableFrom,
+      dissolvedOxygenMgPerL: doMeasured ? toBaseDec('concentration', doMeasured, '/sample/dissolvedOxygen').toNumber() : undefined,
+    },
+    context.contactDeps,
+    flags,
+  );
+
+  // side effects
+  const fx = sideEffects({
+    oxidant: ox,
+    demands,
+    doseMgPerL: total.doseMgPerL,
+    residualMgPerL: residual,
+    backgroundMgPerL: total.backgroundMgPerL,
+    pH,
+    temperatureC,
+    alkalinityMgPerLAsCaCO3: s.alkalinity ? mgPerL(s.alkalinity, '/sample/alkalinity').toNumber() : null,
+    bromideMgPerL: s.bromide ? mgPerL(s.bromide, '/sample/bromide').toNumber() : null,
+    tocMgPerL: s.toc ? mgPerL(s.toc, '/sample/toc').toNumber() : null,
+    chloriteFraction: req.options?.chloriteFraction ?? null,
+    limits: context.limits,
+    deps: {
+      caco3MgPerMeq: context.caco3MgPerMeq,
+      basisMolarMass: (o) => context.perOxidant.get(o.id)!.basisMolarMass,
+      molarMass: context.molarMassOf,
+      activePerBasis: (o) => context.perOxidant.get(o.id)!.activePerBasis,
+      hydrolysisHPerMol: (o) => context.perOxidant.get(o.id)!.hydrolysisH,
+      hoclFraction: (o, ph, t) => (o.speciation ? 1 / (1 + Math.pow(10, ph - context.pKaAt(o.speciation.equilibrium, t))) : null),
+      solidReducedPerActive: (o) => context.perOxidant.get(o.id)!.solidReduced,
+      carbonateConstantsAt: context.carbonateConstantsAt,
+      carbonateMemo: context.carbonateMemo,
+    },
+    flags,
+  });
+
+  // aeration cannot exceed saturation
+  if (ox.id === 'oxygen' && total.doseMgPerL.greaterThan(0)) {
+    const sat = context.o2SaturationAt(temperatureC);
+    if (total.doseMgPerL.greaterThan(sat)) {
+      flags.push({
+        code: 'OXYGEN_ABOVE_SATURATION',
+        severity: 'danger',
+        message: `The oxygen needed, ${total.doseMgPerL.toSignificantDigits(3).toString()} mg/L, is more than air-saturated water holds at ${temperatureC} °C (${sat.toFixed(2)} mg/L): aeration alone cannot supply it in one pass. Use a chemical oxidant or pure oxygen.`,
+        source: 'std-methods-4500-o',
+      });
+    }
+  }
+
+  // cautions (prepared per oxidant in the context)
+  const pc = context.cautionsByOxidant.get(ox.id)!;
+  const cautions = pc.texts;
+  const cautionDetails = pc.details;
+
+  // units echo
+  const preferred = req.options?.units ?? 'SI';
+  const flowNum = flowM3PerD ? flowM3PerD.toNumber() : null;
+  const doseNum = total.dose.value;
+  const units: DoseResult['units'] = {
+    preferred,
+    flow:
+      flowNum !== null
+        ? {
+            si: reported(flowNum, 'm3/d'),
+            siHourly: reported(flowNum / 24, 'm3/h'),
+            us: reported(flowNum / MGD_M3, 'MGD'),
+            usGpm: reported(flowNum / GPM_M3_PER_D, 'gpm'),
+          }
+        : null,
+    temperature: { si: reported(temperatureC, '°C'), us: reported(cToF(temperatureC), '°F') },
+    dose: { si: reported(doseNum, `mg/L as ${ox.doseBasis}`), us: reported(doseNum, `ppm (mg/L) as ${ox.doseBasis}`) },
+    massRate: feed ? { si: feed.massRate, us: feed.massRateUS } : null,
+    solutionRate: feed?.solutionRate && feed.solutionRateGalPerD && feed.solutionRateMLPerMin ? { si: feed.solutionRate, us: feed.solutionRateGalPerD, mLPerMin: feed.solutionRateMLPerMin } : null,
+  };
+
+  // traceability
+  const trace: TraceItem[] = [];
+  trace.push({ quantity: 'dose', value: `${total.dose.rounded} mg/L as ${ox.doseBasis}`, how: 'Σ contaminant demand + background demand + target residual (see terms)', sources: [...new Set(total.terms.map((t) => t.source))] });
+  for (const d of demands) {
+    trace.push({ quantity: `ratio ${d.entry.contaminant}`, value: `${d.entry.ratioRounded} ${d.entry.ratioUnit}`, how: d.entry.provenance.join(' '), sources: [context.atomicWeightSource, d.entry.source] });
+  }
+  if (feed) {
+    trace.push({ quantity: 'feed.massRate', value: `${feed.massRate.rounded} kg/d ${feed.massRate.basis}`, how: 'dose (mg/L = g/m³) × flow (m³/d) ÷ 1000; lb/d from the exact pound 0.45359237 kg', sources: ['nist-sp811-2008'] });
+    trace.push({ quantity: 'feed.compoundMassRate', value: `${feed.compoundMassRate.rounded} kg/d ${feed.compoundMassRate.formula}`, how: feed.compoundMassRate.derivation, sources: [context.atomicWeightSource] });
+    if (feed.solutionRate && feed.strength) trace.push({ quantity: 'feed.solutionRate', value: `${feed.solutionRate.rounded} L/h`, how: `mass rate ÷ strength (${feed.strength.text}) ÷ 24 h/d${feed.strength.density ? `; density ${feed.strength.density.value} kg/L (${feed.strength.density.note})` : ''}`, sources: [ox.source] });
+  }
+  trace.push({ quantity: 'sideEffects.alkalinityConsumed', value: `${fx.alkalinityConsumed.rounded} mg/L as CaCO3`, how: fx.alkalinityTerms.map((t) => `${t.what}: ${t.meqPerL.toPrecision(3)} meq/L (${t.how})`).join('; ') + ` × ${context.caco3MgPerMeq.toFixed(3)} mg CaCO3/meq`, sources: [context.atomicWeightSource] });
+  for (const f of feasibility) {
+    trace.push({ quantity: `feasibility ${f.contaminant}`, value: `${f.cellPotentialV.toFixed(3)} V`, how: `E(${f.oxidantCouple.halfReaction}) − E(${f.contaminantCouple.halfReaction}) by Nernst at pH ${pH}, ${temperatureC} °C`, sources: [...new Set([...f.oxidantCouple.derivation, ...f.contaminantCouple.derivation].map((x) => x.source))] });
+  }
+
+  // sources cited anywhere in the answer
+  const ids = new Set<string>();
+  const addId = (x: string | null | undefined) => {
+    if (x && context.sources.has(x)) ids.add(x);
+  };
+  addId(ox.source);
+  addId(context.atomicWeightSource);
+  for (const f of flags) addId(f.source);
+  for (const t of total.terms) addId(t.source);
+  for (const t of trace) t.sources.forEach(addId);
+  for (const c of cautionDetails) addId(c.source);
+  for (const c of contact.entries) addId(c.source);
+  for (const b of fx.byproducts) addId(b.source);
+  const sources = [...ids].map((id) => ({ id, citation: context.citations.get(id)! }));
+
+  notes.push(LOCAL_RULES_GOVERN);
+  return {
+    oxidant: { id: ox.id, name: ox.name, form: ox.form, basis: `as ${ox.doseBasis}`, productFormula: ox.productFormula, activeSpecies: ox.activeSpecies, reducedProduct: ox.reducedProduct, source: ox.source },
+    plant: plantInfo,
+    dose: total.dose,
+    terms: total.terms,
+    demand: demands.map((d) => d.entry),
+    feed,
+    feasibility,
+    contact,
+    sideEffects: fx,
+    flags: sortFlags(flags),
+    cautions,
+    cautionDetails,
+    conditions: { pH, temperatureC, temperatureF: cToF(temperatureC), medium, mediumReason, ionicStrengthMolPerL: ionicStrength, ionicStrengthFrom },
+    units,
+    rounding: { rule: ROUNDING_RULE, significantFigures: REPORT_SIG_FIGS, note: `Each reported number has "value" (full, unrounded) and "rounded" (${REPORT_SIG_FIGS} significant figures, round half to even).` },
+    traceability: trace,
+    sources,
+    notes,
+  };
+}

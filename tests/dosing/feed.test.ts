@@ -1,0 +1,137 @@
+/**
+ * Feed arithmetic (src/dosing/feed.ts), computed by hand below. Conversion factors are the exact
+ * definitions of NIST SP 811 (2008) appendix B: 1 US gal = 3.785411784 L, 1 lb = 0.45359237 kg.
+ */
+import { describe, expect, it } from 'vitest';
+import { Dec } from '../../src/core/decimal.js';
+import { computeFeed, LB_PER_MG_L_MG_EXACT, type FeedInput } from '../../src/dosing/feed.js';
+import { context, oxidant } from './fixture.js';
+
+const feed = (o: string, doseMgPerL: number, flowM3PerD: number, extra: Partial<FeedInput> = {}) =>
+  computeFeed({
+    oxidant: oxidant(o),
+    doseMgPerL: new Dec(doseMgPerL),
+    flowM3PerD: new Dec(flowM3PerD),
+    conversion: context.conversions.get(o)!,
+    temperatureC: 12,
+    ...extra,
+  });
+
+describe('pounds formula', () => {
+  it('the exact factor is 3.785411784 / 0.45359237 = 8.345404452 lb per (mg/L · MG); 8.34 is the conventional one', () => {
+    expect(LB_PER_MG_L_MG_EXACT.toSignificantDigits(10).toString()).toBe('8.345404452');
+  });
+});
+
+describe('sodium hypochlorite, 2.0 mg/L as Cl2 at 4000 m3/d, 12.5 trade % (% w/v), 1.17 kg/L, 10 L/h pump, 2000 L stock', () => {
+  const r = feed('sodium-hypochlorite', 2.0, 4000, {
+    product: { strength: { value: 12.5, unit: '% w/v' }, density: { value: 1.17, unit: 'kg/L' } },
+    pump: { ratedCapacity: { value: 10, unit: 'L/h' } },
+    stock: { value: 2000, unit: 'L' },
+  });
+  it('mass rate: 2.0 g/m3 × 4000 m3/d = 8000 g/d = 8.00 kg/d as Cl2; 8.0 / 0.45359237 = 17.637 lb/d', () => {
+    expect(r.massRate.value).toBe(8);
+    expect(r.massRate.basis).toBe('as Cl2');
+    expect(r.massRateUS.value).toBeCloseTo(8 / 0.45359237, 12);
+    expect(r.massRateUS.rounded).toBe('17.6');
+  });
+  it('conventional formula: 2.0 × (4000 / 3785.411784 MGD) × 8.34 = 17.626 lb/d (0.07 % below the exact figure)', () => {
+    expect(r.poundsFormula.conventionalLbPerD.value).toBeCloseTo(2 * (4000 / 3785.411784) * 8.34, 10);
+  });
+  it('NaOCl fed: 8.0 kg/d × 74.439 / 70.90 = 8.399 kg/d (one Cl per NaOCl)', () => {
+    expect(r.compoundMassRate.value).toBeCloseTo((8 * (22.99 + 15.999 + 35.45)) / 70.9, 10);
+    expect(r.compoundMassRate.rounded).toBe('8.4');
+  });
+  it('solution: 125 g/L available chlorine; 8000 g/d ÷ 125 g/L = 64 L/d = 2.667 L/h = 44.44 mL/min = 16.91 gal/d', () => {
+    expect(r.strength!.gramsPerL.value).toBe(125);
+    expect(r.solutionRate!.value).toBeCloseTo(64 / 24, 12);
+    expect(r.solutionRate!.rounded).toBe('2.67');
+    expect(r.solutionRateMLPerMin!.rounded).toBe('44.4');
+    expect(r.solutionRateGalPerD!.value).toBeCloseTo(64 / 3.785411784, 10);
+  });
+  it('pump at 2.667 / 10 = 26.7 % of rated capacity; 64 L/d × 1.17 = 74.88 kg/d of solution; 2000 L ÷ 64 L/d = 31.25 d → "31.2" (half to even)', () => {
+    expect(r.pump!.settingPercent.rounded).toBe('26.7');
+    expect(r.productMassRate!.value).toBeCloseTo(74.88, 10);
+    expect(r.daysOfSupply!.value).toBeCloseTo(31.25, 12);
+    expect(r.daysOfSupply!.rounded).toBe('31.2');
+  });
+});
+
+describe('hypochlorite strength is never assumed silently', () => {
+  it('% w/w without density: the tabled density is used and a warning says so; 10.7 % w/w × 1.17 kg/L × 10 = 125.19 g/L', () => {
+    const r = feed('sodium-hypochlorite', 2.0, 4000, { product: { strength: { value: 10.7, unit: '% w/w' } } });
+    expect(r.flags.map((f) => f.code)).toContain('DENSITY_APPROXIMATED');
+    expect(r.strength!.density!.from).toBe('table');
+    expect(r.strength!.gramsPerL.value).toBeCloseTo(10.7 * 1.17 * 10, 10);
+  });
+  it('no strength at all: the nominal 12.5 trade % is used with a warning', () => {
+    const r = feed('sodium-hypochlorite', 2.0, 4000);
+    expect(r.flags.map((f) => f.code)).toContain('STRENGTH_DEFAULT_USED');
+    expect(r.strength!.gramsPerL.value).toBe(125);
+  });
+});
+
+describe('potassium permanganate batch solution', () => {
+  it('1.0 mg/L at 4000 m3/d, 97 %, 2 % w/w batch in 500 L at 12 °C: 4.0 kg/d KMnO4, 4.124 kg/d product, 20 g/L, 8.333 L/h, 10.31 kg per batch, 2.04 g/100 g water < 4.8 solubility', () => {
+    const r = feed('potassium-permanganate', 1.0, 4000, {
+      product: { strength: { value: 2, unit: '% w/w' }, purity: { value: 97, unit: '%' } },
+      batch: { volume: { value: 500, unit: 'L' } },
+    });
+    expect(r.massRate.value).toBe(4); // 1.0 g/m3 × 4000 m3/d = 4000 g/d
+    expect(r.productMassRate!.value).toBeCloseTo(4 / 0.97, 10); // solid at 97 %
+    expect(r.flags.map((f) => f.code)).toContain('DENSITY_ASSUMED_WATER'); // said, not silent
+    expect(r.strength!.gramsPerL.value).toBe(20); // 2 % × 1.00 kg/L × 10
+    expect(r.solutionRate!.value).toBeCloseTo(4000 / 20 / 24, 10); // 8.333 L/h
+    const b = r.batch!;
+    expect(b.productKg.value).toBeCloseTo((20 * 500) / 1000 / 0.97, 10); // 10 kg KMnO4 ÷ 0.97
+    expect(b.gramsPer100gWater.value).toBeCloseTo((10000 * 100) / (500000 - 10000), 10); // 2.041
+    // solubility at 12 °C, linear between 10 °C (4.4) and 20 °C (6.4): 4.4 + 0.2 × 2.0 = 4.8 (Perry's, memory)
+    expect(b.solubilityGPer100gWater!.value).toBeCloseTo(4.8, 10);
+    expect(b.withinSolubility).toBe(true);
+    expect(b.lastsDays!.value).toBeCloseTo(500 / ((4000 / 20 / 24) * 24), 10); // 2.5 d
+  });
+  it('a 5 % w/w batch at 5 °C needs 5.26 g per 100 g water, above the 3.615 the table gives (2.83 + 0.5 × 1.57): danger', () => {
+    const r = feed('potassium-permanganate', 1.0, 4000, {
+      product: { strength: { value: 5, unit: '% w/w' }, density: { value: 1.03, unit: 'kg/L' } },
+      batch: { volume: { value: 500, unit: 'L' }, temperatureC: 5 },
+    });
+    expect(r.batch!.gramsPer100gWater.value).toBeCloseTo((5 * 100) / 95, 10);
+    expect(r.batch!.solubilityGPer100gWater!.value).toBeCloseTo(3.615, 10);
+    expect(r.flags.find((f) => f.code === 'BATCH_ABOVE_SOLUBILITY')?.severity).toBe('danger');
+  });
+});
+
+describe('pumps', () => {
+  it.each([
+    // 8000 g/d ÷ 125 g/L ÷ 24 = 2.667 L/h
+    [2, 'PUMP_OVER_CAPACITY', 'danger'], // 133 % of 2 L/h
+    [100, 'PUMP_SETTING_LOW', 'warning'], // 2.67 % of 100 L/h (below about 5 %, common practice)
+  ] as const)('rated %s L/h → %s', (rated, code, severity) => {
+    const r = feed('sodium-hypochlorite', 2.0, 4000, { product: { strength: { value: 12.5, unit: '% w/v' } }, pump: { ratedCapacity: { value: rated, unit: 'L/h' } } });
+    expect(r.flags.find((f) => f.code === code)?.severity).toBe(severity);
+  });
+  it('capacity in gal/d: 24 gal/d = 24 × 3.785411784 / 24 L/h = 3.785 L/h → 2.667 / 3.785 = 70.4 %', () => {
+    const r = feed('sodium-hypochlorite', 2.0, 4000, { product: { strength: { value: 12.5, unit: '% w/v' } }, pump: { ratedCapacity: { value: 24, unit: 'gal/d' } } });
+    expect(r.pump!.settingPercent.value).toBeCloseTo((64 / 24 / 3.785411784) * 100, 8);
+  });
+});
+
+describe('gases and generated oxidants', () => {
+  it('chlorine gas: no solution rate, 8.0 kg/d = 17.6 lb/d for the chlorinator; stock in kg lasts 68 kg ÷ 8 kg/d = 8.5 d', () => {
+    const r = feed('chlorine-gas', 2.0, 4000, { stock: { value: 68, unit: 'kg' } });
+    expect(r.solutionRate).toBeNull();
+    expect(r.massRateUS.rounded).toBe('17.6');
+    expect(r.daysOfSupply!.value).toBeCloseTo(8.5, 12);
+  });
+  it('ozone: generator output 1.5 mg/L × 3000 m3/d = 4.5 kg/d = 187.5 g/h; no solution rate', () => {
+    const r = feed('ozone', 1.5, 3000);
+    expect(r.solutionRate).toBeNull();
+    expect(r.generator!.output.value).toBe(4.5);
+    expect(r.generator!.outputGPerH.value).toBe(187.5);
+  });
+  it('oxygen: mass rate only, with the aeration note', () => {
+    const r = feed('oxygen', 0.3, 1000);
+    expect(r.solutionRate).toBeNull();
+    expect(r.notes.join(' ')).toMatch(/saturation/);
+  });
+});

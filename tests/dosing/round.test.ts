@@ -1,0 +1,35 @@
+/** roundSigNumber (src/dosing/round.ts) is the same rule as roundSig of src/core/decimal.ts (decimal.js ROUND_HALF_EVEN). */
+import fc from 'fast-check';
+import { describe, expect, it } from 'vitest';
+import { Dec, roundSig } from '../../src/core/decimal.js';
+import { roundSigNumber } from '../../src/dosing/round.js';
+
+describe('roundSigNumber', () => {
+  it.each([
+    // ties go to the even digit
+    [31.25, 3, '31.2'],
+    [31.35, 3, '31.4'],
+    [2.5, 1, '2'],
+    [3.5, 1, '4'],
+    [0.125, 2, '0.12'],
+    // carries and trailing zeros
+    [9.995, 3, '10'],
+    [99950, 3, '100000'],
+    [4000, 3, '4000'],
+    [0, 3, '0'],
+    [-1.2345, 3, '-1.23'],
+    // exponent notation at the clone's limits (toExpNeg −12, toExpPos 21)
+    [1.2345e-13, 3, '1.23e-13'],
+    [1.5e22, 2, '1.5e+22'],
+  ])('%s to %s figures → %s', (x, sig, out) => {
+    expect(roundSigNumber(x, sig)).toBe(out);
+    expect(roundSig(new Dec(x), sig)).toBe(out);
+  });
+
+  it('agrees with roundSig(new Dec(x)) for any finite double and 1 to 6 figures', () => {
+    fc.assert(
+      fc.property(fc.double({ noNaN: true, noDefaultInfinity: true }), fc.integer({ min: 1, max: 6 }), (x, sig) => roundSigNumber(x, sig) === roundSig(new Dec(x), sig)),
+      { numRuns: 20000 },
+    );
+  });
+});
