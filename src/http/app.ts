@@ -9,6 +9,7 @@ import rateLimit from '@fastify/rate-limit';
 import { isDomainError } from '../core/errors.js';
 import {
   fieldProblemsFromAjv,
+  fieldProblemsFromZod,
   problem,
   problemFromDomainError,
   sendProblem,
@@ -66,7 +67,16 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     if (err.validation) {
       const where = err.validationContext ?? 'body';
       const data = where === 'body' ? req.body : where === 'querystring' ? req.query : where === 'params' ? req.params : undefined;
-      const fields = fieldProblemsFromAjv(err.validation as AjvLikeError[], data);
+      let fields = fieldProblemsFromAjv(err.validation as AjvLikeError[], data);
+      const zodSchemas = (req.routeOptions.config as { zod?: Record<string, { safeParse: (x: unknown) => { success: boolean; error?: { issues: unknown[] } } } | undefined> } | undefined)?.zod;
+      const zs = zodSchemas?.[where];
+      if (zs) {
+        const parsed = zs.safeParse(data);
+        if (!parsed.success && parsed.error) {
+          const zf = fieldProblemsFromZod(parsed.error.issues as Parameters<typeof fieldProblemsFromZod>[0], data);
+          if (zf.length) fields = zf;
+        }
+      }
       const label = where === 'querystring' ? 'query' : where === 'params' ? 'path' : 'request';
       const p = validationProblem(fields, label);
       p.instance = req.url;

@@ -191,3 +191,43 @@ export function validationProblem(fields: FieldProblem[], where: string): Proble
       : `${fields.length} ${where} fields are invalid: ${fields.map((f) => f.pointer || '(root)').join(', ')}`;
   return problem('VALIDATION_FAILED', detail, { errors: fields });
 }
+
+interface ZodLikeIssue {
+  path: readonly PropertyKey[];
+  message: string;
+  code?: string;
+  keys?: readonly string[];
+  errors?: readonly (readonly ZodLikeIssue[])[];
+}
+
+/** Field problems from zod issues (the failure path only), with RFC 6901 pointers. */
+export function fieldProblemsFromZod(issues: readonly ZodLikeIssue[], data: unknown, prefix = ''): FieldProblem[] {
+  const out: FieldProblem[] = [];
+  const push = (path: readonly PropertyKey[], message: string) => {
+    const pointer = prefix + path.map((p) => '/' + escapeToken(String(p))).join('');
+    const got = valueAt(data, path.map((p) => '/' + escapeToken(String(p))).join(''));
+    const suffix = got !== undefined && typeof got !== 'object' ? `; got ${describeValue(got)}` : '';
+    out.push({ pointer, message: message + suffix });
+  };
+  for (const iss of issues) {
+    if (iss.code === 'unrecognized_keys' && iss.keys) {
+      for (const k of iss.keys) {
+        const pointer = prefix + [...iss.path, k].map((p) => '/' + escapeToken(String(p))).join('');
+        out.push({ pointer, message: `"${k}" is not a known field here (check its spelling)` });
+      }
+      continue;
+    }
+    if (iss.code === 'invalid_union' && iss.errors && iss.errors.length) {
+      // Report the branch with the fewest problems: the form the caller most likely meant.
+      const best = [...iss.errors].sort((a, b) => a.length - b.length)[0]!;
+      for (const sub of best) push([...iss.path, ...sub.path], sub.message);
+      continue;
+    }
+    if (iss.code === 'invalid_type' && valueAt(data, iss.path.map((p) => '/' + escapeToken(String(p))).join('')) === undefined) {
+      push(iss.path, `"${String(iss.path[iss.path.length - 1] ?? '')}" is required`);
+      continue;
+    }
+    push(iss.path, iss.message);
+  }
+  return out;
+}

@@ -49,6 +49,8 @@ export interface RouteSpec<
   auth?: boolean;
   bodyLimit?: number;
   config?: Record<string, unknown>;
+  /** Runs after validation, before the handler (access checks). */
+  preHandler?: (req: FastifyRequest, reply: FastifyReply) => Promise<void>;
   handler: (
     req: FastifyRequest & {
       body: B extends z.ZodType ? z.output<B> : undefined;
@@ -99,7 +101,14 @@ export function defineRoute<
   if (spec.auth) schema['security'] = [{ bearer: [] }];
   const opts: RouteShorthandOptions = { schema };
   if (spec.bodyLimit) opts.bodyLimit = spec.bodyLimit;
-  if (spec.config) opts.config = spec.config;
+  // Routes that need a token are rate-limited per token.
+  const config: Record<string, unknown> = { ...(spec.config ?? {}) };
+  // Kept for the error path only: zod's own messages (with the accepted ranges and units the
+  // schemas state) replace ajv's terse ones when a request fails validation.
+  config['zod'] = { body: spec.body, querystring: spec.querystring, params: spec.params };
+  if (spec.auth && config['rateLimit'] === undefined) config['rateLimit'] = {};
+  if (Object.keys(config).length) opts.config = config;
+  if (spec.preHandler) opts.preHandler = spec.preHandler;
   app.route({
     method: spec.method,
     url: spec.url,

@@ -3,11 +3,13 @@
  * (ledger, dosing context), opens the archive, seeds the invented demo plant and the
  * demo signer on first start. Routes receive these through app.services.
  */
-import { loadReferenceTables } from '../reference/load.js';
+import { readFileSync } from 'node:fs';
+import { loadReferenceTables, DEFAULT_TABLES_DIR } from '../reference/load.js';
+import { join } from 'node:path';
 import { atomicWeightMap, type ReferenceTables } from '../reference/schemas.js';
 import { consistencyReport, type Ledger } from '../chemistry/thermo/index.js';
 import { openArchive, type Archive } from '../archive/index.js';
-import { buildDosingContext, type DosingContext } from '../dosing/index.js';
+import { buildDosingContext, parsePlantProfile, type DosingContext } from '../dosing/index.js';
 import type { RedoxDeps } from '../water/redox-service.js';
 
 export interface ServiceOptions {
@@ -30,6 +32,9 @@ export interface Services {
   readonly dosing: DosingContext;
   readonly redox: RedoxDeps;
   readonly potentialRows: PotentialTableOut;
+  readonly oxidantList: { oxidants: Record<string, unknown>[] };
+  /** Id of the invented demo plant seeded on first start. */
+  readonly demoPlantId: string;
   /** The consistency report of the potentials (computed on first call, then kept). */
   consistency(): ConsistencyOut;
   readonly dataDir: string;
@@ -136,6 +141,9 @@ export async function createServices(options: ServiceOptions): Promise<Services>
   };
   let consistency: ConsistencyOut | undefined;
   const archive = openArchive({ dataDir: options.dataDir });
+  // The invented demo plant (tables/demo/), validated like any profile, stored once.
+  const demoPlant = parsePlantProfile(JSON.parse(readFileSync(join(options.tablesDir ?? DEFAULT_TABLES_DIR, 'demo', 'demo-plant.json'), 'utf8')));
+  archive.seedPlant(demoPlant, { createdBy: 'system (invented demo data)' });
   const boot = archive.bootstrapAdmin({ bootstrapToken: options.bootstrapToken });
   if (boot.created && boot.token) options.onAdminToken?.(boot.token);
   return {
@@ -147,6 +155,10 @@ export async function createServices(options: ServiceOptions): Promise<Services>
     dosing,
     redox,
     potentialRows: potentialTable(tables, dosing.citations),
+    oxidantList: {
+      oxidants: tables.oxidants.map((o) => ({ ...(o as Record<string, unknown>), citation: dosing.citations.get(o.source) ?? o.source })),
+    },
+    demoPlantId: demoPlant.id,
     consistency: () => (consistency ??= consistencyOut(dosing.ledger)),
     dataDir: options.dataDir,
     close() {

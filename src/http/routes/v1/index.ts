@@ -1,8 +1,10 @@
 import type { FastifyInstance } from 'fastify';
 import { reactionRoutes } from './reactions.js';
 import { potentialRoutes } from './potentials.js';
+import { dosingRoutes } from './dosing.js';
 
 export async function v1Routes(app: FastifyInstance): Promise<void> {
   await app.register(reactionRoutes);
   await app.register(potentialRoutes);
+  await app.register(dosingRoutes);
 }

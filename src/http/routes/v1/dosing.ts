@@ -1,0 +1,97 @@
+import type { FastifyInstance } from 'fastify';
+import { z } from 'zod';
+import { DomainError } from '../../../core/errors.js';
+import { computeDose, parsePlantProfile, type DoseRequest, type PlantProfile } from '../../../dosing/index.js';
+import { isValidPlantId } from '../../../archive/index.js';
+import { DoseBody, DoseResponse, OxidantOut, PlantBody, PlantOut, PlantSummary } from '../../schemas/dosing.js';
+import { defineRoute } from '../../route.js';
+import { requireRole } from '../../auth.js';
+import type { Services } from '../../services.js';
+
+/** The plant profile a request names, or undefined; a missing one is a 404 naming the field. */
+export function plantFor(services: Services, plantId: string | undefined): PlantProfile | undefined {
+  if (plantId === undefined) return undefined;
+  const stored = isValidPlantId(plantId) ? services.archive.getPlant(plantId) : null;
+  if (!stored) {
+    throw new DomainError('PLANT_NOT_FOUND', {
+      detail: `No plant profile "${plantId}"; GET /api/v1/plants lists the stored ones, or send flow and product in the request instead.`,
+      fields: [{ pointer: '/plantId', message: 'no stored plant profile with this id' }],
+    });
+  }
+  return stored.profile as PlantProfile;
+}
+
+export function doseFor(services: Services, body: DoseRequest) {
+  const plant = plantFor(services, body.plantId);
+  return computeDose(body, services.dosing, plant ? { plant } : {});
+}
+
+function plantOut(p: { plantId: string; version: number; profile: unknown; sha256: string; createdAt: string; createdBy: string }) {
+  return { id: p.plantId, version: p.version, savedAt: p.createdAt, savedBy: p.createdBy, sha256: p.sha256, profile: p.profile as PlantProfile };
+}
+
+export async function dosingRoutes(app: FastifyInstance): Promise<void> {
+  defineRoute(app, {
+    method: 'GET',
+    url: '/oxidants',
+    summary: 'Oxidant products with their active species, reduced product, dose basis, strengths and sources',
+    tags: ['dosing'],
+    response: { 200: z.object({ oxidants: z.array(OxidantOut) }) },
+    handler: async () => app.services.oxidantList,
+  });
+
+  defineRoute(app, {
+    method: 'POST',
+    url: '/doses',
+    summary: 'Oxidant dose and feed setting from the day’s lab readings: stoichiometric demand from balanced reactions, background demand and residual, feasibility, contact time, side effects, flags and cautions',
+    tags: ['dosing'],
+    body: DoseBody,
+    response: { 200: DoseResponse },
+    handler: async (req) => doseFor(app.services, req.body),
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/plants',
+    summary: 'Stored plant profiles (latest version of each)',
+    tags: ['plants'],
+    response: { 200: z.object({ plants: z.array(PlantSummary) }) },
+    handler: async () => ({
+      plants: app.services.archive.listPlants().map((p) => {
+        const prof = p.profile as PlantProfile;
+        return { id: p.plantId, name: prof.name, invented: prof.invented, version: p.version, savedAt: p.createdAt, sha256: p.sha256 };
+      }),
+    }),
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/plants/:id',
+    summary: 'One plant profile (latest version)',
+    tags: ['plants'],
+    params: z.object({ id: z.string().regex(/^[a-z0-9][a-z0-9-]{0,63}$/) }),
+    response: { 200: PlantOut },
+    handler: async (req) => {
+      const p = app.services.archive.getPlant(req.params.id);
+      if (!p) throw new DomainError('PLANT_NOT_FOUND', { detail: `No plant profile "${req.params.id}"; GET /api/v1/plants lists them.`, fields: [{ pointer: '/id', message: 'no such plant' }] });
+      return plantOut(p);
+    },
+  });
+
+  defineRoute(app, {
+    method: 'POST',
+    url: '/plants',
+    summary: 'Store a plant profile (a changed profile is appended as a new version; nothing is overwritten). Engineer role.',
+    tags: ['plants'],
+    auth: true,
+    body: PlantBody,
+    response: { 201: PlantOut, 200: PlantOut },
+    preHandler: requireRole('engineer'),
+    handler: async (req, reply) => {
+      const profile = parsePlantProfile(req.body);
+      const saved = app.services.archive.savePlant(profile, { createdBy: req.user!.id });
+      reply.code(saved.changed ? 201 : 200);
+      return plantOut(saved);
+    },
+  });
+}

@@ -1,0 +1,30 @@
+import { z } from 'zod';
+import { DoseRequestSchema, DoseResultSchema, PlantProfileSchema } from '../../dosing/index.js';
+
+export const DoseBody = DoseRequestSchema;
+export const DoseResponse = DoseResultSchema;
+export const PlantBody = PlantProfileSchema;
+
+export const PlantSummary = z.object({
+  id: z.string(),
+  name: z.string(),
+  invented: z.boolean(),
+  version: z.number().int(),
+  savedAt: z.string(),
+  sha256: z.string(),
+});
+
+export const PlantOut = z.object({
+  id: z.string(),
+  version: z.number().int(),
+  savedAt: z.string(),
+  savedBy: z.string().nullable(),
+  sha256: z.string(),
+  profile: PlantProfileSchema,
+});
+
+export const OxidantOut = z.looseObject({
+  id: z.string(),
+  name: z.string(),
+  source: z.string(),
+});
