@@ -101,8 +101,8 @@ const SAMPLE_CONCENTRATIONS = ['iron', 'manganese', 'sulfide', 'arsenite', 'nitr
  * Quantities are converted to the unit in the header; an absent figure is an empty cell.
  */
 export const DOSE_CSV_COLUMNS: readonly CsvColumn[] = [
-  { header: 'oxidant', value: (s) => textAt('request', 'oxidant')(s) ?? textAt('result', 'oxidant')(s) },
-  { header: 'flow_m3_per_d', value: quantityIn('flow', ['result', 'flow'], ['request', 'flow']) },
+  { header: 'oxidant', value: (s) => textAt('request', 'oxidant')(s) ?? textAt('result', 'oxidant', 'id')(s) },
+  { header: 'flow_m3_per_d', value: quantityIn('flow', ['result', 'units', 'flow', 'si'], ['result', 'flow'], ['request', 'flow']) },
   { header: 'sample_pH', value: numberAt('request', 'sample', 'pH') },
   {
     header: 'sample_temperature_C',

@@ -9,6 +9,7 @@ export {
   isValidSheetId,
   newSheetId,
   normalizeTimestamp,
+  SHEET_ID_RE,
   type SheetKind,
 } from './ids.js';
 export { ROLES, TOKEN_PREFIX, isRole, newToken, type BootstrapOutcome, type Role, type User } from './users.js';

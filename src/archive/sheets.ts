@@ -162,6 +162,11 @@ export interface AppendSheetInput extends SheetContent {
   readonly createdBy: string;
   /** The stored signer whose certificate signed the PDF. */
   readonly signerId: string;
+  /**
+   * Name and role printed in the signature (default: the stored signer's). A user without a
+   * certificate of their own signs with the default certificate under their own name.
+   */
+  readonly signedAs?: { readonly name: string; readonly role: string };
   /** The signed PDF. */
   readonly pdf: Uint8Array;
   /** When given (e.g. printed in the PDF), must equal sheetContentSha256 of the same content. */
@@ -335,8 +340,8 @@ export function appendSheet(ctx: ArchiveContext, input: AppendSheetInput): Sheet
         created_at: now.toISOString(),
         created_by: input.createdBy,
         signer_id: signer.id,
-        signer_name: signer.name,
-        signer_role: signer.role,
+        signer_name: input.signedAs?.name ?? signer.name,
+        signer_role: input.signedAs?.role ?? signer.role,
         signer_subject: signer.certificate_subject,
         request_json: requestJson,
         result_json: resultJson,

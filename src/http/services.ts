@@ -11,6 +11,8 @@ import { consistencyReport, type Ledger } from '../chemistry/thermo/index.js';
 import { openArchive, type Archive } from '../archive/index.js';
 import { buildDosingContext, parsePlantProfile, type DosingContext } from '../dosing/index.js';
 import type { RedoxDeps } from '../water/redox-service.js';
+import { createDemoSigner, loadSigner, type SheetSigner } from '../sheets/sign.js';
+import type { StoredSigner } from '../archive/index.js';
 
 export interface ServiceOptions {
   /** Folder for the archive database and generated sheets (DATA_DIR, default reports/). */
@@ -37,6 +39,10 @@ export interface Services {
   readonly demoPlantId: string;
   /** The consistency report of the potentials (computed on first call, then kept). */
   consistency(): ConsistencyOut;
+  /** The signer for a user (their own certificate, else the default demo signer), parsed once. */
+  signerFor(userId: string): { stored: StoredSigner; signer: SheetSigner };
+  /** Drop a cached signer after a new certificate is imported. */
+  forgetSigner(userId: string): void;
   readonly dataDir: string;
   close(): void;
 }
@@ -144,6 +150,36 @@ export async function createServices(options: ServiceOptions): Promise<Services>
   // The invented demo plant (tables/demo/), validated like any profile, stored once.
   const demoPlant = parsePlantProfile(JSON.parse(readFileSync(join(options.tablesDir ?? DEFAULT_TABLES_DIR, 'demo', 'demo-plant.json'), 'utf8')));
   archive.seedPlant(demoPlant, { createdBy: 'system (invented demo data)' });
+  // A clearly labelled self-signed demo signer, made once, so sheets can be signed with no setup.
+  if (!archive.getDefaultSigner()) {
+    const demo = createDemoSigner({ name: 'Demo signer', role: 'Demonstration only', organisation: 'oxidant-dosing demo' });
+    archive.addSigner({
+      name: 'Demo signer',
+      role: 'Demonstration only',
+      certificateSubject: demo.signer.identity.certificateSubject,
+      p12: demo.p12,
+      password: demo.password,
+      demo: true,
+      createdBy: 'system (first start)',
+    });
+  }
+  const signerCache = new Map<string, { stored: StoredSigner; signer: SheetSigner }>();
+  // Keyed by user: a user without a certificate of their own signs with the default (demo)
+  // certificate under their own name and role; the certificate subject says it is a demo.
+  const signerFor = (userId: string) => {
+    let hit = signerCache.get(userId);
+    if (!hit) {
+      const stored = archive.getSignerForUser(userId, { fallbackToDefault: true });
+      if (!stored) throw new Error('no default signer in the archive');
+      const user = archive.getUser(userId);
+      const own = stored.userId === userId;
+      const name = own || !user ? stored.name : user.name;
+      const role = own || !user ? stored.role : user.role;
+      hit = { stored: { ...stored, name, role }, signer: loadSigner(stored.p12, stored.password, { name, role }) };
+      signerCache.set(userId, hit);
+    }
+    return hit;
+  };
   const boot = archive.bootstrapAdmin({ bootstrapToken: options.bootstrapToken });
   if (boot.created && boot.token) options.onAdminToken?.(boot.token);
   return {
@@ -159,6 +195,8 @@ export async function createServices(options: ServiceOptions): Promise<Services>
       oxidants: tables.oxidants.map((o) => ({ ...(o as Record<string, unknown>), citation: dosing.citations.get(o.source) ?? o.source })),
     },
     demoPlantId: demoPlant.id,
+    signerFor,
+    forgetSigner: () => signerCache.clear(),
     consistency: () => (consistency ??= consistencyOut(dosing.ledger)),
     dataDir: options.dataDir,
     close() {

@@ -307,6 +307,11 @@ export function createDemoSigner(input: DemoSignerInput): DemoSigner {
 // Signing PDFs
 
 export interface SignOptions {
+  /**
+   * The hash to print in the footer instead of the document's own: the archive's content
+   * SHA-256 of the stored request and result, so a reader can check the sheet against the record.
+   */
+  readonly contentSha256?: string;
   /** The signing time written into the PDF and the CMS (default now). */
   readonly signingTime?: Date;
   /** Location field of the signature (default the signer's organisation). */
@@ -339,7 +344,7 @@ export async function signPdf(pdfWithPlaceholder: Buffer, signer: SheetSigner, s
 export async function renderSignedSheet(doc: SheetDocument, signer: SheetSigner, options: SignOptions = {}): Promise<{ pdf: Buffer; document: SheetDocument }> {
   const signingTime = options.signingTime ?? new Date();
   const id = signer.identity;
-  const document = withSignedBy(
+  const signed = withSignedBy(
     doc,
     {
       name: id.name,
@@ -349,6 +354,7 @@ export async function renderSignedSheet(doc: SheetDocument, signer: SheetSigner,
     },
     isoSeconds(signingTime),
   );
+  const document = options.contentSha256 ? { ...signed, contentSha256: options.contentSha256 } : signed;
   const unsigned = await renderSheet(document, { placeholder: placeholderFor(signer, signingTime, options) });
   return { pdf: await signPdf(unsigned, signer, signingTime), document };
 }

@@ -5,7 +5,7 @@
 import { DomainError, isDomainError } from '../../core/errors.js';
 import { formatUnicode, parseFormula } from '../formula/index.js';
 import type { Species } from '../formula/types.js';
-import { balanceReaction, balanceRedox, mediumForPH } from './index.js';
+import { balanceReaction, balanceRedox, equationText, mediumForPH } from './index.js';
 import type { Medium, Reaction, Term } from './types.js';
 
 export interface BalanceTextInput {
@@ -30,13 +30,18 @@ function termsOut(terms: readonly Term[]) {
   return terms.map((t) => ({ species: t.species.text, coefficient: Number(t.coefficient), side: t.side }));
 }
 
-function unicodeEquation(r: Reaction): string {
+export function unicodeEquation(r: Pick<Reaction, 'terms'>): string {
   const side = (s: 'reactant' | 'product') =>
     r.terms
       .filter((t) => t.side === s)
       .map((t) => (t.coefficient === 1n ? '' : t.coefficient.toString()) + formatUnicode(t.species.text))
       .join(' + ');
   return `${side('reactant')} → ${side('product')}`;
+}
+
+/** A reduction half-reaction read backwards: the oxidation it describes (same species, sides swapped). */
+export function reversedEquation(r: Pick<Reaction, 'terms'>): string {
+  return equationText(r.terms.map((t) => ({ ...t, side: t.side === 'reactant' ? ('product' as const) : ('reactant' as const) })));
 }
 
 export function chooseMedium(medium: Medium | undefined, pH: number | undefined): { medium: Medium; reason: string } {
@@ -89,7 +94,7 @@ export function balanceService(input: BalanceTextInput, elements?: ReadonlySet<s
       mediumReason: reason,
       halfReactions: {
         reduction: { equation: r.reduction.equation, electrons: r.reduction.electrons, ...(r.reduction.convention ? { convention: r.reduction.convention } : {}) },
-        oxidation: { equation: r.oxidation.equation, electrons: r.oxidation.electrons, ...(r.oxidation.convention ? { convention: r.oxidation.convention } : {}) },
+        oxidation: { equation: reversedEquation(r.oxidation), electrons: r.oxidation.electrons, ...(r.oxidation.convention ? { convention: r.oxidation.convention } : {}) },
       },
       multipliers: { oxidant: Number(r.multipliers.oxidant), reductant: Number(r.multipliers.reductant) },
       method: 'Half-reaction method: each couple completed with H2O and H+ (acid) or OH- (base) and electrons, electrons matched by their least common multiple, exact rationals',

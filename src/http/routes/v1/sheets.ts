@@ -1,0 +1,238 @@
+import type { FastifyInstance } from 'fastify';
+import { z } from 'zod';
+import { DomainError } from '../../../core/errors.js';
+import { isValidSheetId, newSheetId, sheetContentSha256, SHEET_ID_RE } from '../../../archive/index.js';
+import { doseSheetDocument } from '../../../sheets/dose-sheet.js';
+import { renderSignedSheet } from '../../../sheets/sign.js';
+import { verifySignedPdf } from '../../../sheets/verify.js';
+import { DoseBody } from '../../schemas/dosing.js';
+import { defineRoute } from '../../route.js';
+import { requireRole } from '../../auth.js';
+import { doseFor } from './dosing.js';
+import type { Services } from '../../services.js';
+
+const SheetId = z.string().regex(SHEET_ID_RE).describe('Sheet id, e.g. DS-20261201-…');
+const IsoDateTime = z
+  .string()
+  .regex(/^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?(Z|[+-]\d{2}:\d{2})$/)
+  .describe('ISO 8601 date and time with a zone, e.g. 2026-12-01T07:30:00+01:00');
+const DateOrTime = z.string().regex(/^\d{4}-\d{2}-\d{2}(T\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?(Z|[+-]\d{2}:\d{2}))?$/).describe('YYYY-MM-DD (UTC day) or an ISO 8601 date-time');
+
+export const SheetBody = DoseBody.extend({
+  sampledAt: IsoDateTime,
+  supersedes: SheetId.optional().describe('Id of the sheet this one corrects'),
+  samplingPoint: z.string().min(1).max(200).optional(),
+  sampleLabel: z.string().min(1).max(200).optional(),
+  pageSize: z.enum(['A4', 'LETTER']).optional(),
+});
+
+const Created = z.object({
+  id: z.string(),
+  sha256: z.string().describe('SHA-256 of the signed PDF'),
+  contentSha256: z.string().describe('SHA-256 of the stored request and result (printed in the PDF footer)'),
+  recordHash: z.string(),
+  prevHash: z.string(),
+  pdfUrl: z.string(),
+  verificationUrl: z.string(),
+  createdAt: z.string(),
+  signer: z.object({ name: z.string(), role: z.string(), subject: z.string() }),
+  supersedes: z.string().nullable(),
+  dose: z.object({ value: z.number(), unit: z.string(), basis: z.string(), rounded: z.string() }),
+});
+
+const Summary = z.object({
+  id: z.string(),
+  seq: z.number().int(),
+  kind: z.string(),
+  plantId: z.string().nullable(),
+  plantVersion: z.number().nullable(),
+  sampledAt: z.string(),
+  createdAt: z.string(),
+  createdBy: z.string(),
+  signer: z.object({ id: z.string(), name: z.string(), role: z.string(), subject: z.string() }),
+  sha256: z.string(),
+  pdfBytes: z.number().int(),
+  contentSha256: z.string(),
+  supersedes: z.string().nullable(),
+  supersededBy: z.string().nullable(),
+  prevHash: z.string(),
+  recordHash: z.string(),
+  pdfUrl: z.string(),
+  verificationUrl: z.string(),
+});
+
+type SummaryIn = { id: string; pdfSha256: string } & Omit<z.infer<typeof Summary>, 'sha256' | 'pdfUrl' | 'verificationUrl'>;
+
+function summaryOut(s: SummaryIn) {
+  const { pdfSha256, ...rest } = s;
+  return { ...rest, sha256: pdfSha256, pdfUrl: `/api/v1/sheets/${s.id}/pdf`, verificationUrl: `/api/v1/sheets/${s.id}/verification` };
+}
+
+function requireSheet(services: Services, id: string) {
+  if (!isValidSheetId(id)) throw new DomainError('ID_INVALID', { detail: `"${id}" is not a sheet id.`, fields: [{ pointer: '/id', message: 'not a sheet id' }] });
+  const s = services.archive.getSheet(id);
+  if (!s) throw new DomainError('SHEET_NOT_FOUND', { detail: `No sheet ${id} in the archive.`, fields: [{ pointer: '/id', message: 'no such sheet' }] });
+  return s;
+}
+
+const Query = z.strictObject({
+  plantId: z.string().regex(/^[a-z0-9][a-z0-9-]{0,63}$/).optional(),
+  from: DateOrTime.optional(),
+  to: DateOrTime.optional(),
+});
+
+export async function sheetRoutes(app: FastifyInstance): Promise<void> {
+  defineRoute(app, {
+    method: 'POST',
+    url: '/sheets',
+    summary: 'Compute the dose, render the dosing sheet, sign it with the caller’s certificate and append it to the archive',
+    tags: ['sheets'],
+    auth: true,
+    body: SheetBody,
+    response: { 201: Created },
+    preHandler: requireRole('operator'),
+    handler: async (req, reply) => {
+      const services = app.services;
+      const user = req.user!;
+      const { sampledAt, supersedes, samplingPoint, sampleLabel, pageSize, ...doseRequest } = req.body;
+      if (supersedes !== undefined) {
+        const old = services.archive.getSheet(supersedes);
+        if (!old) throw new DomainError('SHEET_SUPERSEDES_UNKNOWN', { detail: `Sheet ${supersedes} is not in the archive; a correction must name an existing sheet.`, fields: [{ pointer: '/supersedes', message: 'no such sheet' }] });
+      }
+      const result = doseFor(services, doseRequest);
+      const id = newSheetId('dose');
+      const plantId = result.plant?.id ?? null;
+      const plantVersion = plantId ? (services.archive.getPlant(plantId)?.version ?? null) : null;
+      const content = { id, kind: 'dose' as const, plantId, plantVersion, sampledAt, supersedes: supersedes ?? null, request: req.body, result };
+      const contentSha256 = sheetContentSha256(content);
+      const { stored, signer } = services.signerFor(user.id);
+      const now = new Date();
+      const doc = doseSheetDocument({
+        id,
+        request: doseRequest,
+        result,
+        sampledAt,
+        issuedAt: now.toISOString(),
+        preparedBy: { name: user.name, role: user.role },
+        ...(samplingPoint ? { samplingPoint } : {}),
+        ...(sampleLabel ? { sampleLabel } : {}),
+        ...(supersedes ? { supersedes } : {}),
+        ...(pageSize ? { pageSize } : {}),
+      });
+      const { pdf } = await renderSignedSheet(doc, signer, { signingTime: now, contentSha256 });
+      const saved = services.archive.appendSheet({ ...content, createdBy: user.id, signerId: stored.id, signedAs: { name: stored.name, role: stored.role }, pdf, contentSha256 });
+      reply.code(201).header('location', `/api/v1/sheets/${id}`);
+      return {
+        id,
+        sha256: saved.pdfSha256,
+        contentSha256: saved.contentSha256,
+        recordHash: saved.recordHash,
+        prevHash: saved.prevHash,
+        pdfUrl: `/api/v1/sheets/${id}/pdf`,
+        verificationUrl: `/api/v1/sheets/${id}/verification`,
+        createdAt: saved.createdAt,
+        signer: { name: saved.signer.name, role: saved.signer.role, subject: saved.signer.subject },
+        supersedes: saved.supersedes,
+        dose: result.dose,
+      };
+    },
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/sheets',
+    summary: 'List archived sheets by plant and sample date',
+    tags: ['sheets'],
+    querystring: Query,
+    response: { 200: z.object({ sheets: z.array(Summary) }) },
+    handler: async (req) => ({ sheets: app.services.archive.listSheets(req.query).map(summaryOut) }),
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/sheets/export.csv',
+    summary: 'Dose history as CSV (one row per sheet, units in the header), for a monthly operating report',
+    tags: ['sheets'],
+    querystring: Query,
+    produces: ['text/csv'],
+    handler: async (req, reply) => {
+      const csv = app.services.archive.exportCsv({ ...req.query, kind: 'dose' });
+      const name = `dose-history${req.query.plantId ? '-' + req.query.plantId : ''}${req.query.from ? '-from-' + req.query.from.slice(0, 10) : ''}${req.query.to ? '-to-' + req.query.to.slice(0, 10) : ''}.csv`;
+      reply.header('content-type', 'text/csv; charset=utf-8').header('content-disposition', `attachment; filename="${name}"`);
+      return csv;
+    },
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/sheets/:id',
+    summary: 'A sheet’s archive record (metadata, hashes, chain link), with the request and result it was made from',
+    tags: ['sheets'],
+    params: z.object({ id: SheetId }),
+    response: { 200: Summary.extend({ request: z.unknown(), result: z.unknown() }) },
+    handler: async (req) => {
+      const s = requireSheet(app.services, req.params.id);
+      return { ...summaryOut(s), request: s.request, result: s.result };
+    },
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/sheets/:id/pdf',
+    summary: 'The signed PDF as archived',
+    tags: ['sheets'],
+    params: z.object({ id: SheetId }),
+    produces: ['application/pdf'],
+    handler: async (req, reply) => {
+      requireSheet(app.services, req.params.id);
+      const pdf = app.services.archive.getSheetPdf(req.params.id);
+      reply.header('content-type', 'application/pdf').header('content-disposition', `inline; filename="${req.params.id}.pdf"`);
+      return pdf;
+    },
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/sheets/:id/verification',
+    summary: 'Check one sheet: PDF hash, PDF signature, record hash and its link in the chain',
+    tags: ['sheets'],
+    params: z.object({ id: SheetId }),
+    response: {
+      200: z.object({
+        id: z.string(),
+        valid: z.boolean(),
+        hashMatches: z.boolean(),
+        signatureValid: z.boolean(),
+        chainValid: z.boolean(),
+        recordHashMatches: z.boolean(),
+        problems: z.array(z.string()),
+      }),
+    },
+    handler: async (req) => {
+      requireSheet(app.services, req.params.id);
+      const v = await app.services.archive.verifySheet(req.params.id, { verifyPdfSignature: verifySignedPdf });
+      return { id: v.id, valid: v.valid, hashMatches: v.hashMatches, signatureValid: v.signatureValid === true, chainValid: v.chainValid, recordHashMatches: v.recordHashMatches, problems: [...v.problems] };
+    },
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/archive/verification',
+    summary: 'Walk the whole archive: every record hash, chain link and PDF signature; the first broken link',
+    tags: ['sheets'],
+    response: {
+      200: z.object({
+        valid: z.boolean(),
+        records: z.number().int(),
+        firstBrokenId: z.string().nullable(),
+        signaturesChecked: z.number().int(),
+        head: z.object({ lastId: z.string().nullable(), lastSeq: z.number(), recordHash: z.string() }),
+        problems: z.array(z.object({ id: z.string().nullable(), seq: z.number().nullable(), check: z.string(), message: z.string() })),
+      }),
+    },
+    handler: async () => {
+      const v = await app.services.archive.verifyArchive({ verifyPdfSignature: verifySignedPdf });
+      return { valid: v.valid, records: v.records, firstBrokenId: v.firstBrokenId, signaturesChecked: v.signaturesChecked, head: v.head, problems: [...v.problems] };
+    },
+  });
+}

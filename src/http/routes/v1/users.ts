@@ -1,0 +1,106 @@
+import type { FastifyInstance } from 'fastify';
+import { z } from 'zod';
+import { DomainError } from '../../../core/errors.js';
+import { defineRoute } from '../../route.js';
+import { requireRole } from '../../auth.js';
+import { loadSigner } from '../../../sheets/sign.js';
+
+const UserOut = z.object({ id: z.string(), name: z.string(), role: z.enum(['operator', 'engineer', 'admin']), active: z.boolean(), createdAt: z.string(), createdBy: z.string() });
+
+const SignerOut = z.object({
+  id: z.string(),
+  name: z.string(),
+  role: z.string(),
+  certificateSubject: z.string(),
+  userId: z.string().nullable(),
+  demo: z.boolean(),
+  createdAt: z.string(),
+});
+
+export async function userRoutes(app: FastifyInstance): Promise<void> {
+  defineRoute(app, {
+    method: 'POST',
+    url: '/users',
+    summary: 'Create a user (admin). The answer shows the new bearer token once; only its hash is stored.',
+    tags: ['users'],
+    auth: true,
+    body: z.strictObject({
+      name: z.string().min(1).max(120).describe('Person’s name as it should appear on signed sheets'),
+      role: z.enum(['operator', 'engineer', 'admin']).describe('operator: computes and creates sheets; engineer: also jar tests and plant profiles; admin: users'),
+    }),
+    response: { 201: UserOut.extend({ token: z.string(), tokenNote: z.string() }) },
+    preHandler: requireRole('admin'),
+    handler: async (req, reply) => {
+      const { user, token } = app.services.archive.createUser({ name: req.body.name, role: req.body.role, createdBy: req.user!.id });
+      reply.code(201);
+      return { ...user, token, tokenNote: 'Shown this once. Store it safely: the service keeps only its SHA-256 and cannot show it again.' };
+    },
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/users',
+    summary: 'List users (admin)',
+    tags: ['users'],
+    auth: true,
+    response: { 200: z.object({ users: z.array(UserOut) }) },
+    preHandler: requireRole('admin'),
+    handler: async () => ({ users: app.services.archive.listUsers() }),
+  });
+
+  defineRoute(app, {
+    method: 'POST',
+    url: '/signers',
+    summary: 'Import a signing certificate (PKCS#12, base64) for a user. The password comes in the request or from an environment variable named in passwordEnv; it is kept only encrypted.',
+    tags: ['users'],
+    auth: true,
+    bodyLimit: 256 * 1024,
+    body: z.strictObject({
+      userId: z.string().min(1).max(64).describe('The user who will sign with it (default: the caller)').optional(),
+      role: z.string().min(1).max(120).describe('Role printed on the sheet, e.g. "Chief operator, grade III licence"'),
+      p12Base64: z.string().min(100).max(200_000),
+      password: z.string().max(512).optional(),
+      passwordEnv: z.string().regex(/^[A-Z][A-Z0-9_]{0,63}$/).optional().describe('Name of an environment variable holding the password'),
+    }),
+    response: { 201: SignerOut },
+    preHandler: requireRole('operator'),
+    handler: async (req, reply) => {
+      const b = req.body;
+      const caller = req.user!;
+      const userId = b.userId ?? caller.id;
+      if (userId !== caller.id && caller.role !== 'admin') {
+        throw new DomainError('AUTH_FORBIDDEN', { detail: 'Only an admin can import a certificate for another user.', fields: [{ pointer: '/userId', message: 'not your own user id' }] });
+      }
+      const user = app.services.archive.getUser(userId);
+      if (!user) throw new DomainError('VALIDATION_FAILED', { detail: `No user "${userId}".`, fields: [{ pointer: '/userId', message: 'no such user' }] });
+      let password = b.password;
+      if (password === undefined && b.passwordEnv) {
+        password = process.env[b.passwordEnv];
+        if (password === undefined) throw new DomainError('VALIDATION_FAILED', { detail: `The environment variable ${b.passwordEnv} is not set on the server.`, fields: [{ pointer: '/passwordEnv', message: 'not set' }] });
+      }
+      if (password === undefined) {
+        throw new DomainError('VALIDATION_FAILED', { detail: 'Give the PKCS#12 password, or passwordEnv naming a server environment variable that holds it.', fields: [{ pointer: '/password', message: 'password or passwordEnv is required' }] });
+      }
+      const p12 = Buffer.from(b.p12Base64, 'base64');
+      let signer;
+      try {
+        signer = loadSigner(p12, password, { name: user.name, role: b.role });
+      } catch (e) {
+        if (e instanceof DomainError) throw e.under('/p12Base64');
+        throw e;
+      }
+      const saved = app.services.archive.addSigner({
+        name: user.name,
+        role: b.role,
+        certificateSubject: signer.identity.certificateSubject,
+        p12,
+        password,
+        userId,
+        createdBy: caller.id,
+      });
+      app.services.forgetSigner(userId);
+      reply.code(201);
+      return saved;
+    },
+  });
+}
