@@ -21,6 +21,8 @@ export {
   recordHash,
   recordHashText,
   sheetContentSha256,
+  prepareSheetContent,
+  type PreparedContent,
   type AppendSheetInput,
   type SheetContent,
   type SheetQuery,

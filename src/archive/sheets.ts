@@ -143,18 +143,36 @@ export interface SheetContent {
  * Computable before rendering, so the PDF can print it; appendSheet recomputes it.
  */
 export function sheetContentSha256(content: SheetContent): string {
-  return sha256Hex(
-    canonicalJson({
-      id: content.id,
-      kind: content.kind,
-      plantId: content.plantId ?? null,
-      plantVersion: content.plantVersion ?? null,
-      sampledAt: requireTimestamp(content.sampledAt, '/sampledAt'),
-      supersedes: content.supersedes ?? null,
-      request: content.request,
-      result: content.result,
-    }),
-  );
+  return prepareSheetContent(content).contentSha256;
+}
+
+/** The canonical request and result texts of a sheet and its content hash, computed once. */
+export interface PreparedContent {
+  readonly requestJson: string;
+  readonly resultJson: string;
+  readonly contentSha256: string;
+}
+
+/**
+ * Canonical JSON of the content object, assembled from the canonical texts of the request
+ * and the result (keys in sorted order: id, kind, plantId, plantVersion, request, result,
+ * sampledAt, supersedes), so the two large members are serialised once for both the content
+ * hash and the stored columns. Equal to canonicalJson of the whole object.
+ */
+export function prepareSheetContent(content: SheetContent): PreparedContent {
+  const requestJson = canonicalJson(content.request);
+  const resultJson = canonicalJson(content.result);
+  const text =
+    '{"id":' + JSON.stringify(content.id) +
+    ',"kind":' + JSON.stringify(content.kind) +
+    ',"plantId":' + JSON.stringify(content.plantId ?? null) +
+    ',"plantVersion":' + JSON.stringify(content.plantVersion ?? null) +
+    ',"request":' + requestJson +
+    ',"result":' + resultJson +
+    ',"sampledAt":' + JSON.stringify(requireTimestamp(content.sampledAt, '/sampledAt')) +
+    ',"supersedes":' + JSON.stringify(content.supersedes ?? null) +
+    '}';
+  return { requestJson, resultJson, contentSha256: sha256Hex(text) };
 }
 
 export interface AppendSheetInput extends SheetContent {
@@ -169,6 +187,8 @@ export interface AppendSheetInput extends SheetContent {
   readonly signedAs?: { readonly name: string; readonly role: string };
   /** The signed PDF. */
   readonly pdf: Uint8Array;
+  /** The content prepared by prepareSheetContent for the same content (saves serialising it again). */
+  readonly prepared?: PreparedContent;
   /** When given (e.g. printed in the PDF), must equal sheetContentSha256 of the same content. */
   readonly contentSha256?: string;
 }
@@ -261,11 +281,10 @@ export function appendSheet(ctx: ArchiveContext, input: AppendSheetInput): Sheet
   if (!(input.pdf instanceof Uint8Array) || input.pdf.length < 5 || Buffer.from(input.pdf.subarray(0, 5)).toString('latin1') !== '%PDF-') {
     throw new DomainError('INTERNAL', { detail: 'The sheet to archive has no PDF (the bytes do not start with "%PDF-").' });
   }
-  const requestJson = canonicalJson(input.request);
-  const resultJson = canonicalJson(input.result);
+  const prepared = input.prepared ?? prepareSheetContent({ ...input, plantId, plantVersion, supersedes });
+  const { requestJson, resultJson, contentSha256 } = prepared;
   const pdf = Buffer.from(input.pdf.buffer, input.pdf.byteOffset, input.pdf.byteLength);
   const pdfSha256 = sha256Hex(pdf);
-  const contentSha256 = sheetContentSha256({ ...input, plantId, plantVersion, supersedes });
   if (input.contentSha256 !== undefined && input.contentSha256 !== contentSha256) {
     throw new DomainError('INTERNAL', {
       detail: `The content hash given with sheet ${id} (${input.contentSha256}) differs from the hash of its request and result (${contentSha256}); the PDF was made from other content.`,

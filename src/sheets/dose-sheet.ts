@@ -46,6 +46,8 @@ export interface DoseSheetInput {
    * title, and the archived result keeps the full trace.
    */
   readonly traceability?: boolean;
+  /** The archive's content hash to print in the footer (the document's own is then not computed). */
+  readonly contentSha256?: string;
 }
 
 /** "Author (Year). Title. Publisher…" → "Author (Year). Title." */
@@ -362,6 +364,7 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
   ];
 
   return buildSheetDocument({
+    ...(input.contentSha256 !== undefined ? { contentSha256: input.contentSha256 } : {}),
     id: input.id,
     kind: 'dose',
     title: `${ox.name} dose`,

@@ -220,6 +220,11 @@ export interface SheetDocument {
 export type SheetDraft = Omit<SheetDocument, 'contentSha256' | 'disclaimer' | 'pageSize'> & {
   readonly pageSize?: PageSize;
   readonly disclaimer?: string;
+  /**
+   * A content hash computed elsewhere (the archive's hash of the request and result the sheet
+   * is made from): printed in the footer as given, and the document's own hash is not computed.
+   */
+  readonly contentSha256?: string;
 };
 
 export const DEFAULT_DISCLAIMER =
@@ -441,7 +446,10 @@ export function buildSheetDocument(draft: SheetDraft): SheetDocument {
     pageSize: draft.pageSize ?? 'A4',
     disclaimer: draft.disclaimer ?? DEFAULT_DISCLAIMER,
   };
-  const contentSha256 = sheetContentSha256(withDefaults);
+  if (draft.contentSha256 !== undefined && !/^[0-9a-f]{64}$/.test(draft.contentSha256)) {
+    throw new DomainError('VALIDATION_FAILED', { detail: 'contentSha256 must be 64 lowercase hex digits.', fields: [{ pointer: '/contentSha256', message: 'not a SHA-256 hex digest' }] });
+  }
+  const contentSha256 = draft.contentSha256 ?? sheetContentSha256(withDefaults);
   return { ...(withDefaults as SheetDocument), contentSha256 };
 }
 
@@ -450,8 +458,13 @@ export function withSignedBy(
   doc: SheetDocument,
   signedBy: NonNullable<SignatureBlock['signedBy']>,
   signedAt: string,
+  options: { readonly contentSha256?: string } = {},
 ): SheetDocument {
   const { contentSha256: _omit, ...draft } = doc;
   void _omit;
-  return buildSheetDocument({ ...draft, signature: { ...doc.signature, signedBy, signedAt } });
+  return buildSheetDocument({
+    ...draft,
+    signature: { ...doc.signature, signedBy, signedAt },
+    ...(options.contentSha256 !== undefined ? { contentSha256: options.contentSha256 } : {}),
+  });
 }

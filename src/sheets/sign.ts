@@ -344,7 +344,7 @@ export async function signPdf(pdfWithPlaceholder: Buffer, signer: SheetSigner, s
 export async function renderSignedSheet(doc: SheetDocument, signer: SheetSigner, options: SignOptions = {}): Promise<{ pdf: Buffer; document: SheetDocument }> {
   const signingTime = options.signingTime ?? new Date();
   const id = signer.identity;
-  const signed = withSignedBy(
+  const document = withSignedBy(
     doc,
     {
       name: id.name,
@@ -353,8 +353,8 @@ export async function renderSignedSheet(doc: SheetDocument, signer: SheetSigner,
       certificateSubject: id.certificateSubject,
     },
     isoSeconds(signingTime),
+    options.contentSha256 !== undefined ? { contentSha256: options.contentSha256 } : {},
   );
-  const document = options.contentSha256 ? { ...signed, contentSha256: options.contentSha256 } : signed;
   const unsigned = await renderSheet(document, { placeholder: placeholderFor(signer, signingTime, options) });
   return { pdf: await signPdf(unsigned, signer, signingTime), document };
 }

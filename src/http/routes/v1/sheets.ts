@@ -1,44 +1,13 @@
 import type { FastifyInstance } from 'fastify';
 import { z } from 'zod';
 import { DomainError } from '../../../core/errors.js';
-import { isValidSheetId, newSheetId, sheetContentSha256, SHEET_ID_RE } from '../../../archive/index.js';
-import { doseSheetDocument } from '../../../sheets/dose-sheet.js';
-import { renderSignedSheet } from '../../../sheets/sign.js';
+import { isValidSheetId, SHEET_ID_RE } from '../../../archive/index.js';
+import { issueDoseSheet } from '../../issue-sheet.js';
 import { verifySignedPdf } from '../../../sheets/verify.js';
-import { DoseBody } from '../../schemas/dosing.js';
+import { Created, DateOrTime, SheetBody, SheetId } from '../../schemas/sheets.js';
 import { defineRoute } from '../../route.js';
 import { requireRole } from '../../auth.js';
-import { doseFor } from './dosing.js';
 import type { Services } from '../../services.js';
-
-const SheetId = z.string().regex(SHEET_ID_RE).describe('Sheet id, e.g. DS-20261201-…');
-const IsoDateTime = z
-  .string()
-  .regex(/^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?(Z|[+-]\d{2}:\d{2})$/)
-  .describe('ISO 8601 date and time with a zone, e.g. 2026-12-01T07:30:00+01:00');
-const DateOrTime = z.string().regex(/^\d{4}-\d{2}-\d{2}(T\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?(Z|[+-]\d{2}:\d{2}))?$/).describe('YYYY-MM-DD (UTC day) or an ISO 8601 date-time');
-
-export const SheetBody = DoseBody.extend({
-  sampledAt: IsoDateTime,
-  supersedes: SheetId.optional().describe('Id of the sheet this one corrects'),
-  samplingPoint: z.string().min(1).max(200).optional(),
-  sampleLabel: z.string().min(1).max(200).optional(),
-  pageSize: z.enum(['A4', 'LETTER']).optional(),
-});
-
-const Created = z.object({
-  id: z.string(),
-  sha256: z.string().describe('SHA-256 of the signed PDF'),
-  contentSha256: z.string().describe('SHA-256 of the stored request and result (printed in the PDF footer)'),
-  recordHash: z.string(),
-  prevHash: z.string(),
-  pdfUrl: z.string(),
-  verificationUrl: z.string(),
-  createdAt: z.string(),
-  signer: z.object({ name: z.string(), role: z.string(), subject: z.string() }),
-  supersedes: z.string().nullable(),
-  dose: z.object({ value: z.number(), unit: z.string(), basis: z.string(), rounded: z.string() }),
-});
 
 const Summary = z.object({
   id: z.string(),
@@ -92,49 +61,9 @@ export async function sheetRoutes(app: FastifyInstance): Promise<void> {
     response: { 201: Created },
     preHandler: requireRole('operator'),
     handler: async (req, reply) => {
-      const services = app.services;
-      const user = req.user!;
-      const { sampledAt, supersedes, samplingPoint, sampleLabel, pageSize, ...doseRequest } = req.body;
-      if (supersedes !== undefined) {
-        const old = services.archive.getSheet(supersedes);
-        if (!old) throw new DomainError('SHEET_SUPERSEDES_UNKNOWN', { detail: `Sheet ${supersedes} is not in the archive; a correction must name an existing sheet.`, fields: [{ pointer: '/supersedes', message: 'no such sheet' }] });
-      }
-      const result = doseFor(services, doseRequest);
-      const id = newSheetId('dose');
-      const plantId = result.plant?.id ?? null;
-      const plantVersion = plantId ? (services.archive.getPlant(plantId)?.version ?? null) : null;
-      const content = { id, kind: 'dose' as const, plantId, plantVersion, sampledAt, supersedes: supersedes ?? null, request: req.body, result };
-      const contentSha256 = sheetContentSha256(content);
-      const { stored, signer } = services.signerFor(user.id);
-      const now = new Date();
-      const doc = doseSheetDocument({
-        id,
-        request: doseRequest,
-        result,
-        sampledAt,
-        issuedAt: now.toISOString(),
-        preparedBy: { name: user.name, role: user.role },
-        ...(samplingPoint ? { samplingPoint } : {}),
-        ...(sampleLabel ? { sampleLabel } : {}),
-        ...(supersedes ? { supersedes } : {}),
-        ...(pageSize ? { pageSize } : {}),
-      });
-      const { pdf } = await renderSignedSheet(doc, signer, { signingTime: now, contentSha256 });
-      const saved = services.archive.appendSheet({ ...content, createdBy: user.id, signerId: stored.id, signedAs: { name: stored.name, role: stored.role }, pdf, contentSha256 });
-      reply.code(201).header('location', `/api/v1/sheets/${id}`);
-      return {
-        id,
-        sha256: saved.pdfSha256,
-        contentSha256: saved.contentSha256,
-        recordHash: saved.recordHash,
-        prevHash: saved.prevHash,
-        pdfUrl: `/api/v1/sheets/${id}/pdf`,
-        verificationUrl: `/api/v1/sheets/${id}/verification`,
-        createdAt: saved.createdAt,
-        signer: { name: saved.signer.name, role: saved.signer.role, subject: saved.signer.subject },
-        supersedes: saved.supersedes,
-        dose: result.dose,
-      };
+      const out = await issueDoseSheet(app.services, req.user!, req.body);
+      reply.code(201).header('location', `/api/v1/sheets/${out.id}`);
+      return out;
     },
   });
 

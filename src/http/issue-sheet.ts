@@ -1,0 +1,59 @@
+/**
+ * Issue a dosing sheet: compute the dose, render the sheet, sign it with the user's
+ * certificate, append it to the archive. One function for the route and the benchmark.
+ */
+import { z } from 'zod';
+import { DomainError } from '../core/errors.js';
+import { newSheetId, prepareSheetContent, type User } from '../archive/index.js';
+import { doseSheetDocument } from '../sheets/dose-sheet.js';
+import { renderSignedSheet } from '../sheets/sign.js';
+import { doseFor } from './routes/v1/dosing.js';
+import type { SheetBody } from './schemas/sheets.js';
+import type { Services } from './services.js';
+
+export async function issueDoseSheet(services: Services, user: User, body: z.output<typeof SheetBody>) {
+  const { sampledAt, supersedes, samplingPoint, sampleLabel, pageSize, ...doseRequest } = body;
+  if (supersedes !== undefined && !services.archive.getSheet(supersedes)) {
+    throw new DomainError('SHEET_SUPERSEDES_UNKNOWN', {
+      detail: `Sheet ${supersedes} is not in the archive; a correction must name an existing sheet.`,
+      fields: [{ pointer: '/supersedes', message: 'no such sheet' }],
+    });
+  }
+  const result = doseFor(services, doseRequest);
+  const id = newSheetId('dose');
+  const plantId = result.plant?.id ?? null;
+  const plantVersion = plantId ? (services.archive.getPlant(plantId)?.version ?? null) : null;
+  const content = { id, kind: 'dose' as const, plantId, plantVersion, sampledAt, supersedes: supersedes ?? null, request: body, result };
+  const prepared = prepareSheetContent(content);
+  const { contentSha256 } = prepared;
+  const { stored, signer } = services.signerFor(user.id);
+  const now = new Date();
+  const doc = doseSheetDocument({
+    id,
+    request: doseRequest,
+    result,
+    sampledAt,
+    issuedAt: now.toISOString(),
+    preparedBy: { name: user.name, role: user.role },
+    contentSha256,
+    ...(samplingPoint ? { samplingPoint } : {}),
+    ...(sampleLabel ? { sampleLabel } : {}),
+    ...(supersedes ? { supersedes } : {}),
+    ...(pageSize ? { pageSize } : {}),
+  });
+  const { pdf } = await renderSignedSheet(doc, signer, { signingTime: now, contentSha256 });
+  const saved = services.archive.appendSheet({ ...content, createdBy: user.id, signerId: stored.id, signedAs: { name: stored.name, role: stored.role }, pdf, prepared, contentSha256 });
+  return {
+    id,
+    sha256: saved.pdfSha256,
+    contentSha256: saved.contentSha256,
+    recordHash: saved.recordHash,
+    prevHash: saved.prevHash,
+    pdfUrl: `/api/v1/sheets/${id}/pdf`,
+    verificationUrl: `/api/v1/sheets/${id}/verification`,
+    createdAt: saved.createdAt,
+    signer: { name: saved.signer.name, role: saved.signer.role, subject: saved.signer.subject },
+    supersedes: saved.supersedes,
+    dose: result.dose,
+  };
+}
