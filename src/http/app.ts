@@ -28,6 +28,8 @@ export interface AppOptions extends ServiceOptions {
   rateLimitPerMinute?: number;
   /** Already built services (tests share one set between apps). */
   services?: Services;
+  /** Registers extra routes before the app is ready (the benchmark's echo routes). */
+  configure?: (app: FastifyInstance) => Promise<void> | void;
 }
 
 declare module 'fastify' {
@@ -141,5 +143,6 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
 
   await app.register(systemRoutes);
   await app.register(v1Routes, { prefix: '/api/v1' });
+  if (options.configure) await options.configure(app);
   return app;
 }

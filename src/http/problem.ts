@@ -211,9 +211,11 @@ export function fieldProblemsFromZod(issues: readonly ZodLikeIssue[], data: unkn
   };
   for (const iss of issues) {
     if (iss.code === 'unrecognized_keys' && iss.keys) {
+      // Keep the list of accepted fields when the schema's own message states it.
+      const accepted = /accepted: (.+)$/.exec(iss.message)?.[1];
       for (const k of iss.keys) {
         const pointer = prefix + [...iss.path, k].map((p) => '/' + escapeToken(String(p))).join('');
-        out.push({ pointer, message: `"${k}" is not a known field here (check its spelling)` });
+        out.push({ pointer, message: `"${k}" is not a known field here (check its spelling)${accepted ? `; accepted: ${accepted}` : ''}` });
       }
       continue;
     }

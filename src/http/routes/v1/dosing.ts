@@ -1,6 +1,6 @@
 import type { FastifyInstance } from 'fastify';
 import { z } from 'zod';
-import { DomainError } from '../../../core/errors.js';
+import { DomainError, isDomainError } from '../../../core/errors.js';
 import { computeDose, parsePlantProfile, type DoseRequest, type PlantProfile } from '../../../dosing/index.js';
 import { isValidPlantId } from '../../../archive/index.js';
 import { DoseBody, DoseResponse, OxidantOut, PlantBody, PlantOut, PlantSummary } from '../../schemas/dosing.js';
@@ -8,10 +8,21 @@ import { defineRoute } from '../../route.js';
 import { requireRole } from '../../auth.js';
 import type { Services } from '../../services.js';
 
+/** The latest stored version of a plant, or null (the archive throws PLANT_NOT_FOUND; routes name their own field). */
+function findPlant(services: Services, plantId: string) {
+  if (!isValidPlantId(plantId)) return null;
+  try {
+    return services.archive.getPlant(plantId);
+  } catch (e) {
+    if (isDomainError(e) && e.code === 'PLANT_NOT_FOUND') return null;
+    throw e;
+  }
+}
+
 /** The plant profile a request names, or undefined; a missing one is a 404 naming the field. */
 export function plantFor(services: Services, plantId: string | undefined): PlantProfile | undefined {
   if (plantId === undefined) return undefined;
-  const stored = isValidPlantId(plantId) ? services.archive.getPlant(plantId) : null;
+  const stored = findPlant(services, plantId);
   if (!stored) {
     throw new DomainError('PLANT_NOT_FOUND', {
       detail: `No plant profile "${plantId}"; GET /api/v1/plants lists the stored ones, or send flow and product in the request instead.`,
@@ -72,7 +83,7 @@ export async function dosingRoutes(app: FastifyInstance): Promise<void> {
     params: z.object({ id: z.string().regex(/^[a-z0-9][a-z0-9-]{0,63}$/) }),
     response: { 200: PlantOut },
     handler: async (req) => {
-      const p = app.services.archive.getPlant(req.params.id);
+      const p = findPlant(app.services, req.params.id);
       if (!p) throw new DomainError('PLANT_NOT_FOUND', { detail: `No plant profile "${req.params.id}"; GET /api/v1/plants lists them.`, fields: [{ pointer: '/id', message: 'no such plant' }] });
       return plantOut(p);
     },

@@ -11,4 +11,5 @@ export async function v1Routes(app: FastifyInstance): Promise<void> {
   await app.register(dosingRoutes);
   await app.register(sheetRoutes);
   await app.register(userRoutes);
+  await app.register((await import('./jar-tests.js')).jarTestRoutes);
 }

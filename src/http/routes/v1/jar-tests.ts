@@ -1,0 +1,760 @@
+/**
+ * Jar-test routes (issue 5): plan the bench work (JSON or the bench sheet PDF), check a plan
+ * someone wrote, and evaluate bench results into a signed, archived evaluation sheet.
+ *
+ * The stoichiometric estimate is computeDose's contaminant demand for the sample with the oxidant
+ * (Σ of the `demand` entries, each from its balanced reaction); the background demand and the
+ * target residual are not in it. The domain (src/jar-tests) takes plain mg/L, L, g/L and mL; this
+ * shell converts the {value, unit} quantities of the request and maps the domain's field pointers
+ * back onto the request body.
+ */
+import type { FastifyInstance } from 'fastify';
+import { DomainError, type FieldProblem } from '../../../core/errors.js';
+import { roundSig } from '../../../core/decimal.js';
+import { toBaseDec, type Quantity } from '../../../core/quantity.js';
+import { computeDose, type DoseRequest } from '../../../dosing/index.js';
+import type { BackgroundDemandInput, SampleInput } from '../../../dosing/request.js';
+import {
+  checkJarPlan,
+  evaluateJarTest,
+  jarProductFacts,
+  planJarTest,
+  residualPlotData,
+  residualPlotSvg,
+  secondaryLimitTargets,
+  type EvaluateJarTestInput,
+  type JarProblem,
+  type JarProductFacts,
+  type JarProductOptions,
+  type JarTestEvaluation,
+  type JarTestPlan,
+} from '../../../jar-tests/index.js';
+import { jarTestEvaluationDocument, jarTestPlanDocument, type JarSheetContext } from '../../../sheets/jar-test-sheets.js';
+import { renderSheet } from '../../../sheets/pdf.js';
+import { renderSignedSheet } from '../../../sheets/sign.js';
+import { safetyBoxFromCautions } from '../../../sheets/safety.js';
+import type { SafetyBox } from '../../../sheets/model.js';
+import { canonicalJson, newSheetId, sha256Hex, sheetContentSha256, type SheetRecord, type SheetSummary, type User } from '../../../archive/index.js';
+import {
+  CheckOut,
+  EvaluationCreatedOut,
+  EvaluationId,
+  EvaluationRecordOut,
+  JarCheckBody,
+  JarEvaluationBody,
+  JarPlanBody,
+  PlanOut,
+  type JarCheckBodyT,
+  type JarEvaluationBodyT,
+  type JarPlanBodyT,
+} from '../../schemas/jar-tests.js';
+import { defineRoute } from '../../route.js';
+import { requireRole } from '../../auth.js';
+import type { Services } from '../../services.js';
+
+const BASE = '/api/v1/jar-tests';
+const MG_PER_L = 'mg/L';
+
+// ---------------------------------------------------------------------------------------------
+// units and pointers
+
+const rep = (value: number, unit: string) => ({ value, unit, rounded: roundSig(value, 3) });
+const repB = (value: number, unit: string, basis: string) => ({ ...rep(value, unit), basis });
+const mgPerL = (q: Quantity, pointer: string): number => toBaseDec('concentration', q, pointer).toNumber();
+const litres = (q: Quantity, pointer: string): number => toBaseDec('volume', q, pointer).toNumber();
+/** A finite number, else null (what the archive can store). */
+const lowerFirst = (s: string) => s.charAt(0).toLowerCase() + s.slice(1);
+const num = (x: number | null | undefined): number | null => (typeof x === 'number' && Number.isFinite(x) ? x : null);
+
+/** Stock strength in g/L on the dose basis: g/L and mg/mL as they are, % w/v × 10. */
+export function stockGPerL(q: { value: number; unit: 'g/L' | 'mg/mL' | '% w/v' }, pointer: string): number {
+  if (q.unit === '% w/v') {
+    if (q.value > 100) {
+      throw new DomainError('QUANTITY_OUT_OF_RANGE', {
+        detail: `A stock of ${q.value} % w/v is more than 100 g per 100 mL; give at most 100 % w/v, or the strength in g/L.`,
+        fields: [{ pointer: `${pointer}/value`, message: 'a strength in % w/v must be at most 100' }],
+      });
+    }
+    return q.value * 10;
+  }
+  return q.value;
+}
+
+/** The domain's input names in its sentences, in the request's words. */
+export function requestWords(text: string): string {
+  return text
+    .replace(/ or estimateMgPerL\b/g, '')
+    .replace(/\bestimateMgPerL\b/g, 'the sample readings')
+    .replace(/\bstockStrengthGPerL\b/g, 'stockStrength')
+    .replace(/\b(residualOxidant|iron|manganese|dose)MgPerL\b/g, '$1');
+}
+
+/** Run a domain call; a DomainError's field pointers (and the same pointers in its detail) are mapped onto the request. */
+function mapped<T>(fn: () => T, map: (pointer: string) => string): T {
+  try {
+    return fn();
+  } catch (e) {
+    if (!(e instanceof DomainError) || e.fields.length === 0) throw e;
+    const fields: FieldProblem[] = e.fields.map((f) => ({ pointer: map(f.pointer), message: requestWords(f.message) }));
+    let detail = e.detail;
+    const pairs = e.fields.map((f) => [f.pointer, map(f.pointer)] as const).filter(([a, b]) => a !== b && a.length > 1);
+    for (const [from, to] of [...pairs].sort((a, b) => b[0].length - a[0].length)) detail = detail.split(`${from} `).join(`${to} `);
+    throw new DomainError(e.code, { detail: requestWords(detail), params: e.params, fields });
+  }
+}
+
+function commonPointer(p: string): string | null {
+  if (p === '/estimateMgPerL') return '/sample';
+  if (p === '/backgroundMgPerL') return '/backgroundDemand';
+  if (p === '/jarVolumeL') return '/jarVolume/value';
+  if (p === '/productPerBasis' || p.startsWith('/solubility')) return '/oxidant';
+  return null;
+}
+
+const planPointer = (body: JarPlanBodyT) => (p: string): string => {
+  const c = commonPointer(p);
+  if (c !== null) return c;
+  if (p === '/stockStrengthGPerL') return body.stockStrength ? '/stockStrength/value' : '/stockStrength';
+  const dose = /^\/doses\/(\d+)$/.exec(p);
+  if (dose) return `/doses/${dose[1]}/value`;
+  if (p === '/purityPercent' || p === '/product/stock/purityFraction') return body.product?.purity ? '/product/purity/value' : '/oxidant';
+  if (p === '/product/stock/tradeStrengthGPerL') return body.product?.strength ? '/product/strength/value' : '/oxidant';
+  if (p.startsWith('/product')) return body.product ? p.replace(/^\/product\/stock.*/, '/product') : '/oxidant';
+  if (p === '/ladderToFraction' || p === '/ladderFromFraction') return '/doses';
+  return p;
+};
+
+const checkPointer = (p: string): string => {
+  const c = commonPointer(p);
+  if (c !== null) return c;
+  if (p === '/stockStrengthGPerL') return '/stockStrength/value';
+  const dose = /^\/jars\/(\d+)\/doseMgPerL$/.exec(p);
+  if (dose) return `/jars/${dose[1]}/dose/value`;
+  return p;
+};
+
+const evaluationPointer = (p: string): string => {
+  const c = commonPointer(p);
+  if (c !== null) return c;
+  const dose = /^\/jars\/(\d+)\/doseMgPerL$/.exec(p);
+  if (dose) return `/jars/${dose[1]}/dose/value`;
+  const r = /^\/jars\/(\d+)\/results\/(\d+)\/(residualOxidant|iron|manganese)MgPerL$/.exec(p);
+  if (r) return `/jars/${r[1]}/results/${r[2]}/${r[3]}/value`;
+  const t = /^\/targets\/(iron|manganese|residualOxidant|residualOxidantMax)MgPerL$/.exec(p);
+  if (t) return `/targets/${t[1]}/value`;
+  if (p === '/detectionLimitMgPerL') return '/detectionLimit/value';
+  if (p.startsWith('/margin')) return '/marginPercent';
+  if (p.startsWith('/limits')) return '/targets';
+  return p;
+};
+
+// ---------------------------------------------------------------------------------------------
+// the estimate, the product, the safety box
+
+export interface JarEstimate {
+  readonly value: number;
+  readonly unit: string;
+  readonly rounded: string;
+  readonly basis: string;
+  readonly includes: string;
+  readonly terms: {
+    contaminant: string;
+    field: string;
+    name: string;
+    concentration: { value: number; unit: string; rounded: string };
+    ratio: number;
+    ratioUnit: string;
+    demand: { value: number; unit: string; rounded: string };
+    reaction: string;
+    source: string;
+  }[];
+}
+
+/** The stoichiometric estimate (Σ contaminant demand terms of computeDose) and the background term. */
+export function jarEstimate(services: Services, oxidant: DoseRequest['oxidant'], sample: SampleInput, backgroundDemand?: BackgroundDemandInput) {
+  const request: DoseRequest = { oxidant, sample, ...(backgroundDemand !== undefined ? { backgroundDemand } : {}) };
+  const result = computeDose(request, services.dosing);
+  const ox = services.dosing.oxidants.get(oxidant)!;
+  const terms = result.demand.map((d) => ({
+    contaminant: d.contaminant,
+    field: d.field,
+    name: d.name,
+    concentration: { value: d.concentration.value, unit: d.concentration.unit, rounded: d.concentration.rounded },
+    ratio: d.ratio,
+    ratioUnit: d.ratioUnit,
+    demand: { value: d.demand.value, unit: d.demand.unit, rounded: d.demand.rounded },
+    reaction: d.reaction,
+    source: d.source,
+  }));
+  const value = terms.reduce((s, t) => s + t.demand.value, 0);
+  const includes =
+    terms.length > 0
+      ? `Σ of the stoichiometric demands of ${terms.map((t) => lowerFirst(t.name)).join(' and ')} in the sample, each from its balanced reaction with ${lowerFirst(ox.name)} (terms); background demand and residual are not included.`
+      : `No reading in the sample reacts with ${lowerFirst(ox.name)} in the tables, so the stoichiometric estimate is 0 mg/L; background demand is not included.`;
+  const estimate: JarEstimate = { ...repB(value, MG_PER_L, `as ${ox.doseBasis}`), includes, terms };
+  const bgTerm = result.terms.find((t) => t.term === 'background');
+  const background = {
+    mgPerL: backgroundDemand !== undefined && bgTerm ? bgTerm.value.value : 0,
+    method: backgroundDemand === undefined ? 'not given: 0 mg/L' : bgTerm?.reason ?? 'as given',
+  };
+  return { estimate, background, oxidant: ox };
+}
+
+function productFacts(services: Services, oxidant: string, product: JarPlanBodyT['product']): JarProductFacts {
+  const row = services.dosing.oxidants.get(oxidant)!;
+  const conv = services.dosing.conversions.get(oxidant);
+  const st = product?.strength;
+  if (st && st.unit !== 'g/L' && st.value > 100) {
+    throw new DomainError('QUANTITY_OUT_OF_RANGE', {
+      detail: `A strength of ${st.value} ${st.unit} is more than 100 %; give at most 100, or the strength in g/L.`,
+      fields: [{ pointer: '/product/strength/value', message: `a strength in ${st.unit} must be at most 100` }],
+    });
+  }
+  const options: JarProductOptions = {
+    ...(conv ? { productPerBasis: conv.productPerBasis.toNumber() } : {}),
+    ...(product?.purity ? { purityPercent: product.purity.value } : {}),
+    ...(st
+      ? { tradeStrength: { value: st.value, unit: st.unit, ...(product?.density ? { densityKgPerL: product.density.value } : {}), ...(product?.strengthMeasured !== undefined ? { measured: product.strengthMeasured } : {}) } }
+      : {}),
+  };
+  return jarProductFacts(row, options);
+}
+
+function safetyFor(services: Services, oxidant: string): SafetyBox {
+  const ox = services.dosing.oxidants.get(oxidant)!;
+  const cautions = services.dosing.cautionsByOxidant.get(oxidant)?.details ?? [];
+  const sources = [...new Set(cautions.map((c) => c.source))].map((id) => ({ id, citation: services.dosing.citations.get(id) ?? id }));
+  return safetyBoxFromCautions({
+    productName: ox.name,
+    productDescription: `${ox.name}, ${ox.productFormula}; jar doses and stock strength as ${ox.doseBasis}. Read the product's safety data sheet before handling.`,
+    cautions,
+    sources,
+  });
+}
+
+const problemsOut = (list: readonly JarProblem[]) => list.map((p) => ({ code: p.code, severity: p.severity, message: requestWords(p.message), ...(p.jar !== undefined ? { jar: p.jar } : {}) }));
+
+// ---------------------------------------------------------------------------------------------
+// Accept
+
+/** 'pdf' when the Accept header prefers application/pdf to JSON, 'json' otherwise; null when it accepts neither. */
+export function preferredRepresentation(accept: string | undefined): 'json' | 'pdf' | null {
+  if (accept === undefined || accept.trim() === '') return 'json';
+  const ranges = accept.split(',').map((part) => {
+    const [type, ...params] = part.trim().toLowerCase().split(';');
+    const q = params.map((p) => /^\s*q\s*=\s*([0-9.]+)\s*$/.exec(p)).find((m) => m !== null);
+    return { type: (type ?? '').trim(), q: q ? Number(q[1]) : 1 };
+  });
+  const qOf = (mime: string): number => {
+    const [major] = mime.split('/');
+    const exact = ranges.find((r) => r.type === mime);
+    if (exact) return exact.q;
+    const partial = ranges.find((r) => r.type === `${major}/*`);
+    if (partial) return partial.q;
+    return ranges.find((r) => r.type === '*/*')?.q ?? 0;
+  };
+  const pdf = qOf('application/pdf');
+  const json = qOf('application/json');
+  if (pdf > json) return 'pdf';
+  if (json > 0) return 'json';
+  return pdf > 0 ? 'pdf' : null;
+}
+
+// ---------------------------------------------------------------------------------------------
+// plan
+
+export function makeJarPlan(services: Services, body: JarPlanBodyT) {
+  const { estimate, background, oxidant: ox } = jarEstimate(services, body.oxidant, body.sample, body.backgroundDemand);
+  const product = mapped(() => productFacts(services, body.oxidant, body.product), planPointer(body));
+  const jarVolumeL = litres(body.jarVolume, '/jarVolume');
+  const doses = body.doses?.map((d, i) => mgPerL(d, `/doses/${i}`));
+  const stock = body.stockStrength ? stockGPerL(body.stockStrength, '/stockStrength') : undefined;
+  const plan = mapped(
+    () =>
+      planJarTest({
+        oxidant: body.oxidant,
+        product,
+        estimateMgPerL: estimate.value,
+        backgroundMgPerL: background.mgPerL,
+        jarVolumeL,
+        ...(body.jars !== undefined ? { jars: body.jars } : {}),
+        ...(doses !== undefined ? { doses } : {}),
+        ...(stock !== undefined ? { stockStrengthGPerL: stock } : {}),
+        ...(body.pipetteResolutionMl !== undefined ? { pipetteResolutionMl: body.pipetteResolutionMl } : {}),
+        ...(body.contactTimesMin !== undefined ? { contactTimesMin: body.contactTimesMin } : {}),
+      }),
+    planPointer(body),
+  );
+  return { plan, estimate, background, oxidant: ox };
+}
+
+function planOut(m: ReturnType<typeof makeJarPlan>) {
+  const { plan, estimate, background, oxidant: ox } = m;
+  const basis = `as ${plan.basis}`;
+  const st = plan.stock;
+  const prep = st.preparation;
+  const preparation =
+    prep.kind === 'weigh'
+      ? { kind: prep.kind, productMass: rep(prep.productMassG, 'g'), purityPercent: prep.purityFraction * 100, purityAssumed: prep.purityAssumed }
+      : prep.kind === 'dilute'
+        ? { kind: prep.kind, tradeVolume: rep(prep.tradeVolumeMl, 'mL'), tradeStrength: rep(prep.tradeStrengthGPerL, 'g/L'), tradeStrengthMustBeMeasured: prep.tradeStrengthMustBeMeasured }
+        : { kind: prep.kind, measureBy: prep.measureBy };
+  return {
+    oxidant: { id: ox.id, name: ox.name, basis },
+    estimate,
+    backgroundDemand: { ...repB(plan.estimate.backgroundMgPerL, MG_PER_L, basis), method: background.method },
+    expectedDemand: { ...repB(plan.estimate.expectedDemandMgPerL, MG_PER_L, basis), how: 'stoichiometric estimate + background demand: the demand the ladder brackets' },
+    ladder: plan.ladder,
+    jarVolume: { value: plan.jarVolumeL, unit: 'L' },
+    pipetteResolutionMl: plan.pipetteResolutionMl,
+    minAliquotMl: plan.minAliquotMl,
+    maxAliquotMl: plan.maxAliquotMl,
+    dilutionCorrected: plan.dilutionCorrected,
+    stock: {
+      strength: repB(st.strengthGPerL, 'g/L', basis),
+      strengthChoice: st.strengthChoice,
+      productMass: st.productMassG === null ? null : rep(st.productMassG, 'g'),
+      flaskVolume: { value: st.flaskVolumeMl, unit: 'mL' },
+      preparation,
+      stockUsed: rep(st.stockUsedMl, 'mL'),
+      stockWanted: rep(st.stockWantedMl, 'mL'),
+      solubility: st.solubilityGPerL === null ? null : { value: st.solubilityGPerL, unit: 'g/L' },
+      instructions: [...st.instructions],
+    },
+    jars: plan.jars.map((j) => ({
+      jar: j.jar,
+      dose: rep(j.targetDoseMgPerL, MG_PER_L),
+      aliquotMl: j.aliquotMl,
+      aliquotExactMl: j.aliquotExactMl,
+      actualDose: rep(j.actualDoseMgPerL, MG_PER_L),
+      aliquotPercentOfJar: j.aliquotFractionOfJar * 100,
+      expectedResidual: rep(j.expectedResidualMgPerL, MG_PER_L),
+    })),
+    schedule: plan.schedule,
+    warnings: problemsOut(plan.warnings),
+    assumptions: [...plan.assumptions],
+    pdf: `POST ${BASE}/plans with "Accept: application/pdf" returns the bench sheet (unsigned; plans are not archived).`,
+  };
+}
+
+/** Bench sheet ids are not archive ids: JTP-<UTC day>-<first 10 hex of the request's SHA-256>. */
+function planSheetId(body: JarPlanBodyT, now: Date): string {
+  return `JTP-${now.toISOString().slice(0, 10).replace(/-/g, '')}-${sha256Hex(canonicalJson(body)).slice(0, 10).toUpperCase()}`;
+}
+
+export async function renderJarPlanPdf(services: Services, body: JarPlanBodyT, plan: JarTestPlan, now = new Date()): Promise<{ id: string; pdf: Buffer }> {
+  const ox = services.dosing.oxidants.get(body.oxidant)!;
+  const id = planSheetId(body, now);
+  const ctx: JarSheetContext = {
+    id,
+    issuedAt: now.toISOString(),
+    preparedBy: { name: 'oxidant-dosing service', role: 'computed bench plan, not signed' },
+    productName: ox.name,
+    safety: safetyFor(services, body.oxidant),
+    ...(body.sampleLabel ? { sampleLabel: body.sampleLabel } : {}),
+    ...(body.samplingPoint ? { samplingPoint: body.samplingPoint } : {}),
+    ...(body.sampledAt ? { sampledAt: body.sampledAt } : {}),
+    ...(body.pageSize ? { pageSize: body.pageSize } : {}),
+  };
+  return { id, pdf: await renderSheet(jarTestPlanDocument(plan, ctx)) };
+}
+
+// ---------------------------------------------------------------------------------------------
+// check
+
+function checkOut(services: Services, body: JarCheckBodyT) {
+  const ox = services.dosing.oxidants.get(body.oxidant)!;
+  const basis = `as ${ox.doseBasis}`;
+  const est = body.sample ? jarEstimate(services, body.oxidant, body.sample, body.backgroundDemand) : null;
+  if (!body.sample && body.backgroundDemand) {
+    throw new DomainError('VALIDATION_FAILED', {
+      detail: 'A background demand only counts with the sample readings it adds to; give sample too, or leave backgroundDemand out.',
+      fields: [{ pointer: '/sample', message: 'needed when backgroundDemand is given' }],
+    });
+  }
+  const facts = mapped(() => productFacts(services, body.oxidant, undefined), checkPointer);
+  const solubility = facts.stock.kind === 'trade-solution' ? undefined : facts.stock.solubility;
+  const jarVolumeL = litres(body.jarVolume, '/jarVolume');
+  const C = stockGPerL(body.stockStrength, '/stockStrength');
+  const check = mapped(
+    () =>
+      checkJarPlan({
+        oxidant: body.oxidant,
+        ...(est ? { estimateMgPerL: est.estimate.value, backgroundMgPerL: est.background.mgPerL } : {}),
+        jarVolumeL,
+        stockStrengthGPerL: C,
+        jars: body.jars.map((j, i) => ({
+          ...(j.dose ? { doseMgPerL: mgPerL(j.dose, `/jars/${i}/dose`) } : {}),
+          ...(j.aliquotMl !== undefined ? { aliquotMl: j.aliquotMl } : {}),
+        })),
+        ...(body.contactTimesMin !== undefined ? { contactTimesMin: body.contactTimesMin } : {}),
+        ...(body.pipetteResolutionMl !== undefined ? { pipetteResolutionMl: body.pipetteResolutionMl } : {}),
+        ...(solubility !== undefined ? { solubility } : {}),
+      }),
+    checkPointer,
+  );
+  const orNull = (x: number | null) => (x === null ? null : rep(x, MG_PER_L));
+  return {
+    oxidant: { id: ox.id, name: ox.name, basis },
+    jarVolume: { value: check.jarVolumeL, unit: 'L' },
+    stockStrength: repB(check.stockStrengthGPerL, 'g/L', basis),
+    pipetteResolutionMl: check.pipetteResolutionMl,
+    estimate: est ? est.estimate : null,
+    expectedDemand: orNull(check.expectedDemandMgPerL),
+    solubility: solubility ? { value: solubility.gPerL, unit: 'g/L', temperatureC: solubility.temperatureC ?? null, source: solubility.source ?? null } : null,
+    jars: check.jars.map((j) => ({
+      jar: j.jar,
+      dose: orNull(j.doseMgPerL),
+      aliquotMl: j.aliquotMl,
+      recomputedDose: orNull(j.recomputedDoseMgPerL),
+      recomputedAliquotMl: j.recomputedAliquotMl,
+      nominalDose: orNull(j.nominalDoseMgPerL),
+      problems: problemsOut(j.problems),
+    })),
+    problems: problemsOut(check.problems),
+    ok: check.ok,
+    toleranceRule: check.toleranceRule,
+  };
+}
+
+// ---------------------------------------------------------------------------------------------
+// evaluation
+
+/** What the archive stores as the evaluation's result (covered by the content hash and the PDF footer). */
+export interface StoredEvaluation {
+  readonly format: 'oxd-jar-test-evaluation/1';
+  readonly oxidant: { id: string; name: string; basis: string };
+  readonly estimate: JarEstimate;
+  /** The domain evaluation, with non-finite numbers stored as null. */
+  readonly evaluation: JarTestEvaluation;
+  /** The contact time the recommendation and the reported lowest dose refer to. */
+  readonly benchContactTimeMin: number;
+  readonly sampledAtGiven: boolean;
+  /** The residual plot exactly as drawn when the sheet was made (served by plot.svg). */
+  readonly plotSvg: string;
+}
+
+/** Deep copy with NaN and ±Infinity as null (canonical JSON refuses them). */
+function jsonSafe<T>(x: T): T {
+  return JSON.parse(JSON.stringify(x, (_k, v) => (typeof v === 'number' && !Number.isFinite(v) ? null : v))) as T;
+}
+
+/** The bench contact time the recommendation uses: the longest not beyond the plant's, else the first; the longest when not given. */
+function benchTime(times: readonly number[], plantContactTimeMin: number | undefined): number {
+  if (plantContactTimeMin === undefined) return times[times.length - 1]!;
+  const within = times.filter((t) => t <= plantContactTimeMin);
+  return within.length > 0 ? within[within.length - 1]! : times[0]!;
+}
+
+export function evaluationInput(services: Services, body: JarEvaluationBodyT, estimateMgPerL: number, basis: string): EvaluateJarTestInput {
+  const t = body.targets;
+  const q = (x: Quantity | undefined, pointer: string) => (x === undefined ? undefined : mgPerL(x, pointer));
+  const targets = t
+    ? {
+        ...(t.iron ? { ironMgPerL: q(t.iron, '/targets/iron') } : {}),
+        ...(t.manganese ? { manganeseMgPerL: q(t.manganese, '/targets/manganese') } : {}),
+        ...(t.residualOxidant ? { residualOxidantMgPerL: q(t.residualOxidant, '/targets/residualOxidant') } : {}),
+        ...(t.residualOxidantMax ? { residualOxidantMaxMgPerL: q(t.residualOxidantMax, '/targets/residualOxidantMax') } : {}),
+      }
+    : undefined;
+  return {
+    oxidant: body.oxidant,
+    basis,
+    estimateMgPerL,
+    jarVolumeL: litres(body.jarVolume, '/jarVolume'),
+    jars: body.jars.map((j, i) => ({
+      doseMgPerL: mgPerL(j.dose, `/jars/${i}/dose`),
+      results: j.results.map((r, k) => {
+        const at = `/jars/${i}/results/${k}`;
+        return {
+          contactTimeMin: r.contactTimeMin,
+          ...(r.residualOxidant ? { residualOxidantMgPerL: mgPerL(r.residualOxidant, `${at}/residualOxidant`) } : {}),
+          ...(r.iron ? { ironMgPerL: mgPerL(r.iron, `${at}/iron`) } : {}),
+          ...(r.manganese ? { manganeseMgPerL: mgPerL(r.manganese, `${at}/manganese`) } : {}),
+          ...(r.turbidityNTU !== undefined ? { turbidityNTU: r.turbidityNTU } : {}),
+          ...(r.note !== undefined ? { note: r.note } : {}),
+        };
+      }),
+    })),
+    ...(targets ? { targets } : {}),
+    limits: secondaryLimitTargets(services.dosing.limits),
+    ...(body.detectionLimit ? { detectionLimitMgPerL: mgPerL(body.detectionLimit, '/detectionLimit') } : {}),
+    ...(body.fitContactTimeMin !== undefined ? { fitContactTimeMin: body.fitContactTimeMin } : {}),
+    ...(body.plantContactTimeMin !== undefined ? { plantContactTimeMin: body.plantContactTimeMin } : {}),
+    ...(body.marginPercent !== undefined ? { margin: { kind: 'relative' as const, fraction: body.marginPercent / 100 } } : {}),
+  };
+}
+
+const urls = (id: string) => ({
+  plotUrl: `${BASE}/evaluations/${id}/plot.svg`,
+  pdfUrl: `${BASE}/evaluations/${id}/pdf`,
+  verificationUrl: `/api/v1/sheets/${id}/verification`,
+});
+
+/** The answer of POST and GET, built from the stored result only (so both say the same). */
+export function evaluationView(id: string, stored: StoredEvaluation) {
+  const ev = stored.evaluation;
+  const basis = `as ${ev.basis}`;
+  const ap = ev.apparentDemand;
+  const bg = ev.backgroundDemand;
+  const rec = ev.recommendedDose;
+  const q = (x: number | null) => (x === null ? null : { value: x, unit: MG_PER_L });
+  const lowest = ev.lowestDoseMeetingTargets.find((l) => l.contactTimeMin === stored.benchContactTimeMin);
+  return {
+    id,
+    oxidant: stored.oxidant,
+    jarVolume: { value: ev.jarVolumeL, unit: 'L' },
+    estimate: stored.estimate,
+    apparentDemand: ap
+      ? { ...repB(ap.doseMgPerL, MG_PER_L, basis), stdError: num(ap.stdError), ci95: ap.ci95.map((x) => num(x)), method: ap.method }
+      : null,
+    backgroundDemand: bg ? { ...repB(bg.doseMgPerL, MG_PER_L, basis), stdError: num(bg.stdError), how: 'apparent demand − stoichiometric estimate' } : null,
+    lowestDoseMeetingTargets:
+      lowest && lowest.doseMgPerL !== null && lowest.jar !== null
+        ? { ...repB(lowest.doseMgPerL, MG_PER_L, basis), contactTimeMin: lowest.contactTimeMin, jar: lowest.jar, note: lowest.note }
+        : null,
+    lowestDoseByContactTime: ev.lowestDoseMeetingTargets.map((l) => ({
+      contactTimeMin: l.contactTimeMin,
+      dose: l.doseMgPerL === null ? null : rep(l.doseMgPerL, MG_PER_L),
+      jar: l.jar,
+      jarsMeeting: [...l.jarsMeeting],
+      higherDosesFailing: [...l.higherDosesFailing],
+      note: l.note,
+    })),
+    recommendedDose: rec
+      ? {
+          ...repB(rec.doseMgPerL, MG_PER_L, basis),
+          baseDose: rep(rec.baseDoseMgPerL, MG_PER_L),
+          from: rec.basis,
+          contactTimeMin: rec.contactTimeMin,
+          margin: { kind: rec.margin.kind, ...(rec.margin.kind === 'relative' ? { fraction: rec.margin.fraction } : {}), dose: rep(rec.margin.mgPerL, MG_PER_L), basis: rec.margin.basis },
+          expectedResidual: rec.expectedResidualMgPerL === null ? null : rep(rec.expectedResidualMgPerL, MG_PER_L),
+          reason: rec.reason,
+        }
+      : null,
+    fit: {
+      slope: ev.fit.slope,
+      intercept: ev.fit.intercept,
+      r2: num(ev.fit.r2),
+      interceptUnit: MG_PER_L,
+      n: ev.fit.n,
+      contactTimeMin: ev.fit.contactTimeMin,
+      contactTimeChoice: ev.fit.contactTimeChoice,
+      jarsUsed: [...ev.fit.jarsUsed],
+      jarsExcluded: ev.fit.jarsExcluded.map((x) => ({ ...x })),
+      slopeStdError: num(ev.fit.slopeStdError),
+      interceptStdError: num(ev.fit.interceptStdError),
+      residualStdError: num(ev.fit.residualStdError),
+      degreesOfFreedom: ev.fit.degreesOfFreedom,
+      demandLine: { slope: ev.fit.demandLine.slope, intercept: ev.fit.demandLine.intercept, r2: num(ev.fit.demandLine.r2) },
+      what: `least-squares line of residual oxidant (mg/L ${basis}) against applied dose over the jars that kept a residual above the detection limit at ${ev.fit.contactTimeMin} min; the apparent demand is where it crosses zero residual (−intercept/slope)`,
+    },
+    detectionLimit: { value: ev.detectionLimitMgPerL, unit: MG_PER_L },
+    contactTimesMin: [...ev.contactTimesMin],
+    targets: ev.targets.map((t) => ({
+      analyte: t.analyte,
+      limit: { value: t.limitMgPerL, unit: MG_PER_L },
+      comparison: t.comparison,
+      origin: t.origin,
+      ...(t.source !== undefined ? { source: t.source } : {}),
+      ...(t.name !== undefined ? { name: t.name } : {}),
+    })),
+    jars: ev.jars.map((j) => ({
+      jar: j.jar,
+      dose: rep(j.doseMgPerL, MG_PER_L),
+      results: j.results.map((r) => ({
+        contactTimeMin: r.contactTimeMin,
+        residualOxidant: q(r.residualOxidantMgPerL),
+        residualBelowDetection: r.residualBelowDetection,
+        consumed: q(r.consumedMgPerL),
+        iron: q(r.ironMgPerL),
+        manganese: q(r.manganeseMgPerL),
+        turbidityNTU: num(r.turbidityNTU),
+        note: r.note,
+        meetsTargets: r.meetsTargets,
+        failures: [...r.failures],
+      })),
+    })),
+    problems: problemsOut(ev.problems),
+    notes: [...ev.notes],
+    ...urls(id),
+  };
+}
+
+function archiveInfo(s: SheetSummary) {
+  return {
+    seq: s.seq,
+    sha256: s.pdfSha256,
+    contentSha256: s.contentSha256,
+    recordHash: s.recordHash,
+    prevHash: s.prevHash,
+    createdAt: s.createdAt,
+    createdBy: s.createdBy,
+    sampledAt: s.sampledAt,
+    signer: { name: s.signer.name, role: s.signer.role, subject: s.signer.subject },
+    supersedes: s.supersedes,
+    supersededBy: s.supersededBy,
+  };
+}
+
+/** Evaluate, render, sign with the user's signer and append to the archive. */
+export async function issueJarTestEvaluation(services: Services, user: User, body: JarEvaluationBodyT) {
+  if (body.supersedes !== undefined) {
+    let kind: string | null = null;
+    try {
+      kind = services.archive.getSheet(body.supersedes).kind;
+    } catch (e) {
+      if (!(e instanceof DomainError)) throw e;
+    }
+    if (kind !== 'jar-test-evaluation') {
+      throw new DomainError('SHEET_SUPERSEDES_UNKNOWN', {
+        detail: `${body.supersedes} is not a jar-test evaluation in the archive; a correction must name an existing evaluation.`,
+        fields: [{ pointer: '/supersedes', message: 'no such jar-test evaluation' }],
+      });
+    }
+  }
+  const { estimate, oxidant: ox } = jarEstimate(services, body.oxidant, body.sample);
+  const input = evaluationInput(services, body, estimate.value, ox.doseBasis);
+  const evaluation = mapped(() => evaluateJarTest(input), evaluationPointer);
+  const plot = residualPlotData(evaluation);
+  const now = new Date();
+  const id = newSheetId('jar-test-evaluation', now);
+  const result: StoredEvaluation = {
+    format: 'oxd-jar-test-evaluation/1',
+    oxidant: { id: ox.id, name: ox.name, basis: `as ${ox.doseBasis}` },
+    estimate,
+    evaluation: jsonSafe(evaluation),
+    benchContactTimeMin: benchTime(evaluation.contactTimesMin, body.plantContactTimeMin),
+    sampledAtGiven: body.sampledAt !== undefined,
+    plotSvg: residualPlotSvg(evaluation),
+  };
+  const sampledAt = body.sampledAt ?? now.toISOString();
+  const content = { id, kind: 'jar-test-evaluation' as const, plantId: null, plantVersion: null, sampledAt, supersedes: body.supersedes ?? null, request: body, result };
+  const contentSha256 = sheetContentSha256(content);
+  const { stored, signer } = services.signerFor(user.id);
+  const ctx: JarSheetContext = {
+    id,
+    issuedAt: now.toISOString(),
+    preparedBy: { name: user.name, role: user.role },
+    productName: ox.name,
+    safety: safetyFor(services, body.oxidant),
+    ...(body.sampleLabel ? { sampleLabel: body.sampleLabel } : {}),
+    ...(body.samplingPoint ? { samplingPoint: body.samplingPoint } : {}),
+    ...(body.sampledAt ? { sampledAt: body.sampledAt } : {}),
+    ...(body.supersedes ? { supersedes: body.supersedes } : {}),
+    ...(body.pageSize ? { pageSize: body.pageSize } : {}),
+  };
+  const { pdf } = await renderSignedSheet(jarTestEvaluationDocument(evaluation, ctx, plot), signer, { signingTime: now, contentSha256 });
+  const saved = services.archive.appendSheet({ ...content, createdBy: user.id, signerId: stored.id, signedAs: { name: stored.name, role: stored.role }, pdf, contentSha256 });
+  return { ...evaluationView(id, result), archive: archiveInfo(saved) };
+}
+
+function requireEvaluation(services: Services, id: string): SheetRecord<unknown, StoredEvaluation> {
+  const s = services.archive.getSheet<unknown, StoredEvaluation>(id);
+  if (s.kind !== 'jar-test-evaluation') {
+    throw new DomainError('SHEET_NOT_FOUND', {
+      detail: `Sheet ${id} is a ${s.kind} sheet, not a jar-test evaluation; see /api/v1/sheets/${id}.`,
+      fields: [{ pointer: '/id', message: 'not a jar-test evaluation' }],
+    });
+  }
+  return s;
+}
+
+// ---------------------------------------------------------------------------------------------
+// routes
+
+export async function jarTestRoutes(app: FastifyInstance): Promise<void> {
+  defineRoute(app, {
+    method: 'POST',
+    url: '/jar-tests/plans',
+    summary:
+      'Plan a jar test: the stoichiometric estimate from the sample, a dose ladder that brackets it, the stock to make, each jar’s aliquot and the schedule. With "Accept: application/pdf" the bench sheet (unsigned) with blank result cells and the safety box.',
+    tags: ['jar-tests'],
+    body: JarPlanBody,
+    response: { 200: PlanOut },
+    produces: ['application/pdf'],
+    handler: async (req, reply) => {
+      const want = preferredRepresentation(req.headers.accept);
+      if (want === null) {
+        throw new DomainError('NOT_ACCEPTABLE', { detail: 'This route answers application/json (the plan) or application/pdf (the bench sheet); send an Accept header that allows one of them.' });
+      }
+      reply.header('vary', 'Accept');
+      const m = makeJarPlan(app.services, req.body);
+      if (want === 'pdf') {
+        const { id, pdf } = await renderJarPlanPdf(app.services, req.body, m.plan);
+        reply.header('content-type', 'application/pdf').header('content-disposition', `inline; filename="${id}.pdf"`);
+        return pdf;
+      }
+      return planOut(m);
+    },
+  });
+
+  defineRoute(app, {
+    method: 'POST',
+    url: '/jar-tests/checks',
+    summary:
+      'Check a jar-test plan someone wrote: recompute each jar’s dose from stock strength, jar volume and aliquot, and flag arithmetic errors, ladders that do not bracket the estimate, aliquots too large or below the pipette’s resolution, stock above solubility and missing contact times.',
+    tags: ['jar-tests'],
+    body: JarCheckBody,
+    response: { 200: CheckOut },
+    handler: async (req) => checkOut(app.services, req.body),
+  });
+
+  defineRoute(app, {
+    method: 'POST',
+    url: '/jar-tests/evaluations',
+    summary:
+      'Evaluate jar-test results (engineer role): residual line, apparent and background demand, lowest dose meeting the targets, recommended plant dose; rendered with the residual plot, signed with the caller’s certificate and appended to the archive.',
+    tags: ['jar-tests'],
+    auth: true,
+    body: JarEvaluationBody,
+    response: { 201: EvaluationCreatedOut },
+    preHandler: requireRole('engineer'),
+    handler: async (req, reply) => {
+      const out = await issueJarTestEvaluation(app.services, req.user!, req.body);
+      reply.code(201).header('location', `${BASE}/evaluations/${out.id}`);
+      return out;
+    },
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/jar-tests/evaluations/:id',
+    summary: 'An archived jar-test evaluation: the result as issued, the request it was made from and the archive record',
+    tags: ['jar-tests'],
+    params: EvaluationId,
+    response: { 200: EvaluationRecordOut },
+    handler: async (req) => {
+      const s = requireEvaluation(app.services, req.params.id);
+      return { ...evaluationView(s.id, s.result), archive: archiveInfo(s), request: s.request };
+    },
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/jar-tests/evaluations/:id/plot.svg',
+    summary: 'The residual plot of an archived evaluation (SVG, as drawn when the sheet was made and stored with it)',
+    tags: ['jar-tests'],
+    params: EvaluationId,
+    produces: ['image/svg+xml'],
+    handler: async (req, reply) => {
+      const s = requireEvaluation(app.services, req.params.id);
+      reply.header('content-type', 'image/svg+xml; charset=utf-8').header('content-disposition', `inline; filename="${s.id}-residuals.svg"`);
+      return s.result.plotSvg;
+    },
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/jar-tests/evaluations/:id/pdf',
+    summary: 'The signed evaluation sheet PDF as archived',
+    tags: ['jar-tests'],
+    params: EvaluationId,
+    produces: ['application/pdf'],
+    handler: async (req, reply) => {
+      const s = requireEvaluation(app.services, req.params.id);
+      reply.header('content-type', 'application/pdf').header('content-disposition', `inline; filename="${s.id}.pdf"`);
+      return app.services.archive.getSheetPdf(s.id);
+    },
+  });
+}

@@ -1,0 +1,438 @@
+/**
+ * Jar-test routes over HTTP (issue 5, "HTTP contract"): plan (JSON and bench sheet PDF), check,
+ * evaluate (signed, archived), and the evaluation's GET, plot.svg and pdf. Needs poppler-utils
+ * (pdftotext, pdfsig) and qpdf: apt-get install -y poppler-utils qpdf.
+ *
+ * All sample readings and bench results here are invented demo data.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import type { FastifyInstance } from 'fastify';
+import { mkdtempSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { buildApp } from '../../src/http/app.js';
+import { gaussian, mulberry32 } from '../jar-tests/prng.js';
+import { pdfFile, pdfText, requireTools, run, runAny } from '../sheets/tools.js';
+
+const ADMIN_TOKEN = 'jar-tests-admin-token-0123456789';
+let app: FastifyInstance;
+let operatorToken: string;
+
+beforeAll(async () => {
+  requireTools('pdftotext', 'pdfsig', 'qpdf');
+  app = await buildApp({ dataDir: mkdtempSync(join(tmpdir(), 'oxd-jar-tests-')), bootstrapToken: ADMIN_TOKEN });
+  const r = await app.inject({ method: 'POST', url: '/api/v1/users', headers: { authorization: `Bearer ${ADMIN_TOKEN}` }, payload: { name: 'N. Shift (demo operator)', role: 'operator' } });
+  expect(r.statusCode).toBe(201);
+  operatorToken = r.json().token;
+});
+afterAll(async () => {
+  await app.close();
+});
+
+const post = (url: string, payload: unknown, headers: Record<string, string> = {}) => app.inject({ method: 'POST', url, payload: payload as object, headers });
+const asAdmin = { authorization: `Bearer ${ADMIN_TOKEN}` };
+const mgL = (value: number) => ({ value, unit: 'mg/L' });
+
+// Invented raw water: 1.0 mg/L Fe(II) and 0.5 mg/L Mn(II) at pH 7.5, 15 °C.
+const SAMPLE = { pH: 7.5, temperatureC: 15, iron: mgL(1.0), manganese: mgL(0.5) };
+// Stoichiometric permanganate demand, from the balanced reactions and IUPAC atomic weights (the service's
+// own derivation): 0.9433 mg KMnO4/mg Fe × 1.0 + 1.9177 mg KMnO4/mg Mn × 0.5 = 0.9433 + 0.9589 = 1.9021 mg/L.
+// Outside reference: US EPA 1999, Alternative Disinfectants and Oxidants Guidance Manual §5, prints the ratios
+// 0.94 and 1.92 mg KMnO4 per mg Fe and per mg Mn → 0.94 + 0.96 = 1.90 mg/L.
+const EPA_ESTIMATE = 0.94 * 1.0 + 1.92 * 0.5;
+
+// ---------------------------------------------------------------------------------------------
+describe('POST /api/v1/jar-tests/plans', () => {
+  // Worked example: permanganate, 2 L jars, 1.0 g/L (= 1.0 mg/mL) stock, doses 0.5 … 3.0 mg/L.
+  //   aliquot a = D·V/C = D mg/L × 2 L ÷ 1.0 mg/mL: 0.5 → 1.0 mL, 1.0 → 2.0 mL, … 3.0 → 6.0 mL
+  //   (the largest is 6.0 mL = 0.3 % of the 2000 mL jar, under the 1 % limit, so no dilution correction);
+  //   the dose the rounded aliquot really gives, with the jar diluted by the aliquot: a·C/(V + a/1000),
+  //   e.g. 2.0 mL → 2.0 × 1.0 / 2.002 = 0.999001 mg/L; 6.0 mL → 6.0 / 2.006 = 2.99103 mg/L;
+  //   expected residual if all of the 1.9021 mg/L demand is met: 2.99103 − 1.9021 = 1.0889 mg/L for jar 6;
+  //   stock used Σa = 21 mL, made ×2 (42 mL) → the smallest flask that holds it and needs ≥ 0.1 g: 100 mL;
+  //   mass = 1.0 g/L × 0.100 L ÷ 0.97 (table purity, AWWA B603 assay) = 0.10309 g.
+  const worked = {
+    oxidant: 'potassium-permanganate',
+    sample: SAMPLE,
+    jarVolume: { value: 2, unit: 'L' },
+    doses: [0.5, 1, 1.5, 2, 2.5, 3].map(mgL),
+    stockStrength: { value: 1.0, unit: 'g/L' },
+  };
+
+  it('worked example: aliquots, actual doses, expected residuals, stock and flask', async () => {
+    const r = await post('/api/v1/jar-tests/plans', worked);
+    expect(r.statusCode).toBe(200);
+    const b = r.json();
+    expect(b.estimate.unit).toBe('mg/L');
+    expect(b.estimate.basis).toBe('as KMnO4');
+    expect(b.estimate.value).toBeCloseTo(EPA_ESTIMATE, 1); // US EPA 1999 ratios, within 0.05 mg/L
+    expect(b.estimate.terms.map((t: { contaminant: string }) => t.contaminant)).toEqual(['iron', 'manganese']);
+    expect(b.estimate.value).toBeCloseTo(b.estimate.terms.reduce((s: number, t: { demand: { value: number } }) => s + t.demand.value, 0), 12);
+    expect(b.jars.map((j: { aliquotMl: number }) => j.aliquotMl)).toEqual([1, 2, 3, 4, 5, 6]);
+    expect(b.jars[1].dose).toMatchObject({ value: 1, unit: 'mg/L' });
+    expect(b.jars[1].actualDose.value).toBeCloseTo(2.0 / 2.002, 9);
+    expect(b.jars[5].actualDose.value).toBeCloseTo(6.0 / 2.006, 9);
+    expect(b.jars[5].expectedResidual.value).toBeCloseTo(6.0 / 2.006 - b.estimate.value, 9);
+    expect(b.jars[0].expectedResidual.value).toBe(0);
+    expect(b.dilutionCorrected).toBe(false);
+    expect(b.stock.strength).toMatchObject({ value: 1, unit: 'g/L', basis: 'as KMnO4', rounded: '1' });
+    expect(b.stock.flaskVolume).toEqual({ value: 100, unit: 'mL' });
+    expect(b.stock.productMass.value).toBeCloseTo((1.0 * 0.1) / 0.97, 9);
+    expect(b.stock.productMass.unit).toBe('g');
+    expect(b.stock.stockUsed.value).toBeCloseTo(21, 9);
+    expect(b.schedule.contactTimesMin).toEqual([5, 15, 30]);
+    expect(b.schedule.filtration.poreSizeUm).toBe(0.45);
+    expect(Array.isArray(b.warnings)).toBe(true);
+    expect(b.ladder).toMatchObject({ source: 'caller', brackets: true });
+  });
+
+  it('the same plan with the jar volume in mL, the doses in µg/L and the stock in mg/mL', async () => {
+    const r = await post('/api/v1/jar-tests/plans', {
+      ...worked,
+      jarVolume: { value: 2000, unit: 'mL' },
+      doses: [500, 1000, 1500, 2000, 2500, 3000].map((value) => ({ value, unit: 'µg/L' })),
+      stockStrength: { value: 1.0, unit: 'mg/mL' },
+    });
+    expect(r.statusCode).toBe(200);
+    expect(r.json().jars.map((j: { aliquotMl: number }) => j.aliquotMl)).toEqual([1, 2, 3, 4, 5, 6]);
+  });
+
+  it('a stock in % w/v is 10 g/L per %: 0.1 % w/v = 1.0 g/L gives the same aliquots', async () => {
+    const r = await post('/api/v1/jar-tests/plans', { ...worked, stockStrength: { value: 0.1, unit: '% w/v' } });
+    expect(r.json().stock.strength.value).toBeCloseTo(1.0, 12);
+    expect(r.json().jars.map((j: { aliquotMl: number }) => j.aliquotMl)).toEqual([1, 2, 3, 4, 5, 6]);
+  });
+
+  it('default ladder: 6 jars from 50 % to 150 % of the estimate (common practice), bracketing it', async () => {
+    const r = await post('/api/v1/jar-tests/plans', { oxidant: 'potassium-permanganate', sample: SAMPLE, jarVolume: { value: 2, unit: 'L' } });
+    const b = r.json();
+    expect(b.jars).toHaveLength(6);
+    expect(b.jars[0].dose.value).toBeCloseTo(0.5 * b.estimate.value, 9);
+    expect(b.jars[5].dose.value).toBeCloseTo(1.5 * b.estimate.value, 9);
+    expect(b.ladder).toMatchObject({ source: 'default', brackets: true });
+    // the chosen stock keeps every aliquot between 1.0 mL and 1 % of the jar (20 mL)
+    for (const j of b.jars) {
+      expect(j.aliquotMl).toBeGreaterThanOrEqual(1);
+      expect(j.aliquotMl).toBeLessThanOrEqual(20);
+    }
+  });
+
+  it('background demand is added to the demand the ladder brackets', async () => {
+    const r = await post('/api/v1/jar-tests/plans', { oxidant: 'potassium-permanganate', sample: SAMPLE, jarVolume: { value: 2, unit: 'L' }, backgroundDemand: mgL(0.6) });
+    const b = r.json();
+    expect(b.backgroundDemand.value).toBeCloseTo(0.6, 12);
+    expect(b.expectedDemand.value).toBeCloseTo(b.estimate.value + 0.6, 12);
+    expect(b.jars[5].dose.value).toBeCloseTo(1.5 * (b.estimate.value + 0.6), 9);
+  });
+
+  it('sodium hypochlorite: the stock is diluted from the trade solution, whose strength must be measured first', async () => {
+    // 12.5 % w/v trade hypochlorite = 125 g/L available chlorine (trade percent × 10, AWWA B300 convention);
+    // a 1.0 g/L stock in a 100 mL flask needs 1.0 × 100 ÷ 125 = 0.8 mL, below the 1.0 mL a pipette measures
+    // well, so the next flask (250 mL) takes 1.0 × 250 ÷ 125 = 2.0 mL.
+    const r = await post('/api/v1/jar-tests/plans', {
+      oxidant: 'sodium-hypochlorite',
+      sample: { pH: 7.2, temperatureC: 12, iron: mgL(2.0) },
+      jarVolume: { value: 1, unit: 'L' },
+      stockStrength: { value: 1.0, unit: 'g/L' },
+      product: { strength: { value: 12.5, unit: '% w/v' } },
+    });
+    expect(r.statusCode).toBe(200);
+    const b = r.json();
+    // US EPA 1999 §4: 0.64 mg Cl2 per mg Fe(II) → 1.28 mg/L as Cl2 for 2.0 mg/L Fe
+    expect(b.estimate.value).toBeCloseTo(0.64 * 2.0, 1);
+    expect(b.estimate.basis).toBe('as Cl2');
+    expect(b.stock.productMass).toBeNull();
+    expect(b.stock.preparation.kind).toBe('dilute');
+    expect(b.stock.preparation.tradeStrength.value).toBeCloseTo(125, 9);
+    expect(b.stock.preparation.tradeVolume.value).toBeCloseTo((1.0 * b.stock.flaskVolume.value) / 125, 9);
+    expect(b.warnings.map((w: { code: string }) => w.code)).toContain('TRADE_STRENGTH_DECAYS');
+  });
+
+  it('Accept: application/pdf returns the bench sheet with the safety box and blank result tables', async () => {
+    const r = await post('/api/v1/jar-tests/plans', { ...worked, contactTimesMin: [10, 30] }, { accept: 'application/pdf' });
+    expect(r.statusCode).toBe(200);
+    expect(r.headers['content-type']).toBe('application/pdf');
+    expect(r.rawPayload.subarray(0, 5).toString('latin1')).toBe('%PDF-');
+    const p = pdfFile(r.rawPayload, 'jar-plan-http');
+    const txt = pdfText(p);
+    expect(txt).toContain('Jar test plan: potassium permanganate');
+    expect(txt).toContain('Safety: potassium permanganate');
+    expect(txt).toContain('Results after 10 min');
+    expect(txt).toContain('Results after 30 min');
+    expect(txt).toContain('100 mL volumetric flask');
+    expect(run('qpdf', ['--check', p])).toContain('No syntax or stream encoding errors found');
+  });
+
+  it.each([
+    ['application/json', 'application/json'],
+    ['application/pdf;q=0.5, application/json', 'application/json'],
+    ['application/json;q=0.2, application/pdf', 'application/pdf'],
+    ['*/*', 'application/json'],
+  ])('Accept %s answers %s', async (accept, type) => {
+    const r = await post('/api/v1/jar-tests/plans', worked, { accept });
+    expect(r.statusCode).toBe(200);
+    expect(String(r.headers['content-type'])).toContain(type);
+  });
+
+  it('an Accept header that allows neither JSON nor PDF is refused', async () => {
+    const r = await post('/api/v1/jar-tests/plans', worked, { accept: 'text/html' });
+    expect(r.statusCode).toBe(400);
+    expect(r.json().code).toBe('NOT_ACCEPTABLE');
+  });
+
+  it.each([
+    ['a jar volume unit that is not L or mL', { jarVolume: { value: 2, unit: 'gal' } }, '/jarVolume/unit', 'VALIDATION_FAILED'],
+    ['a 50 L jar (domain limit 20 L)', { jarVolume: { value: 50, unit: 'L' } }, '/jarVolume/value', 'JAR_TEST_INVALID'],
+    ['a stock above the solubility of KMnO4 (about 60 g/L at 20 °C)', { stockStrength: { value: 100, unit: 'g/L' } }, '/stockStrength/value', 'JAR_TEST_INVALID'],
+    ['a stock of more than 100 % w/v', { stockStrength: { value: 150, unit: '% w/v' } }, '/stockStrength/value', 'QUANTITY_OUT_OF_RANGE'],
+    ['a stock too weak to reach the top dose', { stockStrength: { value: 0.002, unit: 'g/L' } }, '/stockStrength/value', 'JAR_TEST_INVALID'],
+    ['a dose unit that is not a concentration', { doses: [{ value: 1, unit: 'mL' }, mgL(2)] }, '/doses/0/unit', 'VALIDATION_FAILED'],
+    ['no temperature in the sample', { sample: { pH: 7.5, iron: mgL(1) } }, '/sample/temperatureC', 'DOSE_INPUT_MISSING'],
+  ])('400 naming the field: %s', async (_what, change, pointer, code) => {
+    const r = await post('/api/v1/jar-tests/plans', { ...worked, ...change });
+    expect(r.statusCode).toBe(400);
+    const p = r.json();
+    expect(p.code).toBe(code);
+    expect(p.errors.map((e: { pointer: string }) => e.pointer)).toContain(pointer);
+  });
+
+  it('a generated oxidant (ozone) needs the measured stock strength: 400 naming /stockStrength in the request\'s words', async () => {
+    const r = await post('/api/v1/jar-tests/plans', { oxidant: 'ozone', sample: SAMPLE, jarVolume: { value: 1, unit: 'L' } });
+    expect(r.statusCode).toBe(400);
+    const p = r.json();
+    expect(p.errors[0].pointer).toBe('/stockStrength');
+    expect(p.detail).toContain('stockStrength');
+    expect(p.detail).not.toMatch(/GPerL|MgPerL/);
+  });
+
+  it('a sample with nothing to oxidise and no doses: 400 pointing at the sample and the doses', async () => {
+    const r = await post('/api/v1/jar-tests/plans', { oxidant: 'potassium-permanganate', sample: { pH: 7.5, temperatureC: 15 }, jarVolume: { value: 2, unit: 'L' } });
+    expect(r.statusCode).toBe(400);
+    const pointers = r.json().errors.map((e: { pointer: string }) => e.pointer);
+    expect(pointers).toEqual(expect.arrayContaining(['/sample', '/doses']));
+  });
+});
+
+// ---------------------------------------------------------------------------------------------
+describe('POST /api/v1/jar-tests/checks', () => {
+  const base = {
+    oxidant: 'potassium-permanganate',
+    jarVolume: { value: 2, unit: 'L' },
+    stockStrength: { value: 1.0, unit: 'g/L' },
+    contactTimesMin: [5, 15, 30],
+  };
+  // A correct plan for the invented sample (estimate 1.90 mg/L): 1.0 … 6.0 mL of 1.0 g/L in 2 L jars.
+  const goodJars = [1, 2, 3, 4, 5, 6].map((a) => ({ aliquotMl: a, dose: mgL(a / 2) }));
+
+  it('a correct plan: every dose recomputed as a·C/(V + a/1000), no problems', async () => {
+    const r = await post('/api/v1/jar-tests/checks', { ...base, sample: SAMPLE, jars: goodJars });
+    expect(r.statusCode).toBe(200);
+    const b = r.json();
+    expect(b.problems).toEqual([]);
+    expect(b.jars.flatMap((j: { problems: unknown[] }) => j.problems)).toEqual([]);
+    expect(b.ok).toBe(true);
+    // 2.0 mL × 1.0 mg/mL ÷ (2 L + 0.002 L) = 0.999001 mg/L; stated 1.0 mg/L is within rounding
+    expect(b.jars[1].recomputedDose.value).toBeCloseTo(2.0 / 2.002, 9);
+    expect(b.jars[1].dose).toMatchObject({ value: 1, unit: 'mg/L' });
+    expect(b.estimate.value).toBeCloseTo(EPA_ESTIMATE, 1);
+  });
+
+  it('a dose without an aliquot gets the aliquot it needs, rounded to the pipette', async () => {
+    // 1.7 mg/L × 2 L ÷ 1.0 mg/mL = 3.4 mL; 3.4 × 1.0 / 2.0034 = 1.69712 mg/L
+    const r = await post('/api/v1/jar-tests/checks', { ...base, jars: [{ dose: mgL(1.7) }, { dose: mgL(2.0) }, { dose: mgL(2.5) }] });
+    const j = r.json().jars[0];
+    expect(j.recomputedAliquotMl).toBe(3.4);
+    expect(j.recomputedDose.value).toBeCloseTo(3.4 / 2.0034, 9);
+  });
+
+  // One plan per kind of problem; each changes the correct plan in one place.
+  it.each([
+    ['DOSE_MISMATCH', 'jar 2 says 1.5 mg/L but 2.0 mL of 1.0 g/L in 2 L gives 0.999 mg/L', { jars: [goodJars[0], { aliquotMl: 2, dose: mgL(1.5) }, ...goodJars.slice(2)] }, 2],
+    ['NOT_BRACKETING', 'every dose (0.5 to 1.5 mg/L) below the 1.90 mg/L estimate', { jars: goodJars.slice(0, 3) }, null],
+    ['ALIQUOT_TOO_LARGE', '30 mL is 1.5 % of a 2 L jar (limit 1 %, common practice)', { jars: [...goodJars.slice(0, 5), { aliquotMl: 30 }] }, 6],
+    ['BELOW_PIPETTE_RESOLUTION', '0.05 mL is below the 0.1 mL pipette step', { jars: [{ aliquotMl: 0.05 }, ...goodJars.slice(1)] }, 1],
+    ['NOT_PIPETTE_MULTIPLE', '2.05 mL is not a multiple of 0.1 mL', { jars: [goodJars[0], { aliquotMl: 2.05 }, ...goodJars.slice(2)] }, 2],
+    ['STOCK_ABOVE_SOLUBILITY', '100 g/L (10 % w/v) KMnO4 is above its solubility, about 60 g/L at 20 °C (tables/oxidants.json)', { stockStrength: { value: 10, unit: '% w/v' }, jars: goodJars.map((j) => ({ aliquotMl: j.aliquotMl / 100 + 0.1 })) }, null],
+    ['NO_CONTACT_TIMES', 'no contact times given', { contactTimesMin: undefined }, null],
+    ['MISSING_DOSE_AND_ALIQUOT', 'jar 3 has neither dose nor aliquot', { jars: [goodJars[0], goodJars[1], {}, ...goodJars.slice(3)] }, 3],
+    ['DUPLICATE_DOSE', 'jar 3 repeats jar 2', { jars: [goodJars[0], goodJars[1], goodJars[1], ...goodJars.slice(3)] }, 3],
+    ['NON_MONOTONIC_LADDER', 'doses neither rise nor fall', { jars: [goodJars[0], goodJars[3], goodJars[1], goodJars[4], goodJars[2], goodJars[5]] }, null],
+    ['TOO_FEW_JARS', 'two jars cannot give a demand line', { jars: [goodJars[2], goodJars[5]] }, null],
+  ])('finds %s: %s', async (code, _why, change, jar) => {
+    const body: Record<string, unknown> = { ...base, sample: SAMPLE, jars: goodJars, ...change };
+    if ('contactTimesMin' in change && change.contactTimesMin === undefined) delete body['contactTimesMin'];
+    const r = await post('/api/v1/jar-tests/checks', body);
+    expect(r.statusCode).toBe(200);
+    const b = r.json();
+    const found = jar === null ? b.problems : b.jars[jar - 1].problems;
+    expect(found.map((p: { code: string }) => p.code)).toContain(code);
+    const p = found.find((x: { code: string }) => x.code === code);
+    expect(p.message.length).toBeGreaterThan(20);
+  });
+
+  it('without a sample the bracketing is not checked, and says so', async () => {
+    const r = await post('/api/v1/jar-tests/checks', { ...base, jars: goodJars.slice(0, 3) });
+    const codes = r.json().problems.map((p: { code: string }) => p.code);
+    expect(codes).toContain('NO_ESTIMATE');
+    expect(codes).not.toContain('NOT_BRACKETING');
+    expect(r.json().estimate).toBeNull();
+    expect(JSON.stringify(r.json().problems)).not.toMatch(/MgPerL|GPerL/);
+  });
+
+  it('a negative aliquot is a 400 naming /jars/1/aliquotMl', async () => {
+    const r = await post('/api/v1/jar-tests/checks', { ...base, jars: [goodJars[0], { aliquotMl: -1 }] });
+    expect(r.statusCode).toBe(400);
+    expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toContain('/jars/1/aliquotMl');
+  });
+});
+
+// ---------------------------------------------------------------------------------------------
+describe('POST /api/v1/jar-tests/evaluations', () => {
+  // Stated model (invented): stoichiometric estimate E = 1.9021 mg/L (SAMPLE above) plus a background
+  // demand B = 0.6 mg/L, so the true demand at 30 min is D = E + B = 2.5021 mg/L (at 15 min, D − 0.3).
+  //   residual    = max(0, dose − D) + N(0, σ²), σ = 0.03 mg/L, seed 20261201 (mulberry32 + Box–Muller), never < 0
+  //   dissolved Fe = 1.0 × max(0, 1 − dose/D) + 0.02 mg/L;  dissolved Mn = 500 × max(0, 1 − dose/D) + 10 µg/L
+  // The fit of residual on dose over the jars above the 0.05 mg/L detection limit crosses zero at ≈ D.
+  const E = 0.9432775240994419 * 1.0 + 1.9177011661630687 * 0.5;
+  const B = 0.6;
+  const D = E + B;
+  const SIGMA = 0.03;
+  const DOSES = [1, 1.5, 2, 3, 3.5, 4, 4.5, 5];
+  const z = gaussian(mulberry32(20261201));
+  const jars = DOSES.map((dose) => ({
+    dose: mgL(dose),
+    results: [15, 30].map((t) => {
+      const demand = t === 30 ? D : D - 0.3;
+      const left = Math.max(0, 1 - dose / demand);
+      return {
+        contactTimeMin: t,
+        residualOxidant: mgL(Math.max(0, Math.max(0, dose - demand) + SIGMA * z())),
+        iron: mgL(1.0 * left + 0.02),
+        manganese: { value: 500 * left + 10, unit: 'µg/L' },
+        ...(t === 30 && dose >= 4.5 ? { note: 'faint pink' } : {}),
+      };
+    }),
+  }));
+  const body = {
+    oxidant: 'potassium-permanganate',
+    sample: SAMPLE,
+    jarVolume: { value: 2, unit: 'L' },
+    jars,
+    targets: { iron: mgL(0.3), manganese: mgL(0.05) },
+    sampledAt: '2026-11-30T07:30:00Z',
+    sampleLabel: 'Well 2 raw water (invented demo)',
+  };
+  let created: Record<string, any>;
+
+  beforeAll(async () => {
+    const r = await post('/api/v1/jar-tests/evaluations', body, asAdmin);
+    expect(r.statusCode, r.body).toBe(201);
+    created = r.json();
+  });
+
+  it('recovers the model demand: apparent ≈ D, background ≈ B, within 0.1 mg/L and inside the 95 % interval', () => {
+    expect(created.id).toMatch(/^JT-\d{8}-[0-9A-HJKMNP-TV-Z]{10}$/);
+    expect(created.apparentDemand.unit).toBe('mg/L');
+    expect(Math.abs(created.apparentDemand.value - D)).toBeLessThan(0.1);
+    expect(created.apparentDemand.ci95[0]).toBeLessThan(D);
+    expect(created.apparentDemand.ci95[1]).toBeGreaterThan(D);
+    expect(Math.abs(created.backgroundDemand.value - B)).toBeLessThan(0.1);
+    expect(created.backgroundDemand.value).toBeCloseTo(created.apparentDemand.value - created.estimate.value, 9);
+    expect(created.estimate.value).toBeCloseTo(E, 9);
+    // slope of residual on dose ≈ 1 above the demand; jars 4–8 (3.0 … 5.0 mg/L) kept a residual at 30 min
+    expect(created.fit.slope).toBeGreaterThan(0.9);
+    expect(created.fit.slope).toBeLessThan(1.1);
+    expect(created.fit.r2).toBeGreaterThan(0.99);
+    expect(created.fit.intercept).toBeCloseTo(-created.apparentDemand.value * created.fit.slope, 9);
+    expect(created.fit.jarsUsed).toEqual([4, 5, 6, 7, 8]);
+    expect(created.fit.contactTimeMin).toBe(30);
+  });
+
+  it('lowest dose meeting the Fe and Mn targets, and the recommended dose with its margin', () => {
+    // By the model, 2.0 mg/L leaves Mn 500 × (1 − 2/2.502) + 10 = 110 µg/L > 50: fails; 3.0 mg/L leaves 10 µg/L.
+    expect(created.lowestDoseMeetingTargets).toMatchObject({ value: 3, unit: 'mg/L', contactTimeMin: 30, jar: 4 });
+    // + 10 % (common practice): 3.0 × 1.1 = 3.3 mg/L
+    expect(created.recommendedDose.value).toBeCloseTo(3.3, 9);
+    expect(created.recommendedDose.unit).toBe('mg/L');
+    expect(created.recommendedDose.from).toBe('lowest-dose-meeting-targets');
+    expect(created.recommendedDose.reason).toContain('10 %');
+  });
+
+  it('the answer links the plot, the PDF and the verification; the archive record is there', () => {
+    expect(created.plotUrl).toBe(`/api/v1/jar-tests/evaluations/${created.id}/plot.svg`);
+    expect(created.pdfUrl).toBe(`/api/v1/jar-tests/evaluations/${created.id}/pdf`);
+    expect(created.archive.contentSha256).toMatch(/^[0-9a-f]{64}$/);
+    expect(created.archive.sampledAt).toBe('2026-11-30T07:30:00.000Z');
+  });
+
+  it('plotUrl returns the residual plot as SVG', async () => {
+    const r = await app.inject({ url: created.plotUrl });
+    expect(r.statusCode).toBe(200);
+    expect(r.headers['content-type']).toContain('image/svg+xml');
+    expect(r.body).toMatch(/<svg[\s>]/);
+    expect(r.body).toContain('apparent demand');
+  });
+
+  it('pdfUrl returns the signed sheet: title, plot, content hash in the footer, valid signature', async () => {
+    const r = await app.inject({ url: created.pdfUrl });
+    expect(r.statusCode).toBe(200);
+    expect(r.headers['content-type']).toBe('application/pdf');
+    expect(r.rawPayload.subarray(0, 5).toString('latin1')).toBe('%PDF-');
+    const p = pdfFile(r.rawPayload, 'jar-eval-http');
+    const txt = pdfText(p);
+    expect(txt).toContain('Jar test evaluation: potassium permanganate');
+    expect(txt).toContain('Residual oxidant against applied dose');
+    expect(txt).toContain('Safety: potassium permanganate');
+    expect(txt).toContain(created.archive.contentSha256);
+    const sig = runAny('pdfsig', ['-nocert', p]).output;
+    expect(sig).toContain('Signature Validation: Signature is Valid.');
+    expect(sig).toContain('Total document signed');
+  });
+
+  it('GET the evaluation: the same result as the POST answered, with the request', async () => {
+    const r = await app.inject({ url: `/api/v1/jar-tests/evaluations/${created.id}` });
+    expect(r.statusCode).toBe(200);
+    const g = r.json();
+    expect(g.apparentDemand).toEqual(created.apparentDemand);
+    expect(g.recommendedDose).toEqual(created.recommendedDose);
+    expect(g.fit).toEqual(created.fit);
+    expect(g.archive.recordHash).toBe(created.archive.recordHash);
+    expect(g.request.jars).toHaveLength(DOSES.length);
+  });
+
+  it('the archive verification stays valid after the evaluation, for the sheet and the whole chain', async () => {
+    const one = (await app.inject({ url: `/api/v1/sheets/${created.id}/verification` })).json();
+    expect(one).toMatchObject({ valid: true, hashMatches: true, signatureValid: true, chainValid: true });
+    const all = (await app.inject({ url: '/api/v1/archive/verification' })).json();
+    expect(all.valid).toBe(true);
+    expect(all.problems).toEqual([]);
+  });
+
+  it('401 without a token, 403 for an operator token', async () => {
+    const none = await post('/api/v1/jar-tests/evaluations', body);
+    expect(none.statusCode).toBe(401);
+    expect(none.json().code).toBe('AUTH_REQUIRED');
+    const op = await post('/api/v1/jar-tests/evaluations', body, { authorization: `Bearer ${operatorToken}` });
+    expect(op.statusCode).toBe(403);
+    expect(op.json().code).toBe('AUTH_FORBIDDEN');
+  });
+
+  it('too few jars with a residual: 422 naming /jars', async () => {
+    const r = await post('/api/v1/jar-tests/evaluations', { ...body, jars: jars.slice(0, 5) }, asAdmin);
+    expect(r.statusCode).toBe(422);
+    expect(r.json().code).toBe('JAR_TEST_TOO_FEW_POINTS');
+    expect(r.json().errors[0].pointer).toBe('/jars');
+  });
+
+  it('two results at one contact time: 400 pointing into the request body', async () => {
+    const twice = jars.map((j, i) => (i === 2 ? { ...j, results: [j.results[1]!, j.results[1]!] } : j));
+    const r = await post('/api/v1/jar-tests/evaluations', { ...body, jars: twice }, asAdmin);
+    expect(r.statusCode).toBe(400);
+    expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toContain('/jars/2/results/1/contactTimeMin');
+  });
+
+  it('unknown evaluation id: 404; malformed id: 400', async () => {
+    expect((await app.inject({ url: '/api/v1/jar-tests/evaluations/JT-20260101-0000000000' })).statusCode).toBe(404);
+    expect((await app.inject({ url: '/api/v1/jar-tests/evaluations/not-an-id/plot.svg' })).statusCode).toBe(400);
+  });
+});
