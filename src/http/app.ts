@@ -49,7 +49,9 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
         // No silent guesses: "7.2" is not the number 7.2, and unknown fields are refused.
         coerceTypes: false,
         removeAdditional: false,
-        allErrors: true,
+        // Stop at the first error: a failed request is validated again by its zod schema,
+        // which reports every bad field with the accepted range or units.
+        allErrors: false,
         useDefaults: true,
       },
     },

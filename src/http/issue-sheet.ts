@@ -3,7 +3,7 @@
  * certificate, append it to the archive. One function for the route and the benchmark.
  */
 import { z } from 'zod';
-import { DomainError } from '../core/errors.js';
+import { DomainError, isDomainError } from '../core/errors.js';
 import { newSheetId, prepareSheetContent, type User } from '../archive/index.js';
 import { doseSheetDocument } from '../sheets/dose-sheet.js';
 import { renderSignedSheet } from '../sheets/sign.js';
@@ -13,11 +13,18 @@ import type { Services } from './services.js';
 
 export async function issueDoseSheet(services: Services, user: User, body: z.output<typeof SheetBody>) {
   const { sampledAt, supersedes, samplingPoint, sampleLabel, pageSize, ...doseRequest } = body;
-  if (supersedes !== undefined && !services.archive.getSheet(supersedes)) {
-    throw new DomainError('SHEET_SUPERSEDES_UNKNOWN', {
-      detail: `Sheet ${supersedes} is not in the archive; a correction must name an existing sheet.`,
-      fields: [{ pointer: '/supersedes', message: 'no such sheet' }],
-    });
+  // archive.getSheet throws SHEET_NOT_FOUND (404, pointer /id); a correction naming an unknown
+  // sheet is a bad request field instead (400, /supersedes). The append re-checks both rules.
+  if (supersedes !== undefined) {
+    try {
+      services.archive.getSheet(supersedes);
+    } catch (e) {
+      if (!isDomainError(e) || e.code !== 'SHEET_NOT_FOUND') throw e;
+      throw new DomainError('SHEET_SUPERSEDES_UNKNOWN', {
+        detail: `Sheet ${supersedes} is not in the archive; a correction must name an existing sheet.`,
+        fields: [{ pointer: '/supersedes', message: 'no such sheet' }],
+      });
+    }
   }
   const result = doseFor(services, doseRequest);
   const id = newSheetId('dose');

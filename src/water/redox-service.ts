@@ -60,10 +60,10 @@ function withPointer<T>(pointer: string, f: () => T): T {
   }
 }
 
-export function stepsOut(steps: readonly DerivationStep[], deps: RedoxDeps): StepOut[] {
+export function stepsOut(steps: readonly DerivationStep[], deps: RedoxDeps, options: { citations?: boolean } = {}): StepOut[] {
   return steps.map((s) => {
     const row = deps.ledger.byId.get(s.rowId);
-    const citation = deps.citations.get(s.source);
+    const citation = options.citations === false ? undefined : deps.citations.get(s.source);
     return {
       rowId: s.rowId,
       table: row ? `tables/${row.file}` : 'tables/',
@@ -75,6 +75,19 @@ export function stepsOut(steps: readonly DerivationStep[], deps: RedoxDeps): Ste
       ...(citation ? { citation } : {}),
     };
   });
+}
+
+/** Balanced reactions do not change between requests: keyed by the four formulas and the medium. */
+const redoxMemo = new Map<string, ReturnType<typeof balanceRedox>>();
+function redoxFor(ox: { from: Species; to: Species }, red: { from: Species; to: Species }, medium: Medium) {
+  const k = `${ox.from.text}|${ox.to.text}|${red.from.text}|${red.to.text}|${medium}`;
+  let r = redoxMemo.get(k);
+  if (!r) {
+    r = balanceRedox({ oxidant: ox, reductant: red, medium });
+    if (redoxMemo.size > 2048) redoxMemo.clear();
+    redoxMemo.set(k, r);
+  }
+  return r;
 }
 
 const halfMemo = new Map<string, HalfReaction>();
@@ -233,11 +246,38 @@ export interface CellInputText {
 /** Langelier 1936: I ≈ 2.5×10⁻⁵ × TDS (mg/L). */
 const LANGELIER = 2.5e-5;
 
-export function evaluateCellText(input: CellInputText, deps: RedoxDeps) {
+/**
+ * The answer depends only on the input and the tables, which do not change while the service
+ * runs: identical requests (a dashboard polling the same sample) are answered from a small
+ * least-recently-used memo. The memo is per deps object (one per loaded set of tables).
+ */
+const CELL_MEMO_SIZE = 512;
+const cellMemos = new WeakMap<RedoxDeps, Map<string, ReturnType<typeof evaluateCellUncached>>>();
+
+export function evaluateCellText(input: CellInputText, deps: RedoxDeps): ReturnType<typeof evaluateCellUncached> {
+  let memo = cellMemos.get(deps);
+  if (!memo) {
+    memo = new Map();
+    cellMemos.set(deps, memo);
+  }
+  const key = JSON.stringify(input);
+  const hit = memo.get(key);
+  if (hit) {
+    memo.delete(key);
+    memo.set(key, hit);
+    return hit;
+  }
+  const out = evaluateCellUncached(input, deps);
+  if (memo.size >= CELL_MEMO_SIZE) memo.delete(memo.keys().next().value as string);
+  memo.set(key, out);
+  return out;
+}
+
+export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
   const ox = { from: parseAt(input.oxidant.from, '/oxidant/from', deps), to: parseAt(input.oxidant.to, '/oxidant/to', deps) };
   const red = { from: parseAt(input.reductant.from, '/reductant/from', deps), to: parseAt(input.reductant.to, '/reductant/to', deps) };
   const medium = chooseMedium(input.medium, input.pH);
-  const overall = balanceRedox({ oxidant: ox, reductant: red, medium });
+  const overall = redoxFor(ox, red, medium);
   const oxHalf = overall.reduction;
   const redHalf = overall.oxidation;
   const T = input.temperatureC;
@@ -315,7 +355,9 @@ export function evaluateCellText(input: CellInputText, deps: RedoxDeps) {
     temperatureCorrectionV: p.temperatureCorrectionV,
     potentialV: n.potentialV,
     valueUsed: p.usedValue,
-    derivation: stepsOut(p.derivation, deps),
+    // Source ids only here (the full citations: GET /api/v1/tables/sources), which keeps the
+    // answer small on the route that is called most.
+    derivation: stepsOut(p.derivation, deps, { citations: false }),
     unitActivity: [...n.notGiven],
   });
   if (cell.oxidant.notGiven.length || cell.reductant.notGiven.length) {

@@ -76,8 +76,10 @@ async function main(): Promise<void> {
     { name: 'POST /api/v1/doses', method: 'POST', path: '/api/v1/doses', body: bodies.dose },
   ];
   const rps: Record<string, number> = {};
+  const only = process.env['BENCH_ONLY'];
   try {
     for (const t of targets) {
+      if (only && !only.split(',').some((o) => t.path.includes(o))) continue;
       await hit(server.port, t, 1); // warm-up: JIT, caches
       rps[t.name] = await hit(server.port, t, seconds);
       console.log(`  ${t.name.padEnd(46)} ${fmt(rps[t.name]!).padStart(8)} req/s`);

@@ -14,36 +14,42 @@ import { defineRoute } from '../../src/http/route.js';
 import { CellBody, CellResponse } from '../../src/http/schemas/chemistry.js';
 import { DoseBody, DoseResponse } from '../../src/http/schemas/dosing.js';
 import { benchBodies } from './bodies.js';
+import { evaluateCellText } from '../../src/water/redox-service.js';
+import { doseFor } from '../../src/http/routes/v1/dosing.js';
 
-const app = await buildApp({ dataDir: mkdtempSync(join(tmpdir(), 'oxd-bench-')), logger: false });
 const bodies = benchBodies();
 
-const cannedCell = (await app.inject({ method: 'POST', url: '/api/v1/cells/evaluate', payload: bodies.cell })).json();
-const cannedDose = (await app.inject({ method: 'POST', url: '/api/v1/doses', payload: bodies.dose })).json();
-if (cannedCell.status || cannedDose.status) throw new Error(`bench bodies rejected: ${JSON.stringify(cannedCell.status ? cannedCell : cannedDose)}`);
-
-defineRoute(app, {
-  method: 'POST',
-  url: '/bench/echo-cells',
-  summary: 'bench echo (JSON Schema)',
-  tags: ['bench'],
-  body: CellBody,
-  response: { 200: CellResponse },
-  handler: async () => cannedCell,
-});
-defineRoute(app, {
-  method: 'POST',
-  url: '/bench/echo-doses',
-  summary: 'bench echo (JSON Schema)',
-  tags: ['bench'],
-  body: DoseBody,
-  response: { 200: DoseResponse },
-  handler: async () => cannedDose,
-});
-await app.register(async (zodScope) => {
-  zodScope.setValidatorCompiler(validatorCompiler);
-  zodScope.setSerializerCompiler(serializerCompiler);
-  zodScope.withTypeProvider<ZodTypeProvider>().post('/bench/echo-cells-zod', { schema: { body: CellBody, response: { 200: CellResponse } } }, async () => cannedCell);
+const app = await buildApp({
+  dataDir: mkdtempSync(join(tmpdir(), 'oxd-bench-')),
+  logger: false,
+  configure: async (app) => {
+    // Responses computed once, with the real services, before the server starts.
+    const cannedCell = evaluateCellText(bodies.cell as Parameters<typeof evaluateCellText>[0], app.services.redox);
+    const cannedDose = doseFor(app.services, bodies.dose as Parameters<typeof doseFor>[1]);
+    defineRoute(app, {
+      method: 'POST',
+      url: '/bench/echo-cells',
+      summary: 'bench echo (JSON Schema)',
+      tags: ['bench'],
+      body: CellBody,
+      response: { 200: CellResponse },
+      handler: async () => cannedCell,
+    });
+    defineRoute(app, {
+      method: 'POST',
+      url: '/bench/echo-doses',
+      summary: 'bench echo (JSON Schema)',
+      tags: ['bench'],
+      body: DoseBody,
+      response: { 200: DoseResponse },
+      handler: async () => cannedDose,
+    });
+    await app.register(async (zodScope) => {
+      zodScope.setValidatorCompiler(validatorCompiler);
+      zodScope.setSerializerCompiler(serializerCompiler);
+      zodScope.withTypeProvider<ZodTypeProvider>().post('/bench/echo-cells-zod', { schema: { body: CellBody, response: { 200: CellResponse } } }, async () => cannedCell);
+    });
+  },
 });
 
 const address = await app.listen({ host: '127.0.0.1', port: 0 });

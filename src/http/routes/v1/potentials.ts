@@ -51,6 +51,17 @@ export async function potentialRoutes(app: FastifyInstance): Promise<void> {
 
   defineRoute(app, {
     method: 'GET',
+    url: '/tables/sources',
+    summary: 'Every source the tables cite, with its full citation (the ids in derivations and flags resolve here)',
+    tags: ['tables'],
+    response: { 200: z.object({ sources: z.array(z.looseObject({ id: z.string(), citation: z.string() })) }) },
+    handler: async () => ({
+      sources: app.services.tables.sources.map((s) => ({ ...(s as Record<string, unknown>), id: s.id, citation: app.services.dosing.citations.get(s.id) ?? s.id })),
+    }),
+  });
+
+  defineRoute(app, {
+    method: 'GET',
     url: '/tables/potentials/consistency',
     summary: 'Every tabled couple that can also be derived from other rows, with the discrepancy (flagged above 5 mV)',
     tags: ['tables'],
