@@ -355,9 +355,10 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     temperatureCorrectionV: p.temperatureCorrectionV,
     potentialV: n.potentialV,
     valueUsed: p.usedValue,
-    // Source ids only here (the full citations: GET /api/v1/tables/sources), which keeps the
-    // answer small on the route that is called most.
-    derivation: stepsOut(p.derivation, deps, { citations: false }),
+    // Compact here: row ids, multipliers and source ids (the rows: GET /api/v1/tables/potentials,
+    // the citations: GET /api/v1/tables/sources, the full derivation: POST /api/v1/couples/potential),
+    // which keeps the answer small on the route that is called most.
+    derivation: p.derivation.map((d) => ({ rowId: d.rowId, coefficient: d.coefficient, source: d.source })),
     unitActivity: [...n.notGiven],
   });
   if (cell.oxidant.notGiven.length || cell.reductant.notGiven.length) {

@@ -136,7 +136,9 @@ const HalfAtConditions = z.object({
   temperatureCorrectionV: z.number(),
   potentialV: z.number(),
   valueUsed: z.enum(['tabled', 'derived', 'override']),
-  derivation: z.array(DerivationStep),
+  derivation: z
+    .array(z.object({ rowId: z.string(), coefficient: z.string(), source: z.string() }))
+    .describe('Tabled rows combined (ids in GET /api/v1/tables/potentials; sources in GET /api/v1/tables/sources)'),
   unitActivity: z.array(z.string()),
 });
 
