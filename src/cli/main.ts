@@ -17,6 +17,7 @@ import { loadReferenceTables } from '../reference/load.js';
 import { balanceService } from '../chemistry/balance/service.js';
 import { buildDosingContext, computeDose, parseDoseRequest } from '../dosing/index.js';
 import { couplePotential } from '../water/redox-service.js';
+import { redoxDepsOf } from '../dosing/redox-deps.js';
 import { openArchive } from '../archive/index.js';
 import { verifySignedPdf } from '../sheets/verify.js';
 
@@ -46,18 +47,7 @@ function couple(text: string | undefined, role: string): { from: string; to: str
 function redoxDeps() {
   const tables = loadReferenceTables();
   const dosing = buildDosingContext(tables);
-  return {
-    dosing,
-    redox: {
-      ledger: dosing.ledger,
-      constants: dosing.constants,
-      kwAt: dosing.feasibilityDeps.kwAt,
-      daviesAAt: dosing.feasibilityDeps.daviesAAt,
-      molarMassOf: dosing.molarMassOf,
-      citations: dosing.citations,
-      elements: new Set(dosing.atomicWeights.keys()),
-    },
-  };
+  return { dosing, redox: redoxDepsOf(dosing) };
 }
 
 async function main(argv: string[]): Promise<unknown> {

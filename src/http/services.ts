@@ -11,6 +11,7 @@ import { consistencyReport, type Ledger } from '../chemistry/thermo/index.js';
 import { openArchive, type Archive } from '../archive/index.js';
 import { buildDosingContext, parsePlantProfile, type DosingContext } from '../dosing/index.js';
 import type { RedoxDeps } from '../water/redox-service.js';
+import { redoxDepsOf } from '../dosing/redox-deps.js';
 import { createDemoSigner, loadSigner, type SheetSigner } from '../sheets/sign.js';
 import type { StoredSigner } from '../archive/index.js';
 
@@ -136,15 +137,8 @@ export async function createServices(options: ServiceOptions): Promise<Services>
   const atomicWeights = atomicWeightMap(tables);
   const dosing = buildDosingContext(tables);
   const elements = new Set(atomicWeights.keys());
-  const redox: RedoxDeps = {
-    ledger: dosing.ledger,
-    constants: dosing.constants,
-    kwAt: dosing.feasibilityDeps.kwAt,
-    daviesAAt: dosing.feasibilityDeps.daviesAAt,
-    molarMassOf: dosing.molarMassOf,
-    citations: dosing.citations,
-    elements,
-  };
+  const redox: RedoxDeps = redoxDepsOf(dosing);
+
   let consistency: ConsistencyOut | undefined;
   const archive = openArchive({ dataDir: options.dataDir });
   // The invented demo plant (tables/demo/), validated like any profile, stored once.
