@@ -7,7 +7,7 @@
  * When deriving a row, rows of the same source are preferred (a handbook is checked against
  * itself first), then the usual source order.
  */
-import { deriveAllCombinations, deriveCombination, FLAG_THRESHOLD_V, MAX_ROWS, reductionPotentialV, type Combination, type DerivationStep } from './derive.js';
+import { deriveAllCombinations, deriveCombination, FLAG_THRESHOLD_V, MAX_ROWS, reductionPotentialV, steps, type Combination, type DerivationStep } from './derive.js';
 import { rowStandardPotentialV, type Ledger } from './ledger.js';
 
 export interface ConsistencyEntry {
@@ -45,16 +45,7 @@ export interface ConsistencyReport {
   readonly thresholdMV: number;
 }
 
-function stepsOf(c: Combination): DerivationStep[] {
-  return c.parts.map((p) => ({
-    rowId: p.row.id,
-    equation: p.row.equation,
-    coefficient: p.coefficient.toString(),
-    kind: p.row.kind,
-    valueText: p.row.valueText,
-    source: p.row.source,
-  }));
-}
+const stepsOf = steps;
 
 export function consistencyReport(ledger: Ledger): ConsistencyReport {
   const cached = ledger.cache.get('consistency-report') as ConsistencyReport | undefined;

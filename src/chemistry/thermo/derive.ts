@@ -410,7 +410,8 @@ export function deriveAllCombinations(
 
 // ---------------------------------------------------------------- the public function
 
-function steps(c: Combination): DerivationStep[] {
+/** The rows of a combination as derivation steps (each with its multiplier and source). */
+export function steps(c: Combination): DerivationStep[] {
   return c.parts.map((p) => ({
     rowId: p.row.id,
     equation: p.row.equation,
