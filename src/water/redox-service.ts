@@ -16,7 +16,7 @@ import { standardPotential, type PotentialResult, type DerivationStep } from '..
 import type { Ledger } from '../chemistry/thermo/ledger.js';
 import { nernst, type NernstResult } from './conditions.js';
 import { evaluateCell } from './cell.js';
-import { daviesGamma } from './activity.js';
+import { daviesGamma, ionicStrength } from './activity.js';
 import type { PhysicalConstants } from './constants.js';
 
 /** What the service needs; the dosing context provides all of it. */
@@ -243,8 +243,6 @@ export interface CellInputText {
   standardPotentials?: { oxidant?: { value: number; source: string } | undefined; reductant?: { value: number; source: string } | undefined } | undefined;
 }
 
-/** Langelier 1936: I ≈ 2.5×10⁻⁵ × TDS (mg/L). */
-const LANGELIER = 2.5e-5;
 
 /**
  * The answer depends only on the input and the tables, which do not change while the service
@@ -292,8 +290,9 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     I = input.ionicStrength;
     iOrigin = 'given';
   } else if (input.tdsMgPerL !== undefined) {
-    I = LANGELIER * input.tdsMgPerL;
-    iOrigin = `from TDS ${input.tdsMgPerL} mg/L by Langelier (1936), I ≈ 2.5×10⁻⁵ × TDS`;
+    const est = ionicStrength({ method: 'tds', tdsMgPerL: input.tdsMgPerL });
+    I = est.ionicStrengthMolPerL;
+    iOrigin = `from TDS ${input.tdsMgPerL} mg/L: ${est.relation?.equation ?? ''} (${est.relation?.citation ?? ''})`;
   }
   const A = deps.daviesAAt(T);
   const activities = new Map<string, number>();
