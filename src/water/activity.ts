@@ -69,6 +69,16 @@ export const WATER_DENSITY: EmpiricalRelation = {
   note: 'Fitted for 0–40 °C; above 40 °C it is an extrapolation (0.03 % low at 100 °C), harmless here because A depends on √ρ. Coefficients from memory; verify.',
 };
 
+/** Every empirical relation the water layer uses; their ids appear in answers (GET /api/v1/tables/relations). */
+export const EMPIRICAL_RELATIONS: readonly EmpiricalRelation[] = [
+  IONIC_STRENGTH_FROM_TDS,
+  IONIC_STRENGTH_FROM_CONDUCTANCE,
+  DAVIES_EQUATION,
+  DEBYE_HUCKEL_A,
+  WATER_DIELECTRIC,
+  WATER_DENSITY,
+];
+
 function coeff(r: EmpiricalRelation, name: string): number {
   const text = r.coefficients[name];
   if (text === undefined) throw new Error(`relation ${r.id} has no coefficient ${name}`);

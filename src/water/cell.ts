@@ -251,7 +251,7 @@ function equilibriumResidual(
       molPerL,
       mgPerL: M === undefined ? null : molPerL * M * 1000,
       note:
-        `Thermodynamic floor: the ${reduced.text} level at which the cell potential reaches 0 V with every other activity held; kinetics usually stop the reaction well before it.` +
+        `Thermodynamic floor (E = 0 V with every other activity held); kinetics usually stop the reaction well before it.` +
         (heldAtUnit ? ` ${reduced.text} was at unit activity (not given) in the cell evaluation.` : ''),
     },
   };

@@ -16,7 +16,7 @@ import { standardPotential, type PotentialResult, type DerivationStep } from '..
 import type { Ledger } from '../chemistry/thermo/ledger.js';
 import { nernst, type NernstResult } from './conditions.js';
 import { evaluateCell } from './cell.js';
-import { daviesGamma, ionicStrength } from './activity.js';
+import { DAVIES_EQUATION, daviesGamma, ionicStrength } from './activity.js';
 import type { PhysicalConstants } from './constants.js';
 
 /** What the service needs; the dosing context provides all of it. */
@@ -285,14 +285,16 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
   const pRed = potentialFor(redHalf, deps, { temperatureC: T, temperatureCorrection: true, ...(rv ? { override: { valueV: rv.value, source: rv.source } } : {}) }, '/reductant');
 
   let I = 0;
-  let iOrigin = 'not given: activities taken equal to concentrations (γ = 1)';
+  let iBasis: 'given' | 'tds' | 'none' = 'none';
+  let iRelation: string | null = null;
   if (input.ionicStrength !== undefined) {
     I = input.ionicStrength;
-    iOrigin = 'given';
+    iBasis = 'given';
   } else if (input.tdsMgPerL !== undefined) {
     const est = ionicStrength({ method: 'tds', tdsMgPerL: input.tdsMgPerL });
     I = est.ionicStrengthMolPerL;
-    iOrigin = `from TDS ${input.tdsMgPerL} mg/L: ${est.relation?.equation ?? ''} (${est.relation?.citation ?? ''})`;
+    iBasis = 'tds';
+    iRelation = est.relation?.id ?? null;
   }
   const A = deps.daviesAAt(T);
   const activities = new Map<string, number>();
@@ -322,7 +324,6 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     const gamma = s.charge === 0 ? 1 : daviesGamma(s.charge, I, A);
     activities.set(key, molPerL * gamma);
   }
-  if (I > 0) notes.push(`Activity coefficients by the Davies equation at I = ${I.toPrecision(3)} mol/L, A = ${A.toFixed(4)} at ${T} °C; neutral species γ = 1.`);
 
   const molarMassRed = (() => {
     try {
@@ -345,12 +346,10 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     constants: deps.constants,
     reductantResidual: { activityCoefficient: gammaRed, ...(molarMassRed !== undefined ? { molarMassGPerMol: molarMassRed } : {}) },
   });
-  const halfOut = (couple: { from: string; to: string }, h: HalfReaction, p: PotentialResult, n: NernstResult) => ({
-    couple,
+  const halfOut = (h: HalfReaction, p: PotentialResult, n: NernstResult) => ({
     equation: h.equation,
     electrons: h.electrons,
     standardPotentialV: p.standardPotentialV,
-    standardPotentialAtTV: p.standardPotentialAtTemperatureV,
     temperatureCorrectionV: p.temperatureCorrectionV,
     potentialV: n.potentialV,
     valueUsed: p.usedValue,
@@ -360,31 +359,25 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     derivation: p.derivation.map((d) => ({ rowId: d.rowId, coefficient: d.coefficient, source: d.source })),
     unitActivity: [...n.notGiven],
   });
-  if (cell.oxidant.notGiven.length || cell.reductant.notGiven.length) {
-    notes.push(`Left at unit activity (no concentration given): ${[...new Set([...cell.oxidant.notGiven, ...cell.reductant.notGiven])].join(', ')}.`);
-  }
   const res = cell.reductantResidual;
   return {
     reaction: overall.equation,
-    reactionUnicode: formatEquationUnicode(overall.equation),
     medium,
     electrons: cell.electrons,
     standardCellPotentialV: cell.standardCellPotentialV,
     cellPotentialV: cell.cellPotentialV,
-    marginV: cell.marginV,
     deltaGkJPerMol: cell.deltaGkJPerMol,
-    standardDeltaGkJPerMol: cell.standardDeltaGkJPerMol,
     log10K: cell.log10K,
     feasible: cell.feasible,
     feasibilityLimitPH: cell.feasibilityLimitPH,
     feasibilityLimitsPH: [...cell.feasibilityLimitsPH],
     feasibleSide: cell.feasibleSide,
-    equilibriumResidual: res ? { species: res.species, molPerL: res.molPerL, mgPerL: res.mgPerL, note: res.note } : null,
-    ionicStrength: { value: I, origin: iOrigin },
+    equilibriumResidual: res ? { species: res.species, molPerL: res.molPerL, mgPerL: res.mgPerL } : null,
+    activity: { ionicStrength: I, ionicStrengthBasis: iBasis, ionicStrengthRelation: iRelation, daviesA: A, relation: DAVIES_EQUATION.id },
     slopeV: cell.slopeV,
     halfReactions: {
-      oxidant: halfOut(input.oxidant, oxHalf, pOx, cell.oxidant),
-      reductant: halfOut(input.reductant, redHalf, pRed, cell.reductant),
+      oxidant: halfOut(oxHalf, pOx, cell.oxidant),
+      reductant: halfOut(redHalf, pRed, cell.reductant),
     },
     notes: [...notes, ...(cell.reductantResidualReason ? [cell.reductantResidualReason] : [])],
   };

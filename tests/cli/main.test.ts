@@ -12,7 +12,7 @@ describe('command line', () => {
   it('balances a redox reaction from two couples (textbook: 2MnO4- + 3Mn2+ + 2H2O → 5MnO2 + 4H+ in acid)', () => {
     const r = cli(['balance', 'MnO4-:MnO2', 'Mn2+:MnO2', '--medium', 'acid']);
     expect(r.status).toBe(0);
-    expect(JSON.parse(r.stdout).equation).toBe('2MnO4- + 3Mn2+ + 2H2O → 5MnO2 + 4H+');
+    expect(JSON.parse(r.stdout).equation).toBe('2MnO4- + 3Mn2+ + 2H2O -> 5MnO2 + 4H+');
   });
 
   it('prints the bad character of a formula and exits 2', () => {

@@ -88,7 +88,7 @@ describe('worked example 2 — sodium hypochlorite for iron with a residual (dem
     expect(r.dose.rounded).toBe('1.76');
     expect(r.feed!.solutionRate!.value).toBeCloseTo((expected * 4000) / 125 / 24, 10);
     expect(r.feed!.pump!.settingPercent.rounded).toBe('23.5');
-    expect(r.demand[0]!.reaction).toBe('OCl- + 2Fe2+ + 5H2O → Cl- + 2Fe(OH)3(s) + 4H+');
+    expect(r.demand[0]!.reaction).toBe('OCl- + 2Fe2+ + 5H2O -> Cl- + 2Fe(OH)3(s) + 4H+');
   });
   it('with 0.5 mg/L ammonia-N at the theoretical breakpoint: + 0.5 × 3 × 70.90 / (2 × 14.007) = 1.898 mg/L', () => {
     const r2 = computeDose(parseDoseRequest({ oxidant: 'sodium-hypochlorite', plantId: 'demo-groundwater', sample: { pH: 7.0, temperatureC: 12, iron: { value: 1.2, unit: 'mg/L' }, ammoniaN: { value: 0.5, unit: 'mg/L' } } }), context, { plant: demo });

@@ -100,12 +100,12 @@ describe('printed values that do not follow from the reaction at their rounding 
 describe('the balanced reactions behind the ratios', () => {
   it.each([
     // textbook equations (e.g. MWH 2012; US EPA 1999 ch. 5)
-    ['potassium-permanganate', 'iron', undefined, 'MnO4- + 3Fe2+ + 7H2O → MnO2(s) + 3Fe(OH)3(s) + 5H+'],
-    ['potassium-permanganate', 'manganese', undefined, '2MnO4- + 3Mn2+ + 2H2O → 5MnO2(s) + 4H+'],
-    ['chlorine-gas', 'iron', undefined, 'Cl2 + 2Fe2+ + 6H2O → 2Cl- + 2Fe(OH)3(s) + 6H+'],
-    ['chlorine-gas', 'sulfide', 'sulfur', 'Cl2 + H2S → 2Cl- + S(s) + 2H+'],
-    ['chlorine-dioxide', 'iron', undefined, 'ClO2 + Fe2+ + 3H2O → ClO2- + Fe(OH)3(s) + 3H+'],
-    ['oxygen', 'iron', undefined, 'O2 + 4Fe2+ + 10H2O → 4Fe(OH)3(s) + 8H+'],
+    ['potassium-permanganate', 'iron', undefined, 'MnO4- + 3Fe2+ + 7H2O -> MnO2(s) + 3Fe(OH)3(s) + 5H+'],
+    ['potassium-permanganate', 'manganese', undefined, '2MnO4- + 3Mn2+ + 2H2O -> 5MnO2(s) + 4H+'],
+    ['chlorine-gas', 'iron', undefined, 'Cl2 + 2Fe2+ + 6H2O -> 2Cl- + 2Fe(OH)3(s) + 6H+'],
+    ['chlorine-gas', 'sulfide', 'sulfur', 'Cl2 + H2S -> 2Cl- + S(s) + 2H+'],
+    ['chlorine-dioxide', 'iron', undefined, 'ClO2 + Fe2+ + 3H2O -> ClO2- + Fe(OH)3(s) + 3H+'],
+    ['oxygen', 'iron', undefined, 'O2 + 4Fe2+ + 10H2O -> 4Fe(OH)3(s) + 8H+'],
   ] as const)('%s with %s: %s', (o, c, p, equation) => {
     expect(derive(o, c, p).equation).toBe(equation);
   });

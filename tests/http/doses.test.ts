@@ -290,7 +290,7 @@ describe('POST /api/v1/doses: worked examples (hand arithmetic from balanced rea
       near(got.demand.value, d.ratio * d.concentration);
       expect(got.demand.unit).toBe(`mg/L ${ex.basis}`);
       for (const s of d.reactionHas) expect(got.reaction.split(/\s+/)).toContain(s);
-      expect(got.reaction).toMatch(/→/);
+      expect(got.reaction).toMatch(/ -> /);
       sum += d.ratio * d.concentration;
     }
 

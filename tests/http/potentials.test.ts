@@ -83,6 +83,9 @@ describe('POST /api/v1/couples/potential', () => {
   });
 });
 
+/** E° at the sample temperature: the 25 °C value plus its temperature correction. */
+const e0T = (h: { standardPotentialV: number; temperatureCorrectionV: number }) => h.standardPotentialV + h.temperatureCorrectionV;
+
 describe('POST /api/v1/cells/evaluate', () => {
   it('permanganate oxidises Mn(II) at pH 7.2: feasible, 6 electrons, ΔG = −nFE, log K = nFE°/(RT ln 10)', async () => {
     const r = await post('/api/v1/cells/evaluate', {
@@ -99,7 +102,7 @@ describe('POST /api/v1/cells/evaluate', () => {
     // CODATA 2018: F = 96485.33212 C/mol, R = 8.314462618 J/(mol K)
     expect(b.deltaGkJPerMol).toBeCloseTo((-6 * 96485.33212 * b.cellPotentialV) / 1000, 6);
     expect(b.log10K).toBeCloseTo((6 * 96485.33212 * b.standardCellPotentialV) / (8.314462618 * 298.15 * Math.LN10), 4);
-    expect(b.standardCellPotentialV).toBeCloseTo(b.halfReactions.oxidant.standardPotentialAtTV - b.halfReactions.reductant.standardPotentialAtTV, 12);
+    expect(b.standardCellPotentialV).toBeCloseTo(e0T(b.halfReactions.oxidant) - e0T(b.halfReactions.reductant), 12);
     expect(b.cellPotentialV).toBeCloseTo(b.halfReactions.oxidant.potentialV - b.halfReactions.reductant.potentialV, 12);
   });
 
@@ -115,8 +118,8 @@ describe('POST /api/v1/cells/evaluate', () => {
     const b = r.json();
     // E = (E°O2 − E°MnO2) − (0.05916/4)·log(1/pO2) ... written per 4 e-: E(pH) = ΔE° + (s/4)·log pO2 − (s/2)·... ; solve directly:
     const s = (8.314462618 * 298.15 * Math.LN10) / 96485.33212;
-    const eO2 = (pH: number) => b.halfReactions.oxidant.standardPotentialAtTV + (s / 4) * (Math.log10(0.21) - 4 * pH);
-    const eMn = (pH: number) => b.halfReactions.reductant.standardPotentialAtTV - (s / 2) * (Math.log10(1e-5) + 4 * pH);
+    const eO2 = (pH: number) => e0T(b.halfReactions.oxidant) + (s / 4) * (Math.log10(0.21) - 4 * pH);
+    const eMn = (pH: number) => e0T(b.halfReactions.reductant) - (s / 2) * (Math.log10(1e-5) + 4 * pH);
     // eO2 − eMn = 0 → linear in pH
     const a0 = eO2(0) - eMn(0);
     const a1 = eO2(1) - eMn(1) - a0;
@@ -155,6 +158,52 @@ describe('POST /api/v1/cells/evaluate', () => {
     ).json();
     expect(viaOcl.halfReactions.oxidant.valueUsed).toBe('override');
     expect(viaOcl.cellPotentialV).toBeCloseTo(viaHocl.cellPotentialV, 3);
+  });
+
+  it('names every constant it used: row ids, source ids and relation ids all resolve through the tables routes', async () => {
+    const r = await post('/api/v1/cells/evaluate', {
+      oxidant: { from: 'MnO4-', to: 'MnO2' },
+      reductant: { from: 'Mn2+', to: 'MnO2' },
+      pH: 7.2,
+      temperatureC: 25,
+      concentrations: { 'MnO4-': { value: 1.5, unit: 'mg/L' }, 'Mn2+': { value: 0.4, unit: 'mg/L' } },
+      tdsMgPerL: 300,
+    });
+    expect(r.statusCode).toBe(200);
+    const b = r.json();
+    // Langelier 1936 (as commonly quoted): I ≈ 2.5×10⁻⁵ × TDS → 300 mg/L gives 0.0075 mol/L
+    expect(b.activity).toMatchObject({ ionicStrengthBasis: 'tds', ionicStrengthRelation: 'langelier-1936', relation: 'davies-1962' });
+    expect(b.activity.ionicStrength).toBeCloseTo(0.0075, 12);
+    // Davies/Debye–Hückel A at 25 °C is 0.509 to 0.511 in the usual tables (e.g. Stumm & Morgan 1996, from memory)
+    expect(b.activity.daviesA).toBeGreaterThan(0.508);
+    expect(b.activity.daviesA).toBeLessThan(0.512);
+    const rows = new Set([
+      ...(await app.inject({ method: 'GET', url: '/api/v1/tables/potentials' })).json().rows.map((x: { id: string }) => x.id),
+      ...(await app.inject({ method: 'GET', url: '/api/v1/tables/equilibria' })).json().rows.map((x: { id: string }) => x.id),
+    ]);
+    const sources = new Set((await app.inject({ method: 'GET', url: '/api/v1/tables/sources' })).json().sources.map((x: { id: string }) => x.id));
+    const relations = (await app.inject({ method: 'GET', url: '/api/v1/tables/relations' })).json().relations as { id: string; citation: string }[];
+    const relationIds = new Set(relations.map((x) => x.id));
+    for (const h of [b.halfReactions.oxidant, b.halfReactions.reductant]) {
+      expect(h.derivation.length).toBeGreaterThan(0);
+      for (const d of h.derivation) {
+        expect(rows.has(d.rowId)).toBe(true);
+        expect(sources.has(d.source)).toBe(true);
+      }
+    }
+    expect(relationIds.has(b.activity.ionicStrengthRelation)).toBe(true);
+    expect(relationIds.has(b.activity.relation)).toBe(true);
+    for (const rel of relations) expect(rel.citation.length).toBeGreaterThan(20);
+  });
+
+  it('writes its plain-text reactions in the notation the parser reads (ASCII, "->")', async () => {
+    const r = await post('/api/v1/cells/evaluate', { oxidant: { from: 'HOCl', to: 'Cl-' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH: 7, temperatureC: 15 });
+    const b = r.json();
+    expect(b.reaction).toMatch(/ -> /);
+    expect(r.body).toMatch(/^[\x20-\x7e]*$/);
+    const again = await post('/api/v1/reactions/balance', { reactants: b.reaction.split(' -> ')[0].split(' + ').map((t: string) => t.replace(/^\d+/, '')), products: b.reaction.split(' -> ')[1].split(' + ').map((t: string) => t.replace(/^\d+/, '')) });
+    expect(again.statusCode).toBe(200);
+    expect(again.json().equation).toBe(b.reaction);
   });
 
   it('bad input names each field and the accepted range', async () => {

@@ -20,7 +20,7 @@ describe('POST /api/v1/reactions/balance', () => {
     const r = await post({ oxidant: { from: 'MnO4-', to: 'MnO2' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, medium: 'acid' });
     expect(r.statusCode).toBe(200);
     const b = r.json();
-    expect(b.equation).toBe('MnO4- + 3Fe2+ + 7H2O → MnO2 + 3Fe(OH)3 + 5H+');
+    expect(b.equation).toBe('MnO4- + 3Fe2+ + 7H2O -> MnO2 + 3Fe(OH)3 + 5H+');
     expect(b.electrons).toBe(3);
     expect(b.terms).toEqual(
       expect.arrayContaining([
@@ -42,7 +42,7 @@ describe('POST /api/v1/reactions/balance', () => {
   it('balances any reaction given as species (0 electrons for non-redox)', async () => {
     const r = await post({ reactants: ['CaCO3', 'H+'], products: ['Ca2+', 'CO2', 'H2O'] });
     expect(r.statusCode).toBe(200);
-    expect(r.json()).toMatchObject({ equation: 'CaCO3 + 2H+ → Ca2+ + CO2 + H2O', electrons: 0 });
+    expect(r.json()).toMatchObject({ equation: 'CaCO3 + 2H+ -> Ca2+ + CO2 + H2O', electrons: 0 });
   });
 
   it('a malformed formula is a 400 naming the field and the position', async () => {

@@ -39,14 +39,18 @@ export function balanceMatrix(columns: readonly Column[]): { rows: string[]; mat
   return { rows, matrix };
 }
 
-/** "A + 2B → C + D" with the coefficient 1 left out. */
+/**
+ * "A + 2B -> C + D" with the coefficient 1 left out: the plain-text form, pure ASCII and in the
+ * same notation the parser reads (the typeset form, with →, subscripts and superscripts, is
+ * formatEquationUnicode).
+ */
 export function equationText(terms: readonly Pick<Term, 'species' | 'coefficient' | 'side'>[]): string {
   const side = (s: Side): string =>
     terms
       .filter((t) => t.side === s)
       .map((t) => (t.coefficient === 1n ? '' : t.coefficient.toString()) + formatFormula(t.species))
       .join(' + ');
-  return `${side('reactant')} → ${side('product')}`;
+  return `${side('reactant')} -> ${side('product')}`;
 }
 
 function other(side: Side): Side {

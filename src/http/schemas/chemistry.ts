@@ -128,40 +128,54 @@ export const CellBody = z.strictObject({
 });
 
 const HalfAtConditions = z.object({
-  couple: z.object({ from: z.string(), to: z.string() }),
-  equation: z.string(),
+  equation: z.string().describe('The couple completed as a reduction in the medium (plain text)'),
   electrons: z.number().int(),
-  standardPotentialV: z.number(),
-  standardPotentialAtTV: z.number(),
-  temperatureCorrectionV: z.number(),
-  potentialV: z.number(),
+  standardPotentialV: z.number().describe('E° at 25 °C of the half-reaction as written (the value used)'),
+  temperatureCorrectionV: z.number().describe('E°(T) − E°(25 °C); E°(T) is the sum of the two'),
+  potentialV: z.number().describe('E at the sample pH, temperature and activities'),
   valueUsed: z.enum(['tabled', 'derived', 'override']),
   derivation: z
     .array(z.object({ rowId: z.string(), coefficient: z.string(), source: z.string() }))
-    .describe('Tabled rows combined (ids in GET /api/v1/tables/potentials; sources in GET /api/v1/tables/sources)'),
+    .describe('Tabled rows combined (ids in GET /api/v1/tables/potentials or /tables/equilibria; sources in GET /api/v1/tables/sources)'),
   unitActivity: z.array(z.string()),
 });
 
+/**
+ * Kept lean on purpose: this is the route called most, and an answer's cost grows with its
+ * number of fields and with any character outside ASCII (npm run bench). Every constant is
+ * still named: derivation row ids resolve in GET /api/v1/tables/potentials or /tables/equilibria, source ids in
+ * GET /api/v1/tables/sources, relation ids in GET /api/v1/tables/relations; the typeset
+ * equation is on POST /api/v1/reactions/balance and the full derivation on couples/potential.
+ */
 export const CellResponse = z.object({
-  reaction: z.string(),
-  reactionUnicode: z.string(),
+  reaction: z.string().describe('Balanced overall reaction, plain text'),
   medium: Medium,
-  electrons: z.number().int(),
-  standardCellPotentialV: z.number(),
-  cellPotentialV: z.number(),
-  marginV: z.number(),
-  deltaGkJPerMol: z.number(),
-  standardDeltaGkJPerMol: z.number(),
-  log10K: z.number(),
-  feasible: z.boolean(),
+  electrons: z.number().int().describe('Electrons transferred in the reaction as written'),
+  standardCellPotentialV: z.number().describe('E°(oxidant) − E°(reductant), each at the sample temperature'),
+  cellPotentialV: z.number().describe('E(oxidant) − E(reductant) at the sample pH, temperature and activities'),
+  deltaGkJPerMol: z.number().describe('ΔG = −nFE of the reaction as written, kJ/mol'),
+  log10K: z.number().describe('log10 K = nFE°/(2.303RT) at the sample temperature'),
+  feasible: z.boolean().describe('E > 0 at the sample conditions; the margin is cellPotentialV itself'),
   feasibilityLimitPH: z.number().nullable().describe('pH in 0–14 where E = 0 nearest the sample pH; null when none'),
-  feasibilityLimitsPH: z.array(z.number()),
-  feasibleSide: z.enum(['above', 'below', 'everywhere', 'nowhere']),
+  feasibilityLimitsPH: z.array(z.number()).describe('Every pH in 0–14 where E = 0'),
+  feasibleSide: z.enum(['above', 'below', 'everywhere', 'nowhere']).describe('Where the reaction is feasible relative to the limit'),
   equilibriumResidual: z
-    .object({ species: z.string(), molPerL: z.number(), mgPerL: z.number().nullable(), note: z.string() })
-    .nullable(),
-  ionicStrength: z.object({ value: z.number(), origin: z.string() }),
-  slopeV: z.number(),
+    .object({ species: z.string(), molPerL: z.number(), mgPerL: z.number().nullable() })
+    .nullable()
+    .describe(
+      'Thermodynamic floor of the reductant: its level where E reaches 0 V with every other activity held; ' +
+        'kinetics usually stop the reaction well before it. Null when none applies (the reason is in notes)',
+    ),
+  activity: z
+    .object({
+      ionicStrength: z.number().describe('mol/L'),
+      ionicStrengthBasis: z.enum(['given', 'tds', 'none']).describe('none: activities taken equal to concentrations'),
+      ionicStrengthRelation: z.string().nullable().describe('Id of the estimating relation (GET /api/v1/tables/relations)'),
+      daviesA: z.number().describe('Davies A at the sample temperature'),
+      relation: z.string().describe('Id of the activity-coefficient relation (Davies); neutral species at 1'),
+    })
+    .describe('How concentrations became activities'),
+  slopeV: z.number().describe('Nernst slope 2.303RT/F at the sample temperature (CODATA 2018 R and F)'),
   halfReactions: z.object({ oxidant: HalfAtConditions, reductant: HalfAtConditions }),
   notes: z.array(z.string()),
 });

@@ -28,7 +28,7 @@ describe('balanceReaction: edge cases', () => {
     expect(fails(many.slice(0, 20), many.slice(20)).code).toBe('BALANCE_TOO_LARGE');
   });
   it('balances a species that only changes phase label (H2O(l) → H2O(g)) as 1:1', () => {
-    expect(balance(['H2O(l)'], ['H2O(g)']).equation).toBe('H2O(l) → H2O(g)');
+    expect(balance(['H2O(l)'], ['H2O(g)']).equation).toBe('H2O(l) -> H2O(g)');
   });
 });
 
@@ -37,25 +37,25 @@ describe('balanceReaction: edge cases', () => {
 describe('balanceReaction: textbook equations', () => {
   it.each([
     // 2H2 + O2 → 2H2O: H 4=4, O 2=2
-    [['H2', 'O2'], ['H2O'], '2H2 + O2 → 2H2O', 0],
+    [['H2', 'O2'], ['H2O'], '2H2 + O2 -> 2H2O', 0],
     // C3H8 + 5O2 → 3CO2 + 4H2O: C 3=3, H 8=8, O 10=6+4
-    [['C3H8', 'O2'], ['CO2', 'H2O'], 'C3H8 + 5O2 → 3CO2 + 4H2O', 0],
+    [['C3H8', 'O2'], ['CO2', 'H2O'], 'C3H8 + 5O2 -> 3CO2 + 4H2O', 0],
     // Fe2O3 + 3CO → 2Fe + 3CO2: Fe 2=2, O 3+3=6, C 3=3
-    [['Fe2O3', 'CO'], ['Fe', 'CO2'], 'Fe2O3 + 3CO → 2Fe + 3CO2', 0],
+    [['Fe2O3', 'CO'], ['Fe', 'CO2'], 'Fe2O3 + 3CO -> 2Fe + 3CO2', 0],
     // 2KMnO4 + 16HCl → 2KCl + 2MnCl2 + 8H2O + 5Cl2: K 2, Mn 2, Cl 16=2+4+10, H 16, O 8
-    [['KMnO4', 'HCl'], ['KCl', 'MnCl2', 'H2O', 'Cl2'], '2KMnO4 + 16HCl → 2KCl + 2MnCl2 + 8H2O + 5Cl2', 0],
+    [['KMnO4', 'HCl'], ['KCl', 'MnCl2', 'H2O', 'Cl2'], '2KMnO4 + 16HCl -> 2KCl + 2MnCl2 + 8H2O + 5Cl2', 0],
     // the classic 9-species exercise: K 40+122=162, Fe 10, C 60, N 60, Mn 122, S 299=162+15+122,
     // H 598=162+60+376, O 488+1196=1684=648+60+488+180+120+188
     [
       ['K4Fe(CN)6', 'KMnO4', 'H2SO4'],
       ['KHSO4', 'Fe2(SO4)3', 'MnSO4', 'HNO3', 'CO2', 'H2O'],
-      '10K4Fe(CN)6 + 122KMnO4 + 299H2SO4 → 162KHSO4 + 5Fe2(SO4)3 + 122MnSO4 + 60HNO3 + 60CO2 + 188H2O',
+      '10K4Fe(CN)6 + 122KMnO4 + 299H2SO4 -> 162KHSO4 + 5Fe2(SO4)3 + 122MnSO4 + 60HNO3 + 60CO2 + 188H2O',
       0,
     ],
     // ionic, with electrons: MnO4- + 8H+ + 5e- → Mn2+ + 4H2O (charge −1+8−5 = +2)
-    [['MnO4-', 'H+', 'e-'], ['Mn2+', 'H2O'], 'MnO4- + 8H+ + 5e- → Mn2+ + 4H2O', 5],
+    [['MnO4-', 'H+', 'e-'], ['Mn2+', 'H2O'], 'MnO4- + 8H+ + 5e- -> Mn2+ + 4H2O', 5],
     // hydrate: CuSO4·5H2O → CuSO4 + 5H2O
-    [['CuSO4·5H2O'], ['CuSO4', 'H2O'], 'CuSO4·5H2O → CuSO4 + 5H2O', 0],
+    [['CuSO4·5H2O'], ['CuSO4', 'H2O'], 'CuSO4·5H2O -> CuSO4 + 5H2O', 0],
   ] as const)('%j → %j', (reactants, products, equation, electrons) => {
     const r = balance([...reactants], [...products]);
     expect(r.equation).toBe(equation);
@@ -68,7 +68,7 @@ describe('balanceReaction: textbook equations', () => {
   it('balances a 10-species reaction (the sodium variant of the classic exercise)', () => {
     const r = balance(['K4Fe(CN)6', 'NaMnO4', 'H2SO4'], ['KHSO4', 'Fe2(SO4)3', 'MnSO4', 'HNO3', 'CO2', 'H2O', 'NaHSO4']);
     // K: 40 = 40; Na: 122 = 122; S: 299 = 40 + 15 + 122 + 122
-    expect(r.equation).toBe('10K4Fe(CN)6 + 122NaMnO4 + 299H2SO4 → 40KHSO4 + 5Fe2(SO4)3 + 122MnSO4 + 60HNO3 + 60CO2 + 188H2O + 122NaHSO4');
+    expect(r.equation).toBe('10K4Fe(CN)6 + 122NaMnO4 + 299H2SO4 -> 40KHSO4 + 5Fe2(SO4)3 + 122MnSO4 + 60HNO3 + 60CO2 + 188H2O + 122NaHSO4');
     expect(isConserved(r)).toBe(true);
   });
 });
@@ -95,7 +95,7 @@ describe('balanceReaction: why a balance fails', () => {
     const e = fails(['H2', 'O2', 'NaCl'], ['H2O']);
     expect(e.code).toBe('BALANCE_IMPOSSIBLE');
     expect(e.detail).toContain('"NaCl" takes no part');
-    expect(e.params['balancedEquation']).toBe('2H2 + O2 → 2H2O');
+    expect(e.params['balancedEquation']).toBe('2H2 + O2 -> 2H2O');
     expect(e.fields).toEqual([{ pointer: '/reactants/2', message: 'NaCl takes no part in the balance' }]);
   });
   it('BALANCE_NOT_UNIQUE lists independent sub-reactions', () => {
@@ -110,13 +110,13 @@ describe('balanceReaction: why a balance fails', () => {
     const e = fails(['H2', 'O2', 'H2O'], ['H2O']);
     expect(e.code).toBe('BALANCE_NOT_UNIQUE');
     expect(e.detail).toContain('"H2O" is listed more than once');
-    expect(e.params['subReactions']).toContain('H2O → H2O');
+    expect(e.params['subReactions']).toContain('H2O -> H2O');
   });
   it('BALANCE_WRONG_SIDE names the species that would change sides', () => {
     const e = fails(['H2', 'H2O'], ['O2']);
     expect(e.code).toBe('BALANCE_WRONG_SIDE');
     expect(e.params['species']).toEqual(['H2']);
-    expect(e.params['balancedEquation']).toBe('2H2O → 2H2 + O2');
+    expect(e.params['balancedEquation']).toBe('2H2O -> 2H2 + O2');
     expect(e.fields[0]?.pointer).toBe('/reactants/0');
   });
 });

@@ -3,6 +3,7 @@ import { z } from 'zod';
 import { CellBody, CellResponse, PotentialBody, PotentialResponse } from '../../schemas/chemistry.js';
 import { defineRoute } from '../../route.js';
 import { couplePotential, evaluateCellText } from '../../../water/redox-service.js';
+import { EMPIRICAL_RELATIONS } from '../../../water/activity.js';
 
 const PotentialRowOut = z.object({
   id: z.string(),
@@ -47,6 +48,40 @@ export async function potentialRoutes(app: FastifyInstance): Promise<void> {
     tags: ['tables'],
     response: { 200: z.object({ table: z.string(), description: z.string(), rows: z.array(PotentialRowOut) }) },
     handler: async () => app.services.potentialRows,
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/tables/equilibria',
+    summary: 'Non-redox equilibria (water ionisation, acid constants, solubility products, Henry constants) as published, each row with its source',
+    tags: ['tables'],
+    response: {
+      200: z.object({
+        table: z.string(),
+        description: z.string(),
+        rows: z.array(z.looseObject({ id: z.string(), reaction: z.string(), kind: z.string(), source: z.string(), citation: z.string() })),
+      }),
+    },
+    handler: async () => ({
+      table: 'equilibria',
+      description: 'Non-redox equilibria at 25 °C with their temperature data, as published (tables/equilibria.json); the ids appear in derivations.',
+      rows: app.services.tables.equilibria.map((r) => ({ ...(r as Record<string, unknown>), id: r.id, reaction: r.reaction, kind: r.kind, source: r.source, citation: app.services.dosing.citations.get(r.source) ?? r.source })),
+    }),
+  });
+
+  defineRoute(app, {
+    method: 'GET',
+    url: '/tables/relations',
+    summary: 'The empirical relations used for activities (ionic strength from TDS or conductance, Davies, Debye–Hückel A), with coefficients as published and citations',
+    tags: ['tables'],
+    response: {
+      200: z.object({
+        relations: z.array(
+          z.object({ id: z.string(), equation: z.string(), coefficients: z.record(z.string(), z.string()), citation: z.string(), note: z.string() }),
+        ),
+      }),
+    },
+    handler: async () => ({ relations: EMPIRICAL_RELATIONS.map((r) => ({ ...r, coefficients: { ...r.coefficients } })) }),
   });
 
   defineRoute(app, {
