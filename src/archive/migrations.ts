@@ -14,6 +14,7 @@
  */
 import type Database from 'better-sqlite3';
 import { DomainError } from '../core/errors.js';
+import { REGISTRY_SQL, logUnloggedRows } from './registry.js';
 
 export interface Migration {
   readonly version: number;
@@ -142,6 +143,14 @@ export const MIGRATIONS: readonly Migration[] = [
     version: 1,
     description: 'users, user events, plant profile versions, signers, sheets with hash chain; append-only triggers',
     up: (db) => db.exec(V1_SQL),
+  },
+  {
+    version: 2,
+    description: 'registry log: a hash chain over users, user events and signers; rows stored before it are logged as found',
+    up: (db) => {
+      db.exec(REGISTRY_SQL + appendOnlyTriggers('registry_log', [['seq'], ['prev_hash'], ['record_hash'], ['table_name', 'row_key']], 'registry entries'));
+      logUnloggedRows({ db }, new Date().toISOString());
+    },
   },
 ];
 

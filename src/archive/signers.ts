@@ -21,6 +21,7 @@ import { join } from 'node:path';
 import { DomainError } from '../core/errors.js';
 import type { ArchiveContext } from './context.js';
 import { newSignerId } from './ids.js';
+import { logRegistryRow } from './registry.js';
 
 export const SIGNER_KEY_FILE = 'signer-secret.key';
 
@@ -220,9 +221,14 @@ export function addSigner(ctx: ArchiveContext, input: AddSignerInput): SignerSum
   const id = newSignerId();
   const createdAt = ctx.now().toISOString();
   const enc = encryptPassword(key.key, id, input.password);
-  ctx
-    .statement(`INSERT INTO signers (${SIGNER_COLUMNS}) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`)
-    .run(id, name, role, subject, userId, input.demo ? 1 : 0, Buffer.from(input.p12), enc, key.fingerprint, createdAt, input.createdBy);
+  ctx.db
+    .transaction(() => {
+      ctx
+        .statement(`INSERT INTO signers (${SIGNER_COLUMNS}) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`)
+        .run(id, name, role, subject, userId, input.demo ? 1 : 0, Buffer.from(input.p12), enc, key.fingerprint, createdAt, input.createdBy);
+      logRegistryRow(ctx, 'signers', id, createdAt);
+    })
+    .immediate();
   return { id, name, role, certificateSubject: subject, userId, demo: input.demo === true, createdAt, createdBy: input.createdBy };
 }
 

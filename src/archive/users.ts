@@ -14,6 +14,7 @@ import { DomainError } from '../core/errors.js';
 import { sha256Hex } from './canonical.js';
 import type { ArchiveContext } from './context.js';
 import { newUserId } from './ids.js';
+import { logRegistryRow } from './registry.js';
 
 export const ROLES = ['operator', 'engineer', 'admin'] as const;
 export type Role = (typeof ROLES)[number];
@@ -107,7 +108,9 @@ function insertUser(ctx: ArchiveContext, input: { name: string; role: Role; toke
   ctx
     .statement('INSERT INTO users (id, name, role, token_sha256, created_at, created_by) VALUES (?, ?, ?, ?, ?, ?)')
     .run(id, input.name, input.role, input.tokenSha256, at, input.createdBy);
-  ctx.statement("INSERT INTO user_events (user_id, event, at, actor) VALUES (?, 'created', ?, ?)").run(id, at, input.createdBy);
+  logRegistryRow(ctx, 'users', id, at);
+  const event = ctx.statement("INSERT INTO user_events (user_id, event, at, actor) VALUES (?, 'created', ?, ?)").run(id, at, input.createdBy);
+  logRegistryRow(ctx, 'user_events', Number(event.lastInsertRowid), at);
   return { id, name: input.name, role: input.role, createdAt: at, createdBy: input.createdBy, active: true };
 }
 
@@ -160,9 +163,9 @@ function appendUserEvent(ctx: ArchiveContext, userId: string, event: 'deactivate
           fields: [{ pointer: '/userId', message: 'no such user' }],
         });
       }
-      ctx
-        .statement('INSERT INTO user_events (user_id, event, at, actor, note) VALUES (?, ?, ?, ?, ?)')
-        .run(userId, event, ctx.now().toISOString(), actor, note ?? null);
+      const at = ctx.now().toISOString();
+      const inserted = ctx.statement('INSERT INTO user_events (user_id, event, at, actor, note) VALUES (?, ?, ?, ?, ?)').run(userId, event, at, actor, note ?? null);
+      logRegistryRow(ctx, 'user_events', Number(inserted.lastInsertRowid), at);
       return { ...user, active: event === 'reactivated' };
     })
     .immediate();

@@ -15,6 +15,7 @@
 import { ZERO_HASH, sha256Hex } from './canonical.js';
 import type { ArchiveContext } from './context.js';
 import { requireSheetId } from './ids.js';
+import { verifyRegistry, type RegistryProblem } from './registry.js';
 import { RECORD_FORMAT, recordHash, type SheetRow } from './sheets.js';
 import { DomainError } from '../core/errors.js';
 
@@ -114,10 +115,12 @@ export async function verifySheet(
   };
 }
 
-export type ArchiveCheck = 'sequence' | 'chain' | 'pdf-hash' | 'record-hash' | 'record-format' | 'supersedes' | 'signature' | 'tail' | 'head' | 'plant-hash' | 'plant-version';
+export type ArchiveCheck =
+  | 'sequence' | 'chain' | 'pdf-hash' | 'record-hash' | 'record-format' | 'supersedes' | 'signature' | 'tail' | 'head' | 'plant-hash' | 'plant-version'
+  | RegistryProblem['check'];
 
 export interface ArchiveProblem {
-  /** The sheet id (or "plant@vN" for a plant profile version); null for the tail and head checks. */
+  /** The sheet id ("plant@vN" for a plant profile version, "table:key" for a registry row); null for the tail and head checks. */
   readonly id: string | null;
   readonly seq: number | null;
   readonly check: ArchiveCheck;
@@ -138,6 +141,8 @@ export interface ArchiveVerification {
   /** Number of PDF signatures checked (0 without a verifier). */
   readonly signaturesChecked: number;
   readonly plantVersions: number;
+  /** Entries of the registry log walked (users, user events, signers; see registry.ts). */
+  readonly registryEntries: number;
 }
 
 export interface VerifyArchiveOptions {
@@ -231,7 +236,10 @@ export async function verifyArchive(ctx: ArchiveContext, options: VerifyArchiveO
         if (sha256Hex(p.profile_json) !== p.sha256) add({ id: pid, seq: null, check: 'plant-hash', message: `plant ${p.plant_id} version ${p.version} does not hash to its sha256 (the profile was changed)` });
         expected = p.version + 1;
       }
-      return { records, ids, plantVersions, head: { lastId, lastSeq: prevSeq, recordHash: prevHash } };
+      // Users, user events and signers: the registry log (registry.ts).
+      const registry = verifyRegistry(ctx);
+      for (const p of registry.problems) add({ id: p.id, seq: null, check: p.check, message: p.message });
+      return { records, ids, plantVersions, registryEntries: registry.entries, head: { lastId, lastSeq: prevSeq, recordHash: prevHash } };
     })
     .deferred();
 
@@ -254,5 +262,6 @@ export async function verifyArchive(ctx: ArchiveContext, options: VerifyArchiveO
     head: walk.head,
     signaturesChecked,
     plantVersions: walk.plantVersions,
+    registryEntries: walk.registryEntries,
   };
 }

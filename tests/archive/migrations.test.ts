@@ -137,6 +137,28 @@ describe('migrations', () => {
     expect(caught(() => openArchive({ dataDir: d, signerKeySecret: SECRET })).code).toBe('ARCHIVE_TOO_NEW');
   });
 
+  it('version 2 logs the users, user events and signers a version-1 archive already holds, in order, and the archive verifies', async () => {
+    const d = dir();
+    const raw = new Database(join(d, ARCHIVE_FILE_NAME));
+    migrate(raw, { migrations: MIGRATIONS.slice(0, 1) });
+    raw.prepare('INSERT INTO users (id, name, role, token_sha256, created_at, created_by) VALUES (?, ?, ?, ?, ?, ?)').run('usr_OLD0000000000001', 'old admin', 'admin', 'a'.repeat(64), '2026-01-01T00:00:00.000Z', 'system:bootstrap');
+    raw.prepare("INSERT INTO user_events (user_id, event, at, actor) VALUES (?, 'created', ?, ?)").run('usr_OLD0000000000001', '2026-01-01T00:00:00.000Z', 'system:bootstrap');
+    raw.close();
+    const a = openArchive({ dataDir: d, signerKeySecret: SECRET });
+    try {
+      expect(a.migration).toEqual({ from: 1, to: latestVersion(), applied: MIGRATIONS.slice(1).map((m) => m.version) });
+      const log = a.db.prepare('SELECT seq, table_name, row_key FROM registry_log ORDER BY seq').all();
+      expect(log).toEqual([
+        { seq: 1, table_name: 'users', row_key: 'usr_OLD0000000000001' },
+        { seq: 2, table_name: 'user_events', row_key: '1' },
+      ]);
+      const v = await a.verifyArchive();
+      expect(v).toMatchObject({ valid: true, registryEntries: 2 });
+    } finally {
+      a.close();
+    }
+  });
+
   it('a failing migration is rolled back: no half-made table, version unchanged', () => {
     const d = dir();
     openArchive({ dataDir: d, signerKeySecret: SECRET }).close();

@@ -6,6 +6,7 @@
 import { createHash } from 'node:crypto';
 import { afterEach, describe, expect, it } from 'vitest';
 import { recordHash, type Archive, type SheetSummary } from '../../src/archive/index.js';
+import { REGISTRY_COLUMNS as REGISTRY_COLUMNS_BY_FORMAT, REGISTRY_FORMAT } from '../../src/archive/registry.js';
 import type { SheetRow } from '../../src/archive/sheets.js';
 import { doseSheetInput, ensureAuthor, fakeVerifyPdf, openTestArchive, rawTamper, tempDataDir } from './fixtures/archive-fixture.js';
 
@@ -248,5 +249,95 @@ describe('every stored column is covered', () => {
     expect(v.valid).toBe(false);
     expect(v.firstBrokenId).not.toBeNull();
     if (column !== 'seq' && column !== 'id') expect(v.firstBrokenId).toBe(victim.id);
+  });
+});
+
+describe('users, user events and signers are covered by the registry log', () => {
+  /** Every column of every registered table, with the row it is changed in. */
+  const REGISTRY_COLUMNS: Record<string, readonly string[]> = { ...REGISTRY_COLUMNS_BY_FORMAT[REGISTRY_FORMAT]! };
+  const KEY: Record<string, string> = { users: 'id', user_events: 'seq', signers: 'id' };
+
+  /** A value that differs from the stored one and still satisfies the table's CHECK constraints. */
+  function changed(table: string, column: string, value: unknown): unknown {
+    if (table === 'users' && column === 'role') return value === 'admin' ? 'operator' : 'admin';
+    if (table === 'user_events' && column === 'event') return value === 'created' ? 'reactivated' : 'created';
+    if (table === 'signers' && column === 'demo') return value === 1 ? 0 : 1;
+    if (column === 'seq') return 50;
+    if (value === null) return 'filled';
+    if (typeof value === 'number') return value + 1;
+    if (Buffer.isBuffer(value)) {
+      const b = Buffer.from(value);
+      b[b.length - 1] = b[b.length - 1]! ^ 0x01;
+      return b;
+    }
+    const s = String(value);
+    const i = Math.floor(s.length / 2);
+    return s.slice(0, i) + (s[i] === '0' ? '1' : '0') + s.slice(i + 1);
+  }
+
+  it('an untouched archive logs every user, user event and signer, and verifies', async () => {
+    const { reopen } = built(2);
+    const a = reopen();
+    const counts = ['users', 'user_events', 'signers'].map((t) => (a.db.prepare(`SELECT count(*) AS n FROM ${t}`).get() as { n: number }).n);
+    const v = await a.verifyArchive();
+    expect(v.valid).toBe(true);
+    expect(v.registryEntries).toBe(counts.reduce((x, y) => x + y, 0));
+    expect(v.registryEntries).toBeGreaterThanOrEqual(3);
+  });
+
+  it('the current format hashes every column of the registered tables', () => {
+    const { reopen } = built(0);
+    const a = reopen();
+    for (const [table, cols] of Object.entries(REGISTRY_COLUMNS)) {
+      expect((a.db.prepare(`PRAGMA table_info(${table})`).all() as { name: string }[]).map((c) => c.name)).toEqual(cols);
+    }
+  });
+
+  it.each(Object.entries(REGISTRY_COLUMNS).flatMap(([t, cols]) => cols.map((c) => [t, c] as const)))('changing %s.%s is detected', async (table, column) => {
+    const { file, reopen } = built(1);
+    await rawTamper(file, [table], (db) => {
+      const row = db.prepare(`SELECT * FROM ${table} ORDER BY rowid LIMIT 1`).get() as Record<string, unknown>;
+      db.prepare(`UPDATE ${table} SET ${column} = ? WHERE ${KEY[table]} = ?`).run(changed(table, column, row[column]), row[KEY[table]!]);
+    });
+    const v = await reopen().verifyArchive();
+    expect(v.valid).toBe(false);
+    const checks = v.problems.map((p) => p.check);
+    if (column === KEY[table]) expect(checks).toEqual(expect.arrayContaining(['registry-row-missing', 'registry-unlogged']));
+    else expect(checks).toContain('registry-row-hash');
+  });
+
+  it('a user row added behind the service is reported as unlogged', async () => {
+    const { file, reopen } = built(1);
+    await rawTamper(file, ['users'], (db) => {
+      db.prepare('INSERT INTO users (id, name, role, token_sha256, created_at, created_by) VALUES (?, ?, ?, ?, ?, ?)').run(
+        'usr_SNEAKY0000000000',
+        'sneaky',
+        'admin',
+        sha256('oxd_sneaky'),
+        '2026-12-01T00:00:00.000Z',
+        'nobody',
+      );
+    });
+    const v = await reopen().verifyArchive();
+    expect(v.valid).toBe(false);
+    expect(v.problems).toEqual(expect.arrayContaining([expect.objectContaining({ id: 'users:usr_SNEAKY0000000000', check: 'registry-unlogged' })]));
+  });
+
+  it('a signer deleted, a log entry changed, the last entry cut: each is named', async () => {
+    const deleted = built(1);
+    await rawTamper(deleted.file, ['signers'], (db) => db.prepare('DELETE FROM signers').run());
+    expect((await deleted.reopen().verifyArchive()).problems.map((p) => p.check)).toContain('registry-row-missing');
+
+    const edited = built(1);
+    await rawTamper(edited.file, ['registry_log'], (db) => db.prepare("UPDATE registry_log SET logged_at = '2020-01-01T00:00:00.000Z' WHERE seq = 1").run());
+    expect((await edited.reopen().verifyArchive()).problems.map((p) => p.check)).toContain('registry-record-hash');
+
+    const cut = built(1);
+    await rawTamper(cut.file, ['registry_log', 'signers'], (db) => {
+      const last = db.prepare('SELECT seq, table_name, row_key FROM registry_log ORDER BY seq DESC LIMIT 1').get() as { seq: number; table_name: string; row_key: string };
+      db.prepare('DELETE FROM registry_log WHERE seq = ?').run(last.seq);
+    });
+    const checks = (await cut.reopen().verifyArchive()).problems.map((p) => p.check);
+    expect(checks).toEqual(expect.arrayContaining(['registry-tail', 'registry-unlogged']));
   });
 });

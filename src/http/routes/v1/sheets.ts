@@ -147,7 +147,7 @@ export async function sheetRoutes(app: FastifyInstance): Promise<void> {
   defineRoute(app, {
     method: 'GET',
     url: '/archive/verification',
-    summary: 'Walk the whole archive: every record hash, chain link and PDF signature; the first broken link',
+    summary: 'Walk the whole archive: every record hash, chain link and PDF signature, plant profile hashes and the registry log of users and signers; the first broken link',
     tags: ['sheets'],
     response: {
       200: z.object({
@@ -155,13 +155,24 @@ export async function sheetRoutes(app: FastifyInstance): Promise<void> {
         records: z.number().int(),
         firstBrokenId: z.string().nullable(),
         signaturesChecked: z.number().int(),
+        plantVersions: z.number().int().describe('Plant profile versions checked against their SHA-256'),
+        registryEntries: z.number().int().describe('Registry log entries walked (users, user events, signers)'),
         head: z.object({ lastId: z.string().nullable(), lastSeq: z.number(), recordHash: z.string() }),
         problems: z.array(z.object({ id: z.string().nullable(), seq: z.number().nullable(), check: z.string(), message: z.string() })),
       }),
     },
     handler: async () => {
       const v = await app.services.archive.verifyArchive({ verifyPdfSignature: verifySignedPdf });
-      return { valid: v.valid, records: v.records, firstBrokenId: v.firstBrokenId, signaturesChecked: v.signaturesChecked, head: v.head, problems: [...v.problems] };
+      return {
+        valid: v.valid,
+        records: v.records,
+        firstBrokenId: v.firstBrokenId,
+        signaturesChecked: v.signaturesChecked,
+        plantVersions: v.plantVersions,
+        registryEntries: v.registryEntries,
+        head: v.head,
+        problems: [...v.problems],
+      };
     },
   });
 }

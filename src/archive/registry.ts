@@ -1,0 +1,174 @@
+/**
+ * The registry log: a second hash chain over the rows that say who may act and who signs
+ * (users, user events, signers). Sheets have their own chain (sheets.ts) and plant profile
+ * versions carry their own SHA-256; without this log a user's token hash, role or a signer's
+ * certificate could be changed in the file and nothing would notice.
+ *
+ * Each insert into a registered table appends, in the same transaction, one log entry:
+ *   row_sha256  = SHA-256 of the canonical JSON of {format, row} where row holds the columns that
+ *                 the entry's format lists for its table (BLOB columns enter as
+ *                 "sha256:<hex of the bytes>");
+ *   record_hash = SHA-256 of the canonical JSON of
+ *                 {format, seq, table, key, rowSha256, loggedAt, prevHash};
+ *   prev_hash   = record_hash of the entry before (64 zeros for the first).
+ * Verification walks the log (sequence, links, record hashes), re-hashes every logged row, and
+ * reports rows that are missing, changed, or present without an entry.
+ */
+import { DomainError } from '../core/errors.js';
+import { ZERO_HASH, canonicalJson, sha256Hex } from './canonical.js';
+import type { ArchiveContext } from './context.js';
+
+/** The format new entries are written in. */
+export const REGISTRY_FORMAT = 1;
+
+/** The registered tables and the column that identifies a row. */
+export const REGISTRY_TABLES = {
+  users: 'id',
+  user_events: 'seq',
+  signers: 'id',
+} as const;
+export type RegistryTable = keyof typeof REGISTRY_TABLES;
+
+/**
+ * The columns each format hashes, per table. A migration that adds a column to a registered table
+ * adds a format here with the longer list; entries written earlier keep their own format, so
+ * they stay checkable.
+ */
+export const REGISTRY_COLUMNS: Readonly<Record<number, Readonly<Record<RegistryTable, readonly string[]>>>> = {
+  1: {
+    users: ['id', 'name', 'role', 'token_sha256', 'created_at', 'created_by'],
+    user_events: ['seq', 'user_id', 'event', 'at', 'actor', 'note'],
+    signers: ['seq', 'id', 'name', 'role', 'certificate_subject', 'user_id', 'demo', 'p12', 'password_enc', 'key_fingerprint', 'created_at', 'created_by'],
+  },
+};
+
+export const REGISTRY_SQL = `
+-- The registry log (registry.ts): one hash-chained entry per row of users, user_events, signers.
+CREATE TABLE registry_log (
+  seq         INTEGER PRIMARY KEY AUTOINCREMENT,
+  format      INTEGER NOT NULL,
+  table_name  TEXT NOT NULL CHECK (table_name IN ('users', 'user_events', 'signers')),
+  row_key     TEXT NOT NULL,
+  row_sha256  TEXT NOT NULL CHECK (length(row_sha256) = 64),
+  logged_at   TEXT NOT NULL,
+  prev_hash   TEXT NOT NULL UNIQUE CHECK (length(prev_hash) = 64),
+  record_hash TEXT NOT NULL UNIQUE CHECK (length(record_hash) = 64),
+  UNIQUE (table_name, row_key)
+) STRICT;
+`;
+
+interface LogRow {
+  seq: number;
+  format: number;
+  table_name: RegistryTable;
+  row_key: string;
+  row_sha256: string;
+  logged_at: string;
+  prev_hash: string;
+  record_hash: string;
+}
+
+/** SHA-256 of a stored row in a format: canonical JSON of the format's columns, BLOBs by their own SHA-256. Null for an unknown format. */
+export function rowDigest(table: RegistryTable, row: Record<string, unknown>, format = REGISTRY_FORMAT): string | null {
+  const columns = REGISTRY_COLUMNS[format]?.[table];
+  if (!columns) return null;
+  const plain: Record<string, unknown> = {};
+  for (const k of columns) {
+    const v = row[k];
+    plain[k] = v === undefined ? null : Buffer.isBuffer(v) || v instanceof Uint8Array ? `sha256:${sha256Hex(v)}` : typeof v === 'bigint' ? v.toString() : v;
+  }
+  return sha256Hex(canonicalJson({ format, row: plain }));
+}
+
+export function registryRecordHash(e: Pick<LogRow, 'format' | 'seq' | 'table_name' | 'row_key' | 'row_sha256' | 'logged_at' | 'prev_hash'>): string {
+  return sha256Hex(
+    canonicalJson({ format: e.format, seq: e.seq, table: e.table_name, key: e.row_key, rowSha256: e.row_sha256, loggedAt: e.logged_at, prevHash: e.prev_hash }),
+  );
+}
+
+function readRow(ctx: Pick<ArchiveContext, 'db'>, table: RegistryTable, key: string): Record<string, unknown> | undefined {
+  const column = REGISTRY_TABLES[table];
+  return ctx.db.prepare(`SELECT * FROM ${table} WHERE ${column} = ?`).get(column === 'seq' ? Number(key) : key) as Record<string, unknown> | undefined;
+}
+
+/**
+ * Append the log entry for a row just inserted. Call inside the transaction that inserted it
+ * (the entry and the row commit together, or neither does).
+ */
+export function logRegistryRow(ctx: Pick<ArchiveContext, 'db'>, table: RegistryTable, key: string | number, at: string): void {
+  const k = String(key);
+  const row = readRow(ctx, table, k);
+  if (!row) throw new DomainError('INTERNAL', { detail: `registry: no ${table} row ${k} to log` });
+  const last = ctx.db.prepare('SELECT seq, record_hash FROM registry_log ORDER BY seq DESC LIMIT 1').get() as { seq: number; record_hash: string } | undefined;
+  const entry = {
+    seq: (last?.seq ?? 0) + 1,
+    format: REGISTRY_FORMAT,
+    table_name: table,
+    row_key: k,
+    row_sha256: rowDigest(table, row)!,
+    logged_at: at,
+    prev_hash: last?.record_hash ?? ZERO_HASH,
+  };
+  ctx.db
+    .prepare('INSERT INTO registry_log (seq, format, table_name, row_key, row_sha256, logged_at, prev_hash, record_hash) VALUES (?, ?, ?, ?, ?, ?, ?, ?)')
+    .run(entry.seq, entry.format, entry.table_name, entry.row_key, entry.row_sha256, entry.logged_at, entry.prev_hash, registryRecordHash(entry));
+}
+
+/** Log every row of the registered tables that has no entry yet (the migration that adds the log). */
+export function logUnloggedRows(ctx: Pick<ArchiveContext, 'db'>, at: string): number {
+  let n = 0;
+  const order: Record<RegistryTable, string> = { users: 'created_at, id', user_events: 'seq', signers: 'seq' };
+  for (const table of Object.keys(REGISTRY_TABLES) as RegistryTable[]) {
+    const column = REGISTRY_TABLES[table];
+    const keys = ctx.db
+      .prepare(`SELECT ${column} AS k FROM ${table} WHERE CAST(${column} AS TEXT) NOT IN (SELECT row_key FROM registry_log WHERE table_name = ?) ORDER BY ${order[table]}`)
+      .all(table) as { k: string | number }[];
+    for (const { k } of keys) {
+      logRegistryRow(ctx, table, k, at);
+      n++;
+    }
+  }
+  return n;
+}
+
+export interface RegistryProblem {
+  readonly id: string;
+  readonly check: 'registry-sequence' | 'registry-chain' | 'registry-record-hash' | 'registry-format' | 'registry-row-missing' | 'registry-row-hash' | 'registry-unlogged' | 'registry-tail';
+  readonly message: string;
+}
+
+/** Walk the registry log; every problem names the table and row (or the log entry). */
+export function verifyRegistry(ctx: Pick<ArchiveContext, 'db'>): { entries: number; problems: RegistryProblem[] } {
+  const problems: RegistryProblem[] = [];
+  let prevSeq = 0;
+  let prevHash = ZERO_HASH;
+  let entries = 0;
+  const logged = new Set<string>();
+  for (const e of ctx.db.prepare('SELECT * FROM registry_log ORDER BY seq').iterate() as IterableIterator<LogRow>) {
+    entries++;
+    const id = `${e.table_name}:${e.row_key}`;
+    logged.add(id);
+    if (e.seq !== prevSeq + 1) problems.push({ id, check: 'registry-sequence', message: `registry entry ${e.seq} follows ${prevSeq}: ${e.seq - prevSeq - 1} entr(ies) are missing` });
+    if (e.prev_hash !== prevHash) problems.push({ id, check: 'registry-chain', message: `registry entry ${e.seq}: prev_hash does not match the entry before` });
+    if (registryRecordHash(e) !== e.record_hash) problems.push({ id, check: 'registry-record-hash', message: `registry entry ${e.seq} does not hash to its record_hash (the entry was changed)` });
+    const row = REGISTRY_TABLES[e.table_name] ? readRow(ctx, e.table_name, e.row_key) : undefined;
+    const digest = row ? rowDigest(e.table_name, row, e.format) : undefined;
+    if (!row) problems.push({ id, check: 'registry-row-missing', message: `${e.table_name} row ${e.row_key} is logged but no longer stored (deleted or its key changed)` });
+    else if (digest === null) problems.push({ id, check: 'registry-format', message: `registry entry ${e.seq} has format ${e.format}, which this build cannot check` });
+    else if (digest !== e.row_sha256) problems.push({ id, check: 'registry-row-hash', message: `${e.table_name} row ${e.row_key} does not hash to its logged SHA-256 (a column was changed)` });
+    prevSeq = e.seq;
+    prevHash = e.record_hash;
+  }
+  for (const table of Object.keys(REGISTRY_TABLES) as RegistryTable[]) {
+    const column = REGISTRY_TABLES[table];
+    for (const { k } of ctx.db.prepare(`SELECT ${column} AS k FROM ${table}`).all() as { k: string | number }[]) {
+      const id = `${table}:${k}`;
+      if (!logged.has(id)) problems.push({ id, check: 'registry-unlogged', message: `${table} row ${k} has no registry entry (inserted outside the service, or its key was changed)` });
+    }
+  }
+  const counter = ctx.db.prepare("SELECT seq FROM sqlite_sequence WHERE name = 'registry_log'").get() as { seq: number } | undefined;
+  if (counter && counter.seq > prevSeq) {
+    problems.push({ id: 'registry_log', check: 'registry-tail', message: `the registry counter reached ${counter.seq} but the last entry is ${prevSeq}: the last ${counter.seq - prevSeq} entr(ies) are missing` });
+  }
+  return { entries, problems };
+}
