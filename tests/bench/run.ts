@@ -1,5 +1,5 @@
 /**
- * npm run bench — throughput measured in ONE run so that ratios are comparable
+ * npm run bench — throughput measured in one run, in interleaved rounds, so that ratios are comparable
  * (absolute req/s varies about ±20 % between runs on the same machine).
  *
  * The server runs in a child process on 127.0.0.1 (port chosen by the OS); autocannon
