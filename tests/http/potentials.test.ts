@@ -13,6 +13,15 @@ afterAll(async () => {
   await app.close();
 });
 
+/** Permanganate oxidising Mn(II) at pH 7.2 and 25 °C (an invented sample). */
+const MN_CELL = {
+  oxidant: { from: 'MnO4-', to: 'MnO2' },
+  reductant: { from: 'Mn2+', to: 'MnO2' },
+  pH: 7.2,
+  temperatureC: 25,
+  concentrations: { 'MnO4-': { value: 1.5, unit: 'mg/L' }, 'Mn2+': { value: 0.4, unit: 'mg/L' } },
+};
+
 const post = (url: string, body: unknown) => app.inject({ method: 'POST', url, payload: body as object });
 
 describe('POST /api/v1/couples/potential', () => {
@@ -88,13 +97,7 @@ const e0T = (h: { standardPotentialV: number; temperatureCorrectionV: number }) 
 
 describe('POST /api/v1/cells/evaluate', () => {
   it('permanganate oxidises Mn(II) at pH 7.2: feasible, 6 electrons, ΔG = −nFE, log K = nFE°/(RT ln 10)', async () => {
-    const r = await post('/api/v1/cells/evaluate', {
-      oxidant: { from: 'MnO4-', to: 'MnO2' },
-      reductant: { from: 'Mn2+', to: 'MnO2' },
-      pH: 7.2,
-      temperatureC: 25,
-      concentrations: { 'MnO4-': { value: 1.5, unit: 'mg/L' }, 'Mn2+': { value: 0.4, unit: 'mg/L' } },
-    });
+    const r = await post('/api/v1/cells/evaluate', MN_CELL);
     expect(r.statusCode).toBe(200);
     const b = r.json();
     expect(b.electrons).toBe(6);
@@ -161,14 +164,7 @@ describe('POST /api/v1/cells/evaluate', () => {
   });
 
   it('names every constant it used: row ids, source ids and relation ids all resolve through the tables routes', async () => {
-    const r = await post('/api/v1/cells/evaluate', {
-      oxidant: { from: 'MnO4-', to: 'MnO2' },
-      reductant: { from: 'Mn2+', to: 'MnO2' },
-      pH: 7.2,
-      temperatureC: 25,
-      concentrations: { 'MnO4-': { value: 1.5, unit: 'mg/L' }, 'Mn2+': { value: 0.4, unit: 'mg/L' } },
-      tdsMgPerL: 300,
-    });
+    const r = await post('/api/v1/cells/evaluate', { ...MN_CELL, tdsMgPerL: 300 });
     expect(r.statusCode).toBe(200);
     const b = r.json();
     // Langelier 1936 (as commonly quoted): I ≈ 2.5×10⁻⁵ × TDS → 300 mg/L gives 0.0075 mol/L
