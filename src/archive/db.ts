@@ -208,7 +208,11 @@ export class Archive implements ArchiveContext {
 
   // signers
   addSigner(input: AddSignerInput): SignerSummary {
-    return addSigner(this, input);
+    return addSigner(this, input)!;
+  }
+  /** Store a default signer unless one is stored already (one write transaction); null when one was. */
+  addDefaultSignerIfNone(input: Omit<AddSignerInput, 'userId'>): SignerSummary | null {
+    return addSigner(this, { ...input, userId: null }, { unlessDefaultExists: true });
   }
   getSigner(id: string): StoredSigner | null {
     return getSigner(this, id);

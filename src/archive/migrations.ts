@@ -10,16 +10,19 @@
  *
  * Rules for adding a migration: append to MIGRATIONS with the next number; never edit or reorder a
  * released one; tables stay append-only (new columns that enter the record hash need a new
- * record_format, see sheets.ts).
+ * record_format, see sheets.ts). A migration holds its own SQL and its own lists of tables and
+ * columns, frozen as they were when it was written: it must do the same thing on every later
+ * build, so it never reads constants that later builds extend (REGISTRY_FORMAT, REGISTRY_TABLES).
  */
 import type Database from 'better-sqlite3';
 import { DomainError } from '../core/errors.js';
-import { REGISTRY_SQL, logUnloggedRows } from './registry.js';
+import { logUnloggedRows } from './registry.js';
 
 export interface Migration {
   readonly version: number;
   readonly description: string;
-  readonly up: (db: Database.Database) => void;
+  /** Runs inside the migration's transaction; `at` is the migration's time (the clock migrate was given). */
+  readonly up: (db: Database.Database, at: string) => void;
 }
 
 /**
@@ -137,6 +140,24 @@ CREATE INDEX sheets_plant_sampled ON sheets(plant_id, sampled_at);
 ${appendOnlyTriggers('sheets', [['seq'], ['id'], ['prev_hash'], ['record_hash'], ['supersedes']], 'sheets (a correction is a new sheet that supersedes the old one)')}
 `;
 
+const V2_SQL = `
+-- The registry log (registry.ts): one hash-chained entry per row of users, user_events, signers.
+-- table_name has no CHECK list, so that a later migration can register another table; the
+-- verification reports an entry that names a table the build does not register.
+CREATE TABLE registry_log (
+  seq         INTEGER PRIMARY KEY AUTOINCREMENT,
+  format      INTEGER NOT NULL,
+  table_name  TEXT NOT NULL,
+  row_key     TEXT NOT NULL,
+  row_sha256  TEXT NOT NULL CHECK (length(row_sha256) = 64),
+  logged_at   TEXT NOT NULL,
+  prev_hash   TEXT NOT NULL UNIQUE CHECK (length(prev_hash) = 64),
+  record_hash TEXT NOT NULL UNIQUE CHECK (length(record_hash) = 64),
+  UNIQUE (table_name, row_key)
+) STRICT;
+${appendOnlyTriggers('registry_log', [['seq'], ['prev_hash'], ['record_hash'], ['table_name', 'row_key']], 'registry entries')}
+`;
+
 /** The migrations this build knows, in order. */
 export const MIGRATIONS: readonly Migration[] = [
   {
@@ -147,9 +168,10 @@ export const MIGRATIONS: readonly Migration[] = [
   {
     version: 2,
     description: 'registry log: a hash chain over users, user events and signers; rows stored before it are logged as found',
-    up: (db) => {
-      db.exec(REGISTRY_SQL + appendOnlyTriggers('registry_log', [['seq'], ['prev_hash'], ['record_hash'], ['table_name', 'row_key']], 'registry entries'));
-      logUnloggedRows({ db }, new Date().toISOString());
+    up: (db, at) => {
+      db.exec(V2_SQL);
+      // Rows stored under version 1 are logged in registry format 1 (the columns version 1 created).
+      logUnloggedRows({ db }, at, { tables: ['users', 'user_events', 'signers'], format: 1, order: { users: 'created_at, id', user_events: 'seq', signers: 'seq' } });
     },
   },
 ];
@@ -215,12 +237,9 @@ export function migrate(
       const current = schemaVersion(db);
       if (current > supported) throw tooNew(file, current, supported);
       if (current >= m.version) return; // another process got there first
-      m.up(db);
-      db.prepare('INSERT INTO schema_version (version, description, applied_at) VALUES (?, ?, ?)').run(
-        m.version,
-        m.description,
-        now().toISOString(),
-      );
+      const at = now().toISOString();
+      m.up(db, at);
+      db.prepare('INSERT INTO schema_version (version, description, applied_at) VALUES (?, ?, ?)').run(m.version, m.description, at);
       applied.push(m.version);
     }).immediate();
   }

@@ -42,21 +42,6 @@ export const REGISTRY_COLUMNS: Readonly<Record<number, Readonly<Record<RegistryT
   },
 };
 
-export const REGISTRY_SQL = `
--- The registry log (registry.ts): one hash-chained entry per row of users, user_events, signers.
-CREATE TABLE registry_log (
-  seq         INTEGER PRIMARY KEY AUTOINCREMENT,
-  format      INTEGER NOT NULL,
-  table_name  TEXT NOT NULL CHECK (table_name IN ('users', 'user_events', 'signers')),
-  row_key     TEXT NOT NULL,
-  row_sha256  TEXT NOT NULL CHECK (length(row_sha256) = 64),
-  logged_at   TEXT NOT NULL,
-  prev_hash   TEXT NOT NULL UNIQUE CHECK (length(prev_hash) = 64),
-  record_hash TEXT NOT NULL UNIQUE CHECK (length(record_hash) = 64),
-  UNIQUE (table_name, row_key)
-) STRICT;
-`;
-
 interface LogRow {
   seq: number;
   format: number;
@@ -68,14 +53,25 @@ interface LogRow {
   record_hash: string;
 }
 
-/** SHA-256 of a stored row in a format: canonical JSON of the format's columns, BLOBs by their own SHA-256. Null for an unknown format. */
+/** The columns a format lists for a table that the stored row does not have (a rebuilt table); empty when all are there. */
+export function missingColumns(table: RegistryTable, row: Record<string, unknown>, format = REGISTRY_FORMAT): string[] {
+  return (REGISTRY_COLUMNS[format]?.[table] ?? []).filter((k) => !Object.prototype.hasOwnProperty.call(row, k));
+}
+
+/**
+ * SHA-256 of a stored row in a format: canonical JSON of the format's columns, BLOBs by their own
+ * SHA-256. Null for an unknown format. A listed column the row does not have is refused (never
+ * hashed as null): the caller reports it.
+ */
 export function rowDigest(table: RegistryTable, row: Record<string, unknown>, format = REGISTRY_FORMAT): string | null {
   const columns = REGISTRY_COLUMNS[format]?.[table];
   if (!columns) return null;
+  const missing = missingColumns(table, row, format);
+  if (missing.length) throw new DomainError('INTERNAL', { detail: `registry: ${table} has no column ${missing.join(', ')}, which format ${format} hashes` });
   const plain: Record<string, unknown> = {};
   for (const k of columns) {
     const v = row[k];
-    plain[k] = v === undefined ? null : Buffer.isBuffer(v) || v instanceof Uint8Array ? `sha256:${sha256Hex(v)}` : typeof v === 'bigint' ? v.toString() : v;
+    plain[k] = v === null ? null : Buffer.isBuffer(v) || v instanceof Uint8Array ? `sha256:${sha256Hex(v)}` : typeof v === 'bigint' ? v.toString() : v;
   }
   return sha256Hex(canonicalJson({ format, row: plain }));
 }
@@ -86,45 +82,61 @@ export function registryRecordHash(e: Pick<LogRow, 'format' | 'seq' | 'table_nam
   );
 }
 
-function readRow(ctx: Pick<ArchiveContext, 'db'>, table: RegistryTable, key: string): Record<string, unknown> | undefined {
+/** The connection, and the cached statements of an open archive when there is one (a migration has only the connection). */
+export type RegistryContext = Pick<ArchiveContext, 'db'> & Partial<Pick<ArchiveContext, 'statement'>>;
+
+function prepare(ctx: RegistryContext, sql: string) {
+  return ctx.statement ? ctx.statement(sql) : ctx.db.prepare(sql);
+}
+
+function readRow(ctx: RegistryContext, table: RegistryTable, key: string): Record<string, unknown> | undefined {
   const column = REGISTRY_TABLES[table];
-  return ctx.db.prepare(`SELECT * FROM ${table} WHERE ${column} = ?`).get(column === 'seq' ? Number(key) : key) as Record<string, unknown> | undefined;
+  return prepare(ctx, `SELECT * FROM ${table} WHERE ${column} = ?`).get(column === 'seq' ? Number(key) : key) as Record<string, unknown> | undefined;
 }
 
 /**
  * Append the log entry for a row just inserted. Call inside the transaction that inserted it
  * (the entry and the row commit together, or neither does).
  */
-export function logRegistryRow(ctx: Pick<ArchiveContext, 'db'>, table: RegistryTable, key: string | number, at: string): void {
+export function logRegistryRow(ctx: RegistryContext, table: RegistryTable, key: string | number, at: string, format = REGISTRY_FORMAT): void {
   const k = String(key);
   const row = readRow(ctx, table, k);
   if (!row) throw new DomainError('INTERNAL', { detail: `registry: no ${table} row ${k} to log` });
-  const last = ctx.db.prepare('SELECT seq, record_hash FROM registry_log ORDER BY seq DESC LIMIT 1').get() as { seq: number; record_hash: string } | undefined;
+  const last = prepare(ctx, 'SELECT seq, record_hash FROM registry_log ORDER BY seq DESC LIMIT 1').get() as { seq: number; record_hash: string } | undefined;
   const entry = {
     seq: (last?.seq ?? 0) + 1,
-    format: REGISTRY_FORMAT,
+    format,
     table_name: table,
     row_key: k,
-    row_sha256: rowDigest(table, row)!,
+    row_sha256: rowDigest(table, row, format) ?? unknownFormat(format),
     logged_at: at,
     prev_hash: last?.record_hash ?? ZERO_HASH,
   };
-  ctx.db
-    .prepare('INSERT INTO registry_log (seq, format, table_name, row_key, row_sha256, logged_at, prev_hash, record_hash) VALUES (?, ?, ?, ?, ?, ?, ?, ?)')
-    .run(entry.seq, entry.format, entry.table_name, entry.row_key, entry.row_sha256, entry.logged_at, entry.prev_hash, registryRecordHash(entry));
+  prepare(ctx, 'INSERT INTO registry_log (seq, format, table_name, row_key, row_sha256, logged_at, prev_hash, record_hash) VALUES (?, ?, ?, ?, ?, ?, ?, ?)').run(entry.seq, entry.format, entry.table_name, entry.row_key, entry.row_sha256, entry.logged_at, entry.prev_hash, registryRecordHash(entry));
 }
 
-/** Log every row of the registered tables that has no entry yet (the migration that adds the log). */
-export function logUnloggedRows(ctx: Pick<ArchiveContext, 'db'>, at: string): number {
+function unknownFormat(format: number): never {
+  throw new DomainError('INTERNAL', { detail: `registry: format ${format} is not one this build knows` });
+}
+
+/**
+ * Log every row of the given tables that has no entry yet, in the given format. A migration
+ * passes the tables and format it was written for (never the live constants, which later
+ * builds extend), so it does the same thing on every build.
+ */
+export function logUnloggedRows(
+  ctx: RegistryContext,
+  at: string,
+  scope: { readonly tables: readonly RegistryTable[]; readonly format: number; readonly order: Readonly<Partial<Record<RegistryTable, string>>> },
+): number {
   let n = 0;
-  const order: Record<RegistryTable, string> = { users: 'created_at, id', user_events: 'seq', signers: 'seq' };
-  for (const table of Object.keys(REGISTRY_TABLES) as RegistryTable[]) {
+  for (const table of scope.tables) {
     const column = REGISTRY_TABLES[table];
     const keys = ctx.db
-      .prepare(`SELECT ${column} AS k FROM ${table} WHERE CAST(${column} AS TEXT) NOT IN (SELECT row_key FROM registry_log WHERE table_name = ?) ORDER BY ${order[table]}`)
+      .prepare(`SELECT ${column} AS k FROM ${table} WHERE CAST(${column} AS TEXT) NOT IN (SELECT row_key FROM registry_log WHERE table_name = ?) ORDER BY ${scope.order[table] ?? column}`)
       .all(table) as { k: string | number }[];
     for (const { k } of keys) {
-      logRegistryRow(ctx, table, k, at);
+      logRegistryRow(ctx, table, k, at, scope.format);
       n++;
     }
   }
@@ -132,30 +144,53 @@ export function logUnloggedRows(ctx: Pick<ArchiveContext, 'db'>, at: string): nu
 }
 
 export interface RegistryProblem {
+  /** "table:key" of the row concerned; "registry_log" for the log's tail and head checks. */
   readonly id: string;
-  readonly check: 'registry-sequence' | 'registry-chain' | 'registry-record-hash' | 'registry-format' | 'registry-row-missing' | 'registry-row-hash' | 'registry-unlogged' | 'registry-tail';
+  readonly check:
+    | 'registry-sequence' | 'registry-chain' | 'registry-record-hash' | 'registry-format' | 'registry-row-missing' | 'registry-row-hash'
+    | 'registry-unlogged' | 'registry-tail' | 'registry-head';
   readonly message: string;
 }
 
+/** The last entry of the registry log: write it down with the sheet chain's head to detect a rewritten log later. */
+export interface RegistryHead {
+  readonly entries: number;
+  readonly lastSeq: number;
+  readonly recordHash: string;
+}
+
+/** A registry head recorded earlier: its entry must still be in the log, with at least that many entries. */
+export interface ExpectedRegistryHead {
+  readonly entries?: number;
+  readonly recordHash?: string;
+}
+
 /** Walk the registry log; every problem names the table and row (or the log entry). */
-export function verifyRegistry(ctx: Pick<ArchiveContext, 'db'>): { entries: number; problems: RegistryProblem[] } {
+export function verifyRegistry(ctx: RegistryContext, expected: ExpectedRegistryHead = {}): { entries: number; head: RegistryHead; problems: RegistryProblem[] } {
   const problems: RegistryProblem[] = [];
   let prevSeq = 0;
   let prevHash = ZERO_HASH;
   let entries = 0;
   const logged = new Set<string>();
+  const hashes = new Set<string>([ZERO_HASH]); // the head of an empty log
   for (const e of ctx.db.prepare('SELECT * FROM registry_log ORDER BY seq').iterate() as IterableIterator<LogRow>) {
     entries++;
     const id = `${e.table_name}:${e.row_key}`;
     logged.add(id);
+    hashes.add(e.record_hash);
     if (e.seq !== prevSeq + 1) problems.push({ id, check: 'registry-sequence', message: `registry entry ${e.seq} follows ${prevSeq}: ${e.seq - prevSeq - 1} entr(ies) are missing` });
     if (e.prev_hash !== prevHash) problems.push({ id, check: 'registry-chain', message: `registry entry ${e.seq}: prev_hash does not match the entry before` });
     if (registryRecordHash(e) !== e.record_hash) problems.push({ id, check: 'registry-record-hash', message: `registry entry ${e.seq} does not hash to its record_hash (the entry was changed)` });
-    const row = REGISTRY_TABLES[e.table_name] ? readRow(ctx, e.table_name, e.row_key) : undefined;
-    const digest = row ? rowDigest(e.table_name, row, e.format) : undefined;
-    if (!row) problems.push({ id, check: 'registry-row-missing', message: `${e.table_name} row ${e.row_key} is logged but no longer stored (deleted or its key changed)` });
-    else if (digest === null) problems.push({ id, check: 'registry-format', message: `registry entry ${e.seq} has format ${e.format}, which this build cannot check` });
-    else if (digest !== e.row_sha256) problems.push({ id, check: 'registry-row-hash', message: `${e.table_name} row ${e.row_key} does not hash to its logged SHA-256 (a column was changed)` });
+    const known = Object.prototype.hasOwnProperty.call(REGISTRY_TABLES, e.table_name);
+    const row = known ? readRow(ctx, e.table_name, e.row_key) : undefined;
+    if (!known) problems.push({ id, check: 'registry-format', message: `registry entry ${e.seq} names table ${e.table_name}, which this build does not register` });
+    else if (!row) problems.push({ id, check: 'registry-row-missing', message: `${e.table_name} row ${e.row_key} is logged but no longer stored (deleted or its key changed)` });
+    else if (!REGISTRY_COLUMNS[e.format]) problems.push({ id, check: 'registry-format', message: `registry entry ${e.seq} has format ${e.format}, which this build cannot check` });
+    else {
+      const missing = missingColumns(e.table_name, row, e.format);
+      if (missing.length) problems.push({ id, check: 'registry-format', message: `${e.table_name} has lost column(s) ${missing.join(', ')} that registry entry ${e.seq} (format ${e.format}) hashes` });
+      else if (rowDigest(e.table_name, row, e.format) !== e.row_sha256) problems.push({ id, check: 'registry-row-hash', message: `${e.table_name} row ${e.row_key} does not hash to its logged SHA-256 (a column was changed)` });
+    }
     prevSeq = e.seq;
     prevHash = e.record_hash;
   }
@@ -170,5 +205,11 @@ export function verifyRegistry(ctx: Pick<ArchiveContext, 'db'>): { entries: numb
   if (counter && counter.seq > prevSeq) {
     problems.push({ id: 'registry_log', check: 'registry-tail', message: `the registry counter reached ${counter.seq} but the last entry is ${prevSeq}: the last ${counter.seq - prevSeq} entr(ies) are missing` });
   }
-  return { entries, problems };
+  if (expected.recordHash !== undefined && !hashes.has(expected.recordHash)) {
+    problems.push({ id: 'registry_log', check: 'registry-head', message: `the recorded registry head ${expected.recordHash} is not in the log: entries were removed or rewritten` });
+  }
+  if (expected.entries !== undefined && entries < expected.entries) {
+    problems.push({ id: 'registry_log', check: 'registry-head', message: `the registry log holds ${entries} entries, fewer than the ${expected.entries} recorded earlier` });
+  }
+  return { entries, head: { entries, lastSeq: prevSeq, recordHash: prevHash }, problems };
 }

@@ -199,8 +199,13 @@ export interface AddSignerInput {
   readonly createdBy: string;
 }
 
-/** Store a signer. The password is encrypted before it reaches the database. */
-export function addSigner(ctx: ArchiveContext, input: AddSignerInput): SignerSummary {
+/**
+ * Store a signer. The password is encrypted before it reaches the database. With
+ * `unlessDefaultExists`, a default signer (no user) is stored only when none is: the check and
+ * the insert share one write transaction, so two processes starting on an empty archive store one
+ * (the other gets null).
+ */
+export function addSigner(ctx: ArchiveContext, input: AddSignerInput, options: { unlessDefaultExists?: boolean } = {}): SignerSummary | null {
   const name = requireText(input.name, '/name', 'name');
   const role = requireText(input.role, '/role', 'role');
   const subject = requireText(input.certificateSubject, '/certificateSubject', 'certificate subject', 2000);
@@ -221,14 +226,17 @@ export function addSigner(ctx: ArchiveContext, input: AddSignerInput): SignerSum
   const id = newSignerId();
   const createdAt = ctx.now().toISOString();
   const enc = encryptPassword(key.key, id, input.password);
-  ctx.db
+  const stored = ctx.db
     .transaction(() => {
+      if (options.unlessDefaultExists && userId === null && ctx.statement('SELECT 1 FROM signers WHERE user_id IS NULL LIMIT 1').get()) return false;
       ctx
         .statement(`INSERT INTO signers (${SIGNER_COLUMNS}) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)`)
         .run(id, name, role, subject, userId, input.demo ? 1 : 0, Buffer.from(input.p12), enc, key.fingerprint, createdAt, input.createdBy);
       logRegistryRow(ctx, 'signers', id, createdAt);
+      return true;
     })
     .immediate();
+  if (!stored) return null;
   return { id, name, role, certificateSubject: subject, userId, demo: input.demo === true, createdAt, createdBy: input.createdBy };
 }
 

@@ -8,14 +8,14 @@
  *
  * The archive walk also reports a cut tail: the AUTOINCREMENT counter (sqlite_sequence) remembers
  * the highest seq ever stored, so deleting the last records leaves the counter ahead of the last
- * row. Someone who can rewrite the file can reset that counter too; the only defence against a
- * rewritten tail is a head written down elsewhere (a monthly report, a printed hash): pass it as
- * `expectedHead`.
+ * row. Someone who can rewrite the file can reset that counter too, or recompute a whole chain; the
+ * only defence against that is a head written down elsewhere (a monthly report, a printed hash):
+ * pass it as `expectedHead` (sheets) and `expectedRegistryHead` (users, user events, signers).
  */
 import { ZERO_HASH, sha256Hex } from './canonical.js';
 import type { ArchiveContext } from './context.js';
 import { requireSheetId } from './ids.js';
-import { verifyRegistry, type RegistryProblem } from './registry.js';
+import { verifyRegistry, type ExpectedRegistryHead, type RegistryHead, type RegistryProblem } from './registry.js';
 import { RECORD_FORMAT, recordHash, type SheetRow } from './sheets.js';
 import { DomainError } from '../core/errors.js';
 
@@ -120,8 +120,13 @@ export type ArchiveCheck =
   | RegistryProblem['check'];
 
 export interface ArchiveProblem {
-  /** The sheet id ("plant@vN" for a plant profile version, "table:key" for a registry row); null for the tail and head checks. */
+  /**
+   * The sheet id; "plant@vN" for a plant profile version; "table:key" for a registry row and
+   * "registry_log" for the registry log's tail and head checks; null for the sheet chain's tail
+   * and head checks.
+   */
   readonly id: string | null;
+  /** The sheet's seq; null for everything that is not a sheet (firstBrokenId names sheets only). */
   readonly seq: number | null;
   readonly check: ArchiveCheck;
   readonly message: string;
@@ -143,6 +148,8 @@ export interface ArchiveVerification {
   readonly plantVersions: number;
   /** Entries of the registry log walked (users, user events, signers; see registry.ts). */
   readonly registryEntries: number;
+  /** The head of the registry log as found: write it down beside `head`. */
+  readonly registryHead: RegistryHead;
 }
 
 export interface VerifyArchiveOptions {
@@ -150,6 +157,8 @@ export interface VerifyArchiveOptions {
   readonly verifyPdfSignature?: PdfSignatureCheck | null;
   /** A head recorded earlier: its record must still be in the chain, with at least that many records. */
   readonly expectedHead?: { readonly records?: number; readonly recordHash?: string };
+  /** A registry head recorded earlier (see `registryHead`). */
+  readonly expectedRegistryHead?: ExpectedRegistryHead;
   /** Most problems listed (default 1000). */
   readonly maxProblems?: number;
 }
@@ -176,7 +185,7 @@ export async function verifyArchive(ctx: ArchiveContext, options: VerifyArchiveO
       let prevSeq = 0;
       let prevHash = ZERO_HASH;
       let lastId: string | null = null;
-      const hashes = new Set<string>();
+      const hashes = new Set<string>([ZERO_HASH]); // the head of an empty archive, written down before the first sheet
       const seen = new Set<string>();
       const ids: { id: string; seq: number }[] = [];
       for (const row of ctx.db.prepare('SELECT * FROM sheets ORDER BY seq').iterate() as IterableIterator<SheetRow>) {
@@ -237,9 +246,9 @@ export async function verifyArchive(ctx: ArchiveContext, options: VerifyArchiveO
         expected = p.version + 1;
       }
       // Users, user events and signers: the registry log (registry.ts).
-      const registry = verifyRegistry(ctx);
+      const registry = verifyRegistry(ctx, options.expectedRegistryHead);
       for (const p of registry.problems) add({ id: p.id, seq: null, check: p.check, message: p.message });
-      return { records, ids, plantVersions, registryEntries: registry.entries, head: { lastId, lastSeq: prevSeq, recordHash: prevHash } };
+      return { records, ids, plantVersions, registryEntries: registry.entries, registryHead: registry.head, head: { lastId, lastSeq: prevSeq, recordHash: prevHash } };
     })
     .deferred();
 
@@ -263,5 +272,6 @@ export async function verifyArchive(ctx: ArchiveContext, options: VerifyArchiveO
     signaturesChecked,
     plantVersions: walk.plantVersions,
     registryEntries: walk.registryEntries,
+    registryHead: walk.registryHead,
   };
 }

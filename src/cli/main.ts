@@ -5,7 +5,9 @@
  *   balance --species "H2S,Cl2" "S,H+,Cl-"                           any reaction from its species
  *   potential <oxidised> <reduced> [--pH 7] [--temperatureC 12]      E° and E of a couple
  *   dose <request.json | ->                                           POST /api/v1/doses body from a file or stdin
- *   verify [--data-dir reports]                                       walk the archive's hash chain and signatures
+ *   verify [--data-dir reports] [--expect-record-hash H] [--expect-registry-hash H]
+ *                                                                     walk the archive's hash chains and signatures;
+ *                                                                     the hashes are heads written down after an earlier walk
  *
  * Output is JSON on stdout; an error prints its detail (and a caret under a bad formula
  * character) on stderr and exits with status 2.
@@ -84,9 +86,16 @@ async function main(argv: string[]): Promise<unknown> {
     }
     case 'verify': {
       const dataDir = resolve(flag(args, '--data-dir') ?? process.env['DATA_DIR'] ?? 'reports');
+      const hash = (name: string): string | undefined => {
+        const h = flag(args, name);
+        if (h !== undefined && !/^[0-9a-f]{64}$/.test(h)) throw new DomainError('VALIDATION_FAILED', { detail: `${name} must be a SHA-256 in 64 lowercase hex digits; got "${h}".` });
+        return h;
+      };
+      const expectedHead = { recordHash: hash('--expect-record-hash') };
+      const expectedRegistryHead = { recordHash: hash('--expect-registry-hash') };
       const archive = openArchive({ dataDir });
       try {
-        return await archive.verifyArchive({ verifyPdfSignature: verifySignedPdf });
+        return await archive.verifyArchive({ verifyPdfSignature: verifySignedPdf, expectedHead, expectedRegistryHead });
       } finally {
         archive.close();
       }

@@ -187,7 +187,7 @@ export function validationProblem(fields: FieldProblem[], where: string): Proble
   const first = fields[0];
   const detail =
     fields.length === 1 && first
-      ? `${where} field ${first.pointer || '(root)'} ${first.message}`
+      ? `${where} field ${first.pointer || '(root)'}: ${first.message}`
       : `${fields.length} ${where} fields are invalid: ${fields.map((f) => f.pointer || '(root)').join(', ')}`;
   return problem('VALIDATION_FAILED', detail, { errors: fields });
 }

@@ -145,9 +145,11 @@ export async function createServices(options: ServiceOptions): Promise<Services>
   const demoPlant = parsePlantProfile(JSON.parse(readFileSync(join(options.tablesDir ?? DEFAULT_TABLES_DIR, 'demo', 'demo-plant.json'), 'utf8')));
   archive.seedPlant(demoPlant, { createdBy: 'system (invented demo data)' });
   // A clearly labelled self-signed demo signer, made once, so sheets can be signed with no setup.
+  // The key is made outside the write lock; the store checks again inside it, so two processes
+  // starting at once on an empty folder keep one demo signer.
   if (!archive.getDefaultSigner()) {
     const demo = createDemoSigner({ name: 'Demo signer', role: 'Demonstration only', organisation: 'oxidant-dosing demo' });
-    archive.addSigner({
+    archive.addDefaultSignerIfNone({
       name: 'Demo signer',
       role: 'Demonstration only',
       certificateSubject: demo.signer.identity.certificateSubject,

@@ -144,7 +144,8 @@ describe('migrations', () => {
     raw.prepare('INSERT INTO users (id, name, role, token_sha256, created_at, created_by) VALUES (?, ?, ?, ?, ?, ?)').run('usr_OLD0000000000001', 'old admin', 'admin', 'a'.repeat(64), '2026-01-01T00:00:00.000Z', 'system:bootstrap');
     raw.prepare("INSERT INTO user_events (user_id, event, at, actor) VALUES (?, 'created', ?, ?)").run('usr_OLD0000000000001', '2026-01-01T00:00:00.000Z', 'system:bootstrap');
     raw.close();
-    const a = openArchive({ dataDir: d, signerKeySecret: SECRET });
+    const at = new Date('2026-02-03T04:05:06.000Z');
+    const a = openArchive({ dataDir: d, signerKeySecret: SECRET, now: () => at });
     try {
       expect(a.migration).toEqual({ from: 1, to: latestVersion(), applied: MIGRATIONS.slice(1).map((m) => m.version) });
       const log = a.db.prepare('SELECT seq, table_name, row_key FROM registry_log ORDER BY seq').all();
@@ -152,6 +153,8 @@ describe('migrations', () => {
         { seq: 1, table_name: 'users', row_key: 'usr_OLD0000000000001' },
         { seq: 2, table_name: 'user_events', row_key: '1' },
       ]);
+      // the backfill is stamped with the time of the upgrade, not with the rows' own times
+      expect(a.db.prepare('SELECT DISTINCT logged_at, format FROM registry_log').all()).toEqual([{ logged_at: at.toISOString(), format: 1 }]);
       const v = await a.verifyArchive();
       expect(v).toMatchObject({ valid: true, registryEntries: 2 });
     } finally {

@@ -109,6 +109,24 @@ describe('signers', () => {
     a.close();
   });
 
+  it('two processes starting on one empty folder store one default signer, not two', () => {
+    const d = dir();
+    const first = openArchive({ dataDir: d, signerKeySecret: 'cd'.repeat(32) });
+    const second = openArchive({ dataDir: d, signerKeySecret: 'cd'.repeat(32) });
+    try {
+      const made = first.addDefaultSignerIfNone(signerInput({ name: 'Demo signer A (invented)', demo: true }));
+      const again = second.addDefaultSignerIfNone(signerInput({ name: 'Demo signer B (invented)', demo: true }));
+      expect(made?.name).toBe('Demo signer A (invented)');
+      expect(again).toBeNull();
+      const defaults = second.db.prepare('SELECT name FROM signers WHERE user_id IS NULL').all();
+      expect(defaults).toEqual([{ name: 'Demo signer A (invented)' }]);
+      expect(second.getDefaultSigner()?.name).toBe('Demo signer A (invented)');
+    } finally {
+      second.close();
+      first.close();
+    }
+  });
+
   it('the PKCS#12 bytes come back unchanged', () => {
     const a = openArchive({ dataDir: dir(), signerKeySecret: 'cd'.repeat(32) });
     const p12 = randomBytes(2500);

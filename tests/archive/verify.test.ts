@@ -6,7 +6,7 @@
 import { createHash } from 'node:crypto';
 import { afterEach, describe, expect, it } from 'vitest';
 import { recordHash, type Archive, type SheetSummary } from '../../src/archive/index.js';
-import { REGISTRY_COLUMNS as REGISTRY_COLUMNS_BY_FORMAT, REGISTRY_FORMAT } from '../../src/archive/registry.js';
+import { REGISTRY_COLUMNS as REGISTRY_COLUMNS_BY_FORMAT, REGISTRY_FORMAT, missingColumns, rowDigest } from '../../src/archive/registry.js';
 import type { SheetRow } from '../../src/archive/sheets.js';
 import { doseSheetInput, ensureAuthor, fakeVerifyPdf, openTestArchive, rawTamper, tempDataDir } from './fixtures/archive-fixture.js';
 
@@ -331,5 +331,61 @@ describe('users, user events and signers are covered by the registry log', () =>
     });
     const checks = (await cut.reopen().verifyArchive()).problems.map((p) => p.check);
     expect(checks).toEqual(expect.arrayContaining(['registry-tail', 'registry-unlogged']));
+  });
+  it('the last entry cut and the counter reset: only a registry head recorded elsewhere catches it', async () => {
+    const { file, reopen } = built(1);
+    const first = reopen();
+    const recorded = (await first.verifyArchive()).registryHead;
+    expect(recorded.entries).toBeGreaterThanOrEqual(3);
+    expect(recorded.recordHash).toMatch(/^[0-9a-f]{64}$/);
+    first.close();
+    await rawTamper(file, ['registry_log', 'signers'], (db) => {
+      const last = db.prepare('SELECT seq, table_name, row_key FROM registry_log ORDER BY seq DESC LIMIT 1').get() as { seq: number; table_name: string; row_key: string };
+      db.prepare('DELETE FROM registry_log WHERE seq = ?').run(last.seq);
+      db.prepare(`DELETE FROM ${last.table_name} WHERE ${last.table_name === 'user_events' ? 'seq' : 'id'} = ?`).run(last.table_name === 'user_events' ? Number(last.row_key) : last.row_key);
+      db.prepare("UPDATE sqlite_sequence SET seq = seq - 1 WHERE name = 'registry_log'").run();
+    });
+    const a = reopen();
+    expect((await a.verifyArchive()).valid).toBe(true); // a consistent, shorter log
+    const v = await a.verifyArchive({ expectedRegistryHead: { entries: recorded.entries, recordHash: recorded.recordHash } });
+    expect(v.valid).toBe(false);
+    expect(v.problems.map((p) => p.check)).toEqual(['registry-head', 'registry-head']);
+    expect(v.problems[0]!.message).toContain(recorded.recordHash);
+  });
+
+  it('a recorded registry head that is still in the log passes', async () => {
+    const { reopen } = built(1);
+    const a = reopen();
+    const head = (await a.verifyArchive()).registryHead;
+    const v = await a.verifyArchive({ expectedRegistryHead: { entries: head.entries, recordHash: head.recordHash } });
+    expect(v).toMatchObject({ valid: true, problems: [] });
+  });
+
+  it('a log entry naming a table this build does not register is reported, not skipped', async () => {
+    const { file, reopen } = built(1);
+    await rawTamper(file, ['registry_log'], (db) => {
+      const last = db.prepare('SELECT seq, record_hash FROM registry_log ORDER BY seq DESC LIMIT 1').get() as { seq: number; record_hash: string };
+      db.prepare('INSERT INTO registry_log (seq, format, table_name, row_key, row_sha256, logged_at, prev_hash, record_hash) VALUES (?, 1, ?, ?, ?, ?, ?, ?)').run(
+        last.seq + 1, 'nonsense', 'x', '0'.repeat(64), '2026-12-01T00:00:00.000Z', last.record_hash, '1'.repeat(64));
+    });
+    const v = await reopen().verifyArchive();
+    expect(v.valid).toBe(false);
+    expect(v.problems).toEqual(expect.arrayContaining([expect.objectContaining({ id: 'nonsense:x', check: 'registry-format', message: expect.stringMatching(/does not register/) })]));
+  });
+
+  it('a column the format hashes is never hashed as null when the row lacks it', () => {
+    const row = { id: 'usr_1', name: 'n', role: 'admin', token_sha256: 'a'.repeat(64), created_at: 't' }; // created_by missing
+    expect(missingColumns('users', row)).toEqual(['created_by']);
+    expect(() => rowDigest('users', row)).toThrow(/no column created_by/);
+    expect(rowDigest('users', { ...row, created_by: null })).toMatch(/^[0-9a-f]{64}$/); // a stored NULL is a value
+    expect(rowDigest('users', { ...row, created_by: null }, 999)).toBeNull();
+  });
+
+  it('a registered table rebuilt without a hashed column is reported as registry-format', async () => {
+    const { file, reopen } = built(1);
+    await rawTamper(file, ['users'], (db) => db.exec('ALTER TABLE users DROP COLUMN created_by'));
+    const v = await reopen().verifyArchive();
+    expect(v.valid).toBe(false);
+    expect(v.problems).toEqual(expect.arrayContaining([expect.objectContaining({ check: 'registry-format', message: expect.stringMatching(/lost column\(s\) created_by/) })]));
   });
 });

@@ -32,6 +32,23 @@ describe('command line', () => {
     expect(out.dose.basis).toBe('as Cl2');
   });
 
+  it('verify walks an archive, answers both heads, and checks heads passed back; a malformed head exits 2', () => {
+    const dataDir = mkdtempSync(join(tmpdir(), 'oxd-cli-verify-'));
+    const first = cli(['verify', '--data-dir', dataDir]);
+    expect(first.status, first.stderr).toBe(0);
+    const v = JSON.parse(first.stdout);
+    expect(v.valid).toBe(true);
+    expect(v.registryHead.recordHash).toMatch(/^[0-9a-f]{64}$/);
+    const again = cli(['verify', '--data-dir', dataDir, '--expect-record-hash', v.head.recordHash, '--expect-registry-hash', v.registryHead.recordHash]);
+    expect(again.status, again.stderr).toBe(0);
+    expect(JSON.parse(again.stdout).valid).toBe(true);
+    const missing = cli(['verify', '--data-dir', dataDir, '--expect-registry-hash', 'f'.repeat(64)]);
+    expect(JSON.parse(missing.stdout)).toMatchObject({ valid: false, problems: [expect.objectContaining({ check: 'registry-head' })] });
+    const bad = cli(['verify', '--data-dir', dataDir, '--expect-record-hash', 'nothex']);
+    expect(bad.status).toBe(2);
+    expect(bad.stderr).toMatch(/--expect-record-hash must be a SHA-256/);
+  });
+
   it('an unknown command says which commands exist', () => {
     const r = cli(['frobnicate']);
     expect(r.status).toBe(2);

@@ -270,6 +270,40 @@ describe('listing, CSV export, corrections, tokens and users', () => {
     expect(forbidden.headers['content-type']).toMatch(/^application\/problem\+json/);
     expect((await app.inject({ method: 'GET', url: '/api/v1/users', headers: op })).statusCode).toBe(403);
   });
+
+  it('GET /api/v1/archive/verification answers both heads; heads written down earlier are checked when passed back', async () => {
+    const first = (await app.inject({ method: 'GET', url: '/api/v1/archive/verification' })).json();
+    expect(first.valid).toBe(true);
+    expect(first.head.recordHash).toMatch(/^[0-9a-f]{64}$/);
+    expect(first.registryHead).toMatchObject({ entries: first.registryEntries, recordHash: expect.stringMatching(/^[0-9a-f]{64}$/) });
+
+    // one more sheet later: the heads written down earlier are still in both chains
+    expect((await createSheet(app, sheetBody(late))).statusCode).toBe(201);
+    const q = `expectRecords=${first.head.lastSeq}&expectRecordHash=${first.head.recordHash}&expectRegistryEntries=${first.registryHead.entries}&expectRegistryHash=${first.registryHead.recordHash}`;
+    const checked = await app.inject({ method: 'GET', url: `/api/v1/archive/verification?${q}` });
+    expect(checked.statusCode, checked.body).toBe(200);
+    expect(checked.json()).toMatchObject({ valid: true, problems: [] });
+
+    // a head that is not in the log (as after a cut tail or a log rewritten from scratch)
+    const wrong = (await app.inject({ method: 'GET', url: `/api/v1/archive/verification?expectRegistryHash=${'e'.repeat(64)}` })).json();
+    expect(wrong.valid).toBe(false);
+    expect(wrong.problems.map((p: { check: string }) => p.check)).toContain('registry-head');
+    const wrongSheet = (await app.inject({ method: 'GET', url: `/api/v1/archive/verification?expectRecordHash=${'e'.repeat(64)}` })).json();
+    expect(wrongSheet.valid).toBe(false);
+    expect(wrongSheet.problems.length).toBeGreaterThan(0);
+
+    // the head of the empty chains (64 zeros), written down before the first entry, is always in them
+    const genesis = (await app.inject({ method: 'GET', url: `/api/v1/archive/verification?expectRecordHash=${'0'.repeat(64)}&expectRegistryHash=${'0'.repeat(64)}` })).json();
+    expect(genesis.valid).toBe(true);
+
+    // a malformed head is a 400 naming the field, never a silent skip
+    for (const [field, value] of [['expectRegistryHash', 'xyz'], ['expectRecordHash', 'A'.repeat(64)], ['expectRecords', '-1'], ['expectWhatever', '1']] as const) {
+      const bad = await app.inject({ method: 'GET', url: `/api/v1/archive/verification?${field}=${value}` });
+      expect(bad.statusCode, `${field}=${value}`).toBe(400);
+      expect(bad.headers['content-type']).toMatch(/^application\/problem\+json/);
+      expect(JSON.stringify(bad.json().errors)).toContain(field);
+    }
+  });
 });
 
 describe('tampering with the archive file is caught by the service and by pdfsig', () => {

@@ -50,6 +50,18 @@ const Query = z.strictObject({
   to: DateOrTime.optional(),
 });
 
+const Hash = z.string().regex(/^[0-9a-f]{64}$/, 'a SHA-256 in 64 lowercase hex digits');
+/** Query strings arrive as text (no type coercion): a count is checked as digits and converted in the handler. */
+const Count = z.string().regex(/^(0|[1-9][0-9]{0,14})$/, 'a whole number ≥ 0 in digits');
+const ExpectedHeads = z.strictObject({
+  expectRecords: Count.optional().describe('Sheet records recorded earlier (head.lastSeq of an earlier walk): fewer now is reported'),
+  expectRecordHash: Hash.optional().describe('head.recordHash of an earlier walk: it must still be in the chain'),
+  expectRegistryEntries: Count.optional().describe('registryHead.entries of an earlier walk'),
+  expectRegistryHash: Hash.optional().describe('registryHead.recordHash of an earlier walk: it must still be in the registry log'),
+});
+
+const countOf = (digits: string | undefined): number | undefined => (digits === undefined ? undefined : Number(digits));
+
 export async function sheetRoutes(app: FastifyInstance): Promise<void> {
   defineRoute(app, {
     method: 'POST',
@@ -148,7 +160,11 @@ export async function sheetRoutes(app: FastifyInstance): Promise<void> {
     method: 'GET',
     url: '/archive/verification',
     summary: 'Walk the whole archive: every record hash, chain link and PDF signature, plant profile hashes and the registry log of users and signers; the first broken link',
+    description:
+      'A cut tail or a chain rewritten from scratch can only be caught against heads written down earlier (a monthly report): ' +
+      'pass head.recordHash and registryHead.recordHash of an earlier walk as expectRecordHash and expectRegistryHash.',
     tags: ['sheets'],
+    querystring: ExpectedHeads,
     response: {
       200: z.object({
         valid: z.boolean(),
@@ -157,12 +173,18 @@ export async function sheetRoutes(app: FastifyInstance): Promise<void> {
         signaturesChecked: z.number().int(),
         plantVersions: z.number().int().describe('Plant profile versions checked against their SHA-256'),
         registryEntries: z.number().int().describe('Registry log entries walked (users, user events, signers)'),
-        head: z.object({ lastId: z.string().nullable(), lastSeq: z.number(), recordHash: z.string() }),
+        head: z.object({ lastId: z.string().nullable(), lastSeq: z.number(), recordHash: z.string() }).describe('The sheet chain as found: write it down'),
+        registryHead: z.object({ entries: z.number().int(), lastSeq: z.number().int(), recordHash: z.string() }).describe('The registry log as found: write it down'),
         problems: z.array(z.object({ id: z.string().nullable(), seq: z.number().nullable(), check: z.string(), message: z.string() })),
       }),
     },
-    handler: async () => {
-      const v = await app.services.archive.verifyArchive({ verifyPdfSignature: verifySignedPdf });
+    handler: async (req) => {
+      const q = req.query;
+      const v = await app.services.archive.verifyArchive({
+        verifyPdfSignature: verifySignedPdf,
+        expectedHead: { records: countOf(q.expectRecords), recordHash: q.expectRecordHash },
+        expectedRegistryHead: { entries: countOf(q.expectRegistryEntries), recordHash: q.expectRegistryHash },
+      });
       return {
         valid: v.valid,
         records: v.records,
@@ -171,6 +193,7 @@ export async function sheetRoutes(app: FastifyInstance): Promise<void> {
         plantVersions: v.plantVersions,
         registryEntries: v.registryEntries,
         head: v.head,
+        registryHead: v.registryHead,
         problems: [...v.problems],
       };
     },
