@@ -24,8 +24,36 @@ export function jsonSchemaOf(schema: z.ZodType, io: 'input' | 'output'): Record<
   if (hit) return hit as Record<string, unknown>;
   const js = z.toJSONSchema(schema, { target: 'draft-7', io, unrepresentable: 'any' }) as Record<string, unknown>;
   delete js['$schema'];
-  entry[io] = js;
-  return js;
+  const out = io === 'output' ? (nullableAsTypeList(js) as Record<string, unknown>) : js;
+  entry[io] = out;
+  return out;
+}
+
+/**
+ * `X.nullable()` comes out of zod as `anyOf: [X, {type: "null"}]`. Fastify's serializer picks
+ * an anyOf branch by running a validator on the value for every response; the same schema
+ * written as `type: [X's type, "null"]` is the same set of values and is serialized with a
+ * plain type test. Only response schemas are rewritten (requests keep zod's form).
+ */
+export function nullableAsTypeList(node: unknown): unknown {
+  if (Array.isArray(node)) return node.map(nullableAsTypeList);
+  if (node === null || typeof node !== 'object') return node;
+  const obj: Record<string, unknown> = {};
+  for (const [k, v] of Object.entries(node)) obj[k] = nullableAsTypeList(v);
+  const anyOf = obj['anyOf'];
+  if (Array.isArray(anyOf) && anyOf.length === 2) {
+    const nullAt = anyOf.findIndex((b) => isPlainNull(b));
+    const other = anyOf[1 - nullAt] as Record<string, unknown> | undefined;
+    if (nullAt >= 0 && other && typeof other['type'] === 'string' && other['type'] !== 'null' && !('anyOf' in other) && !('oneOf' in other) && !('allOf' in other) && !('enum' in other) && !('const' in other)) {
+      const { anyOf: _drop, ...rest } = obj;
+      return { ...other, ...rest, type: [other['type'], 'null'] };
+    }
+  }
+  return obj;
+}
+
+function isPlainNull(b: unknown): boolean {
+  return b !== null && typeof b === 'object' && Object.keys(b).length === 1 && (b as Record<string, unknown>)['type'] === 'null';
 }
 
 export interface RouteSpec<
