@@ -138,19 +138,26 @@ export function cachedSpeciesKey(s: Species): string {
   return k;
 }
 
-/** Compiled halves of the half-reactions seen without a solids set (the common case), by object identity. */
+/** Compiled halves by object identity: without a solids set (the common case), and per solids set. */
 const COMPILED_CACHE = new WeakMap<HalfReaction, CompiledHalf>();
+const COMPILED_BY_SOLIDS = new WeakMap<ReadonlySet<string>, WeakMap<HalfReaction, CompiledHalf>>();
 
 /** Classify the terms of a half-reaction once. Throws BALANCE_NOT_REDOX if it transfers no electrons. */
 export function compileHalf(half: HalfReaction, solids?: ReadonlySet<string>, pointer = '/half'): CompiledHalf {
-  if (solids === undefined || solids.size === 0) {
-    const hit = COMPILED_CACHE.get(half);
-    if (hit !== undefined) return hit;
-    const compiled = compileHalfUncached(half, undefined, pointer);
-    COMPILED_CACHE.set(half, compiled);
-    return compiled;
+  let cache = COMPILED_CACHE;
+  if (solids !== undefined && solids.size > 0) {
+    let bySet = COMPILED_BY_SOLIDS.get(solids);
+    if (!bySet) {
+      bySet = new WeakMap();
+      COMPILED_BY_SOLIDS.set(solids, bySet);
+    }
+    cache = bySet;
   }
-  return compileHalfUncached(half, solids, pointer);
+  const hit = cache.get(half);
+  if (hit !== undefined) return hit;
+  const compiled = compileHalfUncached(half, solids !== undefined && solids.size > 0 ? solids : undefined, pointer);
+  cache.set(half, compiled);
+  return compiled;
 }
 
 function compileHalfUncached(half: HalfReaction, solids: ReadonlySet<string> | undefined, pointer: string): CompiledHalf {

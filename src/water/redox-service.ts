@@ -42,6 +42,29 @@ export interface StepOut {
   citation?: string;
 }
 
+/**
+ * Species the tables write as solids, e.g. MnO2(s), Fe(OH)3(s), S(s): a caller who writes
+ * "MnO2" means the same solid, held at unit activity, not a dissolved species left out.
+ */
+const SOLIDS_BY_LEDGER = new WeakMap<Ledger, ReadonlySet<string>>();
+export function tabledSolids(ledger: Ledger): ReadonlySet<string> {
+  let set = SOLIDS_BY_LEDGER.get(ledger);
+  if (!set) {
+    set = new Set([...ledger.species].filter(([, s]) => s.phase === 's').map(([key]) => key));
+    SOLIDS_BY_LEDGER.set(ledger, set);
+  }
+  return set;
+}
+
+/** A note when dissolved species were left at unit activity (1 mol/L), which moves E a long way. */
+function unitActivityNote(notGiven: readonly string[], where: string): string | null {
+  if (notGiven.length === 0) return null;
+  return (
+    `${where}: no concentration given for ${notGiven.join(', ')}, taken at unit activity (1 mol/L, the standard state); ` +
+    'give the water\'s concentrations for a potential at its levels.'
+  );
+}
+
 function parseAt(text: string, pointer: string, deps: RedoxDeps): Species {
   try {
     return deps.elements ? parseFormula(text, { elements: deps.elements }) : parseFormula(text);
@@ -180,9 +203,11 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
       partialPressuresAtm: keyedActivities(input.partialPressuresAtm, '/partialPressuresAtm', deps),
       kw: deps.kwAt(temperatureC),
       constants: deps.constants,
+      solids: tabledSolids(deps.ledger),
     });
   }
   const tc = p.tabledCheck;
+  const unitNote = n ? unitActivityNote(n.notGiven, 'Nernst') : null;
   return {
     couple: { from: input.from, to: input.to },
     halfReaction: half.equation,
@@ -221,7 +246,7 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
         }
       : null,
     alternatives: p.alternatives.map((a) => ({ standardPotentialV: a.standardPotentialV, rows: a.rows.map((r) => r.rowId), differs: a.differs })),
-    notes: [...p.notes],
+    notes: [...p.notes, ...(unitNote ? [unitNote] : [])],
     constants: constantsOut(deps),
   };
 }
@@ -344,6 +369,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     partialPressuresAtm: pressures,
     kw: deps.kwAt(T),
     constants: deps.constants,
+    solids: tabledSolids(deps.ledger),
     reductantResidual: { activityCoefficient: gammaRed, ...(molarMassRed !== undefined ? { molarMassGPerMol: molarMassRed } : {}) },
   });
   const halfOut = (h: HalfReaction, p: PotentialResult, n: NernstResult) => ({
@@ -351,6 +377,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     electrons: h.electrons,
     standardPotentialV: p.standardPotentialV,
     temperatureCorrectionV: p.temperatureCorrectionV,
+    standardPotentialAtTemperatureV: p.standardPotentialAtTemperatureV,
     potentialV: n.potentialV,
     valueUsed: p.usedValue,
     // Compact here: row ids, multipliers and source ids (the rows: GET /api/v1/tables/potentials,
@@ -360,6 +387,14 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     unitActivity: [...n.notGiven],
   });
   const res = cell.reductantResidual;
+  for (const [half, where] of [[cell.oxidant, 'Oxidant couple'], [cell.reductant, 'Reductant couple']] as const) {
+    const note = unitActivityNote(half.notGiven, where);
+    if (note) notes.push(note);
+  }
+  if (res && (cell.oxidant.notGiven.length > 0 || cell.reductant.notGiven.length > 0)) {
+    notes.push('The equilibrium residual holds every other activity where it is, including those taken at unit activity: read it as an order of magnitude only.');
+  }
+  const davies = I > 0;
   return {
     reaction: overall.equation,
     medium,
@@ -373,7 +408,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     feasibilityLimitsPH: [...cell.feasibilityLimitsPH],
     feasibleSide: cell.feasibleSide,
     equilibriumResidual: res ? { species: res.species, molPerL: res.molPerL, mgPerL: res.mgPerL } : null,
-    activity: { ionicStrength: I, ionicStrengthBasis: iBasis, ionicStrengthRelation: iRelation, daviesA: A, relation: DAVIES_EQUATION.id },
+    activity: { ionicStrength: I, ionicStrengthBasis: iBasis, ionicStrengthRelation: iRelation, daviesA: davies ? A : null, relation: davies ? DAVIES_EQUATION.id : null },
     slopeV: cell.slopeV,
     halfReactions: {
       oxidant: halfOut(oxHalf, pOx, cell.oxidant),

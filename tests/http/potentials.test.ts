@@ -95,6 +95,20 @@ describe('POST /api/v1/couples/potential', () => {
 /** E° at the sample temperature: the 25 °C value plus its temperature correction. */
 const e0T = (h: { standardPotentialV: number; temperatureCorrectionV: number }) => h.standardPotentialV + h.temperatureCorrectionV;
 
+describe('POST /api/v1/couples/potential at conditions', () => {
+  it('Fe(OH)3/Fe2+ at pH 7: the solid is at unit activity by convention; Fe2+ left out is named, with a note', async () => {
+    const b = (await post('/api/v1/couples/potential', { from: 'Fe(OH)3', to: 'Fe2+', pH: 7 })).json();
+    expect(b.nernst.unitActivity).toEqual(['Fe2+']);
+    expect(b.nernst.activities.find((a: { species: string }) => a.species === 'Fe(OH)3').origin).toBe('unit-by-convention (solid)');
+    expect(b.notes.join(' ')).toMatch(/no concentration given for Fe2\+/);
+    const withFe = (await post('/api/v1/couples/potential', { from: 'Fe(OH)3', to: 'Fe2+', pH: 7, activities: { 'Fe2+': 1e-5 } })).json();
+    expect(withFe.nernst.unitActivity).toEqual([]);
+    expect(withFe.notes.join(' ')).not.toMatch(/no concentration given/);
+    // Nernst, 1 e-, 3 OH- on the product side: E = E°(T) − s·log(a(Fe2+)·a(OH-)^3); a(Fe2+) from 1 to 1e-5 raises E by 5s
+    expect(withFe.potentialV - b.potentialV).toBeCloseTo(5 * b.nernst.slopeV, 9);
+  });
+});
+
 describe('POST /api/v1/cells/evaluate', () => {
   it('permanganate oxidises Mn(II) at pH 7.2: feasible, 6 electrons, ΔG = −nFE, log K = nFE°/(RT ln 10)', async () => {
     const r = await post('/api/v1/cells/evaluate', MN_CELL);
@@ -161,6 +175,32 @@ describe('POST /api/v1/cells/evaluate', () => {
     ).json();
     expect(viaOcl.halfReactions.oxidant.valueUsed).toBe('override');
     expect(viaOcl.cellPotentialV).toBeCloseTo(viaHocl.cellPotentialV, 3);
+  });
+
+  it('a solid written without (s) is the tabled solid; dissolved species left out are named, at unit activity, with a note', async () => {
+    const bare = (await post('/api/v1/cells/evaluate', { oxidant: { from: 'OCl-', to: 'Cl-' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH: 7.5, temperatureC: 15 })).json();
+    const phased = (await post('/api/v1/cells/evaluate', { oxidant: { from: 'OCl-', to: 'Cl-' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3(s)' }, pH: 7.5, temperatureC: 15 })).json();
+    // the tables write Fe(OH)3(s) (solubility product rows): a solid is at unit activity by convention, not "not given"
+    expect(bare.halfReactions.reductant.unitActivity).toEqual(['Fe2+']);
+    expect(bare.halfReactions.oxidant.unitActivity).toEqual(['OCl-', 'Cl-']);
+    expect(bare.cellPotentialV).toBeCloseTo(phased.cellPotentialV, 12);
+    expect(bare.notes.join(' ')).toMatch(/no concentration given for OCl-, Cl-, taken at unit activity/);
+    expect(bare.notes.join(' ')).toMatch(/order of magnitude only/);
+    // no ionic strength given: activities equal concentrations, no Davies step to name
+    expect(bare.activity).toMatchObject({ ionicStrength: 0, ionicStrengthBasis: 'none', daviesA: null, relation: null });
+
+    const given = (await post('/api/v1/cells/evaluate', MN_CELL)).json();
+    expect(given.halfReactions.oxidant.unitActivity).toEqual([]); // MnO2 is the tabled solid MnO2(s)
+    expect(given.halfReactions.reductant.unitActivity).toEqual([]);
+    expect(given.notes.filter((n: string) => /unit activity/.test(n))).toEqual([]);
+  });
+
+  it('each half reports E°(T), the value Nernst started from: E°(25 °C) plus the temperature term', async () => {
+    const b = (await post('/api/v1/cells/evaluate', { ...MN_CELL, temperatureC: 8 })).json();
+    for (const h of [b.halfReactions.oxidant, b.halfReactions.reductant]) {
+      expect(h.standardPotentialAtTemperatureV).toBeCloseTo(h.standardPotentialV + h.temperatureCorrectionV, 12);
+    }
+    expect(b.standardCellPotentialV).toBeCloseTo(b.halfReactions.oxidant.standardPotentialAtTemperatureV - b.halfReactions.reductant.standardPotentialAtTemperatureV, 12);
   });
 
   it('names every constant it used: row ids, source ids and relation ids all resolve through the tables routes', async () => {

@@ -31,6 +31,16 @@ describe('POST /api/v1/reactions/balance', () => {
     );
   });
 
+  it('formulas sent with subscripts and superscripts come back in the plain-text notation; the typeset form is equationUnicode', async () => {
+    const r = await post({ oxidant: { from: 'MnO₄⁻', to: 'MnO₂' }, reductant: { from: 'Fe²⁺', to: 'Fe(OH)₃' }, medium: 'acid' });
+    expect(r.statusCode, r.body).toBe(200);
+    const b = r.json();
+    expect(b.equation).toBe('MnO4- + 3Fe2+ + 7H2O -> MnO2 + 3Fe(OH)3 + 5H+');
+    expect(b.terms.map((t: { species: string }) => t.species)).toEqual(expect.arrayContaining(['MnO4-', 'Fe2+', 'Fe(OH)3']));
+    expect(/^[\x20-\x7e]*$/.test(JSON.stringify(b.terms))).toBe(true);
+    expect(b.equationUnicode).toContain('MnO₄⁻');
+  });
+
   it('chooses the basic medium above pH 7 and says why', async () => {
     const r = await post({ oxidant: { from: 'MnO4-', to: 'MnO2' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH: 7.5 });
     const b = r.json();

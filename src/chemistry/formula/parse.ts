@@ -116,7 +116,7 @@ export function parseFormulaIn(
   }
   if (ELECTRON_SPELLINGS.has(text)) {
     return {
-      species: { text, composition: {}, charge: -1, phase: null },
+      species: { text: 'e-', composition: {}, charge: -1, phase: null },
       ast: { electron: true, parts: [], charge: -1, phase: null },
     };
   }
@@ -124,7 +124,61 @@ export function parseFormulaIn(
   const ast = new Parser(source, start, tokens).species();
   const composition: Record<string, number> = {};
   for (const part of ast.parts) addItems(composition, part.items, part.multiplier ?? 1);
-  return { species: { text, composition, charge: ast.charge, phase: ast.phase }, ast };
+  const species: Species = { text, composition, charge: ast.charge, phase: ast.phase };
+  return { species: { ...species, text: asciiText(text, species, elements) }, ast };
+}
+
+const SUB = '₀₁₂₃₄₅₆₇₈₉';
+const SUP = '⁰¹²³⁴⁵⁶⁷⁸⁹';
+
+/**
+ * The plain-text form of a formula written with Unicode (H₂O, SO₄²⁻, Fe³⁺, CuSO4·5H2O, "−"):
+ * subscripts become digits, "·" becomes ".", a superscript charge becomes a trailing charge,
+ * and the ^ form is used wherever the plain one would read differently (O₂⁻ → O2^-, SO₄²⁻ →
+ * SO4^2-). Answers and stored records then carry ASCII formulas only; the typeset form
+ * (subscripts, superscripts) is made from the structure, not from this text.
+ */
+function asciiText(text: string, species: Species, elements: ReadonlySet<string>): string {
+  if (/^[\x20-\x7e]*$/.test(text)) return text;
+  let plain = '';
+  let caret = '';
+  for (let i = 0; i < text.length; i++) {
+    const ch = text[i]!;
+    const sub = SUB.indexOf(ch);
+    if (sub >= 0) {
+      plain += String(sub);
+      caret += String(sub);
+      continue;
+    }
+    if (SUP.includes(ch) || ch === '⁺' || ch === '⁻') {
+      let digits = '';
+      let sign = '';
+      while (i < text.length && SUP.includes(text[i]!)) digits += String(SUP.indexOf(text[i++]!));
+      while (i < text.length && (text[i] === '⁺' || text[i] === '⁻')) sign += text[i++] === '⁺' ? '+' : '-';
+      i--;
+      plain += digits + sign;
+      caret += `^${digits}${sign}`;
+      continue;
+    }
+    const mapped = ch === '·' ? '.' : ch === '−' ? '-' : ch;
+    plain += mapped;
+    caret += mapped;
+  }
+  for (const candidate of [plain, caret]) {
+    if (!/^[\x20-\x7e]*$/.test(candidate)) continue;
+    try {
+      const again = parseFormulaIn(candidate, 0, candidate.length, elements).species;
+      if (again.charge === species.charge && again.phase === species.phase && sameComposition(again.composition, species.composition)) return candidate;
+    } catch {
+      // the plain reading is ambiguous or different: try the ^ form
+    }
+  }
+  return text;
+}
+
+function sameComposition(a: Readonly<Record<string, number>>, b: Readonly<Record<string, number>>): boolean {
+  const ka = Object.keys(a);
+  return ka.length === Object.keys(b).length && ka.every((k) => a[k] === b[k]);
 }
 
 function addItems(into: Record<string, number>, items: readonly Item[], factor: number): void {

@@ -132,12 +132,13 @@ const HalfAtConditions = z.object({
   electrons: z.number().int(),
   standardPotentialV: z.number().describe('E° at 25 °C of the half-reaction as written (the value used)'),
   temperatureCorrectionV: z.number().describe('E°(T) − E°(25 °C); E°(T) is the sum of the two'),
+  standardPotentialAtTemperatureV: z.number().describe('E°(T), the standard potential the Nernst equation started from'),
   potentialV: z.number().describe('E at the sample pH, temperature and activities'),
   valueUsed: z.enum(['tabled', 'derived', 'override']),
   derivation: z
     .array(z.object({ rowId: z.string(), coefficient: z.string(), source: z.string() }))
     .describe('Tabled rows combined (ids in GET /api/v1/tables/potentials or /tables/equilibria; sources in GET /api/v1/tables/sources)'),
-  unitActivity: z.array(z.string()),
+  unitActivity: z.array(z.string()).describe('Dissolved species given no concentration, taken at unit activity (solids, water and gases at 1 atm are at unit activity by convention and not listed)'),
 });
 
 /**
@@ -171,8 +172,13 @@ export const CellResponse = z.object({
       ionicStrength: z.number().describe('mol/L'),
       ionicStrengthBasis: z.enum(['given', 'tds', 'none']).describe('none: activities taken equal to concentrations'),
       ionicStrengthRelation: z.string().nullable().describe('Id of the estimating relation (GET /api/v1/tables/relations)'),
-      daviesA: z.number().describe('Davies A at the sample temperature'),
-      relation: z.string().describe('Id of the activity-coefficient relation (Davies); neutral species at 1'),
+      daviesA: z
+        .number()
+        .nullable()
+        .describe(
+          'Davies A at the sample temperature (relations debye-huckel-a, malmberg-maryott-1956 for the dielectric constant of water, tanaka-2001 for its density); null at zero ionic strength, where every activity coefficient is 1',
+        ),
+      relation: z.string().nullable().describe('Id of the activity-coefficient relation (Davies); neutral species at 1; null at zero ionic strength'),
     })
     .describe('How concentrations became activities'),
   slopeV: z.number().describe('Nernst slope 2.303RT/F at the sample temperature (CODATA 2018 R and F)'),

@@ -55,14 +55,14 @@ describe('balanceReaction: textbook equations', () => {
     // ionic, with electrons: MnO4- + 8H+ + 5e- → Mn2+ + 4H2O (charge −1+8−5 = +2)
     [['MnO4-', 'H+', 'e-'], ['Mn2+', 'H2O'], 'MnO4- + 8H+ + 5e- -> Mn2+ + 4H2O', 5],
     // hydrate: CuSO4·5H2O → CuSO4 + 5H2O
-    [['CuSO4·5H2O'], ['CuSO4', 'H2O'], 'CuSO4·5H2O -> CuSO4 + 5H2O', 0],
+    [['CuSO4·5H2O'], ['CuSO4', 'H2O'], 'CuSO4.5H2O -> CuSO4 + 5H2O', 0], // plain text writes the hydrate dot as "."
   ] as const)('%j → %j', (reactants, products, equation, electrons) => {
     const r = balance([...reactants], [...products]);
     expect(r.equation).toBe(equation);
     expect(r.electrons).toBe(electrons);
     expect(isConserved(r)).toBe(true);
-    // terms keep the input order
-    expect(r.terms.map((t) => t.species.text)).toEqual([...reactants, ...products]);
+    // terms keep the input order (formulas as written, in plain text: the hydrate dot as ".")
+    expect(r.terms.map((t) => t.species.text)).toEqual([...reactants, ...products].map((t) => t.replace('·', '.')));
   });
 
   it('balances a 10-species reaction (the sodium variant of the classic exercise)', () => {

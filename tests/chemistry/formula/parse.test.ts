@@ -26,26 +26,30 @@ describe('element set', () => {
 
 describe('parseFormula: edge cases', () => {
   it.each([
-    // [text, composition, charge, phase]
-    ['e-', {}, -1, null],
-    ['e^-', {}, -1, null],
-    ['H+', { H: 1 }, 1, null],
-    ['OH-', { O: 1, H: 1 }, -1, null],
-    ['  Fe2+  ', { Fe: 1 }, 2, null],
-    ['Fe+++', { Fe: 1 }, 3, null],
-    ['SO4--', { S: 1, O: 4 }, -2, null],
-    ['H₂O', { H: 2, O: 1 }, 0, null],
-    ['SO₄²⁻', { S: 1, O: 4 }, -2, null],
-    ['MnO₄-', { Mn: 1, O: 4 }, -1, null],
-    ['Fe³⁺', { Fe: 1 }, 3, null],
-    ['Fe2+ (aq)', { Fe: 1 }, 2, 'aq'],
-    ['CuSO4 · 5H2O', { Cu: 1, S: 1, O: 9, H: 10 }, 0, null],
-  ] as const)('%s', (text, composition, charge, phase) => {
+    // [text, composition, charge, phase, text kept (ASCII: Unicode forms are written out in plain text)]
+    ['e-', {}, -1, null, 'e-'],
+    ['e^-', {}, -1, null, 'e-'],
+    ['H+', { H: 1 }, 1, null, 'H+'],
+    ['OH-', { O: 1, H: 1 }, -1, null, 'OH-'],
+    ['  Fe2+  ', { Fe: 1 }, 2, null, 'Fe2+'],
+    ['Fe+++', { Fe: 1 }, 3, null, 'Fe+++'],
+    ['SO4--', { S: 1, O: 4 }, -2, null, 'SO4--'],
+    ['H₂O', { H: 2, O: 1 }, 0, null, 'H2O'],
+    ['SO₄²⁻', { S: 1, O: 4 }, -2, null, 'SO4^2-'], // "SO42-" would be ambiguous: the ^ form
+    ['MnO₄-', { Mn: 1, O: 4 }, -1, null, 'MnO4-'],
+    ['MnO4−', { Mn: 1, O: 4 }, -1, null, 'MnO4-'], // U+2212 minus
+    ['Fe³⁺', { Fe: 1 }, 3, null, 'Fe3+'],
+    ['O₂⁻', { O: 2 }, -1, null, 'O2^-'], // superoxide: "O2-" reads as the oxide ion O^2-
+    ['Fe2+ (aq)', { Fe: 1 }, 2, 'aq', 'Fe2+ (aq)'],
+    ['CuSO4 · 5H2O', { Cu: 1, S: 1, O: 9, H: 10 }, 0, null, 'CuSO4 . 5H2O'],
+  ] as const)('%s', (text, composition, charge, phase, kept) => {
     const s = parseFormula(text);
     expect(s.composition).toEqual(composition);
     expect(s.charge).toBe(charge);
     expect(s.phase).toBe(phase);
-    expect(s.text).toBe(text.trim());
+    expect(s.text).toBe(kept);
+    // the plain text reads back as the same species
+    expect(parseFormula(kept)).toEqual(s);
   });
 });
 
