@@ -309,6 +309,20 @@ export function looksLikeFormula(word: string): boolean {
  * Surrounding brackets and punctuation stay plain; "m3" becomes "m³".
  */
 export function autoRich(text: string, style?: RunStyle): TextRun[] {
+  // the same notes, flags and table texts recur on every sheet: marked once per process
+  const key = style === undefined ? text : `${text}\u0000${JSON.stringify(style)}`;
+  let runs = autoRichCache.get(key);
+  if (!runs) {
+    runs = autoRichUncached(text, style);
+    if (autoRichCache.size >= 10_000) autoRichCache.clear();
+    autoRichCache.set(key, runs);
+  }
+  return [...runs];
+}
+
+const autoRichCache = new Map<string, readonly TextRun[]>();
+
+function autoRichUncached(text: string, style?: RunStyle): TextRun[] {
   const runs: TextRun[] = [];
   let plain = '';
   const base = (s: string): void => {

@@ -123,7 +123,7 @@ function shareLayoutCache(font: EmbeddedFontLike, key: FontKey): void {
  * a document that needs further glyphs gets them appended and encoded afresh.
  */
 const SEED_TEXT =
-  Array.from({ length: 0x7f - 0x21 }, (_, i) => String.fromCharCode(0x21 + i)).join('') + '°±×–—’“”•…−→⇌≤≥≈µ²³·';
+  Array.from({ length: 0x7f - 0x20 }, (_, i) => String.fromCharCode(0x20 + i)).join('') + '°±×–—’“”•…−→⇌≤≥≈µ²³·';
 
 const subsetCaches = new Map<FontKey, Map<string, Uint8Array>>();
 
@@ -140,6 +140,7 @@ function seedSubset(font: EmbeddedFontLike, key: FontKey): void {
   const store = cache;
   const encode = subset.encode.bind(subset);
   reuseCompressedFontFile(font);
+  reuseToUnicodeCmap(font);
   subset.encode = (): Uint8Array => {
     const id = subset.glyphs.join(',');
     let bytes = store.get(id);
@@ -197,6 +198,101 @@ function reuseCompressedFontFile(font: EmbeddedFontLike): void {
     } finally {
       document.ref = ref;
     }
+  };
+}
+
+/** Subset glyph count right after seeding, per face: the same in every document. */
+const seededGlyphCount = new Map<FontKey, number>();
+
+/**
+ * TJ operands of text already written, per face, for every document of the process.
+ * Only text whose glyphs all come from the seed is kept: those glyphs have the same
+ * subset codes in every document (seedSubset includes them first, in a fixed order, and
+ * records their widths and code points), so the operand written for one document is the
+ * one pdfkit's encoding would give in the next. Text with other glyphs is encoded afresh
+ * each time (its subset codes depend on the document). null: needs doc.text().
+ */
+const runCaches = new Map<FontKey, Map<string, string | null>>();
+
+function encodedRun(font: FontKey, text: string): string | null | undefined {
+  const hit = runCaches.get(font)?.get(text);
+  if (hit !== undefined) runStats.reused++;
+  return hit;
+}
+
+function rememberRun(font: FontKey, text: string, encoded: readonly string[], tj: string): void {
+  const seeded = seededGlyphCount.get(font);
+  if (seeded === undefined) return;
+  for (const hex of encoded) if (Number.parseInt(hex, 16) >= seeded) return;
+  let cache = runCaches.get(font);
+  if (!cache || cache.size >= 20_000) {
+    cache = new Map();
+    runCaches.set(font, cache);
+  }
+  cache.set(text, tj);
+  runStats.kept++;
+}
+/** Counts for the tests: TJ operands kept and reused. */
+export const runStats = { kept: 0, reused: 0 };
+
+/** The operand of TJ: 2-byte glyph codes as literal strings, with the font's kerning as adjustments. */
+function tjOperand(encoded: readonly string[], positions: readonly { xAdvance: number; advanceWidth: number }[]): string {
+  const parts: string[] = [];
+  let run = '';
+  for (let i = 0; i < encoded.length; i++) {
+    run += literalCode(encoded[i]!);
+    const adjust = positions[i]!.xAdvance - positions[i]!.advanceWidth;
+    if (adjust !== 0 && i < encoded.length - 1) {
+      parts.push(`(${run})`, num(-adjust));
+      run = '';
+    }
+  }
+  if (run) parts.push(`(${run})`);
+  return parts.join(' ');
+}
+
+const toUnicodeStreams = new Map<string, Buffer>();
+
+/**
+ * The ToUnicode CMap of a face depends only on the code points recorded per subset glyph;
+ * with the seeded subsets most documents record the same ones. pdfkit 0.20's
+ * EmbeddedFont.toUnicodeCmap() writes the CMap into a new reference and compresses it; here
+ * the CMap is written by pdfkit once per distinct mapping, into a scratch reference that
+ * keeps its bytes, and each document gets those bytes compressed once with pdfkit's zlib call.
+ */
+function reuseToUnicodeCmap(font: EmbeddedFontLike): void {
+  type Ref = { data: Record<string, unknown>; compress: boolean; end(chunk?: string | Uint8Array): void };
+  type Doc = { ref(data?: Record<string, unknown>): Ref };
+  const f = font as unknown as { document?: Doc; unicode?: unknown[]; toUnicodeCmap?: () => Ref };
+  if (!f.document || !Array.isArray(f.unicode) || typeof f.toUnicodeCmap !== 'function') return;
+  const original = f.toUnicodeCmap.bind(font);
+  const document = f.document;
+  f.toUnicodeCmap = (): Ref => {
+    const key = JSON.stringify(f.unicode);
+    let packed = toUnicodeStreams.get(key);
+    if (!packed) {
+      // let pdfkit write the CMap, capturing its text instead of a stream of this document
+      let text: string | Uint8Array | undefined;
+      const ref = document.ref;
+      document.ref = function (this: Doc, data?: Record<string, unknown>): Ref {
+        document.ref = ref;
+        return { data: data ?? {}, compress: false, end: (chunk?: string | Uint8Array) => void (text = chunk) } as Ref;
+      };
+      try {
+        original();
+      } finally {
+        document.ref = ref;
+      }
+      if (text === undefined) return original();
+      packed = deflateSync(typeof text === 'string' ? Buffer.from(text + '\n', 'binary') : text); // as pdfkit's PDFReference.write
+      if (toUnicodeStreams.size >= 32) toUnicodeStreams.clear();
+      toUnicodeStreams.set(key, packed);
+    }
+    const cmap = document.ref();
+    cmap.compress = false;
+    cmap.data.Filter = 'FlateDecode';
+    cmap.end(packed);
+    return cmap;
   };
 }
 
@@ -427,7 +523,29 @@ function layout(text: Rich, width: number, style: TextStyle): Laid {
   return layoutPrepared(prepare(text, style), width);
 }
 
+/**
+ * Laid-out text per prepared text and width, for every document of the process (prepared
+ * texts are cached by content, and a layout depends only on the tokens and the width).
+ * Layouts are read, never changed, by the drawing code.
+ */
+const laidCache = new WeakMap<Prepared, Map<number, Laid>>();
+
 function layoutPrepared(prepared: Prepared, width: number): Laid {
+  let byWidth = laidCache.get(prepared);
+  if (!byWidth) {
+    byWidth = new Map();
+    laidCache.set(prepared, byWidth);
+  }
+  let laid = byWidth.get(width);
+  if (!laid) {
+    laid = layoutUncached(prepared, width);
+    if (byWidth.size >= 16) byWidth.clear();
+    byWidth.set(width, laid);
+  }
+  return laid;
+}
+
+function layoutUncached(prepared: Prepared, width: number): Laid {
   const style = prepared.style;
   const size = style.size;
   const lineHeight = size * (style.leading ?? LEADING);
@@ -583,6 +701,7 @@ class SheetRenderer {
       f = (this.doc as unknown as { _font: EmbeddedFontLike })._font;
       shareLayoutCache(f, font);
       seedSubset(f, font);
+      if (f.subset && Array.isArray(f.subset.glyphs) && !seededGlyphCount.has(font)) seededGlyphCount.set(font, f.subset.glyphs.length);
       this.embedded.set(font, f);
     }
     return f;
@@ -639,8 +758,16 @@ class SheetRenderer {
     for (const fr of frags) {
       if (fr.text.length === 0) continue;
       const ef = this.embeddedFont(fr.font);
-      const [encoded, positions] = ef.encode(fr.text);
-      if (positions.some((p) => p.xOffset !== 0 || p.yOffset !== 0)) {
+      let tj = encodedRun(fr.font, fr.text);
+      if (tj === undefined) {
+        const [encoded, positions] = ef.encode(fr.text);
+        if (positions.some((p) => p.xOffset !== 0 || p.yOffset !== 0)) {
+          fallbacks.push(fr);
+          continue;
+        }
+        tj = tjOperand(encoded, positions);
+        rememberRun(fr.font, fr.text, encoded, tj);
+      } else if (tj === null) {
         fallbacks.push(fr);
         continue;
       }
@@ -654,18 +781,7 @@ class SheetRenderer {
         state.ops.push(rgOp(fr.colour));
         state.colour = fr.colour;
       }
-      const parts: string[] = [];
-      let run = '';
-      for (let i = 0; i < encoded.length; i++) {
-        run += literalCode(encoded[i]!);
-        const adjust = positions[i]!.xAdvance - positions[i]!.advanceWidth;
-        if (adjust !== 0 && i < encoded.length - 1) {
-          parts.push(`(${run})`, num(-adjust));
-          run = '';
-        }
-      }
-      if (run) parts.push(`(${run})`);
-      state.ops.push(`1 0 0 1 ${num(fr.x)} ${num(this.pageH - fr.baseline)} Tm [${parts.join(' ')}] TJ`);
+      state.ops.push(`1 0 0 1 ${num(fr.x)} ${num(this.pageH - fr.baseline)} Tm [${tj}] TJ`);
     }
     if (immediate && state.ops.length > 0) doc.addContent(`q 1 0 0 -1 0 ${num(this.pageH)} cm BT\n${state.ops.join('\n')}\nET Q`);
     for (const fr of fallbacks) {

@@ -66,6 +66,12 @@ describe('dose sheet PDF', () => {
   it('the same document renders to the same bytes; another issue time does not', async () => {
     const again = await renderSheet(doseSheet());
     expect(again.equals(dose)).toBe(true);
+    // the process-wide caches (layouts, encoded text, font subsets, ToUnicode maps) give the
+    // bytes a first, cold render gave, also after documents with other text and glyphs
+    const { contentSha256: _c, ...other } = jarTestEvaluationSheet();
+    await renderSheet(buildSheetDocument({ ...other, id: 'OTHER', sections: [{ heading: 'Zeichen äöü ÆØÅ', blocks: [{ kind: 'paragraph', text: 'Müller, Ærø, Ñandú: 3 × 4 ≈ 12' }] }] }));
+    await renderSheet(jarTestEvaluationSheet());
+    expect((await renderSheet(doseSheet())).equals(dose)).toBe(true);
     const { contentSha256: _h, ...draft } = doseSheet();
     const later = await renderSheet(buildSheetDocument({ ...draft, issuedAt: '2025-03-14T09:06:00Z' }));
     expect(later.equals(dose)).toBe(false);
