@@ -106,10 +106,15 @@ interface EmbeddedFontLike {
   ref(): unknown;
 }
 
+/** Fonts opened per face since the shared cache was last measured (counting its keys is O(n)). */
+const opensSinceCheck = new Map<FontKey, number>();
+
 function shareLayoutCache(font: EmbeddedFontLike, key: FontKey): void {
   if (typeof font.layoutCache !== 'object' || font.layoutCache === null) return;
   let shared = sharedLayoutCaches.get(key);
-  if (!shared || Object.keys(shared).length > 20_000) {
+  const opens = (opensSinceCheck.get(key) ?? 0) + 1;
+  opensSinceCheck.set(key, opens % 64);
+  if (!shared || (opens % 64 === 0 && Object.keys(shared).length > 20_000)) {
     shared = Object.create(null) as Record<string, unknown>;
     sharedLayoutCaches.set(key, shared);
   }
