@@ -337,6 +337,11 @@ function autoRichUncached(text: string, style?: RunStyle): TextRun[] {
       base(part);
       continue;
     }
+    // an equation quoted in plain text (flag messages): its arrow typeset like the formulas around it
+    if (part === '->' || part === '<=>') {
+      base(part === '->' ? '→' : '⇌');
+      continue;
+    }
     // peel punctuation that is not part of the formula
     let lead = '';
     let core = part;

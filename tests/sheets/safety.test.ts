@@ -33,7 +33,10 @@ describe('autoRich', () => {
     ['(5/3 H+ per Fe in MnO4-)', '(5/3 {H+} per Fe in {MnO4-})'],
     ['AWWA B603, 4000 m3/d', 'AWWA B603, 4000 m³/d'],
     ['Cl2, HOCl and OCl-.', '{Cl2}, HOCl and {OCl-}.'],
+    ['The tabled E° of OCl- + H2O + 2e- -> Cl- + 2OH- differs', 'The tabled E° of {OCl-} + {H2O} + {2e-} → {Cl-} + {2OH-} differs'],
   ])('%j', (text, expected) => {
+    // the cache returns a copy: what one caller does with the runs does not reach the next
+    (autoRich(text) as unknown[]).push('changed by a caller');
     expect(marked(text)).toBe(expected);
   });
 });
