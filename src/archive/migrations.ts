@@ -142,12 +142,14 @@ ${appendOnlyTriggers('sheets', [['seq'], ['id'], ['prev_hash'], ['record_hash'],
 
 const V2_SQL = `
 -- The registry log (registry.ts): one hash-chained entry per row of users, user_events, signers.
--- table_name has no CHECK list, so that a later migration can register another table; the
--- verification reports an entry that names a table the build does not register.
+-- As released on 2026-12-02 (a released migration is never edited). The CHECK list on
+-- table_name means a later migration that registers another table must rebuild this table
+-- (every row copied unchanged, triggers re-made) to widen it; the verification reports an
+-- entry naming a table the build does not register in any case (one written past the CHECK).
 CREATE TABLE registry_log (
   seq         INTEGER PRIMARY KEY AUTOINCREMENT,
   format      INTEGER NOT NULL,
-  table_name  TEXT NOT NULL,
+  table_name  TEXT NOT NULL CHECK (table_name IN ('users', 'user_events', 'signers')),
   row_key     TEXT NOT NULL,
   row_sha256  TEXT NOT NULL CHECK (length(row_sha256) = 64),
   logged_at   TEXT NOT NULL,

@@ -10,7 +10,9 @@
  *                                                                     the hashes are heads written down after an earlier walk
  *
  * Output is JSON on stdout; an error prints its detail (and a caret under a bad formula
- * character) on stderr and exits with status 2.
+ * character) on stderr and exits with status 2. `verify` exits with status 1 when the archive
+ * does not verify (the JSON says why), so a scheduled check can act on it. An option without
+ * its value, or one the command does not take, is an error, never skipped.
  */
 import { readFileSync } from 'node:fs';
 import { resolve } from 'node:path';
@@ -27,8 +29,21 @@ function flag(args: string[], name: string): string | undefined {
   const i = args.indexOf(name);
   if (i < 0) return undefined;
   const v = args[i + 1];
+  if (v === undefined || v.startsWith('--')) {
+    throw new DomainError('VALIDATION_FAILED', { detail: `${name} needs a value${v === undefined ? '' : `; got the option ${v} instead`}.` });
+  }
   args.splice(i, 2);
   return v;
+}
+
+/** After a command's options are taken: anything else that looks like an option is refused. */
+function noOtherOptions(args: readonly string[], command: string, accepted: readonly string[]): void {
+  const other = args.find((a) => a.startsWith('--'));
+  if (other !== undefined) {
+    throw new DomainError('VALIDATION_FAILED', {
+      detail: `${command} does not take ${other}${accepted.length ? `; its options: ${accepted.join(', ')}` : ''}.`,
+    });
+  }
 }
 
 function num(text: string | undefined, name: string): number | undefined {
@@ -59,22 +74,26 @@ async function main(argv: string[]): Promise<unknown> {
       const species = args.indexOf('--species');
       if (species >= 0) {
         args.splice(species, 1);
+        noOtherOptions(args, 'balance --species', []);
         const [r, p] = args;
         return balanceService({ reactants: (r ?? '').split(','), products: (p ?? '').split(',') });
       }
       const pH = num(flag(args, '--pH'), '--pH');
       const medium = flag(args, '--medium');
       if (medium !== undefined && medium !== 'acid' && medium !== 'base') throw new DomainError('VALIDATION_FAILED', { detail: '--medium must be acid or base.' });
+      noOtherOptions(args, 'balance', ['--pH', '--medium', '--species']);
       return balanceService({ oxidant: couple(args[0], 'oxidant'), reductant: couple(args[1], 'reductant'), pH, medium });
     }
     case 'potential': {
       const pH = num(flag(args, '--pH'), '--pH');
       const temperatureC = num(flag(args, '--temperatureC'), '--temperatureC');
+      noOtherOptions(args, 'potential', ['--pH', '--temperatureC']);
       const [from, to] = args;
       if (!from || !to) throw new DomainError('VALIDATION_FAILED', { detail: 'Give the oxidised and the reduced form, e.g. potential MnO4- Mn2+.' });
       return couplePotential({ from, to, pH, temperatureC }, redoxDeps().redox);
     }
     case 'dose': {
+      noOtherOptions(args, 'dose', []);
       const file = args[0];
       if (!file) throw new DomainError('VALIDATION_FAILED', { detail: 'Give a JSON file with the dose request, or - for standard input.' });
       const text = readFileSync(file === '-' ? 0 : resolve(file), 'utf8');
@@ -93,6 +112,7 @@ async function main(argv: string[]): Promise<unknown> {
       };
       const expectedHead = { recordHash: hash('--expect-record-hash') };
       const expectedRegistryHead = { recordHash: hash('--expect-registry-hash') };
+      noOtherOptions(args, 'verify', ['--data-dir', '--expect-record-hash', '--expect-registry-hash']);
       const archive = openArchive({ dataDir });
       try {
         return await archive.verifyArchive({ verifyPdfSignature: verifySignedPdf, expectedHead, expectedRegistryHead });
@@ -106,8 +126,10 @@ async function main(argv: string[]): Promise<unknown> {
 }
 
 try {
-  const out = await main(process.argv.slice(2));
+  const argv = process.argv.slice(2);
+  const out = await main(argv);
   process.stdout.write(JSON.stringify(out, (_k, v) => (typeof v === 'bigint' ? v.toString() : v), 2) + '\n');
+  if (argv[0] === 'verify' && (out as { valid?: unknown }).valid !== true) process.exitCode = 1;
 } catch (e) {
   if (isDomainError(e)) {
     process.stderr.write(`${e.code}: ${e.detail}\n`);

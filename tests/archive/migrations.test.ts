@@ -162,6 +162,19 @@ describe('migrations', () => {
     }
   });
 
+  it('version 2 is the registry log as released: its CHECK refuses an entry for a table it does not register', () => {
+    const a = openArchive({ dataDir: dir(), signerKeySecret: SECRET });
+    try {
+      const sql = (a.db.prepare("SELECT sql FROM sqlite_schema WHERE name = 'registry_log'").get() as { sql: string }).sql;
+      expect(sql).toContain("CHECK (table_name IN ('users', 'user_events', 'signers'))");
+      expect(() =>
+        a.db.prepare('INSERT INTO registry_log (format, table_name, row_key, row_sha256, logged_at, prev_hash, record_hash) VALUES (1, ?, ?, ?, ?, ?, ?)').run('plants', 'x', 'a'.repeat(64), '2026-12-01T00:00:00.000Z', 'b'.repeat(64), 'c'.repeat(64)),
+      ).toThrow(/CHECK constraint failed/);
+    } finally {
+      a.close();
+    }
+  });
+
   it('a failing migration is rolled back: no half-made table, version unchanged', () => {
     const d = dir();
     openArchive({ dataDir: d, signerKeySecret: SECRET }).close();

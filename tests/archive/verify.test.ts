@@ -364,6 +364,7 @@ describe('users, user events and signers are covered by the registry log', () =>
   it('a log entry naming a table this build does not register is reported, not skipped', async () => {
     const { file, reopen } = built(1);
     await rawTamper(file, ['registry_log'], (db) => {
+      db.pragma('ignore_check_constraints = ON'); // as someone editing the file can
       const last = db.prepare('SELECT seq, record_hash FROM registry_log ORDER BY seq DESC LIMIT 1').get() as { seq: number; record_hash: string };
       db.prepare('INSERT INTO registry_log (seq, format, table_name, row_key, row_sha256, logged_at, prev_hash, record_hash) VALUES (?, 1, ?, ?, ?, ?, ?, ?)').run(
         last.seq + 1, 'nonsense', 'x', '0'.repeat(64), '2026-12-01T00:00:00.000Z', last.record_hash, '1'.repeat(64));

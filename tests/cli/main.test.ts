@@ -44,9 +44,20 @@ describe('command line', () => {
     expect(JSON.parse(again.stdout).valid).toBe(true);
     const missing = cli(['verify', '--data-dir', dataDir, '--expect-registry-hash', 'f'.repeat(64)]);
     expect(JSON.parse(missing.stdout)).toMatchObject({ valid: false, problems: [expect.objectContaining({ check: 'registry-head' })] });
+    expect(missing.status).toBe(1); // a scheduled check can act on it
     const bad = cli(['verify', '--data-dir', dataDir, '--expect-record-hash', 'nothex']);
     expect(bad.status).toBe(2);
     expect(bad.stderr).toMatch(/--expect-record-hash must be a SHA-256/);
+    // an option without its value, or one verify does not take, is refused, never skipped
+    for (const args of [
+      ['verify', '--data-dir', dataDir, '--expect-record-hash'],
+      ['verify', '--expect-registry-hash', '--data-dir', dataDir],
+      ['verify', '--data-dir', dataDir, '--expect-records', '99'],
+    ]) {
+      const r = cli(args);
+      expect(r.status, args.join(' ')).toBe(2);
+      expect(r.stderr).toMatch(/needs a value|does not take --expect-records/);
+    }
   });
 
   it('an unknown command says which commands exist', () => {
