@@ -122,7 +122,9 @@ function classify(s: Species, key: string, solids: ReadonlySet<string> | undefin
   if (s.charge === 1 && hasComposition(s, { H: 1 })) return 'H+';
   if (s.charge === -1 && hasComposition(s, { H: 1, O: 1 })) return 'OH-';
   if (s.charge === 0 && hasComposition(s, { H: 2, O: 1 })) return 'water';
-  if (s.phase === 's' || (solids !== undefined && solids.has(key))) return 'solid';
+  // a species written without a phase is the solid when the tables know it only as one; an
+  // explicit (aq) is the dissolved species (neutral Fe(OH)3, Fe(OH)2 complexes)
+  if (s.phase === 's' || (s.phase === null && solids !== undefined && solids.has(key))) return 'solid';
   if (s.phase === 'l') return 'pure-liquid';
   return 'dissolved';
 }

@@ -56,6 +56,38 @@ export function tabledSolids(ledger: Ledger): ReadonlySet<string> {
   return set;
 }
 
+/**
+ * Notes for values given for species that the half-reactions hold at unit activity as solids
+ * (a concentration for "MnO2" where the tables know MnO2 only as MnO2(s)): never used silently.
+ */
+function givenForSolids(halves: readonly NernstResult[], given: ReadonlyMap<string, string>): string[] {
+  const notes: string[] = [];
+  const seen = new Set<string>();
+  for (const h of halves) {
+    for (const a of h.activities) {
+      const text = given.get(a.key);
+      if (a.reason !== 'solid' || text === undefined || seen.has(a.key)) continue;
+      seen.add(a.key);
+      const formula = a.text.replace(/\s*\((s|aq|l|g)\)$/, '');
+      notes.push(`${a.text} is a solid in this half-reaction and is held at unit activity; the value given for ${text} was not used. Write ${formula}(aq) in the couple for a dissolved species of that formula.`);
+    }
+  }
+  return notes;
+}
+
+/** speciesKey → the text the caller gave, for the keys of a concentration or activity map. */
+function givenKeys(map: Readonly<Record<string, unknown>> | undefined, deps: RedoxDeps): Map<string, string> {
+  const out = new Map<string, string>();
+  for (const text of Object.keys(map ?? {})) {
+    try {
+      out.set(speciesKey(parseFormula(text, deps.elements ? { elements: deps.elements } : {})), text);
+    } catch {
+      // a bad formula is reported by the parse that uses it
+    }
+  }
+  return out;
+}
+
 /** A note when dissolved species were left at unit activity (1 mol/L), which moves E a long way. */
 function unitActivityNote(notGiven: readonly string[], where: string): string | null {
   if (notGiven.length === 0) return null;
@@ -208,6 +240,7 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   }
   const tc = p.tabledCheck;
   const unitNote = n ? unitActivityNote(n.notGiven, 'Nernst') : null;
+  const solidNotes = n ? givenForSolids([n], givenKeys(input.activities, deps)) : [];
   return {
     couple: { from: input.from, to: input.to },
     halfReaction: half.equation,
@@ -246,7 +279,7 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
         }
       : null,
     alternatives: p.alternatives.map((a) => ({ standardPotentialV: a.standardPotentialV, rows: a.rows.map((r) => r.rowId), differs: a.differs })),
-    notes: [...p.notes, ...(unitNote ? [unitNote] : [])],
+    notes: [...p.notes, ...(unitNote ? [unitNote] : []), ...solidNotes],
     constants: constantsOut(deps),
   };
 }
@@ -387,12 +420,16 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     unitActivity: [...n.notGiven],
   });
   const res = cell.reductantResidual;
+  notes.push(...givenForSolids([cell.oxidant, cell.reductant], givenKeys(input.concentrations, deps)));
   for (const [half, where] of [[cell.oxidant, 'Oxidant couple'], [cell.reductant, 'Reductant couple']] as const) {
     const note = unitActivityNote(half.notGiven, where);
     if (note) notes.push(note);
   }
   if (res && (cell.oxidant.notGiven.length > 0 || cell.reductant.notGiven.length > 0)) {
-    notes.push('The equilibrium residual holds every other activity where it is, including those taken at unit activity: read it as an order of magnitude only.');
+    notes.push(
+      'The equilibrium residual holds every other activity where it is, including those taken at unit activity (1 mol/L): ' +
+        'it can be wrong by many orders of magnitude; give the concentrations of the species named above for a meaningful floor.',
+    );
   }
   const davies = I > 0;
   return {

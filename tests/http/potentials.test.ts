@@ -185,7 +185,7 @@ describe('POST /api/v1/cells/evaluate', () => {
     expect(bare.halfReactions.oxidant.unitActivity).toEqual(['OCl-', 'Cl-']);
     expect(bare.cellPotentialV).toBeCloseTo(phased.cellPotentialV, 12);
     expect(bare.notes.join(' ')).toMatch(/no concentration given for OCl-, Cl-, taken at unit activity/);
-    expect(bare.notes.join(' ')).toMatch(/order of magnitude only/);
+    expect(bare.notes.join(' ')).toMatch(/wrong by many orders of magnitude/);
     // no ionic strength given: activities equal concentrations, no Davies step to name
     expect(bare.activity).toMatchObject({ ionicStrength: 0, ionicStrengthBasis: 'none', daviesA: null, relation: null });
 
@@ -193,6 +193,23 @@ describe('POST /api/v1/cells/evaluate', () => {
     expect(given.halfReactions.oxidant.unitActivity).toEqual([]); // MnO2 is the tabled solid MnO2(s)
     expect(given.halfReactions.reductant.unitActivity).toEqual([]);
     expect(given.notes.filter((n: string) => /unit activity/.test(n))).toEqual([]);
+  });
+
+  it('an explicit (aq) is the dissolved species; a value given for a solid is named as not used', async () => {
+    // neutral Fe(OH)3(aq) is a dissolved species: its activity enters Nernst (1 e-, Fe(OH)3 on the oxidised side)
+    const body = (a: number) => ({ from: 'Fe(OH)3(aq)', to: 'Fe2+', pH: 7, activities: { 'Fe(OH)3(aq)': a, 'Fe2+': 1e-5 } });
+    const lo = (await post('/api/v1/couples/potential', body(1e-9))).json();
+    const hi = (await post('/api/v1/couples/potential', body(1e-6))).json();
+    expect(lo.nernst.activities.find((x: { species: string }) => x.species === 'Fe(OH)3(aq)').origin).toBe('given');
+    expect(hi.potentialV - lo.potentialV).toBeCloseTo(3 * lo.nernst.slopeV, 9);
+
+    // MnO2 is tabled only as MnO2(s): a concentration sent for it is not used, and the answer says so
+    const cell = (await post('/api/v1/cells/evaluate', { ...MN_CELL, concentrations: { ...MN_CELL.concentrations, MnO2: { value: 3, unit: 'mg/L' } } })).json();
+    const plain = (await post('/api/v1/cells/evaluate', MN_CELL)).json();
+    expect(cell.cellPotentialV).toBe(plain.cellPotentialV);
+    expect(cell.notes.join(' ')).toMatch(/MnO2 is a solid in this half-reaction and is held at unit activity; the value given for MnO2 was not used/);
+    const couple = (await post('/api/v1/couples/potential', { from: 'MnO2', to: 'Mn2+', pH: 7, activities: { MnO2: 0.1, 'Mn2+': 1e-5 } })).json();
+    expect(couple.notes.join(' ')).toMatch(/value given for MnO2 was not used/);
   });
 
   it('each half reports E°(T), the value Nernst started from: E°(25 °C) plus the temperature term', async () => {
