@@ -52,12 +52,19 @@ export function fontDirectory(): string {
 }
 
 /** The font for a role, read and parsed on first use and kept for the life of the process. */
+/** The Latin ligatures of the DejaVu faces, written with their letters. */
+export const LIGATURE_SEED = 'ff fi fl ffi ffl';
+
 export function loadFont(key: FontKey): LoadedFont {
   const hit = cache.get(key);
   if (hit) return hit;
   const path = join(fontDirectory(), FONT_FILES[key]);
   const buffer = readFileSync(path);
   const font = memoiseGlyphDecoding(fontkit.create(buffer));
+  // fontkit keeps one glyph object per glyph, with the code points of its first use; the
+  // ligatures are laid out from their letters first, so that a later "ﬁ" (U+FB01) in some
+  // text cannot make every "fi" of every later sheet extract as U+FB01.
+  (font as unknown as { layout(text: string): unknown }).layout(LIGATURE_SEED);
   const loaded: LoadedFont = { key, path, buffer, font };
   cache.set(key, loaded);
   return loaded;

@@ -14,7 +14,7 @@ import { deflateSync } from 'node:zlib';
 import PDFDocument from 'pdfkit';
 import { pdfkitAddPlaceholder } from '@signpdf/placeholder-pdfkit';
 import { equationRuns, type Script } from './formula-runs.js';
-import { FONT_NAMES, loadFont, registerSheetFonts, type FontKey } from './fonts.js';
+import { FONT_NAMES, LIGATURE_SEED, loadFont, registerSheetFonts, type FontKey } from './fonts.js';
 import {
   SHEET_KIND_LABELS,
   displayTime,
@@ -128,7 +128,7 @@ function shareLayoutCache(font: EmbeddedFontLike, key: FontKey): void {
  * a document that needs further glyphs gets them appended and encoded afresh.
  */
 const SEED_TEXT =
-  Array.from({ length: 0x7f - 0x20 }, (_, i) => String.fromCharCode(0x20 + i)).join('') + '°±×–—’“”•…−→⇌≤≥≈µ²³·';
+  Array.from({ length: 0x7f - 0x20 }, (_, i) => String.fromCharCode(0x20 + i)).join('') + '°±×–—’“”•…−→⇌≤≥≈µ²³· ' + LIGATURE_SEED;
 
 const subsetCaches = new Map<FontKey, Map<string, Uint8Array>>();
 
@@ -191,6 +191,7 @@ function reuseCompressedFontFile(font: EmbeddedFontLike): void {
             compressedFontFiles.set(chunk, packed);
           }
           r.compress = false;
+          r.data.Length = 0; // pdfkit's key order: /Length, then /Filter
           r.data.Filter = 'FlateDecode';
           return end(packed);
         };
@@ -295,6 +296,7 @@ function reuseToUnicodeCmap(font: EmbeddedFontLike): void {
     }
     const cmap = document.ref();
     cmap.compress = false;
+    cmap.data.Length = 0; // pdfkit's key order: /Length, then /Filter
     cmap.data.Filter = 'FlateDecode';
     cmap.end(packed);
     return cmap;
