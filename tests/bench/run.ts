@@ -16,7 +16,7 @@ import { measureInProcess } from './in-process.js';
 const here = dirname(fileURLToPath(import.meta.url));
 const root = resolve(here, '../..');
 const seconds = Number(process.env['BENCH_SECONDS'] ?? 3);
-const rounds = Number(process.env['BENCH_ROUNDS'] ?? 3);
+const rounds = Number(process.env['BENCH_ROUNDS'] ?? 5);
 const connections = Number(process.env['BENCH_CONNECTIONS'] ?? 50);
 
 async function startServer(): Promise<{ port: number; stop: () => void }> {
