@@ -2,6 +2,7 @@
  * The service as a Fastify plugin. Only server.ts listens; tests build the same app and
  * call it with app.inject().
  */
+import { createHash } from 'node:crypto';
 import Fastify, { type FastifyError, type FastifyInstance } from 'fastify';
 import swagger from '@fastify/swagger';
 import swaggerUi from '@fastify/swagger-ui';
@@ -115,7 +116,8 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     timeWindow: '1 minute',
     keyGenerator: (req) => {
       const auth = req.headers.authorization;
-      return auth ? `token:${auth}` : `ip:${req.ip}`;
+      // keyed by a hash of the header: the limiter's memory never holds a token in clear
+      return auth ? `token:${createHash('sha256').update(auth).digest('hex')}` : `ip:${req.ip}`;
     },
     errorResponseBuilder: (_req, ctx) => {
       const e = new Error(`Rate limit of ${ctx.max} requests per ${ctx.after} reached for this token; try again in ${ctx.after}.`) as Error & { statusCode: number };

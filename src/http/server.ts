@@ -1,6 +1,7 @@
 /**
  * The only file that listens. HOST (default 127.0.0.1), PORT (default 8080),
- * DATA_DIR (default reports/), BOOTSTRAP_TOKEN (first admin's token), LOG_LEVEL.
+ * DATA_DIR (default reports/), BOOTSTRAP_TOKEN (first admin's token), LOG_LEVEL,
+ * RATE_LIMIT_PER_MINUTE (requests per token per route on the routes that need a token; default 120).
  */
 import { resolve } from 'node:path';
 import { buildApp } from './app.js';
@@ -14,6 +15,12 @@ if (!Number.isInteger(port) || port < 0 || port > 65535) {
   process.exit(2);
 }
 const dataDir = resolve(process.env['DATA_DIR'] ?? 'reports');
+const rateText = process.env['RATE_LIMIT_PER_MINUTE'];
+const rateLimitPerMinute = rateText === undefined ? undefined : Number(rateText);
+if (rateLimitPerMinute !== undefined && (!Number.isInteger(rateLimitPerMinute) || rateLimitPerMinute < 1 || rateLimitPerMinute > 1_000_000)) {
+  console.error(`RATE_LIMIT_PER_MINUTE must be a whole number from 1 to 1000000; got "${rateText}".`);
+  process.exit(2);
+}
 
 let app: Awaited<ReturnType<typeof buildApp>>;
 try {
@@ -21,6 +28,7 @@ try {
   dataDir,
   logger: { level: process.env['LOG_LEVEL'] ?? 'info' },
   ...(process.env['BOOTSTRAP_TOKEN'] ? { bootstrapToken: process.env['BOOTSTRAP_TOKEN'] } : {}),
+  ...(rateLimitPerMinute !== undefined ? { rateLimitPerMinute } : {}),
   onAdminToken: (token) => {
     console.log('');
     console.log('  A first admin user was created. Its bearer token is shown this once:');

@@ -412,3 +412,27 @@ describe('concurrency: 25 sheet creations at once', () => {
     expect(v.head.recordHash).toBe(chain[24]!.recordHash);
   }, 60_000);
 });
+
+describe('rate limit per token', () => {
+  it('a token over its limit on a route gets 429 problem details; another token and the open routes are not held up', async () => {
+    const dataDir = mkdtempSync(join(tmpdir(), 'oxd-http-ratelimit-'));
+    const app = await buildApp({ dataDir, bootstrapToken: BOOTSTRAP, rateLimitPerMinute: 3 });
+    try {
+      const made = await app.inject({ method: 'POST', url: '/api/v1/users', headers: admin, payload: { name: 'Second admin (invented)', role: 'admin' } });
+      expect(made.statusCode).toBe(201);
+      const other = { authorization: `Bearer ${made.json().token}` };
+      const list = (headers: Record<string, string>) => app.inject({ method: 'GET', url: '/api/v1/users', headers });
+      const codes: number[] = [];
+      for (let i = 0; i < 3; i++) codes.push((await list(admin)).statusCode);
+      expect(codes).toEqual([200, 200, 200]);
+      const over = await list(admin);
+      expect(over.statusCode).toBe(429);
+      expect(over.headers['content-type']).toMatch(/^application\/problem\+json/);
+      expect(over.json().detail).toMatch(/Rate limit of 3 requests/);
+      expect((await list(other)).statusCode).toBe(200);
+      expect((await app.inject({ method: 'GET', url: '/health' })).statusCode).toBe(200);
+    } finally {
+      await app.close();
+    }
+  });
+});
