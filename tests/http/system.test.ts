@@ -26,6 +26,23 @@ describe('system routes', () => {
     const doc = r.json();
     expect(doc.openapi).toMatch(/^3\./);
     expect(doc.paths['/health'].get.responses['200']).toBeDefined();
+    // every route of the issues' contracts is documented, with its request body schema
+    const contract: [string, string][] = [
+      ['post', '/api/v1/reactions/balance'], ['post', '/api/v1/couples/potential'], ['post', '/api/v1/cells/evaluate'],
+      ['get', '/api/v1/tables/potentials'], ['post', '/api/v1/doses'], ['post', '/api/v1/sheets'], ['get', '/api/v1/sheets'],
+      ['get', '/api/v1/sheets/{id}'], ['get', '/api/v1/sheets/{id}/pdf'], ['get', '/api/v1/sheets/{id}/verification'],
+      ['get', '/api/v1/sheets/export.csv'], ['get', '/api/v1/archive/verification'], ['post', '/api/v1/users'],
+    ];
+    for (const [method, path] of contract) {
+      const op = doc.paths[path]?.[method];
+      expect(op, `${method.toUpperCase()} ${path}`).toBeDefined();
+      expect(op.responses['4XX'] ?? op.responses['4xx'] ?? op.responses['400'], `${method.toUpperCase()} ${path} documents its problems`).toBeDefined();
+      if (method === 'post') expect(op.requestBody?.content?.['application/json']?.schema, `${path} body`).toBeDefined();
+    }
+    // a nullable member of an answer is a JSON Schema type list, valid in OpenAPI 3.1
+    expect(doc.openapi).toBe('3.1.0');
+    const cell = doc.paths['/api/v1/cells/evaluate'].post.responses['200'].content['application/json'].schema;
+    expect(cell.properties.equilibriumResidual.type).toEqual(['object', 'null']);
   });
 
   it('serves a browsable documentation page at /docs', async () => {
