@@ -27,14 +27,17 @@ export function isSha256Hex(text: unknown): text is string {
   return typeof text === 'string' && /^[0-9a-f]{64}$/.test(text);
 }
 
-function refuse(path: string, what: string): never {
+function refuse(trail: readonly (string | number)[], what: string): never {
+  // RFC 6901 pointer of the value, built only when it is needed
+  const path = trail.map((k) => '/' + String(k).replace(/~/g, '~0').replace(/\//g, '~1')).join('');
   throw new DomainError('INTERNAL', {
     detail: `Cannot store ${what} at ${path || '/'} as JSON; only null, booleans, finite numbers, strings, arrays and plain objects can be archived.`,
     params: { pointer: path },
   });
 }
 
-function write(value: unknown, path: string, out: string[], seen: Set<object>): void {
+/** `trail` is the keys from the root to `value` (pushed and popped as the walk goes). */
+function write(value: unknown, trail: (string | number)[], out: string[], seen: Set<object>): void {
   if (value === null) {
     out.push('null');
     return;
@@ -44,49 +47,56 @@ function write(value: unknown, path: string, out: string[], seen: Set<object>): 
       out.push(value ? 'true' : 'false');
       return;
     case 'number':
-      if (!Number.isFinite(value)) refuse(path, String(value));
+      if (!Number.isFinite(value)) refuse(trail, String(value));
       out.push(JSON.stringify(value));
       return;
     case 'string':
       out.push(JSON.stringify(value));
       return;
     case 'bigint':
-      refuse(path, 'a bigint');
+      refuse(trail, 'a bigint');
     // eslint-disable-next-line no-fallthrough
     case 'undefined':
     case 'function':
     case 'symbol':
-      refuse(path, `a ${typeof value}`);
+      refuse(trail, `a ${typeof value}`);
     // eslint-disable-next-line no-fallthrough
     default:
       break;
   }
   const obj = value as object;
   if (typeof (obj as { toJSON?: unknown }).toJSON === 'function') {
-    write((obj as { toJSON: () => unknown }).toJSON(), path, out, seen);
+    write((obj as { toJSON: () => unknown }).toJSON(), trail, out, seen);
     return;
   }
-  if (seen.has(obj)) refuse(path, 'a circular reference');
+  if (seen.has(obj)) refuse(trail, 'a circular reference');
   seen.add(obj);
   if (Array.isArray(obj)) {
     out.push('[');
-    obj.forEach((item, i) => {
+    for (let i = 0; i < obj.length; i++) {
       if (i > 0) out.push(',');
-      write(item === undefined ? null : item, `${path}/${i}`, out, seen);
-    });
+      const item: unknown = obj[i];
+      trail.push(i);
+      write(item === undefined ? null : item, trail, out, seen);
+      trail.pop();
+    }
     out.push(']');
   } else if (ArrayBuffer.isView(obj)) {
-    refuse(path, 'binary data');
+    refuse(trail, 'binary data');
   } else {
-    const keys = Object.keys(obj)
-      .filter((k) => (obj as Record<string, unknown>)[k] !== undefined)
+    const record = obj as Record<string, unknown>;
+    const keys = Object.keys(record)
+      .filter((k) => record[k] !== undefined)
       .sort();
     out.push('{');
-    keys.forEach((k, i) => {
+    for (let i = 0; i < keys.length; i++) {
+      const k = keys[i]!;
       if (i > 0) out.push(',');
       out.push(JSON.stringify(k), ':');
-      write((obj as Record<string, unknown>)[k], `${path}/${k.replace(/~/g, '~0').replace(/\//g, '~1')}`, out, seen);
-    });
+      trail.push(k);
+      write(record[k], trail, out, seen);
+      trail.pop();
+    }
     out.push('}');
   }
   seen.delete(obj);
@@ -95,6 +105,6 @@ function write(value: unknown, path: string, out: string[], seen: Set<object>): 
 /** Canonical JSON text of a JSON value (rules above). */
 export function canonicalJson(value: unknown): string {
   const out: string[] = [];
-  write(value, '', out, new Set());
+  write(value, [], out, new Set());
   return out.join('');
 }
