@@ -5,7 +5,8 @@
  * comma, a double quote, CR or LF, and a double quote inside a field doubled. UTF-8, no byte-order
  * mark (pass `bom: true` for spreadsheet programs that need one). Headers carry their units
  * ("dose_mg_per_L", "flow_m3_per_d", "feed_kg_per_d"); times are UTC ISO 8601. Numbers are written
- * in full (String(number)), not rounded.
+ * in full (String(number)), not rounded; the dose and feed as the sheet prints them (rounded) are
+ * in the last columns, "dose_mg_per_L_as_printed" and "feed_kg_per_d_as_printed".
  *
  * Text that a spreadsheet would run as a formula (starting with = + - @ tab or CR) is prefixed with
  * an apostrophe (OWASP "CSV injection"); numbers are never altered.
@@ -140,7 +141,19 @@ export const DOSE_CSV_COLUMNS: readonly CsvColumn[] = [
         .join(' ');
     },
   },
+  // the figures as the signed sheet prints them (rounded there for presentation), beside the full values above
+  { header: 'dose_mg_per_L_as_printed', value: printedIn(['result', 'dose'], 'mg/L') },
+  { header: 'feed_kg_per_d_as_printed', value: printedIn(['result', 'feed', 'massRate'], 'kg/d') },
 ];
+
+/** The rounded text stored with a quantity ({value, unit, rounded}), when it is in `unit`. */
+function printedIn(path: readonly ['request' | 'result', ...string[]], unit: string): (s: CsvSheet) => string | null {
+  const [where, ...rest] = path;
+  return (s) => {
+    const q = at(where === 'request' ? s.request : s.result, rest) as { unit?: unknown; rounded?: unknown } | undefined;
+    return q && typeof q === 'object' && q.unit === unit && typeof q.rounded === 'string' ? q.rounded : null;
+  };
+}
 
 // ---------------------------------------------------------------------------------------------
 // RFC 4180

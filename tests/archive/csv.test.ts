@@ -140,6 +140,29 @@ describe('exportCsv', () => {
     expect(get('sample_pH')).toBe('7.8');
     expect(get('sample_temperature_C')).toBe('15');
     expect(get('flags')).toBe('DBP_CAUTION(warning) LOCAL_RULES(info)');
+    // no rounded text stored with these figures: the printed columns stay empty
+    expect(get('dose_mg_per_L_as_printed')).toBe('');
+    expect(get('feed_kg_per_d_as_printed')).toBe('');
+  });
+
+  it('carries the dose and feed as the sheet prints them beside the full values', () => {
+    const { archive, author } = fresh();
+    archive.appendSheet(
+      doseSheetInput(author, {
+        plantId: 'demo-plant',
+        plantVersion: 1,
+        result: {
+          dose: { value: 2.2649949323382996, unit: 'mg/L', rounded: '2.26', basis: 'as Cl2' },
+          feed: { massRate: { value: 9.059979729353199, unit: 'kg/d', rounded: '9.06' } },
+        },
+      }),
+    );
+    const rows = parseCsv(archive.exportCsv({ plantId: 'demo-plant' }));
+    const get = (name: string) => rows[1]![rows[0]!.indexOf(name)];
+    expect(get('dose_mg_per_L')).toBe('2.2649949323382996');
+    expect(get('dose_mg_per_L_as_printed')).toBe('2.26');
+    expect(get('feed_kg_per_d')).toBe('9.059979729353199');
+    expect(get('feed_kg_per_d_as_printed')).toBe('9.06');
   });
 
   it('marks superseded sheets and names the correction', () => {
