@@ -55,6 +55,30 @@ describe('POST /api/v1/reactions/balance', () => {
     expect(r.json()).toMatchObject({ equation: 'CaCO3 + 2H+ -> Ca2+ + CO2 + H2O', electrons: 0 });
   });
 
+  it.each([
+    // textbook: 2KMnO4 + 16HCl → 2KCl + 2MnCl2 + 8H2O + 5Cl2, 10 electrons (2 Mn +7 → +2)
+    [['KMnO4', 'HCl'], ['KCl', 'MnCl2', 'H2O', 'Cl2'], '2KMnO4 + 16HCl -> 2KCl + 2MnCl2 + 8H2O + 5Cl2', 10],
+    // hydrogen sulfide and chlorine: H2S + Cl2 → S + 2HCl, 2 electrons
+    [['H2S', 'Cl2'], ['S', 'HCl'], 'H2S + Cl2 -> S + 2HCl', 2],
+    [['Fe2+', 'MnO4-', 'H+'], ['Fe3+', 'Mn2+', 'H2O'], '5Fe2+ + MnO4- + 8H+ -> 5Fe3+ + Mn2+ + 4H2O', 5],
+  ])('a redox reaction given as species counts its electrons from the oxidation states: %j', async (reactants, products, equation, electrons) => {
+    const r = await post({ reactants, products });
+    expect(r.statusCode, r.body).toBe(200);
+    const b = r.json();
+    expect(b).toMatchObject({ equation, electrons });
+    const lost = b.oxidationStateChanges.reduce((n: number, c: { electronsLost: string }) => n + Number(c.electronsLost), 0);
+    const gained = b.oxidationStateChanges.reduce((n: number, c: { electronsGained: string }) => n + Number(c.electronsGained), 0);
+    expect([lost, gained]).toEqual([electrons, electrons]);
+  });
+
+  it('a half-reaction given with e- keeps its e- coefficient; open oxidation states give null with the reason', async () => {
+    const half = (await post({ reactants: ['MnO4-', 'H+', 'e-'], products: ['Mn2+', 'H2O'] })).json();
+    expect(half.electrons).toBe(5);
+    const pyrite = (await post({ reactants: ['FeS2', 'O2', 'H2O'], products: ['Fe(OH)3', 'SO4^2-', 'H+'] })).json();
+    expect(pyrite.electrons).toBeNull();
+    expect(pyrite.electronsNote).toMatch(/Fe and S in FeS2/);
+  });
+
   it('a malformed formula is a 400 naming the field and the position', async () => {
     const r = await post({ reactants: ['Fe(OH3'], products: ['Fe3+'] });
     expect(r.statusCode).toBe(400);

@@ -6,6 +6,8 @@ import { DomainError, isDomainError } from '../../core/errors.js';
 import { formatUnicode, parseFormula } from '../formula/index.js';
 import type { Species } from '../formula/types.js';
 import { balanceReaction, balanceRedox, equationText, mediumForPH } from './index.js';
+import { electronsTransferred } from './oxidation.js';
+import { isElectron } from '../formula/index.js';
 import type { Medium, Reaction, Term } from './types.js';
 
 export interface BalanceTextInput {
@@ -44,6 +46,21 @@ export function reversedEquation(r: Pick<Reaction, 'terms'>): string {
   return equationText(r.terms.map((t) => ({ ...t, side: t.side === 'reactant' ? ('product' as const) : ('reactant' as const) })));
 }
 
+function electronNote(count: ReturnType<typeof electronsTransferred>): string | null {
+  if (count.undetermined.length > 0) {
+    return (
+      `The oxidation states of ${count.undetermined.map((u) => `${u.elements.join(' and ')} in ${u.species}`).join('; ')} do not follow from the formula rules, ` +
+      'so the electrons transferred are not given; write the reaction as an oxidant couple and a reductant couple to have them counted.'
+    );
+  }
+  const parts: string[] = [];
+  if (count.conventions.length > 0 && count.electrons !== 0) {
+    parts.push(`Oxidation states by the common-oxyanion convention: ${count.conventions.map((c) => `${c.elements.join(', ')} in ${c.species}`).join('; ')}.`);
+  }
+  if (count.electrons === null) parts.push('The oxidation-state changes do not add up to a whole number of electrons.');
+  return parts.length ? parts.join(' ') : null;
+}
+
 export function chooseMedium(medium: Medium | undefined, pH: number | undefined): { medium: Medium; reason: string } {
   if (medium) return { medium, reason: 'medium given by the caller' };
   if (pH !== undefined) {
@@ -58,12 +75,19 @@ export function balanceService(input: BalanceTextInput, elements?: ReadonlySet<s
     const reactants = input.reactants.map((t, i) => parseAt(t, `/reactants/${i}`, elements));
     const products = input.products.map((t, i) => parseAt(t, `/products/${i}`, elements));
     const r = balanceReaction({ reactants, products });
+    // written with e-: a half-reaction, its electrons are its e- coefficient; otherwise they
+    // follow from the oxidation states of the species (0 for a non-redox reaction)
+    const explicit = r.terms.some((t) => isElectron(t.species));
+    const count = explicit ? null : electronsTransferred(r.terms);
+    const electronsNote = count === null ? null : electronNote(count);
     return {
       kind: 'reaction' as const,
       equation: r.equation,
       equationUnicode: unicodeEquation(r),
       terms: termsOut(r.terms),
-      electrons: r.electrons,
+      electrons: count === null ? r.electrons : count.electrons,
+      ...(count ? { oxidationStateChanges: count.changes.map((c) => ({ element: c.element, electronsLost: c.oxidised, electronsGained: c.reduced })) } : {}),
+      ...(electronsNote ? { electronsNote } : {}),
       method: 'Null space of the element-and-charge matrix over exact rationals; smallest whole coefficients',
     };
   }

@@ -29,7 +29,16 @@ export const BalanceResponse = z.object({
   equation: z.string(),
   equationUnicode: z.string(),
   terms: z.array(TermOut),
-  electrons: z.number().int(),
+  electrons: z
+    .number()
+    .int()
+    .nullable()
+    .describe('Electrons transferred by the reaction as written: the e- coefficient of a half-reaction, else from the oxidation states of the species (0 for a non-redox reaction); null when the formula rules cannot settle them (see electronsNote)'),
+  oxidationStateChanges: z
+    .array(z.object({ element: z.string(), electronsLost: z.string(), electronsGained: z.string() }))
+    .optional()
+    .describe('Per element that changes oxidation state: the electrons its atoms give up (oxidation) and take up (reduction) in the reaction as written, exact'),
+  electronsNote: z.string().optional(),
   medium: Medium.optional(),
   mediumReason: z.string().optional(),
   halfReactions: z.object({ reduction: HalfOut, oxidation: HalfOut }).optional(),
