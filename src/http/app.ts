@@ -56,7 +56,9 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
         useDefaults: true,
       },
     },
-    routerOptions: { ignoreTrailingSlash: true },
+    // a long path parameter reaches the route, whose id check answers a 400 problem (the router's
+    // own limit would answer 414 in its own format)
+    routerOptions: { ignoreTrailingSlash: true, maxParamLength: 2048 },
   });
 
   const services = options.services ?? (await createServices(options));

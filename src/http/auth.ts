@@ -22,7 +22,7 @@ export function bearerToken(req: FastifyRequest): string | undefined {
   return m ? m[1] : '';
 }
 
-/** A preHandler that requires a valid token whose role is at least `role`. Runs after body validation. */
+/** An access check that requires a valid token whose role is at least `role`. Runs as the request arrives (onRequest), before the body is read. */
 export function requireRole(role: Role) {
   return async (req: FastifyRequest, reply: FastifyReply): Promise<void> => {
     const token = bearerToken(req);

@@ -77,7 +77,7 @@ export interface RouteSpec<
   auth?: boolean;
   bodyLimit?: number;
   config?: Record<string, unknown>;
-  /** Runs after validation, before the handler (access checks). */
+  /** Access check: runs as the request arrives (onRequest), before the body is read or validated. */
   preHandler?: (req: FastifyRequest, reply: FastifyReply) => Promise<void>;
   handler: (
     req: FastifyRequest & {
@@ -136,7 +136,9 @@ export function defineRoute<
   config['zod'] = { body: spec.body, querystring: spec.querystring, params: spec.params };
   if (spec.auth && config['rateLimit'] === undefined) config['rateLimit'] = {};
   if (Object.keys(config).length) opts.config = config;
-  if (spec.preHandler) opts.preHandler = spec.preHandler;
+  // Access checks run when the request arrives, before its body is read or validated: a request
+  // without a valid token is 401 (and one with the wrong role 403) whatever its body says.
+  if (spec.preHandler) opts.onRequest = spec.preHandler;
   app.route({
     method: spec.method,
     url: spec.url,

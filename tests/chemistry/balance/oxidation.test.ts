@@ -51,7 +51,7 @@ describe('oxidation states from the formula', () => {
   it('a formula the rules cannot settle is reported open, not guessed (pyrite FeS2)', () => {
     const ox = oxidationStates(P('FeS2'));
     expect(ox.states).toBeNull();
-    expect(ox.open.sort()).toEqual(['Fe', 'S']);
+    expect([...ox.open].sort()).toEqual(['Fe', 'S']);
   });
 });
 
