@@ -332,6 +332,15 @@ export function appendSheet(ctx: ArchiveContext, input: AppendSheetInput): Sheet
             fields: [{ pointer: '/supersedes', message: 'no such sheet' }],
           });
         }
+        const target = ctx.statement('SELECT kind, plant_id FROM sheets WHERE id = ?').get(supersedes) as { kind: string; plant_id: string | null };
+        if (target.kind !== input.kind || target.plant_id !== plantId) {
+          const what = (kind: string, plant: string | null) => `a ${kind} sheet ${plant === null ? 'with no plant' : `of plant ${plant}`}`;
+          throw new DomainError('SHEET_SUPERSEDES_OTHER', {
+            detail: `Sheet ${supersedes} is ${what(target.kind, target.plant_id)}; this correction is ${what(input.kind, plantId)}. A correction replaces a sheet of the same kind and plant, so that each plant's history stays its own.`,
+            params: { supersedes, kind: target.kind, plantId: target.plant_id },
+            fields: [{ pointer: '/supersedes', message: `is ${what(target.kind, target.plant_id)}` }],
+          });
+        }
         const by = ctx.statement('SELECT id FROM sheets WHERE supersedes = ?').get(supersedes) as { id: string } | undefined;
         if (by) {
           throw new DomainError('SHEET_ALREADY_SUPERSEDED', {

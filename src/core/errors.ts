@@ -83,6 +83,7 @@ export const ERROR_CATALOGUE = {
   SHEET_NOT_FOUND: { kind: 'not-found', title: 'No such sheet' },
   SHEET_SUPERSEDES_UNKNOWN: { kind: 'invalid', title: 'The sheet to supersede does not exist' },
   SHEET_ALREADY_SUPERSEDED: { kind: 'conflict', title: 'That sheet has already been superseded' },
+  SHEET_SUPERSEDES_OTHER: { kind: 'invalid', title: 'A correction must be of the same kind and plant as the sheet it supersedes' },
   SIGNER_INVALID: { kind: 'invalid', title: 'The signing certificate cannot be used' },
   ARCHIVE_TOO_NEW: { kind: 'unavailable', title: 'The archive was written by a newer version' },
   ARCHIVE_CORRUPT: { kind: 'internal', title: 'The archive failed verification' },

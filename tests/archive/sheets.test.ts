@@ -217,6 +217,25 @@ describe('supersede rules', () => {
     ]);
   });
 
+  it('a correction must be of the same kind and plant: SHEET_SUPERSEDES_OTHER at /supersedes, nothing stored', () => {
+    const { archive, author } = fresh();
+    archive.savePlant({ id: 'plant-a' }, { createdBy: 'x' });
+    const ofPlant = archive.appendSheet(doseSheetInput(author, { plantId: 'plant-a', plantVersion: 1 }));
+    const noPlant = archive.appendSheet(doseSheetInput(author));
+    const cases = [
+      doseSheetInput(author, { supersedes: ofPlant.id }), // a sheet without plant correcting a plant's sheet
+      doseSheetInput(author, { plantId: 'plant-a', plantVersion: 1, supersedes: noPlant.id }),
+      doseSheetInput(author, { kind: 'jar-test-evaluation', supersedes: noPlant.id }),
+    ];
+    for (const input of cases) {
+      const e = caught(() => archive.appendSheet(input));
+      expect(e.code).toBe('SHEET_SUPERSEDES_OTHER');
+      expect(e.fields[0]?.pointer).toBe('/supersedes');
+    }
+    expect(archive.listSheets()).toHaveLength(2);
+    expect(archive.getSheet(ofPlant.id).supersededBy).toBeNull();
+  });
+
   it('superseding an unknown sheet is SHEET_SUPERSEDES_UNKNOWN at /supersedes', () => {
     const { archive, author } = fresh();
     const e = caught(() => archive.appendSheet(doseSheetInput(author, { supersedes: 'DS-20260101-0000000000' })));
