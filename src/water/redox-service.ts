@@ -75,6 +75,26 @@ function givenForSolids(halves: readonly NernstResult[], given: ReadonlyMap<stri
   return notes;
 }
 
+/** H+ and OH-, whose activities the pH sets. */
+const PH_KEYS = [speciesKey(parseFormula('H+')), speciesKey(parseFormula('OH-'))] as const;
+
+/** Notes for values given for species that appear in none of the half-reactions: never dropped silently. */
+function notInEitherHalf(halves: readonly NernstResult[], given: ReadonlyMap<string, string>, what: string): string[] {
+  const notes: string[] = [];
+  const terms = halves.flatMap((h) => h.activities);
+  for (const [key, text] of given) {
+    const mine = terms.filter((a) => a.key === key);
+    if (key === PH_KEYS[0] || key === PH_KEYS[1]) {
+      notes.push(`${text} is set by the pH; the ${what} given for it was not used.`);
+    } else if (mine.length === 0) {
+      notes.push(`${text} is not in ${halves.length > 1 ? 'either half-reaction' : 'the half-reaction'}; the ${what} given for it was not used.`);
+    } else if (mine.every((a) => a.reason === 'water')) {
+      notes.push(`${text} is the solvent, at unit activity; the ${what} given for it was not used.`);
+    }
+  }
+  return notes;
+}
+
 /** speciesKey → the text the caller gave, for the keys of a concentration or activity map. */
 function givenKeys(map: Readonly<Record<string, unknown>> | undefined, deps: RedoxDeps): Map<string, string> {
   const out = new Map<string, string>();
@@ -240,7 +260,8 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   }
   const tc = p.tabledCheck;
   const unitNote = n ? unitActivityNote(n.notGiven, 'Nernst') : null;
-  const solidNotes = n ? givenForSolids([n], givenKeys(input.activities, deps)) : [];
+  const givenActivities = givenKeys({ ...(input.activities ?? {}), ...(input.partialPressuresAtm ?? {}) }, deps);
+  const solidNotes = n ? [...givenForSolids([n], givenActivities), ...notInEitherHalf([n], givenActivities, 'activity')] : [];
   return {
     couple: { from: input.from, to: input.to },
     halfReaction: half.equation,
@@ -297,6 +318,7 @@ export interface CellInputText {
   concentrations?: Readonly<Record<string, ConcentrationIn>> | undefined;
   ionicStrength?: number | undefined;
   tdsMgPerL?: number | undefined;
+  conductanceUSPerCm?: number | undefined;
   medium?: Medium | undefined;
   standardPotentials?: { oxidant?: { value: number; source: string } | undefined; reductant?: { value: number; source: string } | undefined } | undefined;
 }
@@ -343,8 +365,9 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
   const pRed = potentialFor(redHalf, deps, { temperatureC: T, temperatureCorrection: true, ...(rv ? { override: { valueV: rv.value, source: rv.source } } : {}) }, '/reductant');
 
   let I = 0;
-  let iBasis: 'given' | 'tds' | 'none' = 'none';
+  let iBasis: 'given' | 'tds' | 'conductance' | 'none' = 'none';
   let iRelation: string | null = null;
+  const notes: string[] = [];
   if (input.ionicStrength !== undefined) {
     I = input.ionicStrength;
     iBasis = 'given';
@@ -353,15 +376,32 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     I = est.ionicStrengthMolPerL;
     iBasis = 'tds';
     iRelation = est.relation?.id ?? null;
+  } else if (input.conductanceUSPerCm !== undefined) {
+    const est = ionicStrength({ method: 'conductance', conductanceUSPerCm: input.conductanceUSPerCm });
+    I = est.ionicStrengthMolPerL;
+    iBasis = 'conductance';
+    iRelation = est.relation?.id ?? null;
+  }
+  const givenBases = (['ionicStrength', 'tdsMgPerL', 'conductanceUSPerCm'] as const).filter((k) => input[k] !== undefined);
+  if (givenBases.length > 1) {
+    notes.push(`Ionic strength from ${givenBases[0]}; ${givenBases.slice(1).join(' and ')} not used (one basis is used, in the order ionicStrength, tdsMgPerL, conductanceUSPerCm).`);
   }
   const A = deps.daviesAAt(T);
   const activities = new Map<string, number>();
   const pressures = new Map<string, number>();
-  const notes: string[] = [];
   for (const [text, q] of Object.entries(input.concentrations ?? {})) {
     const pointer = `/concentrations/${text.replace(/~/g, '~0').replace(/\//g, '~1')}`;
     const s = parseAt(text, pointer, deps);
     const key = speciesKey(s);
+    if ((q.unit === 'atm') !== (s.phase === 'g')) {
+      throw new DomainError('ACTIVITY_INVALID', {
+        detail:
+          q.unit === 'atm'
+            ? `${text} is given in atm, which is for a gas: write the gas with (g), e.g. "O2(g)", or give the dissolved species in mg/L or mol/L.`
+            : `${text} is a gas: give its partial pressure in atm (air holds O2(g) at about 0.21 atm), or write the dissolved species without (g).`,
+        fields: [{ pointer: `${pointer}/unit`, message: q.unit === 'atm' ? 'atm only for a gas written with (g)' : 'a gas needs atm' }],
+      });
+    }
     if (q.unit === 'atm') {
       pressures.set(key, q.value);
       continue;
@@ -420,7 +460,9 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     unitActivity: [...n.notGiven],
   });
   const res = cell.reductantResidual;
-  notes.push(...givenForSolids([cell.oxidant, cell.reductant], givenKeys(input.concentrations, deps)));
+  const given = givenKeys(input.concentrations, deps);
+  notes.push(...givenForSolids([cell.oxidant, cell.reductant], given));
+  notes.push(...notInEitherHalf([cell.oxidant, cell.reductant], given, 'concentration'));
   for (const [half, where] of [[cell.oxidant, 'Oxidant couple'], [cell.reductant, 'Reductant couple']] as const) {
     const note = unitActivityNote(half.notGiven, where);
     if (note) notes.push(note);

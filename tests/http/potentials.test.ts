@@ -220,6 +220,38 @@ describe('POST /api/v1/cells/evaluate', () => {
     expect(b.standardCellPotentialV).toBeCloseTo(b.halfReactions.oxidant.standardPotentialAtTemperatureV - b.halfReactions.reductant.standardPotentialAtTemperatureV, 12);
   });
 
+  it('estimates ionic strength from specific conductance (Russell 1976: I ≈ 1.6×10⁻⁵ × EC, as quoted by Snoeyink & Jenkins 1980; from memory)', async () => {
+    const b = (await post('/api/v1/cells/evaluate', { ...MN_CELL, conductanceUSPerCm: 500 })).json();
+    expect(b.activity).toMatchObject({ ionicStrengthBasis: 'conductance', ionicStrengthRelation: 'russell-1976', relation: 'davies-1962' });
+    expect(b.activity.ionicStrength).toBeCloseTo(500 * 1.6e-5, 12);
+    // two bases given: the first in the stated order is used, and the answer says the other was not
+    const both = (await post('/api/v1/cells/evaluate', { ...MN_CELL, tdsMgPerL: 300, conductanceUSPerCm: 500 })).json();
+    expect(both.activity.ionicStrengthBasis).toBe('tds');
+    expect(both.notes.join(' ')).toMatch(/Ionic strength from tdsMgPerL; conductanceUSPerCm not used/);
+    const bad = await post('/api/v1/cells/evaluate', { ...MN_CELL, conductanceUSPerCm: -1 });
+    expect(bad.statusCode).toBe(400);
+    expect(bad.json().errors[0].pointer).toBe('/conductanceUSPerCm');
+  });
+
+  it('no value sent is dropped silently: atm only for a gas, a gas only in atm, and values that are not used are named', async () => {
+    const atm = await post('/api/v1/cells/evaluate', { ...MN_CELL, concentrations: { 'MnO4-': { value: 1, unit: 'atm' } } });
+    expect(atm.statusCode).toBe(400);
+    expect(atm.json().errors[0].pointer).toBe('/concentrations/MnO4-/unit');
+    const gas = await post('/api/v1/cells/evaluate', { oxidant: { from: 'O2(g)', to: 'H2O' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH: 7, temperatureC: 15, concentrations: { 'O2(g)': { value: 8, unit: 'mg/L' } } });
+    expect(gas.statusCode).toBe(400);
+    expect(gas.json().detail).toMatch(/partial pressure in atm/);
+
+    const extra = (await post('/api/v1/cells/evaluate', {
+      ...MN_CELL,
+      concentrations: { ...MN_CELL.concentrations, 'Fe2+': { value: 1, unit: 'mg/L' }, 'H+': { value: 1e-7, unit: 'mol/L' } },
+    })).json();
+    const notes = extra.notes.join(' ');
+    expect(notes).toMatch(/Fe2\+ is not in either half-reaction; the concentration given for it was not used/);
+    expect(notes).toMatch(/H\+ is set by the pH; the concentration given for it was not used/);
+    const couple = (await post('/api/v1/couples/potential', { from: 'Fe3+', to: 'Fe2+', pH: 3, activities: { 'Fe3+': 1e-4, 'Fe2+': 1e-5, 'Mn2+': 0.1 } })).json();
+    expect(couple.notes.join(' ')).toMatch(/Mn2\+ is not in the half-reaction; the activity given for it was not used/);
+  });
+
   it('names every constant it used: row ids, source ids and relation ids all resolve through the tables routes', async () => {
     const r = await post('/api/v1/cells/evaluate', { ...MN_CELL, tdsMgPerL: 300 });
     expect(r.statusCode).toBe(200);

@@ -129,6 +129,12 @@ export const CellBody = z.strictObject({
   concentrations: z.record(z.string(), ConcentrationIn).optional().describe('Concentrations by species formula (atm for gases); others at unit activity'),
   ionicStrength: z.number().min(0).max(0.5).optional().describe('mol/L; Davies activity coefficients are used up to 0.5'),
   tdsMgPerL: z.number().min(0).max(20000).optional().describe('Total dissolved solids, to estimate ionic strength (Langelier 1936)'),
+  conductanceUSPerCm: z
+    .number()
+    .min(0)
+    .max(30000)
+    .optional()
+    .describe('Specific conductance at 25 °C, µS/cm, to estimate ionic strength (Russell 1976) when neither ionicStrength nor tdsMgPerL is given'),
   medium: Medium.optional(),
   standardPotentials: z
     .strictObject({ oxidant: SiteE0.optional(), reductant: SiteE0.optional() })
@@ -179,7 +185,7 @@ export const CellResponse = z.object({
   activity: z
     .object({
       ionicStrength: z.number().describe('mol/L'),
-      ionicStrengthBasis: z.enum(['given', 'tds', 'none']).describe('none: activities taken equal to concentrations'),
+      ionicStrengthBasis: z.enum(['given', 'tds', 'conductance', 'none']).describe('none: activities taken equal to concentrations'),
       ionicStrengthRelation: z.string().nullable().describe('Id of the estimating relation (GET /api/v1/tables/relations)'),
       daviesA: z
         .number()
