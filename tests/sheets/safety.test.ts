@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { autoRich, looksLikeFormula } from '../../src/sheets/model.js';
 import { safetyBoxFromCautions, shortCitation, sourceLabeller } from '../../src/sheets/safety.js';
+import { loadReferenceTables } from '../../src/reference/load.js';
 
 describe('looksLikeFormula: which words of free text are typeset', () => {
   it.each([
@@ -78,5 +79,19 @@ describe('safetyBoxFromCautions', () => {
     expect(box.overdoseSigns[0]).toContain('No overdose signs listed');
     expect(box.sources).toEqual(['Agency 2007', 's2']);
     expect(JSON.stringify(box)).not.toContain('Local rules govern');
+  });
+});
+
+describe('every oxidant product in the tables has a full safety box', () => {
+  const tables = loadReferenceTables();
+  const byId = new Map(tables.cautions.map((c) => [c.id, c]));
+  it.each(tables.oxidants.map((o) => [o.id, o] as const))('%s: hazards, incompatibilities, protective equipment and overdose signs, each with a source', (_id, oxidant) => {
+    const cautions = oxidant.cautions.map((id) => byId.get(id)!);
+    expect(cautions.every((c) => c !== undefined && c.source.length > 0)).toBe(true);
+    const box = safetyBoxFromCautions({ productName: oxidant.name, cautions });
+    for (const group of [box.hazards, box.incompatibilities, box.ppe, box.overdoseSigns]) {
+      expect(group.length).toBeGreaterThan(0);
+      expect(JSON.stringify(group)).not.toMatch(/listed in the tables for this product/);
+    }
   });
 });
