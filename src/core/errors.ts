@@ -10,6 +10,7 @@
  *   not-found     - a referenced thing does not exist (HTTP 404)
  *   conflict      - the request clashes with stored state (HTTP 409)
  *   unauthenticated / forbidden - access (HTTP 401 / 403)
+ *   too-large / unsupported-media / rate-limited - HTTP 413 / 415 / 429
  *   unavailable   - a dependency refused (HTTP 503)
  *   internal      - a bug (HTTP 500)
  */
@@ -21,6 +22,7 @@ export type ErrorKind =
   | 'unauthenticated'
   | 'forbidden'
   | 'too-large'
+  | 'unsupported-media'
   | 'rate-limited'
   | 'unavailable'
   | 'internal';
@@ -35,6 +37,7 @@ export const ERROR_CATALOGUE = {
   VALIDATION_FAILED: { kind: 'invalid', title: 'The request has invalid fields' },
   BODY_NOT_JSON: { kind: 'invalid', title: 'The request body is not valid JSON' },
   BODY_TOO_LARGE: { kind: 'too-large', title: 'The request body is too large' },
+  MEDIA_TYPE_UNSUPPORTED: { kind: 'unsupported-media', title: 'The request body is not JSON' },
   ROUTE_NOT_FOUND: { kind: 'not-found', title: 'No such route' },
   RATE_LIMITED: { kind: 'rate-limited', title: 'Too many requests' },
   NOT_ACCEPTABLE: { kind: 'invalid', title: 'The requested representation is not available' },

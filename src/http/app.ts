@@ -93,7 +93,7 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
       return sendProblem(reply, problem('BODY_TOO_LARGE', `The body is larger than the ${app.initialConfig.bodyLimit} bytes this service accepts.`));
     }
     if (err.code === 'FST_ERR_CTP_INVALID_MEDIA_TYPE') {
-      return sendProblem(reply, { ...problem('VALIDATION_FAILED', 'Send the body as application/json.'), status: 415, title: 'Unsupported media type' });
+      return sendProblem(reply, problem('MEDIA_TYPE_UNSUPPORTED', `The body was sent as ${String(req.headers['content-type'] ?? 'no content type')}; send it as application/json.`));
     }
     if (err.code === 'FST_ERR_CTP_EMPTY_JSON_BODY' || err.code === 'FST_ERR_CTP_INVALID_JSON_BODY' || err instanceof SyntaxError || err.statusCode === 400) {
       return sendProblem(reply, problem('BODY_NOT_JSON', `The request body could not be read as JSON: ${err.message}`));

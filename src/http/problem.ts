@@ -13,6 +13,7 @@ const STATUS_OF_KIND: Record<ErrorKind, number> = {
   'not-found': 404,
   conflict: 409,
   'too-large': 413,
+  'unsupported-media': 415,
   unprocessable: 422,
   'rate-limited': 429,
   internal: 500,

@@ -170,7 +170,21 @@ function halfFor(ox: Species, red: Species, medium: Medium, pointer: string): Ha
   const k = `${ox.text}|${red.text}|${medium}`;
   let h = halfMemo.get(k);
   if (!h) {
-    h = withPointer(pointer, () => halfReaction({ oxidised: ox, reduced: red, medium }));
+    h = withPointer(pointer, () => {
+      try {
+        return halfReaction({ oxidised: ox, reduced: red, medium });
+      } catch (e) {
+        // the half-reaction names its inputs oxidised/reduced; this request calls them from/to
+        if (!isDomainError(e)) throw e;
+        throw new DomainError(e.code, {
+          detail: e.detail,
+          params: e.params,
+          fields: e.fields.map((f) => ({ pointer: f.pointer.replace(/^\/oxidised/, '/from').replace(/^\/reduced/, '/to'), message: f.message })),
+          ...(e.text !== undefined ? { text: e.text } : {}),
+          ...(e.position !== undefined ? { position: e.position } : {}),
+        });
+      }
+    });
     if (halfMemo.size > 2048) halfMemo.clear();
     halfMemo.set(k, h);
   }
@@ -183,13 +197,23 @@ function potentialFor(
   opts: { temperatureC: number; temperatureCorrection: boolean; override?: { valueV: number; source: string } },
   pointer: string,
 ): PotentialResult {
-  return withPointer(pointer, () =>
-    standardPotential(half, deps.ledger, {
-      temperatureC: opts.temperatureC,
-      temperatureCorrection: opts.temperatureCorrection,
-      ...(opts.override ? { override: opts.override } : {}),
-    }),
-  );
+  return withPointer(pointer, () => {
+    try {
+      return standardPotential(half, deps.ledger, {
+        temperatureC: opts.temperatureC,
+        temperatureCorrection: opts.temperatureCorrection,
+        ...(opts.override ? { override: opts.override } : {}),
+      });
+    } catch (e) {
+      // the ledger speaks of the half-reaction's equation; in this request that is the couple itself
+      if (!isDomainError(e) || !e.fields.some((f) => f.pointer === '/equation')) throw e;
+      throw new DomainError(e.code, {
+        detail: e.detail,
+        params: e.params,
+        fields: e.fields.map((f) => (f.pointer === '/equation' ? { pointer, message: f.message } : f)),
+      });
+    }
+  });
 }
 
 function chooseMedium(medium: Medium | undefined, pH: number | undefined): Medium {

@@ -109,6 +109,26 @@ describe('POST /api/v1/couples/potential at conditions', () => {
   });
 });
 
+describe('errors name the fields the request has', () => {
+  it('a couple written the wrong way round points at /from and /to; an underivable one at the whole request; a cell at /oxidant', async () => {
+    const wrong = (await post('/api/v1/couples/potential', { from: 'Fe2+', to: 'Fe3+' })).json();
+    expect(wrong.errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/from', '/to']);
+    const none = await post('/api/v1/couples/potential', { from: 'HAsO4^2-', to: 'H3AsO3' });
+    expect(none.statusCode).toBe(422);
+    expect(none.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(['']);
+    const cell = (await post('/api/v1/cells/evaluate', { oxidant: { from: 'HAsO4^2-', to: 'H3AsO3' }, reductant: { from: 'Fe2+', to: 'Fe3+' }, pH: 5, temperatureC: 20 })).json();
+    expect(cell.errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/oxidant']);
+  });
+
+  it('a body that is not JSON is a 415 problem with its own code', async () => {
+    const r = await app.inject({ method: 'POST', url: '/api/v1/cells/evaluate', headers: { 'content-type': 'application/xml' }, payload: '<x/>' });
+    expect(r.statusCode).toBe(415);
+    expect(r.headers['content-type']).toMatch(/^application\/problem\+json/);
+    expect(r.json()).toMatchObject({ status: 415, code: 'MEDIA_TYPE_UNSUPPORTED', type: '/problems/media-type-unsupported' });
+    expect(r.json().detail).toMatch(/application\/xml/);
+  });
+});
+
 describe('POST /api/v1/cells/evaluate', () => {
   it('permanganate oxidises Mn(II) at pH 7.2: feasible, 6 electrons, ΔG = −nFE, log K = nFE°/(RT ln 10)', async () => {
     const r = await post('/api/v1/cells/evaluate', MN_CELL);
