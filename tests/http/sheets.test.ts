@@ -9,11 +9,12 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { FastifyInstance } from 'fastify';
 import { createHash } from 'node:crypto';
-import { existsSync, mkdtempSync } from 'node:fs';
+import { existsSync, mkdtempSync, readdirSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import { buildApp } from '../../src/http/app.js';
+import { createDemoSigner } from '../../src/sheets/sign.js';
 import { pdfFile, pdfText, requireTools, run, runAny } from '../sheets/tools.js';
 
 const BOOTSTRAP = 'sheets-test-bootstrap-token-0123456789';
@@ -448,6 +449,41 @@ describe('rate limit per token', () => {
       expect(over.json().detail).toMatch(/Rate limit of 3 requests/);
       expect((await list(other)).statusCode).toBe(200);
       expect((await app.inject({ method: 'GET', url: '/health' })).statusCode).toBe(200);
+    } finally {
+      await app.close();
+    }
+  });
+});
+
+describe('POST /api/v1/signers: a user signs with their own PKCS#12', () => {
+  it('imports a .p12, keeps its password only encrypted, and the next sheet is signed with it (pdfsig); a wrong password names /password', async () => {
+    const dataDir = mkdtempSync(join(tmpdir(), 'oxd-http-signers-'));
+    const app = await buildApp({ dataDir, bootstrapToken: BOOTSTRAP });
+    try {
+      const own = createDemoSigner({ name: 'Imported Engineer (invented)', role: 'Process engineer', organisation: 'Example Water Works (invented)', password: 'p12-password-0123' });
+      const p12Base64 = own.p12.toString('base64');
+      const bad = await app.inject({ method: 'POST', url: '/api/v1/signers', headers: admin, payload: { role: 'Process engineer', p12Base64, password: 'not-it' } });
+      expect(bad.statusCode).toBe(400);
+      expect(bad.headers['content-type']).toMatch(/^application\/problem\+json/);
+      expect(bad.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(expect.arrayContaining(['/p12Base64', '/password']));
+      const noEnv = await app.inject({ method: 'POST', url: '/api/v1/signers', headers: admin, payload: { role: 'Process engineer', p12Base64, passwordEnv: 'OXD_TEST_UNSET_PASSWORD' } });
+      expect(noEnv.statusCode).toBe(400);
+      expect(noEnv.json().errors[0].pointer).toBe('/passwordEnv');
+
+      const ok = await app.inject({ method: 'POST', url: '/api/v1/signers', headers: admin, payload: { role: 'Process engineer', p12Base64, password: 'p12-password-0123' } });
+      expect(ok.statusCode, ok.body).toBe(201);
+      expect(ok.body).not.toContain('p12-password-0123');
+      const sheet = await createSheet(app, sheetBody(daysAgo(1)));
+      expect(sheet.statusCode, sheet.body).toBe(201);
+      expect(sheet.json().signer.subject).toContain('Imported Engineer (invented)');
+      const pdf = (await app.inject({ method: 'GET', url: sheet.json().pdfUrl })).rawPayload;
+      const out = runAny('pdfsig', ['-nocert', pdfFile(pdf, 'imported-signer')]).output;
+      expect(out).toContain('Signature is Valid.');
+      expect(out).toContain('Imported Engineer (invented)');
+      // the password is stored encrypted: not in the database files
+      await app.close();
+      const bytes = Buffer.concat(readdirSync(dataDir).filter((f) => f.startsWith('oxidant-dosing.sqlite')).map((f) => readFileSync(join(dataDir, f))));
+      expect(bytes.includes(Buffer.from('p12-password-0123'))).toBe(false);
     } finally {
       await app.close();
     }
