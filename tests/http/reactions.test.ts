@@ -79,6 +79,15 @@ describe('POST /api/v1/reactions/balance', () => {
     expect(pyrite.electronsNote).toMatch(/Fe and S in FeS2/);
   });
 
+  it('a species on both sides is refused (422) naming both fields, not balanced as "NaCl -> NaCl"', async () => {
+    const r = await post({ reactants: ['NaCl'], products: ['NaCl'] });
+    expect(r.statusCode).toBe(422);
+    expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/reactants/0', '/products/0']);
+    const water = await post({ reactants: ['Fe2+', 'O2', 'H2O'], products: ['Fe(OH)3', 'H2O', 'H+'] });
+    expect(water.statusCode).toBe(422);
+    expect(water.json().detail).toMatch(/H2O is among both the reactants and the products/);
+  });
+
   it('a malformed formula is a 400 naming the field and the position', async () => {
     const r = await post({ reactants: ['Fe(OH3'], products: ['Fe3+'] });
     expect(r.statusCode).toBe(400);

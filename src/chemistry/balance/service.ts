@@ -3,7 +3,7 @@
  * balance, and shape the answer. Used by the HTTP route and the CLI.
  */
 import { DomainError, isDomainError } from '../../core/errors.js';
-import { formatUnicode, parseFormula } from '../formula/index.js';
+import { formatUnicode, parseFormula, speciesKey } from '../formula/index.js';
 import type { Species } from '../formula/types.js';
 import { balanceReaction, balanceRedox, equationText, mediumForPH } from './index.js';
 import { electronsTransferred } from './oxidation.js';
@@ -74,6 +74,19 @@ export function balanceService(input: BalanceTextInput, elements?: ReadonlySet<s
   if (input.reactants && input.products) {
     const reactants = input.reactants.map((t, i) => parseAt(t, `/reactants/${i}`, elements));
     const products = input.products.map((t, i) => parseAt(t, `/products/${i}`, elements));
+    const keys = reactants.map((sp) => speciesKey(sp));
+    const both = products.findIndex((sp) => keys.includes(speciesKey(sp)));
+    if (both >= 0) {
+      const text = products[both]!.text;
+      throw new DomainError('BALANCE_IMPOSSIBLE', {
+        detail: `${text} is among both the reactants and the products; cancel it from both sides and give the species that change.`,
+        params: { cause: 'same-species', species: text },
+        fields: [
+          { pointer: `/reactants/${keys.indexOf(speciesKey(products[both]!))}`, message: `${text} is also a product` },
+          { pointer: `/products/${both}`, message: `${text} is also a reactant` },
+        ],
+      });
+    }
     const r = balanceReaction({ reactants, products });
     // written with e-: a half-reaction, its electrons are its e- coefficient; otherwise they
     // follow from the oxidation states of the species (0 for a non-redox reaction)
