@@ -151,6 +151,17 @@ export class DomainError extends Error {
     return `${this.text}\n${' '.repeat(Math.max(0, this.position))}^`;
   }
 
+  /** The same error with its fields rewritten (e.g. a module's own field names mapped to a request's). */
+  withFields(map: (fields: readonly FieldProblem[]) => FieldProblem[]): DomainError {
+    return new DomainError(this.code, {
+      detail: this.detail,
+      params: this.params,
+      fields: map(this.fields),
+      ...(this.text !== undefined ? { text: this.text } : {}),
+      ...(this.position !== undefined ? { position: this.position } : {}),
+    });
+  }
+
   /** The same error with every field pointer placed under a prefix (e.g. '/oxidant/from'). */
   under(prefix: string): DomainError {
     const fields = this.fields.length > 0

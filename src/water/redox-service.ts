@@ -176,13 +176,7 @@ function halfFor(ox: Species, red: Species, medium: Medium, pointer: string): Ha
       } catch (e) {
         // the half-reaction names its inputs oxidised/reduced; this request calls them from/to
         if (!isDomainError(e)) throw e;
-        throw new DomainError(e.code, {
-          detail: e.detail,
-          params: e.params,
-          fields: e.fields.map((f) => ({ pointer: f.pointer.replace(/^\/oxidised/, '/from').replace(/^\/reduced/, '/to'), message: f.message })),
-          ...(e.text !== undefined ? { text: e.text } : {}),
-          ...(e.position !== undefined ? { position: e.position } : {}),
-        });
+        throw e.withFields((fields) => fields.map((f) => ({ pointer: f.pointer.replace(/^\/oxidised/, '/from').replace(/^\/reduced/, '/to'), message: f.message })));
       }
     });
     if (halfMemo.size > 2048) halfMemo.clear();
@@ -207,11 +201,7 @@ function potentialFor(
     } catch (e) {
       // the ledger speaks of the half-reaction's equation; in this request that is the couple itself
       if (!isDomainError(e) || !e.fields.some((f) => f.pointer === '/equation')) throw e;
-      throw new DomainError(e.code, {
-        detail: e.detail,
-        params: e.params,
-        fields: e.fields.map((f) => (f.pointer === '/equation' ? { pointer, message: f.message } : f)),
-      });
+      throw e.withFields((fields) => fields.map((f) => (f.pointer === '/equation' ? { pointer, message: f.message } : f)));
     }
   });
 }

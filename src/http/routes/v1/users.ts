@@ -88,9 +88,11 @@ export async function userRoutes(app: FastifyInstance): Promise<void> {
       } catch (e) {
         if (!(e instanceof DomainError)) throw e;
         // the signer module calls the file /p12; here it is /p12Base64, and a wrong password may be the cause
-        const fields = e.fields.map((f) => ({ pointer: f.pointer === '/p12' ? '/p12Base64' : f.pointer, message: f.message }));
-        if (/password/i.test(e.detail) && !fields.some((f) => f.pointer === '/password')) fields.push({ pointer: '/password', message: 'check the password set when the file was exported' });
-        throw new DomainError(e.code, { detail: e.detail, params: e.params, fields: fields.length ? fields : [{ pointer: '/p12Base64', message: e.detail }] });
+        throw e.withFields((given) => {
+          const fields = given.map((f) => ({ pointer: f.pointer === '/p12' ? '/p12Base64' : f.pointer, message: f.message }));
+          if (/password/i.test(e.detail) && !fields.some((f) => f.pointer === '/password')) fields.push({ pointer: '/password', message: 'check the password set when the file was exported' });
+          return fields.length ? fields : [{ pointer: '/p12Base64', message: e.detail }];
+        });
       }
       const saved = app.services.archive.addSigner({
         name: user.name,
