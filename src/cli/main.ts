@@ -22,7 +22,7 @@ import { balanceService } from '../chemistry/balance/service.js';
 import { buildDosingContext, computeDose, parseDoseRequest } from '../dosing/index.js';
 import { couplePotential } from '../water/redox-service.js';
 import { redoxDepsOf } from '../dosing/redox-deps.js';
-import { openArchive } from '../archive/index.js';
+import { isSha256Hex, openArchive } from '../archive/index.js';
 import { verifySignedPdf } from '../sheets/verify.js';
 
 function flag(args: string[], name: string): string | undefined {
@@ -107,7 +107,7 @@ async function main(argv: string[]): Promise<unknown> {
       const dataDir = resolve(flag(args, '--data-dir') ?? process.env['DATA_DIR'] ?? 'reports');
       const hash = (name: string): string | undefined => {
         const h = flag(args, name);
-        if (h !== undefined && !/^[0-9a-f]{64}$/.test(h)) throw new DomainError('VALIDATION_FAILED', { detail: `${name} must be a SHA-256 in 64 lowercase hex digits; got "${h}".` });
+        if (h !== undefined && !isSha256Hex(h)) throw new DomainError('VALIDATION_FAILED', { detail: `${name} must be a SHA-256 in 64 lowercase hex digits; got "${h}".` });
         return h;
       };
       const expectedHead = { recordHash: hash('--expect-record-hash') };

@@ -137,6 +137,7 @@ function seedSubset(font: EmbeddedFontLike, key: FontKey): void {
   if (!subset || !Array.isArray(subset.glyphs) || typeof subset.encode !== 'function') return;
   // encode() includes the glyphs and records their widths and code points, as for text
   font.encode(SEED_TEXT);
+  if (!seededGlyphCount.has(key)) seededGlyphCount.set(key, subset.glyphs.length);
   let cache = subsetCaches.get(key);
   if (!cache) {
     cache = new Map();
@@ -216,15 +217,9 @@ const seededGlyphCount = new Map<FontKey, number>();
  * subset codes in every document (seedSubset includes them first, in a fixed order, and
  * records their widths and code points), so the operand written for one document is the
  * one pdfkit's encoding would give in the next. Text with other glyphs is encoded afresh
- * each time (its subset codes depend on the document). null: needs doc.text().
+ * each time (its subset codes depend on the document), and so is text that needs doc.text().
  */
-const runCaches = new Map<FontKey, Map<string, string | null>>();
-
-function encodedRun(font: FontKey, text: string): string | null | undefined {
-  const hit = runCaches.get(font)?.get(text);
-  if (hit !== undefined) runStats.reused++;
-  return hit;
-}
+const runCaches = new Map<FontKey, Map<string, string>>();
 
 function rememberRun(font: FontKey, text: string, encoded: readonly string[], tj: string): void {
   const seeded = seededGlyphCount.get(font);
@@ -236,10 +231,7 @@ function rememberRun(font: FontKey, text: string, encoded: readonly string[], tj
     runCaches.set(font, cache);
   }
   cache.set(text, tj);
-  runStats.kept++;
 }
-/** Counts for the tests: TJ operands kept and reused. */
-export const runStats = { kept: 0, reused: 0 };
 
 /** The operand of TJ: 2-byte glyph codes as literal strings, with the font's kerning as adjustments. */
 function tjOperand(encoded: readonly string[], positions: readonly { xAdvance: number; advanceWidth: number }[]): string {
@@ -708,7 +700,6 @@ class SheetRenderer {
       f = (this.doc as unknown as { _font: EmbeddedFontLike })._font;
       shareLayoutCache(f, font);
       seedSubset(f, font);
-      if (f.subset && Array.isArray(f.subset.glyphs) && !seededGlyphCount.has(font)) seededGlyphCount.set(font, f.subset.glyphs.length);
       this.embedded.set(font, f);
     }
     return f;
@@ -765,7 +756,7 @@ class SheetRenderer {
     for (const fr of frags) {
       if (fr.text.length === 0) continue;
       const ef = this.embeddedFont(fr.font);
-      let tj = encodedRun(fr.font, fr.text);
+      let tj = runCaches.get(fr.font)?.get(fr.text);
       if (tj === undefined) {
         const [encoded, positions] = ef.encode(fr.text);
         if (positions.some((p) => p.xOffset !== 0 || p.yOffset !== 0)) {
@@ -774,9 +765,6 @@ class SheetRenderer {
         }
         tj = tjOperand(encoded, positions);
         rememberRun(fr.font, fr.text, encoded, tj);
-      } else if (tj === null) {
-        fallbacks.push(fr);
-        continue;
       }
       if (doc.page.fonts[ef.id] == null) doc.page.fonts[ef.id] = ef.ref();
       const fontOp = `/${ef.id} ${num(fr.size)} Tf`;

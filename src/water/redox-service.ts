@@ -95,19 +95,6 @@ function notInEitherHalf(halves: readonly NernstResult[], given: ReadonlyMap<str
   return notes;
 }
 
-/** speciesKey → the text the caller gave, for the keys of a concentration or activity map. */
-function givenKeys(map: Readonly<Record<string, unknown>> | undefined, deps: RedoxDeps): Map<string, string> {
-  const out = new Map<string, string>();
-  for (const text of Object.keys(map ?? {})) {
-    try {
-      out.set(speciesKey(parseFormula(text, deps.elements ? { elements: deps.elements } : {})), text);
-    } catch {
-      // a bad formula is reported by the parse that uses it
-    }
-  }
-  return out;
-}
-
 /** A note when dissolved species were left at unit activity (1 mol/L), which moves E a long way. */
 function unitActivityNote(notGiven: readonly string[], where: string): string | null {
   if (notGiven.length === 0) return null;
@@ -210,11 +197,13 @@ function chooseMedium(medium: Medium | undefined, pH: number | undefined): Mediu
   return medium ?? (pH !== undefined ? mediumForPH(pH) : 'acid');
 }
 
-function keyedActivities(map: Readonly<Record<string, number>> | undefined, pointer: string, deps: RedoxDeps): Map<string, number> {
+/** Values by species key; `texts` collects key → the text the caller wrote, for the notes. */
+function keyedActivities(map: Readonly<Record<string, number>> | undefined, pointer: string, deps: RedoxDeps, texts?: Map<string, string>): Map<string, number> {
   const out = new Map<string, number>();
   for (const [text, a] of Object.entries(map ?? {})) {
-    const s = parseAt(text, `${pointer}/${text.replace(/~/g, '~0').replace(/\//g, '~1')}`, deps);
-    out.set(speciesKey(s), a);
+    const key = speciesKey(parseAt(text, `${pointer}/${text.replace(/~/g, '~0').replace(/\//g, '~1')}`, deps));
+    out.set(key, a);
+    texts?.set(key, text);
   }
   return out;
 }
@@ -259,14 +248,15 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   const e0T = p.standardPotentialAtTemperatureV;
   const atConditions = input.pH !== undefined || input.activities !== undefined || input.partialPressuresAtm !== undefined;
   let n: NernstResult | null = null;
+  const givenActivities = new Map<string, string>();
   if (atConditions) {
     n = nernst({
       half,
       standardPotentialV: e0T,
       pH: input.pH ?? 0,
       temperatureC,
-      activities: keyedActivities(input.activities, '/activities', deps),
-      partialPressuresAtm: keyedActivities(input.partialPressuresAtm, '/partialPressuresAtm', deps),
+      activities: keyedActivities(input.activities, '/activities', deps, givenActivities),
+      partialPressuresAtm: keyedActivities(input.partialPressuresAtm, '/partialPressuresAtm', deps, givenActivities),
       kw: deps.kwAt(temperatureC),
       constants: deps.constants,
       solids: tabledSolids(deps.ledger),
@@ -274,8 +264,7 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   }
   const tc = p.tabledCheck;
   const unitNote = n ? unitActivityNote(n.notGiven, 'Nernst') : null;
-  const givenActivities = givenKeys({ ...(input.activities ?? {}), ...(input.partialPressuresAtm ?? {}) }, deps);
-  const solidNotes = n ? [...givenForSolids([n], givenActivities), ...notInEitherHalf([n], givenActivities, 'activity')] : [];
+  const unusedNotes = n ? [...givenForSolids([n], givenActivities), ...notInEitherHalf([n], givenActivities, 'activity')] : [];
   return {
     couple: { from: input.from, to: input.to },
     halfReaction: half.equation,
@@ -314,7 +303,7 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
         }
       : null,
     alternatives: p.alternatives.map((a) => ({ standardPotentialV: a.standardPotentialV, rows: a.rows.map((r) => r.rowId), differs: a.differs })),
-    notes: [...p.notes, ...(unitNote ? [unitNote] : []), ...solidNotes],
+    notes: [...p.notes, ...(unitNote ? [unitNote] : []), ...unusedNotes],
     constants: constantsOut(deps),
   };
 }
@@ -403,10 +392,12 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
   const A = deps.daviesAAt(T);
   const activities = new Map<string, number>();
   const pressures = new Map<string, number>();
+  const given = new Map<string, string>(); // species key → the text the caller wrote, for the notes
   for (const [text, q] of Object.entries(input.concentrations ?? {})) {
     const pointer = `/concentrations/${text.replace(/~/g, '~0').replace(/\//g, '~1')}`;
     const s = parseAt(text, pointer, deps);
     const key = speciesKey(s);
+    given.set(key, text);
     if ((q.unit === 'atm') !== (s.phase === 'g')) {
       throw new DomainError('ACTIVITY_INVALID', {
         detail:
@@ -474,7 +465,6 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     unitActivity: [...n.notGiven],
   });
   const res = cell.reductantResidual;
-  const given = givenKeys(input.concentrations, deps);
   notes.push(...givenForSolids([cell.oxidant, cell.reductant], given));
   notes.push(...notInEitherHalf([cell.oxidant, cell.reductant], given, 'concentration'));
   for (const [half, where] of [[cell.oxidant, 'Oxidant couple'], [cell.reductant, 'Reductant couple']] as const) {

@@ -3,11 +3,10 @@
  * balance, and shape the answer. Used by the HTTP route and the CLI.
  */
 import { DomainError, isDomainError } from '../../core/errors.js';
-import { formatUnicode, parseFormula, speciesKey } from '../formula/index.js';
+import { formatUnicode, isElectron, parseFormula, speciesKey } from '../formula/index.js';
 import type { Species } from '../formula/types.js';
 import { balanceReaction, balanceRedox, equationText, mediumForPH } from './index.js';
 import { electronsTransferred } from './oxidation.js';
-import { isElectron } from '../formula/index.js';
 import type { Medium, Reaction, Term } from './types.js';
 
 export interface BalanceTextInput {
