@@ -101,7 +101,7 @@ function potentialOf(half: HalfReaction, temperatureC: number, deps: Feasibility
   const key = `${half.equation}|${temperatureC}|${ov ? `${ov.standardPotentialV}|${ov.source}` : ''}`;
   let r = deps.potentialMemo.get(key);
   if (!r) {
-    r = standardPotential(half, deps.ledger, { temperatureC, ...(ov ? { override: { valueV: ov.standardPotentialV, source: ov.source } } : {}) });
+    r = standardPotential(half, deps.ledger, { basis: 'acid', temperatureC, ...(ov ? { override: { valueV: ov.standardPotentialV, source: ov.source } } : {}) });
     deps.potentialMemo.set(key, r);
   }
   return r;

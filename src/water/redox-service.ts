@@ -181,6 +181,8 @@ function potentialFor(
   return withPointer(pointer, () => {
     try {
       return standardPotential(half, deps.ledger, {
+        // one thermodynamic basis for both media: the potential is continuous in pH
+        basis: 'acid',
         temperatureC: opts.temperatureC,
         temperatureCorrection: opts.temperatureCorrection,
         ...(opts.override ? { override: opts.override } : {}),

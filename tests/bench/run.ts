@@ -82,6 +82,7 @@ async function main(): Promise<void> {
   const bodies = benchBodies();
   const targets: Target[] = [
     { name: 'bare GET /health', method: 'GET', path: '/health' },
+    { name: 'POST, same bytes, no schema', method: 'POST', path: '/bench/echo-cells-raw', body: bodies.cell },
     { name: 'echo cells (zod type provider)', method: 'POST', path: '/bench/echo-cells-zod', body: bodies.cell },
     { name: 'echo cells (JSON Schema, Fastify compiled)', method: 'POST', path: '/bench/echo-cells', body: bodies.cell },
     { name: 'POST /api/v1/cells/evaluate', method: 'POST', path: '/api/v1/cells/evaluate', body: bodies.cell },
@@ -114,10 +115,12 @@ async function main(): Promise<void> {
     if (!xa || !xb) return NaN;
     return median(xa.map((x, i) => x / xb[i]!));
   };
-  const [bare, echoZod, echo, cells, cellsVary, echoDoses, doses] = targets as [Target, Target, Target, Target, Target, Target, Target];
+  const [bare, raw, echoZod, echo, cells, cellsVary, echoDoses, doses] = targets as [Target, Target, Target, Target, Target, Target, Target, Target];
   const inproc = await measureInProcess();
 
   const rows: [string, number, number, string, boolean | null][] = [
+    ['POST, same bytes, no schema / bare GET', ratio(raw, bare), 2, 'informative', null],
+    ['echo (JSON Schema) / POST same bytes', ratio(echo, raw), 2, 'informative', null],
     ['echo (zod type provider) / bare GET', ratio(echoZod, bare), 2, 'informative', null],
     ['echo (JSON Schema) / bare GET', ratio(echo, bare), 2, '>= 0.50', ratio(echo, bare) >= 0.5],
     ['cells/evaluate / echo cells', ratio(cells, echo), 2, '>= 0.80', ratio(cells, echo) >= 0.8],

@@ -44,6 +44,15 @@ const app = await buildApp({
       response: { 200: DoseResponse },
       handler: async () => cannedDose,
     });
+    // The floor under both echo routes: the same request bytes (parsed as JSON by Fastify's
+    // default parser) and the same response bytes, with no schema at all. What the echo route
+    // costs beyond this is validation and serialization; what this costs beyond the bare GET
+    // is reading a POST body and writing a longer answer.
+    const cannedCellText = JSON.stringify(cannedCell);
+    app.post('/bench/echo-cells-raw', { schema: { hide: true } }, async (_req, reply) => {
+      reply.type('application/json; charset=utf-8');
+      return cannedCellText;
+    });
     await app.register(async (zodScope) => {
       zodScope.setValidatorCompiler(validatorCompiler);
       zodScope.setSerializerCompiler(serializerCompiler);

@@ -3,6 +3,7 @@ import type { FastifyInstance } from 'fastify';
 import { mkdtempSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+import fc from 'fast-check';
 import { buildApp } from '../../src/http/app.js';
 
 let app: FastifyInstance;
@@ -195,6 +196,53 @@ describe('POST /api/v1/cells/evaluate', () => {
     ).json();
     expect(viaOcl.halfReactions.oxidant.valueUsed).toBe('override');
     expect(viaOcl.cellPotentialV).toBeCloseTo(viaHocl.cellPotentialV, 3);
+  });
+
+  it('without a site value too: the OCl- form takes its E° from HOCl/Cl-, the pKa and Kw, so both forms give the same E', async () => {
+    const pH = 8;
+    const pKa = 3000 / 298.15 - 10.0686 + 0.0253 * 298.15; // Morris 1966
+    const totalMolPerL = 2 / 70.906 / 1000; // 2 mg/L free chlorine as Cl2
+    const a0 = 1 / (1 + 10 ** (pH - pKa));
+    const common = { reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH, temperatureC: 18 };
+    const viaHocl = (await post('/api/v1/cells/evaluate', { ...common, oxidant: { from: 'HOCl', to: 'Cl-' }, concentrations: { HOCl: { value: a0 * totalMolPerL, unit: 'mol/L' }, 'Fe2+': { value: 1e-5, unit: 'mol/L' } } })).json();
+    const viaOcl = (await post('/api/v1/cells/evaluate', { ...common, oxidant: { from: 'OCl-', to: 'Cl-' }, concentrations: { 'OCl-': { value: (1 - a0) * totalMolPerL, unit: 'mol/L' }, 'Fe2+': { value: 1e-5, unit: 'mol/L' } } })).json();
+    expect(viaOcl.halfReactions.oxidant.valueUsed).toBe('derived');
+    // the pKa at 18 °C differs from the 25 °C one used to split the total: compare at the speciation the service uses
+    expect(Math.abs(viaOcl.cellPotentialV - viaHocl.cellPotentialV)).toBeLessThan(0.002);
+  });
+
+  it('a couple has one potential at a pH whichever medium carries it: no step where the medium changes at pH 7 (property)', async () => {
+    // Couples tabled in both media, where the tables' base rows disagree with their acid rows by up to 67 mV
+    // (CRC OCl-/Cl- 0.81 V against 0.877 V from HOCl/Cl- and the pKa).
+    const couples = [
+      ['OCl-', 'Cl-'],
+      ['HOCl', 'Cl-'],
+      ['MnO4-', 'MnO2'],
+      ['MnO4-', 'Mn2+'],
+      ['MnO2', 'Mn2+'],
+      ['BrO3-', 'Br-'],
+      ['O3', 'O2'],
+      ['H2O2', 'H2O'],
+      ['O2', 'H2O'],
+      ['Fe(OH)3', 'Fe2+'],
+      ['SO4^2-', 'HS-'],
+      ['H3AsO4', 'H3AsO3'],
+    ] as const;
+    await fc.assert(
+      fc.asyncProperty(fc.constantFrom(...couples), fc.double({ min: 5, max: 10, noNaN: true }), fc.integer({ min: 1, max: 35 }), async ([from, to], pH, temperatureC) => {
+        const at = async (medium: 'acid' | 'base') => (await post('/api/v1/couples/potential', { from, to, pH, temperatureC, medium })).json();
+        const [acid, base] = [await at('acid'), await at('base')];
+        expect(acid.potentialV).toBeCloseTo(base.potentialV, 9);
+      }),
+      { numRuns: 60 },
+    );
+    for (const [from, to] of couples) {
+      const below = (await post('/api/v1/couples/potential', { from, to, pH: 7, temperatureC: 25 })).json();
+      const above = (await post('/api/v1/couples/potential', { from, to, pH: 7.001, temperatureC: 25 })).json();
+      expect([below.medium, above.medium]).toEqual(['acid', 'base']);
+      // 0.001 pH moves E by at most (m/n)·59 mV·0.001 (m/n ≤ 3 here): well under 0.2 mV
+      expect(Math.abs(below.potentialV - above.potentialV)).toBeLessThan(0.0002);
+    }
   });
 
   it('a solid written without (s) is the tabled solid; dissolved species left out are named, at unit activity, with a note', async () => {

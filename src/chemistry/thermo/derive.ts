@@ -20,6 +20,9 @@ import { reactionVector } from '../balance/reaction.js';
 import { parseEquation, type ParsedEquation } from '../formula/equation.js';
 import {
   KEY_ELECTRON,
+  KEY_HYDROXIDE,
+  KEY_PROTON,
+  KEY_WATER,
   UBIQUITOUS_KEYS,
   classKeyOf,
   nernstSlopeV,
@@ -103,6 +106,14 @@ export interface PotentialOptions {
   readonly temperatureC?: number;
   /** Apply the tables' temperature data (default true). */
   readonly temperatureCorrection?: boolean;
+  /**
+   * 'as-written' (default): a tabled reaction uses its own row. 'acid': a half-reaction written
+   * with OH- takes its E° from the same reaction written with H+ (its acid form, tabled or
+   * derived) plus water ionisation, so that its potential at a given pH is the same whichever
+   * form carries the calculation; a base-medium row tabled for it is then a check (tabledCheck)
+   * and an alternative, flagged when it disagrees by more than 5 mV.
+   */
+  readonly basis?: 'as-written' | 'acid';
 }
 
 /** One row of a combination with its multiplier (of the row as tabled). */
@@ -279,13 +290,7 @@ function toCombination(sol: ClassSolution, ledger: Ledger, choose: (cls: LedgerC
     const m = choose(cls);
     return { row: m.row, coefficient: sol.coefficients[i]!.div(m.lambda) };
   });
-  let exact = Rational.ZERO;
-  let float = 0;
-  for (const p of parts) {
-    if (p.row.gExact) exact = exact.add(p.coefficient.mul(p.row.gExact));
-    else float += p.coefficient.toNumber() * nernstSlopeV(ledger.constants, ledger.constants.T25) * p.row.log10K25!;
-  }
-  return { parts, g25: exact.toNumber() + float, g25Exact: exact, g25Float: float };
+  return combinationOf(parts, ledger);
 }
 
 /** Σ cᵢ gᵢ at temperature T (K), with the notes of rows held at 25 °C or used out of range. */
@@ -441,7 +446,7 @@ export function standardPotential(target: Target, ledger: Ledger, options: Poten
   // Results are pure functions of (reaction, temperature, options): keep the recent ones,
   // keyed by the equation text (which fixes the reaction) so a hit costs no parsing.
   const text = typeof target === 'string' ? target.trim() : 'terms' in target ? target.equation : target.text;
-  const memoKey = `potential\n${text}\n${temperatureC}\n${options.temperatureCorrection !== false}\n${
+  const memoKey = `potential\n${text}\n${temperatureC}\n${options.temperatureCorrection !== false}\n${options.basis ?? 'as-written'}\n${
     options.override ? `${options.override.valueV}\n${options.override.source}` : ''
   }`;
   const memo = ledger.cache.get(memoKey) as PotentialResult | undefined;
@@ -450,6 +455,52 @@ export function standardPotential(target: Target, ledger: Ledger, options: Poten
   if (ledger.cache.size > MEMO_LIMIT) ledger.cache.clear();
   ledger.cache.set(memoKey, result);
   return result;
+}
+
+/** Water ionisation, H2O = H+ + OH-, as a reaction vector (reactants negative). */
+const WATER_IONISATION: ReactionVector = new Map([
+  [KEY_WATER, Rational.of(-1n)],
+  [KEY_PROTON, Rational.ONE],
+  [KEY_HYDROXIDE, Rational.ONE],
+]);
+
+/**
+ * The target written with OH- as its acid form (OH- replaced through H2O = H+ + OH-) derived
+ * from the ledger, plus the water ionisation steps: null when the target has no OH-, the
+ * acid form is not derivable, or the acid form itself comes back to the target's own row.
+ */
+function acidFormCombination(target: ReactionVector, ledger: Ledger): Combination | null {
+  const oh = target.get(KEY_HYDROXIDE);
+  if (!oh || oh.isZero()) return null;
+  const kwClass = ledger.classes.get(classKeyOf(WATER_IONISATION).key);
+  if (!kwClass) return null;
+  const acid = new Map<string, Rational>();
+  for (const k of new Set([...target.keys(), ...WATER_IONISATION.keys()])) {
+    const c = (target.get(k) ?? Rational.ZERO).sub(oh.mul(WATER_IONISATION.get(k) ?? Rational.ZERO));
+    if (!c.isZero()) acid.set(k, c);
+  }
+  const acidDerived = deriveCombination(acid, ledger);
+  if (!acidDerived) return null;
+  const kw = pickMember(kwClass, undefined);
+  const byRow = new Map<string, CombinationPart>();
+  for (const p of [...acidDerived.combination.parts, { row: kw.row, coefficient: oh.div(kw.lambda) }]) {
+    const had = byRow.get(p.row.id);
+    byRow.set(p.row.id, { row: p.row, coefficient: had ? had.coefficient.add(p.coefficient) : p.coefficient });
+  }
+  const parts = [...byRow.values()].filter((p) => !p.coefficient.isZero());
+  const targetClass = classKeyOf(target).key;
+  if (parts.some((p) => p.row.classKey === targetClass)) return null;
+  return combinationOf(parts, ledger);
+}
+
+function combinationOf(parts: readonly CombinationPart[], ledger: Ledger): Combination {
+  let exact = Rational.ZERO;
+  let float = 0;
+  for (const p of parts) {
+    if (p.row.gExact) exact = exact.add(p.coefficient.mul(p.row.gExact));
+    else float += p.coefficient.toNumber() * nernstSlopeV(ledger.constants, ledger.constants.T25) * p.row.log10K25!;
+  }
+  return { parts, g25: exact.toNumber() + float, g25Exact: exact, g25Float: float };
 }
 
 /** Entries kept in a ledger's cache before it is emptied (bounds memory under arbitrary requests). */
@@ -464,7 +515,11 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
   const toReductionV = (g: number): number => g / -e.toNumber();
   const comboV = (c: Combination): number => reductionPotentialV(c, e);
 
-  const derived = deriveCombination(vector, ledger);
+  const asWritten = deriveCombination(vector, ledger);
+  const viaAcid = options.basis === 'acid' ? acidFormCombination(vector, ledger) : null;
+  const derived: DerivedCombination | null = viaAcid
+    ? { combination: viaAcid, alternatives: asWritten ? [{ combination: asWritten.combination, differs: asWritten.tabled ? 'the base-medium row as tabled' : 'the base-medium reaction derived as written' }, ...asWritten.alternatives] : [], tabled: false }
+    : asWritten;
   if (!derived && !options.override) throw notDerivable(equation, 'the tables hold no reactions that add up to it');
 
   const notes: string[] = [];
@@ -483,7 +538,22 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
       rows: a.combination.parts.map((p) => ({ rowId: p.row.id, source: p.row.source })),
       differs: a.differs,
     }));
-    if (derived.tabled) {
+    if (viaAcid) {
+      notes.push(
+        'E° of this base-medium half-reaction is carried from its acid form (the same reaction written with H+) through the ionisation of water, so the potential at a pH is the same in either form.',
+      );
+      if (asWritten?.tabled) {
+        const row = asWritten.combination.parts[0]!.row;
+        const tabledV = comboV(asWritten.combination);
+        const discrepancyV = tabledV - tablesV;
+        tabledCheck = { tabledV, derivedV: tablesV, discrepancyV, flagged: Math.abs(discrepancyV) > FLAG_THRESHOLD_V, derivation: steps(combo) };
+        if (tabledCheck.flagged) {
+          notes.push(
+            `The base-medium row ${row.valueText} (${row.id}, ${row.source}) differs by ${(discrepancyV * 1000).toFixed(1)} mV from the ${tablesV.toFixed(4)} V carried from the acid form; it is not used, so that the potential does not jump where the medium changes. A site value can be given instead.`,
+          );
+        }
+      }
+    } else if (derived.tabled) {
       const row = combo.parts[0]!.row;
       const other = deriveCombination(vector, ledger, { exclude: new Set([row.classKey]), preferSource: row.source });
       if (other) {

@@ -149,6 +149,56 @@ describe('acid and base forms tied through Kw and the pKa', () => {
   });
 });
 
+describe("basis 'acid': a base-medium half-reaction carried from its acid form through Kw", () => {
+  const kwRow = equilibrium('kw', 'H2O = H+ + OH-', { kind: 'water', pK: '14.00' });
+
+  it('with no OH- in the half-reaction the basis changes nothing', () => {
+    const l = buildLedger(tables([redox('fe', 'Fe3+ + e- = Fe2+', 1, '0.771')], [kwRow]));
+    const a = standardPotential('Fe3+ + e- = Fe2+', l, { basis: 'acid' });
+    expect(a.usedValue).toBe('tabled');
+    expect(a.standardPotentialV).toBe(0.771);
+  });
+
+  it('a row tabled only in base (its acid form is that row minus Kw) is used as tabled', () => {
+    // CRC 97th ed.: MnO4^2- + 2H2O + 2e- = MnO2 + 4OH-, 0.60 V; no acid-medium row for it here
+    const l = buildLedger(tables([redox('mn6', 'MnO4^2- + 2H2O + 2e- = MnO2(s) + 4OH-', 2, '0.60', { medium: 'base' })], [kwRow]));
+    const r = standardPotential('MnO4^2- + 2H2O + 2e- = MnO2(s) + 4OH-', l, { basis: 'acid' });
+    expect(r.usedValue).toBe('tabled');
+    expect(r.derivation.map((d) => d.rowId)).toEqual(['mn6']);
+  });
+
+  it('E°(base) = E°(acid) − (m/n)·(RT ln10/F)·pKw, the acid row and m water ionisations in the derivation', () => {
+    // O2 + 4H+ + 4e- = 2H2O, 1.229 V (CRC 97th ed.); in base m = 4, n = 4: 1.229 − 14.00·K25 = 0.4008 V,
+    // the printed CRC base value O2 + 2H2O + 4e- = 4OH- being 0.401 V.
+    const l = buildLedger(tables([redox('o2', 'O2(g) + 4H+ + 4e- = 2H2O', 4, '1.229')], [kwRow]));
+    const r = standardPotential('O2(g) + 2H2O + 4e- = 4OH-', l, { basis: 'acid' });
+    expect(r.usedValue).toBe('derived');
+    expect(r.derivation.map((d) => [d.rowId, d.coefficient])).toEqual([
+      ['o2', '1'],
+      ['kw', '4'],
+    ]);
+    expect(r.standardPotentialV).toBeCloseTo(1.229 - 14 * K25, 12);
+    expect(Math.abs(r.standardPotentialV - 0.401)).toBeLessThan(0.0005);
+  });
+
+  it('a disagreeing base-medium row becomes the check: CRC OCl-/Cl- 0.81 V against 0.877 V carried from CRC HOCl/Cl- 1.482 V', () => {
+    const asWritten = standardPotential('OCl- + H2O + 2e- = Cl- + 2OH-', real);
+    const viaAcid = standardPotential('OCl- + H2O + 2e- = Cl- + 2OH-', real, { basis: 'acid' });
+    expect(asWritten.standardPotentialV).toBe(0.81);
+    expect(viaAcid.usedValue).toBe('derived');
+    expect(viaAcid.derivation.map((d) => d.rowId).sort()).toEqual(['crc-hocl-cl', 'harned-owen-kw', 'morris-hocl']);
+    const hoclPKa = 3000.0 / 298.15 - 10.0686 + 0.0253 * 298.15; // Morris 1966
+    const pKw = 4470.99 / 298.15 - 6.0875 + 0.01706 * 298.15; // Harned & Owen 1958
+    expect(viaAcid.standardPotentialV).toBeCloseTo(1.482 + (K25 / 2) * (hoclPKa - 2 * pKw), 9);
+    expect(viaAcid.tabledCheck).toMatchObject({ tabledV: 0.81, flagged: true });
+    expect(viaAcid.tabledCheck!.discrepancyV).toBeCloseTo(0.81 - viaAcid.standardPotentialV, 12);
+    expect(viaAcid.notes.join(' ')).toMatch(/crc-ocl-cl-base.*not used/);
+    // Bratsch 1989 (row bratsch-ocl-cl-base) gives 0.89 V for the base couple: the carried value is 13 mV from it, the CRC row 80 mV
+    expect(Math.abs(viaAcid.standardPotentialV - 0.89)).toBeLessThan(0.015);
+    expect(viaAcid.alternatives.map((a) => a.rows.map((x) => x.rowId).join('+'))).toEqual(expect.arrayContaining(['crc-ocl-cl-base', 'bratsch-ocl-cl-base']));
+  });
+});
+
 describe('a couple with a solid: Fe(OH)3/Fe2+ from Fe3+/Fe2+ and the solubility of the solid', () => {
   it('E° = E°(Fe3+/Fe2+) + (RT ln10/F)·log *Ks; which solid sets the value (about 0.93–1.06 V, shared/README §3)', () => {
     const r = standardPotential('Fe(OH)3(s) + 3H+ + e- = Fe2+ + 3H2O', real);
