@@ -13,6 +13,7 @@
  * Activity coefficients by Davies from the ionic strength estimated from TDS (Langelier); without TDS, γ = 1.
  */
 import type { Dec as DecT } from '../core/decimal.js';
+import { DomainError } from '../core/errors.js';
 import { speciesKey } from '../chemistry/formula/index.js';
 import { halfReaction, type HalfReaction, type Medium } from '../chemistry/balance/index.js';
 import { standardPotential, type PotentialResult } from '../chemistry/thermo/derive.js';
@@ -47,7 +48,10 @@ export interface FeasibilityEntry {
   /** The cell as evaluated (oxidant couple vs contaminant couple). */
   readonly cell: string;
   readonly cellPotentialV: number;
+  /** E°(oxidant) − E°(contaminant couple) at 25 °C. */
   readonly standardCellPotentialV: number;
+  /** The same at the sample temperature (with the tables' dE°/dT). */
+  readonly standardCellPotentialAtTemperatureV: number;
   readonly feasible: boolean;
   readonly marginV: number;
   readonly feasibilityLimitPH: number | null;
@@ -88,20 +92,54 @@ export interface PotentialOverride {
   readonly to: string;
   readonly standardPotentialV: number;
   readonly source: string;
+  readonly medium?: 'acid' | 'base' | undefined;
+}
+
+/** A site value applies to a half-reaction with the same oxidised and reduced forms. */
+function overrideMatches(o: PotentialOverride, h: HalfReaction): boolean {
+  return speciesKey(species(o.from)) === speciesKey(h.oxidised) && speciesKey(species(o.to)) === speciesKey(h.reduced);
+}
+
+/**
+ * Each site value's formulas must read (a 400 naming the field otherwise): a value that cannot
+ * be matched to a couple must not be dropped silently.
+ */
+export function checkPotentialOverrides(overrides: readonly PotentialOverride[] | undefined, pointer = '/options/potentialOverrides'): void {
+  (overrides ?? []).forEach((o, i) => {
+    for (const field of ['from', 'to'] as const) {
+      try {
+        species(o[field]);
+      } catch (e) {
+        if (!(e instanceof DomainError)) throw e;
+        throw e.withFields(() => [{ pointer: `${pointer}/${i}/${field}`, message: `${JSON.stringify(o[field])} is not a formula this service reads: ${e.detail}` }]);
+      }
+    }
+  });
+}
+
+/**
+ * The site values that no couple of these oxidant × contaminant cells uses (by index), so the
+ * answer can say so: a value for HOCl/Cl- does not apply where the pH calls for OCl-/Cl-.
+ */
+export function unusedPotentialOverrides(
+  overrides: readonly PotentialOverride[] | undefined,
+  cells: readonly { oxidant: OxidantRow; productFormula: string; contaminantSpecies: string; medium: Medium }[],
+): { index: number; override: PotentialOverride; couples: string[] }[] {
+  if (!overrides?.length) return [];
+  const halves = cells.flatMap((c) => {
+    const couple = c.oxidant.feasibilityCouple[c.medium];
+    return [half(couple.from, couple.to, c.medium), half(c.productFormula, c.contaminantSpecies, c.medium)];
+  });
+  const couples = [...new Set(halves.map((h) => `${h.oxidised.text}/${h.reduced.text}`))];
+  return overrides.flatMap((o, index) => (halves.some((h) => overrideMatches(o, h)) ? [] : [{ index, override: o, couples }]));
 }
 
 function potentialOf(half: HalfReaction, temperatureC: number, deps: FeasibilityDeps, overrides: readonly PotentialOverride[] | undefined): PotentialResult {
-  const ov = overrides?.find((o) => {
-    try {
-      return speciesKey(species(o.from)) === speciesKey(half.oxidised) && speciesKey(species(o.to)) === speciesKey(half.reduced);
-    } catch {
-      return false;
-    }
-  });
-  const key = `${half.equation}|${temperatureC}|${ov ? `${ov.standardPotentialV}|${ov.source}` : ''}`;
+  const ov = overrides?.find((o) => overrideMatches(o, half));
+  const key = `${half.equation}|${temperatureC}|${ov ? `${ov.standardPotentialV}|${ov.source}|${ov.medium ?? 'acid'}` : ''}`;
   let r = deps.potentialMemo.get(key);
   if (!r) {
-    r = standardPotential(half, deps.ledger, { basis: 'acid', temperatureC, ...(ov ? { override: { valueV: ov.standardPotentialV, source: ov.source } } : {}) });
+    r = standardPotential(half, deps.ledger, { basis: 'acid', temperatureC, ...(ov ? { override: { valueV: ov.standardPotentialV, source: ov.source, ...(ov.medium ? { medium: ov.medium } : {}) } } : {}) });
     deps.potentialMemo.set(key, r);
   }
   return r;
@@ -232,7 +270,8 @@ export function evaluateFeasibility(input: FeasibilityInput, deps: FeasibilityDe
     reaction: input.reaction,
     cell: `${oxHalf.equation}  vs  ${ctHalf.equation}`,
     cellPotentialV: cell.cellPotentialV,
-    standardCellPotentialV: cell.standardCellPotentialV,
+    standardCellPotentialV: oxP.standardPotentialV - ctP.standardPotentialV,
+    standardCellPotentialAtTemperatureV: cell.standardCellPotentialV,
     feasible: cell.feasible,
     marginV: cell.marginV,
     feasibilityLimitPH: cell.feasibilityLimitPH,
@@ -282,7 +321,10 @@ function pushFlags(e: FeasibilityEntry, input: FeasibilityInput, flags: Flag[]):
       flags.push({
         code: 'POTENTIAL_TABLES_DISAGREE',
         severity: 'info',
-        message: `The tabled E° of ${c.halfReaction} differs by ${(c.tabledCheck.discrepancyV * 1000).toFixed(1)} mV from its derivation from other rows; the tabled value was used. A site value can be given in options.potentialOverrides.`,
+        message:
+          c.usedValue === 'derived'
+            ? `The tables' base-medium E° of ${c.halfReaction} differs by ${(c.tabledCheck.discrepancyV * 1000).toFixed(1)} mV from the value carried from its acid form through Kw; the carried value was used, so the potential does not jump at pH 7. A site value can be given in options.potentialOverrides.`
+            : `The tabled E° of ${c.halfReaction} differs by ${(c.tabledCheck.discrepancyV * 1000).toFixed(1)} mV from its derivation from other rows; the tabled value was used. A site value can be given in options.potentialOverrides.`,
         source: c.derivation[0]?.source ?? ox.source,
       });
     }

@@ -24,7 +24,7 @@ import { conversionFactor, productPerBasis, species, stoichiometricRatio, type R
 import { backgroundDemand, contaminantDemands, mgPerL, type DemandEntry, type DemandWork } from './demand.js';
 import { totalDose, type DoseTerm } from './dose.js';
 import { computeFeed, type FeedConversion, type FeedResult } from './feed.js';
-import { evaluateFeasibility, type FeasibilityDeps, type FeasibilityEntry } from './feasibility.js';
+import { checkPotentialOverrides, evaluateFeasibility, unusedPotentialOverrides, type FeasibilityDeps, type FeasibilityEntry } from './feasibility.js';
 import { checkContact, type ContactDeps, type ContactResult } from './contact.js';
 import { sideEffects, type SideEffects } from './side-effects.js';
 import { inputFlags, rawWaterFlags, residualFlags, sortFlags, LOCAL_RULES_GOVERN } from './flags.js';
@@ -408,6 +408,7 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
   const pH = s.pH;
   const temperatureC = s.temperatureC ?? temperatureToC(s.temperature!, '/sample/temperature');
   const medium: Medium = req.options?.medium ?? mediumForPH(pH);
+  checkPotentialOverrides(req.options?.potentialOverrides);
   const mediumReason = req.options?.medium ? `medium ${medium} chosen by the request` : `medium from the pH: ${medium === 'base' ? 'basic (OH-)' : 'acidic (H+)'} because pH ${pH} ${medium === 'base' ? '>' : '≤'} 7`;
 
   // demand
@@ -512,6 +513,18 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
         flags.push({ code: 'FEASIBILITY_NOT_EVALUATED', severity: 'info', message: `Feasibility of ${ox.name} with ${ct.name.toLowerCase()} could not be evaluated: ${e.detail}`, source: ox.source });
       }
     }
+  }
+
+  for (const u of unusedPotentialOverrides(
+    req.options?.potentialOverrides,
+    total.doseMgPerL.greaterThan(0) ? demands.map((d) => ({ oxidant: ox, productFormula: d.entry.product.formula, contaminantSpecies: d.contaminantRow.species, medium })) : [],
+  )) {
+    flags.push({
+      code: 'POTENTIAL_OVERRIDE_NOT_USED',
+      severity: 'warning',
+      message: `The site value for ${u.override.from}/${u.override.to} (options.potentialOverrides/${u.index}) was not used: no reaction of this dose at pH ${pH} (${medium} medium) uses that couple${u.couples.length ? `; the couples used are ${u.couples.join(', ')}` : ''}.`,
+      source: u.override.source,
+    });
   }
 
   // contact

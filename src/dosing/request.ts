@@ -164,7 +164,18 @@ export const OptionsSchema = z.strictObject({
   chloriteFraction: z.number().min(0).max(1).optional(),
   /** Site values for standard potentials, e.g. the Fe(OH)3/Fe2+ couple for the iron(III) solid that forms. */
   potentialOverrides: z
-    .array(z.strictObject({ from: z.string().min(1).max(40), to: z.string().min(1).max(40), standardPotentialV: z.number().min(-4).max(4), source: z.string().min(1).max(200) }))
+    .array(
+      z.strictObject({
+        from: z.string().min(1).max(40),
+        to: z.string().min(1).max(40),
+        standardPotentialV: z.number().min(-4).max(4),
+        source: z.string().min(1).max(200),
+        medium: z
+          .enum(['acid', 'base'])
+          .optional()
+          .describe('The form of the couple the value is for: acid (default; written with H+, or with neither) or base (written with OH-); carried to the form the pH calls for through the ionisation of water'),
+      }),
+    )
     .max(10)
     .optional(),
 });

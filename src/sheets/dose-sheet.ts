@@ -228,7 +228,7 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
       columns: [
         { header: 'Contaminant' },
         { header: 'E cell', unit: 'V', align: 'right' },
-        { header: 'E° cell', unit: 'V', align: 'right' },
+        { header: 'E° cell (25 °C)', unit: 'V', align: 'right' },
         { header: 'ΔG', unit: 'kJ/mol', align: 'right' },
         { header: 'Feasible' },
         { header: 'Limit pH', align: 'right' },

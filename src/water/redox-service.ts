@@ -12,7 +12,7 @@ import type { Dec } from '../core/decimal.js';
 import { parseFormula, speciesKey, formatEquationUnicode } from '../chemistry/formula/index.js';
 import type { Species } from '../chemistry/formula/types.js';
 import { balanceRedox, halfReaction, mediumForPH, type HalfReaction, type Medium } from '../chemistry/balance/index.js';
-import { standardPotential, type PotentialResult, type DerivationStep } from '../chemistry/thermo/derive.js';
+import { standardPotential, type PotentialResult, type DerivationStep, type SiteValue } from '../chemistry/thermo/derive.js';
 import type { Ledger } from '../chemistry/thermo/ledger.js';
 import { nernst, type NernstResult } from './conditions.js';
 import { evaluateCell } from './cell.js';
@@ -175,7 +175,7 @@ function halfFor(ox: Species, red: Species, medium: Medium, pointer: string): Ha
 function potentialFor(
   half: HalfReaction,
   deps: RedoxDeps,
-  opts: { temperatureC: number; temperatureCorrection: boolean; override?: { valueV: number; source: string } },
+  opts: { temperatureC: number; temperatureCorrection: boolean; override?: SiteValue },
   pointer: string,
 ): PotentialResult {
   return withPointer(pointer, () => {
@@ -193,6 +193,11 @@ function potentialFor(
       throw e.withFields((fields) => fields.map((f) => (f.pointer === '/equation' ? { pointer, message: f.message } : f)));
     }
   });
+}
+
+/** A request's site value of E°: for the acid form of the couple unless it says base. */
+function siteValue(v: { value: number; source: string; medium?: Medium | undefined }): SiteValue {
+  return { valueV: v.value, source: v.source, ...(v.medium ? { medium: v.medium } : {}) };
 }
 
 function chooseMedium(medium: Medium | undefined, pH: number | undefined): Medium {
@@ -234,7 +239,7 @@ export interface CoupleInput {
   medium?: Medium | undefined;
   activities?: Readonly<Record<string, number>> | undefined;
   partialPressuresAtm?: Readonly<Record<string, number>> | undefined;
-  standardPotentialV?: { value: number; source: string } | undefined;
+  standardPotentialV?: { value: number; source: string; medium?: Medium | undefined } | undefined;
   temperatureCorrection?: boolean | undefined;
 }
 
@@ -245,7 +250,7 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   const half = halfFor(ox, red, medium, '');
   const temperatureC = input.temperatureC ?? 25;
   const correction = input.temperatureCorrection ?? true;
-  const override = input.standardPotentialV ? { valueV: input.standardPotentialV.value, source: input.standardPotentialV.source } : undefined;
+  const override = input.standardPotentialV ? siteValue(input.standardPotentialV) : undefined;
   const p = potentialFor(half, deps, { temperatureC, temperatureCorrection: correction, ...(override ? { override } : {}) }, '');
   const e0T = p.standardPotentialAtTemperatureV;
   const atConditions = input.pH !== undefined || input.activities !== undefined || input.partialPressuresAtm !== undefined;
@@ -275,7 +280,7 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
     electrons: half.electrons,
     standardPotentialV: p.standardPotentialV,
     valueUsed: p.usedValue,
-    override: p.override ? { value: p.override.valueV, source: p.override.source } : null,
+    override: p.override ? { value: p.override.valueV, source: p.override.source, medium: p.override.medium ?? 'acid', carriedV: p.override.carriedV ?? null } : null,
     tablesStandardPotentialV: p.tablesStandardPotentialV,
     temperatureC,
     temperatureCorrectionV: p.temperatureCorrectionV,
@@ -325,7 +330,7 @@ export interface CellInputText {
   tdsMgPerL?: number | undefined;
   conductanceUSPerCm?: number | undefined;
   medium?: Medium | undefined;
-  standardPotentials?: { oxidant?: { value: number; source: string } | undefined; reductant?: { value: number; source: string } | undefined } | undefined;
+  standardPotentials?: { oxidant?: { value: number; source: string; medium?: Medium | undefined } | undefined; reductant?: { value: number; source: string; medium?: Medium | undefined } | undefined } | undefined;
 }
 
 
@@ -366,8 +371,8 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
   const T = input.temperatureC;
   const ov = input.standardPotentials?.oxidant;
   const rv = input.standardPotentials?.reductant;
-  const pOx = potentialFor(oxHalf, deps, { temperatureC: T, temperatureCorrection: true, ...(ov ? { override: { valueV: ov.value, source: ov.source } } : {}) }, '/oxidant');
-  const pRed = potentialFor(redHalf, deps, { temperatureC: T, temperatureCorrection: true, ...(rv ? { override: { valueV: rv.value, source: rv.source } } : {}) }, '/reductant');
+  const pOx = potentialFor(oxHalf, deps, { temperatureC: T, temperatureCorrection: true, ...(ov ? { override: siteValue(ov) } : {}) }, '/oxidant');
+  const pRed = potentialFor(redHalf, deps, { temperatureC: T, temperatureCorrection: true, ...(rv ? { override: siteValue(rv) } : {}) }, '/reductant');
 
   let I = 0;
   let iBasis: 'given' | 'tds' | 'conductance' | 'none' = 'none';
@@ -484,7 +489,10 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     reaction: overall.equation,
     medium,
     electrons: cell.electrons,
-    standardCellPotentialV: cell.standardCellPotentialV,
+    // E°(oxidant) − E°(reductant) at 25 °C, as the half-reactions' standardPotentialV; the pair at
+    // the water's temperature (what Nernst and log K start from) beside it
+    standardCellPotentialV: pOx.standardPotentialV - pRed.standardPotentialV,
+    standardCellPotentialAtTemperatureV: cell.standardCellPotentialV,
     cellPotentialV: cell.cellPotentialV,
     deltaGkJPerMol: cell.deltaGkJPerMol,
     log10K: cell.log10K,

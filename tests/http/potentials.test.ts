@@ -56,7 +56,7 @@ describe('POST /api/v1/couples/potential', () => {
     const b = r.json();
     expect(b.valueUsed).toBe('override');
     expect(b.standardPotentialV).toBe(0.95);
-    expect(b.override).toEqual({ value: 0.95, source: 'site study: aged ferrihydrite' });
+    expect(b.override).toEqual({ value: 0.95, source: 'site study: aged ferrihydrite', medium: 'acid', carriedV: null });
     expect(b.tablesStandardPotentialV).not.toBe(0.95);
   });
 
@@ -191,7 +191,7 @@ describe('POST /api/v1/cells/evaluate', () => {
         ...common,
         oxidant: { from: 'OCl-', to: 'Cl-' },
         concentrations: { 'OCl-': { value: (1 - a0) * totalMolPerL, unit: 'mol/L' }, 'Fe2+': { value: 1e-5, unit: 'mol/L' } },
-        standardPotentials: { oxidant: { value: e0Ocl, source: 'derived in this test from CRC HOCl/Cl-, Morris pKa and Harned-Owen Kw' } },
+        standardPotentials: { oxidant: { value: e0Ocl, source: 'derived in this test from CRC HOCl/Cl-, Morris pKa and Harned-Owen Kw', medium: 'base' } },
       })
     ).json();
     expect(viaOcl.halfReactions.oxidant.valueUsed).toBe('override');
@@ -209,6 +209,30 @@ describe('POST /api/v1/cells/evaluate', () => {
     expect(viaOcl.halfReactions.oxidant.valueUsed).toBe('derived');
     // the pKa at 18 °C differs from the 25 °C one used to split the total: compare at the speciation the service uses
     expect(Math.abs(viaOcl.cellPotentialV - viaHocl.cellPotentialV)).toBeLessThan(0.002);
+  });
+
+  it('a site value is for the couple written with H+ unless it says base, and is carried to the form the pH calls for', async () => {
+    // MnO4- + 4H+ + 3e- → MnO2 + 2H2O with a site E° of 1.70 V (Bratsch 1989 prints 1.70 V): at pH 8 and
+    // 25 °C, E = 1.70 − (4/3)·s·8 with s = RT ln10/F (CODATA 2018) ≈ 1.069 V, whichever form carries it.
+    const s = (8.314462618 * 298.15 * Math.LN10) / 96485.33212;
+    const pKw = 4470.99 / 298.15 - 6.0875 + 0.01706 * 298.15; // Harned & Owen 1958, the Kw row used
+    const ask = async (body: object) => (await post('/api/v1/couples/potential', { from: 'MnO4-', to: 'MnO2', pH: 8, temperatureC: 25, ...body })).json();
+    const acidValue = await ask({ standardPotentialV: { value: 1.7, source: 'Bratsch 1989' } });
+    expect(acidValue.medium).toBe('base');
+    expect(acidValue.valueUsed).toBe('override');
+    expect(acidValue.potentialV).toBeCloseTo(1.7 - (4 / 3) * s * 8, 6);
+    expect(acidValue.override).toMatchObject({ value: 1.7, source: 'Bratsch 1989', medium: 'acid' });
+    expect(acidValue.override.carriedV).toBeCloseTo(1.7 - (4 / 3) * s * pKw, 6);
+    expect(acidValue.standardPotentialV).toBeCloseTo(acidValue.override.carriedV, 12);
+    expect(acidValue.notes.join(' ')).toMatch(/written with H\+ \(acid\); carried to this form/);
+    // the same value said to be for the base form is used as it is
+    const baseValue = await ask({ standardPotentialV: { value: 0.595, source: 'CRC base row as a site value', medium: 'base' } });
+    expect(baseValue.standardPotentialV).toBe(0.595);
+    expect(baseValue.override).toMatchObject({ medium: 'base', carriedV: null });
+    // and a base-form value applied where the pH calls for the acid form is carried the other way
+    const below = (await post('/api/v1/couples/potential', { from: 'MnO4-', to: 'MnO2', pH: 6, temperatureC: 25, standardPotentialV: { value: 0.595, source: 'CRC base row as a site value', medium: 'base' } })).json();
+    expect(below.medium).toBe('acid');
+    expect(below.standardPotentialV).toBeCloseTo(0.595 + (4 / 3) * s * pKw, 6);
   });
 
   it('a couple has one potential at a pH whichever medium carries it: no step where the medium changes at pH 7 (property)', async () => {
@@ -285,7 +309,13 @@ describe('POST /api/v1/cells/evaluate', () => {
     for (const h of [b.halfReactions.oxidant, b.halfReactions.reductant]) {
       expect(h.standardPotentialAtTemperatureV).toBeCloseTo(h.standardPotentialV + h.temperatureCorrectionV, 12);
     }
-    expect(b.standardCellPotentialV).toBeCloseTo(b.halfReactions.oxidant.standardPotentialAtTemperatureV - b.halfReactions.reductant.standardPotentialAtTemperatureV, 12);
+    expect(b.standardCellPotentialAtTemperatureV).toBeCloseTo(b.halfReactions.oxidant.standardPotentialAtTemperatureV - b.halfReactions.reductant.standardPotentialAtTemperatureV, 12);
+    // standardCellPotentialV is at 25 °C, as each half's standardPotentialV
+    expect(b.standardCellPotentialV).toBeCloseTo(b.halfReactions.oxidant.standardPotentialV - b.halfReactions.reductant.standardPotentialV, 12);
+    expect(b.standardCellPotentialV).not.toBeCloseTo(b.standardCellPotentialAtTemperatureV, 4);
+    // log10 K at the sample temperature: n·E°(T)·F/(RT ln10), CODATA 2018 R and F
+    const T = 273.15 + 8;
+    expect(b.log10K).toBeCloseTo((b.electrons * b.standardCellPotentialAtTemperatureV * 96485.33212) / (8.314462618 * T * Math.LN10), 6);
   });
 
   it('estimates ionic strength from specific conductance (Russell 1976: I ≈ 1.6×10⁻⁵ × EC, as quoted by Snoeyink & Jenkins 1980; from memory)', async () => {

@@ -94,14 +94,26 @@ export interface PotentialResult {
   readonly tabledCheck?: TabledCheck;
   /** What the tables give (null when not derivable), whatever value was used. */
   readonly tablesStandardPotentialV: number | null;
-  readonly override?: { readonly valueV: number; readonly source: string };
+  readonly override?: SiteValue & { readonly carriedV?: number };
   /** Other tabled rows that would give a different value for the same couple. */
   readonly alternatives: readonly Alternative[];
   readonly notes: readonly string[];
 }
 
+/**
+ * A site value of E° (25 °C) and where it comes from. `medium` says which form of the couple the
+ * value is for: 'acid' (the default: the couple written with H+, or with neither H+ nor OH-) or
+ * 'base' (written with OH-). A value for the other form is carried to the form computed through
+ * the ionisation of water, as the tabled values are.
+ */
+export interface SiteValue {
+  readonly valueV: number;
+  readonly source: string;
+  readonly medium?: 'acid' | 'base';
+}
+
 export interface PotentialOptions {
-  readonly override?: { readonly valueV: number; readonly source: string };
+  readonly override?: SiteValue;
   /** Water temperature, °C (default 25). */
   readonly temperatureC?: number;
   /** Apply the tables' temperature data (default true). */
@@ -447,7 +459,7 @@ export function standardPotential(target: Target, ledger: Ledger, options: Poten
   // keyed by the equation text (which fixes the reaction) so a hit costs no parsing.
   const text = typeof target === 'string' ? target.trim() : 'terms' in target ? target.equation : target.text;
   const memoKey = `potential\n${text}\n${temperatureC}\n${options.temperatureCorrection !== false}\n${options.basis ?? 'as-written'}\n${
-    options.override ? `${options.override.valueV}\n${options.override.source}` : ''
+    options.override ? `${options.override.valueV}\n${options.override.source}\n${options.override.medium ?? 'acid'}` : ''
   }`;
   const memo = ledger.cache.get(memoKey) as PotentialResult | undefined;
   if (memo) return memo;
@@ -472,8 +484,6 @@ const WATER_IONISATION: ReactionVector = new Map([
 function acidFormCombination(target: ReactionVector, ledger: Ledger): Combination | null {
   const oh = target.get(KEY_HYDROXIDE);
   if (!oh || oh.isZero()) return null;
-  const kwClass = ledger.classes.get(classKeyOf(WATER_IONISATION).key);
-  if (!kwClass) return null;
   const acid = new Map<string, Rational>();
   for (const k of new Set([...target.keys(), ...WATER_IONISATION.keys()])) {
     const c = (target.get(k) ?? Rational.ZERO).sub(oh.mul(WATER_IONISATION.get(k) ?? Rational.ZERO));
@@ -481,9 +491,10 @@ function acidFormCombination(target: ReactionVector, ledger: Ledger): Combinatio
   }
   const acidDerived = deriveCombination(acid, ledger);
   if (!acidDerived) return null;
-  const kw = pickMember(kwClass, undefined);
+  const kw = waterIonisation(ledger);
+  if (!kw) return null;
   const byRow = new Map<string, CombinationPart>();
-  for (const p of [...acidDerived.combination.parts, { row: kw.row, coefficient: oh.div(kw.lambda) }]) {
+  for (const p of [...acidDerived.combination.parts, { row: kw.row, coefficient: oh.mul(kw.perUnit) }]) {
     const had = byRow.get(p.row.id);
     byRow.set(p.row.id, { row: p.row, coefficient: had ? had.coefficient.add(p.coefficient) : p.coefficient });
   }
@@ -491,6 +502,44 @@ function acidFormCombination(target: ReactionVector, ledger: Ledger): Combinatio
   const targetClass = classKeyOf(target).key;
   if (parts.some((p) => p.row.classKey === targetClass)) return null;
   return combinationOf(parts, ledger);
+}
+
+/**
+ * The preferred tabled row for water ionisation and the multiplier that turns it into one
+ * H2O = H+ + OH- (whichever way and multiple the row is written).
+ */
+function waterIonisation(ledger: Ledger): { row: LedgerRow; perUnit: Rational } | null {
+  const cls = ledger.classes.get(classKeyOf(WATER_IONISATION).key);
+  if (!cls) return null;
+  const m = pickMember(cls, undefined);
+  // row.vector = perRow · WATER_IONISATION, read off the H+ coefficient
+  const perRow = m.row.vector.get(KEY_PROTON)!;
+  return { row: m.row, perUnit: Rational.ONE.div(perRow) };
+}
+
+/**
+ * E°(target) − E°(value's form) at 25 °C for a site value given for the other form of the
+ * couple: 0 when the value is for the form of the target, or the target has neither H+ nor OH-.
+ * For the target v and its other form v' = v − c·(H2O = H+ + OH-) (c = v's OH- coefficient for
+ * a base-written target, or its H+ coefficient for an acid-written one), g(v) = g(v') + c·g(Kw),
+ * so E°(v) = E°(v') + c·g(Kw)/n with n the electrons taken up.
+ */
+function siteValueShiftV(target: ReactionVector, valueMedium: 'acid' | 'base', ledger: Ledger): number {
+  const oh = target.get(KEY_HYDROXIDE) ?? Rational.ZERO;
+  const h = target.get(KEY_PROTON) ?? Rational.ZERO;
+  const targetMedium = !oh.isZero() ? 'base' : !h.isZero() ? 'acid' : null;
+  if (targetMedium === null || targetMedium === valueMedium) return 0;
+  const kw = waterIonisation(ledger);
+  if (!kw) {
+    throw new DomainError('POTENTIAL_NOT_DERIVABLE', {
+      detail: `The site value is for the ${valueMedium} form of the couple; carrying it to the ${targetMedium} form needs the ionisation of water, which the tables do not hold.`,
+      fields: [{ pointer: '/equation', message: 'no water ionisation row to carry the site value' }],
+    });
+  }
+  const c = targetMedium === 'base' ? oh : h;
+  const gKw = combinationOf([{ row: kw.row, coefficient: kw.perUnit }], ledger);
+  const e = target.get(KEY_ELECTRON)!;
+  return reductionPotentialV(gKw, e) * c.toNumber();
 }
 
 function combinationOf(parts: readonly CombinationPart[], ledger: Ledger): Combination {
@@ -578,12 +627,20 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
 
   let usedV: number;
   let usedValue: PotentialResult['usedValue'];
+  let carriedV: number | undefined;
   if (options.override) {
-    usedV = options.override.valueV;
+    const ov = options.override;
+    const shift = siteValueShiftV(vector, ov.medium ?? 'acid', ledger);
+    usedV = ov.valueV + shift;
     usedValue = 'override';
-    notes.push(
-      `Site value ${options.override.valueV} V (${options.override.source}) used instead of the tables${tablesV !== null ? ` (${tablesV.toFixed(4)} V)` : ''}.`,
-    );
+    if (shift !== 0) {
+      carriedV = usedV;
+      notes.push(
+        `Site value ${ov.valueV} V (${ov.source}) is for the couple written ${ov.medium === 'base' ? 'with OH- (base)' : 'with H+ (acid)'}; carried to this form through the ionisation of water: ${usedV.toFixed(4)} V, used instead of the tables${tablesV !== null ? ` (${tablesV.toFixed(4)} V)` : ''}.`,
+      );
+    } else {
+      notes.push(`Site value ${ov.valueV} V (${ov.source}) used instead of the tables${tablesV !== null ? ` (${tablesV.toFixed(4)} V)` : ''}.`);
+    }
     if (temperatureC !== 25 && options.temperatureCorrection !== false) {
       notes.push(derived ? 'The temperature correction is the one the tables give for this couple.' : 'No temperature correction: the tables do not give this couple.');
     }
@@ -608,7 +665,9 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
     usedValue,
     ...(tabledCheck ? { tabledCheck } : {}),
     tablesStandardPotentialV: tablesV,
-    ...(options.override ? { override: { valueV: options.override.valueV, source: options.override.source } } : {}),
+    ...(options.override
+      ? { override: { valueV: options.override.valueV, source: options.override.source, medium: options.override.medium ?? 'acid', ...(carriedV !== undefined ? { carriedV } : {}) } }
+      : {}),
     alternatives,
     notes,
   };

@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { CoupleSchema, Formula, Medium, PH, TemperatureC } from './common.js';
+import { CoupleSchema, Formula, Medium, PH, SiteValueMedium, TemperatureC } from './common.js';
 
 export const BalanceBody = z
   .strictObject({
@@ -66,7 +66,11 @@ export const PotentialBody = z.strictObject({
   activities: z.record(z.string(), z.number().gt(0)).optional().describe('Activities (or mol/L) by species formula; unit activity otherwise'),
   partialPressuresAtm: z.record(z.string(), z.number().gt(0)).optional(),
   standardPotentialV: z
-    .strictObject({ value: z.number().min(-4).max(4), source: z.string().min(3).max(300) })
+    .strictObject({
+      value: z.number().min(-4).max(4),
+      source: z.string().min(3).max(300),
+      medium: SiteValueMedium,
+    })
     .optional()
     .describe('A site value of E° (25 °C) for this couple and where it comes from; replaces the tabled or derived value'),
   temperatureCorrection: z.boolean().default(true).describe('Apply dE°/dT where a table gives it'),
@@ -82,7 +86,14 @@ export const PotentialResponse = z.object({
   electrons: z.number().int(),
   standardPotentialV: z.number().describe('E° at 25 °C of the half-reaction as written (the value used)'),
   valueUsed: z.enum(['tabled', 'derived', 'override']),
-  override: z.object({ value: z.number(), source: z.string() }).nullable(),
+  override: z
+    .object({
+      value: z.number(),
+      source: z.string(),
+      medium: Medium.describe('The form of the couple the site value is for'),
+      carriedV: z.number().nullable().describe('The site value carried to the form computed through the ionisation of water (null when it is for that form)'),
+    })
+    .nullable(),
   tablesStandardPotentialV: z.number().nullable().describe('What the tables give, whatever value was used'),
   temperatureC: z.number(),
   temperatureCorrectionV: z.number().describe('E°(T) − E°(25 °C) from the tables’ dE°/dT and log K(T) data; 0 where none'),
@@ -119,7 +130,7 @@ const ConcentrationIn = z.strictObject({
   unit: z.enum(['mg/L', 'ug/L', 'µg/L', 'mol/L', 'mmol/L', 'atm']),
 });
 
-const SiteE0 = z.strictObject({ value: z.number().min(-4).max(4), source: z.string().min(3).max(300) });
+const SiteE0 = z.strictObject({ value: z.number().min(-4).max(4), source: z.string().min(3).max(300), medium: SiteValueMedium });
 
 export const CellBody = z.strictObject({
   oxidant: CoupleSchema.describe('Oxidant couple: from the oxidised form to the reduced form'),
@@ -167,7 +178,8 @@ export const CellResponse = z.object({
   reaction: z.string().describe('Balanced overall reaction, plain text'),
   medium: Medium,
   electrons: z.number().int().describe('Electrons transferred in the reaction as written'),
-  standardCellPotentialV: z.number().describe('E°(oxidant) − E°(reductant), each at the sample temperature'),
+  standardCellPotentialV: z.number().describe('E°(oxidant) − E°(reductant) at 25 °C (the half-reactions’ standardPotentialV)'),
+  standardCellPotentialAtTemperatureV: z.number().describe('E°(oxidant) − E°(reductant), each at the sample temperature (with the tables’ dE°/dT): what the Nernst equation and log10 K start from'),
   cellPotentialV: z.number().describe('E(oxidant) − E(reductant) at the sample pH, temperature and activities'),
   deltaGkJPerMol: z.number().describe('ΔG = −nFE of the reaction as written, kJ/mol'),
   log10K: z.number().describe('log10 K = nFE°/(2.303RT) at the sample temperature'),

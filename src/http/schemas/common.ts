@@ -10,6 +10,10 @@ export const CoupleSchema = z.strictObject({
 });
 
 export const Medium = z.enum(['acid', 'base']);
+/** Which form of a couple a site value of E° is for. */
+export const SiteValueMedium = Medium.optional().describe(
+  'The form of the couple the value is for: acid (default; written with H+, or with neither H+ nor OH-) or base (written with OH-). It is carried to the form the pH calls for through the ionisation of water.',
+);
 
 export const PH = z.number().min(0).max(14).describe('pH (0–14)');
 /** Liquid water at about 1 atm. */

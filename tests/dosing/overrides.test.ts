@@ -1,0 +1,58 @@
+/**
+ * Site values of E° in a dose request (options.potentialOverrides): which form of the couple a
+ * value is for, a formula that does not read, and a value no reaction of the dose uses.
+ */
+import { describe, expect, it } from 'vitest';
+import { computeDose, parseDoseRequest, type DoseResult } from '../../src/dosing/index.js';
+import { isDomainError } from '../../src/core/errors.js';
+import { context } from './fixture.js';
+
+const dose = (body: unknown): DoseResult => computeDose(parseDoseRequest(body), context);
+const hypochlorite = (pH: number, overrides: unknown[]) => ({
+  oxidant: 'sodium-hypochlorite',
+  flow: { value: 4500, unit: 'm3/d' },
+  sample: { pH, temperatureC: 25, iron: { value: 1.8, unit: 'mg/L' } },
+  product: { strength: { value: 12.5, unit: '% w/v' } },
+  options: { potentialOverrides: overrides },
+});
+/** RT ln10 / F at 298.15 K from the CODATA 2018 R and F (V). */
+const S25 = (8.314462618 * 298.15 * Math.LN10) / 96485.33212;
+
+describe('options.potentialOverrides', () => {
+  it('a formula that does not read is a 400 naming the override and field, not a value dropped', () => {
+    let caught: unknown;
+    try {
+      dose(hypochlorite(7.5, [{ from: 'Fe(OH3', to: 'Fe2+', standardPotentialV: 0.95, source: 'site study (invented)' }]));
+    } catch (e) {
+      caught = e;
+    }
+    expect(isDomainError(caught)).toBe(true);
+    if (!isDomainError(caught)) return;
+    expect(caught.fields.map((f) => f.pointer)).toEqual(['/options/potentialOverrides/0/from']);
+    expect(caught.fields[0]!.message).toMatch(/Fe\(OH3.*parenthesis/);
+  });
+
+  it('a value for a couple no reaction uses at this pH is named in a warning with the couples used (HOCl/Cl- at pH 7.5, where OCl-/Cl- is used)', () => {
+    const r = dose(hypochlorite(7.5, [{ from: 'HOCl', to: 'Cl-', standardPotentialV: 1.49, source: 'site value (invented)' }]));
+    const f = r.flags.filter((x) => x.code === 'POTENTIAL_OVERRIDE_NOT_USED');
+    expect(f).toHaveLength(1);
+    expect(f[0]!.severity).toBe('warning');
+    expect(f[0]!.message).toMatch(/HOCl\/Cl-.*potentialOverrides\/0.*not used.*OCl-\/Cl-/);
+    expect(r.feasibility[0]!.oxidantCouple.usedValue).not.toBe('override');
+    // at pH 6.5 the same value is used and nothing is flagged
+    const acid = dose(hypochlorite(6.5, [{ from: 'HOCl', to: 'Cl-', standardPotentialV: 1.49, source: 'site value (invented)' }]));
+    expect(acid.flags.some((x) => x.code === 'POTENTIAL_OVERRIDE_NOT_USED')).toBe(false);
+    expect(acid.feasibility[0]!.oxidantCouple.usedValue).toBe('override');
+    expect(acid.feasibility[0]!.oxidantCouple.standardPotentialV).toBe(1.49);
+  });
+
+  it('a value is for the couple written with H+ unless it says base, and is carried to the base form through Kw', () => {
+    // OCl- + 2H+ + 2e- → Cl- + H2O (acid form, m = 2, n = 2) to OCl- + H2O + 2e- → Cl- + 2OH-: E° − s·pKw
+    const pKw = 4470.99 / 298.15 - 6.0875 + 0.01706 * 298.15; // Harned & Owen 1958, the Kw row used
+    const acidForm = dose(hypochlorite(8, [{ from: 'OCl-', to: 'Cl-', standardPotentialV: 1.7, source: 'site value (invented)' }]));
+    expect(acidForm.feasibility[0]!.oxidantCouple.usedValue).toBe('override');
+    expect(acidForm.feasibility[0]!.oxidantCouple.standardPotentialV).toBeCloseTo(1.7 - S25 * pKw, 9);
+    const baseForm = dose(hypochlorite(8, [{ from: 'OCl-', to: 'Cl-', standardPotentialV: 0.877, source: 'site value (invented)', medium: 'base' }]));
+    expect(baseForm.feasibility[0]!.oxidantCouple.standardPotentialV).toBe(0.877);
+  });
+});
