@@ -152,9 +152,9 @@ export class DomainError extends Error {
   }
 
   /** The same error with its fields rewritten (e.g. a module's own field names mapped to a request's). */
-  withFields(map: (fields: readonly FieldProblem[]) => FieldProblem[]): DomainError {
+  withFields(map: (fields: readonly FieldProblem[]) => FieldProblem[], detail: string = this.detail): DomainError {
     return new DomainError(this.code, {
-      detail: this.detail,
+      detail,
       params: this.params,
       fields: map(this.fields),
       ...(this.text !== undefined ? { text: this.text } : {}),

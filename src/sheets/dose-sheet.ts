@@ -157,11 +157,15 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
     }
     if (r.feed.pump) resultRows.push({ label: 'Pump setting', value: `${r.feed.pump.settingPercent.rounded} % of ${reportedText(r.feed.pump.ratedCapacity)}${r.feed.pump.id ? ` (${r.feed.pump.id})` : ''}` });
   }
+  const nameOf = (id: string): string => r.demand.find((d) => d.contaminant === id)?.name ?? id;
   const contactWorst = r.contact.entries.find((e) => e.tooSlow) ?? r.contact.entries[0];
   if (contactWorst) {
     resultRows.push({
       label: 'Contact time',
-      value: autoRich(r.contact.availableMinutes !== null ? `${round1(r.contact.availableMinutes)} min available (${r.contact.availableFrom}). ${contactWorst.message}` : contactWorst.message),
+      // the first-page row names the contaminant the check is about (the slowest, or the only one)
+      value: autoRich(
+        `${r.contact.availableMinutes !== null ? `${round1(r.contact.availableMinutes)} min available (${r.contact.availableFrom}). ` : ''}${nameOf(contactWorst.contaminant)}: ${contactWorst.message}${r.contact.entries.length > 1 ? ` Each contaminant in section 5.` : ''}`,
+      ),
     });
   }
   if (input.supersedes) resultRows.push({ label: 'Supersedes', value: `sheet ${input.supersedes}` });
@@ -205,7 +209,6 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
   });
 
   // 4 feasibility
-  const nameOf = (id: string): string => r.demand.find((d) => d.contaminant === id)?.name ?? id;
   const feasBlocks: Block[] = [];
   if (r.feasibility.length > 0) {
     const first = r.feasibility[0]!;

@@ -215,6 +215,11 @@ export interface SheetDocument {
   readonly signature: SignatureBlock;
   /** Printed on every page. */
   readonly disclaimer: string;
+  /**
+   * A notice printed in the header of every page (e.g. that the sheet was signed with the
+   * self-signed demo certificate and is not for regulatory use).
+   */
+  readonly notice?: string;
 }
 
 export type SheetDraft = Omit<SheetDocument, 'contentSha256' | 'disclaimer' | 'pageSize'> & {
@@ -477,12 +482,13 @@ export function withSignedBy(
   doc: SheetDocument,
   signedBy: NonNullable<SignatureBlock['signedBy']>,
   signedAt: string,
-  options: { readonly contentSha256?: string } = {},
+  options: { readonly contentSha256?: string; readonly notice?: string } = {},
 ): SheetDocument {
   const { contentSha256: _omit, ...draft } = doc;
   void _omit;
   return buildSheetDocument({
     ...draft,
+    ...(options.notice !== undefined ? { notice: options.notice } : {}),
     signature: { ...doc.signature, signedBy, signedAt },
     ...(options.contentSha256 !== undefined ? { contentSha256: options.contentSha256 } : {}),
   });

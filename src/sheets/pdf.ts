@@ -41,6 +41,10 @@ const MUTED = '#5b6470';
 const RULE = '#d3d8de';
 const RULE_STRONG = '#8a939e';
 const ACCENT = '#1d4f73';
+/** The header notice (demo signer): dark text on amber in the band, amber text in running heads. */
+const NOTICE_FILL = '#f6c343';
+const NOTICE_INK = '#3b2a00';
+const NOTICE_TEXT = '#9a5b00';
 const ACCENT_TINT = '#e9f0f6';
 const HEADER_FILL = '#eef2f6';
 const SAFETY = '#c2410c';
@@ -916,7 +920,9 @@ class SheetRenderer {
     const title = layout(sheet.title, titleW, { size: 16, font: 'bold', colour: WHITE, leading: 1.2 });
     const subtitle = layout(sheet.subtitle, titleW, { size: 9, colour: '#d6e3ee', leading: 1.3 });
     const kind = SHEET_KIND_LABELS[sheet.kind].toUpperCase();
-    const bandH = pad + 11 + title.height + 3 + subtitle.height + pad - 4;
+    const notice = sheet.notice ? layout(sheet.notice, titleW - 12, { size: 7.5, font: 'bold', colour: NOTICE_INK, leading: 1.25 }) : null;
+    const noticeH = notice ? notice.height + 8 : 0;
+    const bandH = pad + 11 + title.height + 3 + subtitle.height + (notice ? 6 + noticeH : 0) + pad - 4;
     this.rect(0, 0, this.pageW, bandH, ACCENT);
     let y = pad;
     this.textAt(kind, this.left, y + 7, 'bold', 7.2, '#b9d0e3');
@@ -924,6 +930,12 @@ class SheetRenderer {
     this.drawLaid(title, this.left, y);
     y += title.height + 3;
     this.drawLaid(subtitle, this.left, y);
+    if (notice) {
+      y += subtitle.height + 6;
+      this.doc.roundedRect(this.left, y, Math.min(titleW, notice.width + 12), noticeH, 2).fill(NOTICE_FILL);
+      this.fill = '';
+      this.drawLaid(notice, this.left + 6, y + 4);
+    }
 
     // right column of the band: id and issue time
     const rx = this.right - rightW;
@@ -965,8 +977,11 @@ class SheetRenderer {
     const y = 28;
     const idText = `Sheet ${this.sheet.id}`;
     const idW = widthOf('regular', 7.5, idText);
-    const title = clipText(this.sheet.title, 'bold', 7.5, this.contentW - idW - 20);
+    const noticeText = this.sheet.notice ? clipText(this.sheet.notice.split(':')[0]!, 'bold', 7.5, (this.contentW - idW - 20) / 2) : '';
+    const noticeW = noticeText ? widthOf('bold', 7.5, noticeText) + 12 : 0;
+    const title = clipText(this.sheet.title, 'bold', 7.5, this.contentW - idW - 20 - noticeW);
     this.textAt(title, this.left, y, 'bold', 7.5, ACCENT);
+    if (noticeText) this.textAt(noticeText, this.left + widthOf('bold', 7.5, title) + 12, y, 'bold', 7.5, NOTICE_TEXT);
     this.textAt(idText, this.right - idW, y, 'regular', 7.5, MUTED);
     this.hline(this.left, this.right, y + 6, RULE, 0.6);
   }

@@ -353,7 +353,10 @@ export async function renderSignedSheet(doc: SheetDocument, signer: SheetSigner,
       certificateSubject: id.certificateSubject,
     },
     isoSeconds(signingTime),
-    options.contentSha256 !== undefined ? { contentSha256: options.contentSha256 } : {},
+    {
+      ...(options.contentSha256 !== undefined ? { contentSha256: options.contentSha256 } : {}),
+      ...(id.demo ? { notice: `${DEMO_LABEL}: signed with the self-signed demo certificate made at first start` } : {}),
+    },
   );
   const unsigned = await renderSheet(document, { placeholder: placeholderFor(signer, signingTime, options) });
   return { pdf: await signPdf(unsigned, signer, signingTime), document };

@@ -190,7 +190,12 @@ function potentialFor(
     } catch (e) {
       // the ledger speaks of the half-reaction's equation; in this request that is the couple itself
       if (!isDomainError(e) || !e.fields.some((f) => f.pointer === '/equation')) throw e;
-      throw e.withFields((fields) => fields.map((f) => (f.pointer === '/equation' ? { pointer, message: f.message } : f)));
+      // on the cell route a site value goes in standardPotentials.oxidant / .reductant
+      const siteField = pointer === '/oxidant' || pointer === '/reductant' ? `standardPotentials.${pointer.slice(1)}` : 'standardPotentialV';
+      throw e.withFields(
+        (fields) => fields.map((f) => (f.pointer === '/equation' ? { pointer, message: f.message } : f)),
+        e.detail.replace('(standardPotentialV)', `(${siteField})`),
+      );
     }
   });
 }

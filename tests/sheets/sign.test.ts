@@ -144,6 +144,17 @@ describe('signers', () => {
     expect(id.notAfter.getUTCFullYear()).toBe(2034);
   });
 
+  it('a sheet signed with the demo certificate says so in the header of every page, not only in the signature block', () => {
+    const file = pdfFile(signed, 'demo-notice');
+    const pages = Number(/Pages:\s+(\d+)/.exec(run('pdfinfo', [file]))![1]);
+    expect(pages).toBeGreaterThan(1);
+    for (let page = 1; page <= pages; page++) expect(pdfText(file, page).replace(/\s+/g, ' ')).toContain(DEMO_LABEL);
+    // page 1 says why, in the header band above the first section
+    const first = pdfText(file, 1).replace(/\s+/g, ' ');
+    expect(first.indexOf('signed with the self-signed demo certificate')).toBeGreaterThan(-1);
+    expect(first.indexOf(DEMO_LABEL)).toBeLessThan(first.indexOf('1 Result') >= 0 ? first.indexOf('1 Result') : first.length);
+  });
+
   it('loadSigner reopens the PKCS#12 with its password', () => {
     const again = loadSigner(demo.p12, 'demo password');
     expect(again.identity.certificateSha256).toBe(demo.signer.identity.certificateSha256);

@@ -45,7 +45,10 @@ function requireSheet(services: Services, id: string) {
 }
 
 const Query = z.strictObject({
-  plantId: z.string().regex(/^[a-z0-9][a-z0-9-]{0,63}$/).optional(),
+  plantId: z
+    .string()
+    .regex(/^[a-z0-9][a-z0-9-]{0,63}$/, { error: 'not a plant id: lowercase letters, digits and hyphens, starting with a letter or digit, at most 64 characters (e.g. demo-groundwater)' })
+    .optional(),
   from: DateOrTime.optional(),
   to: DateOrTime.optional(),
 });
