@@ -320,9 +320,12 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   };
 }
 
+/** mg/L per unit of the mass-per-volume concentration units (ppm, ppb: dilute water, 1 kg/L). */
+const MG_PER_L = { 'mg/L': 1, 'ug/L': 0.001, 'µg/L': 0.001, 'g/m3': 1, 'g/L': 1000, ppm: 1, ppb: 0.001 } as const;
+
 export interface ConcentrationIn {
   value: number;
-  unit: 'mg/L' | 'ug/L' | 'µg/L' | 'mol/L' | 'mmol/L' | 'atm';
+  unit: 'mg/L' | 'ug/L' | 'µg/L' | 'g/m3' | 'g/L' | 'ppm' | 'ppb' | 'mol/L' | 'mmol/L' | 'umol/L' | 'µmol/L' | 'atm';
 }
 
 export interface CellInputText {
@@ -432,8 +435,10 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     let molPerL: number;
     if (q.unit === 'mol/L') molPerL = q.value;
     else if (q.unit === 'mmol/L') molPerL = q.value / 1000;
+    else if (q.unit === 'umol/L' || q.unit === 'µmol/L') molPerL = q.value / 1e6;
     else {
-      const mg = q.unit === 'mg/L' ? q.value : q.value / 1000;
+      // mass per volume of the species itself (ppm and ppb as mg/L and µg/L in dilute water)
+      const mg = MG_PER_L[q.unit] * q.value;
       molPerL = mg / 1000 / withPointer(pointer, () => deps.molarMassOf(text)).toNumber();
     }
     const gamma = s.charge === 0 ? 1 : daviesGamma(s.charge, I, A);

@@ -304,6 +304,24 @@ describe('POST /api/v1/cells/evaluate', () => {
     expect(couple.notes.join(' ')).toMatch(/value given for MnO2 was not used/);
   });
 
+  it('concentration units: ppm and g/m3 read as mg/L, ppb as µg/L (dilute water), µmol/L from the molar mass', async () => {
+    const at = async (mn: { value: number; unit: string }) =>
+      (await post('/api/v1/cells/evaluate', { ...MN_CELL, concentrations: { 'MnO4-': { value: 1.5, unit: 'mg/L' }, 'Mn2+': mn } })).json().cellPotentialV as number;
+    const ref = await at({ value: 0.4, unit: 'mg/L' });
+    for (const q of [
+      { value: 0.4, unit: 'ppm' },
+      { value: 0.4, unit: 'g/m3' },
+      { value: 400, unit: 'ppb' },
+      { value: 400, unit: 'µg/L' },
+      { value: 0.0004, unit: 'g/L' },
+      // 0.4 mg/L ÷ 54.938 g/mol (Mn in tables/atomic-weights.json, the IUPAC value as tabled there) = 7.2810 µmol/L
+      { value: (0.4 / 54.938) * 1000, unit: 'µmol/L' },
+      { value: (0.4 / 54.938) * 1000, unit: 'umol/L' },
+    ]) {
+      expect(await at(q), q.unit).toBeCloseTo(ref, 9);
+    }
+  });
+
   it('each half reports E°(T), the value Nernst started from: E°(25 °C) plus the temperature term', async () => {
     const b = (await post('/api/v1/cells/evaluate', { ...MN_CELL, temperatureC: 8 })).json();
     for (const h of [b.halfReactions.oxidant, b.halfReactions.reductant]) {

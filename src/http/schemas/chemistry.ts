@@ -127,7 +127,9 @@ export const PotentialResponse = z.object({
 
 const ConcentrationIn = z.strictObject({
   value: z.number().min(0),
-  unit: z.enum(['mg/L', 'ug/L', 'µg/L', 'mol/L', 'mmol/L', 'atm']),
+  unit: z
+    .enum(['mg/L', 'ug/L', 'µg/L', 'g/m3', 'g/L', 'ppm', 'ppb', 'mol/L', 'mmol/L', 'umol/L', 'µmol/L', 'atm'])
+    .describe('Mass per volume of the species itself (ppm and ppb read as mg/L and µg/L: dilute water), amount per volume, or atm for a gas'),
 });
 
 const SiteE0 = z.strictObject({ value: z.number().min(-4).max(4), source: z.string().min(3).max(300), medium: SiteValueMedium });
