@@ -181,6 +181,26 @@ describe("basis 'acid': a base-medium half-reaction carried from its acid form t
     expect(Math.abs(r.standardPotentialV - 0.401)).toBeLessThan(0.0005);
   });
 
+  it('a site value is for the acid form unless it says base, and is carried through Kw to the form computed', () => {
+    const l = buildLedger(tables([redox('o2', 'O2(g) + 4H+ + 4e- = 2H2O', 4, '1.229')], [kwRow]));
+    const base = 'O2(g) + 2H2O + 4e- = 4OH-';
+    const acid = 'O2(g) + 4H+ + 4e- = 2H2O';
+    const site = { valueV: 1.2, source: 'site value (invented)' };
+    // acid value, base form: 1.2 − 14.00·K25 (m = 4, n = 4)
+    const a = standardPotential(base, l, { basis: 'acid', override: site });
+    expect(a.usedValue).toBe('override');
+    expect(a.standardPotentialV).toBeCloseTo(1.2 - 14 * K25, 12);
+    expect(a.override).toMatchObject({ medium: 'acid' });
+    expect(a.override!.carriedV).toBeCloseTo(a.standardPotentialV, 12);
+    // base value, base form: as given; base value, acid form: carried up
+    expect(standardPotential(base, l, { basis: 'acid', override: { ...site, medium: 'base' } }).standardPotentialV).toBe(1.2);
+    expect(standardPotential(acid, l, { override: { ...site, medium: 'base' } }).standardPotentialV).toBeCloseTo(1.2 + 14 * K25, 12);
+    // a couple with neither H+ nor OH- takes the value as given whatever it says
+    expect(standardPotential('Fe3+ + e- = Fe2+', l, { override: { ...site, medium: 'base' } }).standardPotentialV).toBe(1.2);
+    // an oxidation written the other way round gets the same reduction E°
+    expect(standardPotential('4OH- = O2(g) + 2H2O + 4e-', l, { basis: 'acid', override: site }).standardPotentialV).toBeCloseTo(1.2 - 14 * K25, 12);
+  });
+
   it('a disagreeing base-medium row becomes the check: CRC OCl-/Cl- 0.81 V against 0.877 V carried from CRC HOCl/Cl- 1.482 V', () => {
     const asWritten = standardPotential('OCl- + H2O + 2e- = Cl- + 2OH-', real);
     const viaAcid = standardPotential('OCl- + H2O + 2e- = Cl- + 2OH-', real, { basis: 'acid' });
@@ -228,7 +248,7 @@ describe('a couple with a solid: Fe(OH)3/Fe2+ from Fe3+/Fe2+ and the solubility 
     expect(r.usedValue).toBe('override');
     expect(r.standardPotentialV).toBe(0.95);
     expect(r.tablesStandardPotentialV).toBeCloseTo(0.771 + K25 * 4.891, 9);
-    expect(r.override).toEqual({ valueV: 0.95, source: 'site jar test 2024-03 (invented example)' });
+    expect(r.override).toEqual({ valueV: 0.95, source: 'site jar test 2024-03 (invented example)', medium: 'acid' });
   });
 });
 
