@@ -77,6 +77,20 @@ describe('POST /api/v1/reactions/balance', () => {
     const pyrite = (await post({ reactants: ['FeS2', 'O2', 'H2O'], products: ['Fe(OH)3', 'SO4^2-', 'H+'] })).json();
     expect(pyrite.electrons).toBeNull();
     expect(pyrite.electronsNote).toMatch(/Fe and S in FeS2/);
+    expect(pyrite.oxidationStateChanges).toBeNull();
+    // a non-redox reaction has no changes (an empty list, not null)
+    const neutral = (await post({ reactants: ['CaCO3', 'HCl'], products: ['CaCl2', 'CO2', 'H2O'] })).json();
+    expect(neutral.electrons).toBe(0);
+    expect(neutral.oxidationStateChanges).toEqual([]);
+  });
+
+  it('"Fe2++" is refused as ambiguous (400 at the digit), not read as a dimer Fe2 with charge 2+', async () => {
+    const r = await post({ reactants: ['Fe2++'], products: ['Fe3+', 'e-'] });
+    expect(r.statusCode).toBe(400);
+    const p = r.json();
+    expect(p.code).toBe('FORMULA_AMBIGUOUS_CHARGE');
+    expect(p.errors[0].pointer).toBe('/reactants/0');
+    expect(p.detail).toMatch(/"Fe2\+" or "Fe\^2\+"/);
   });
 
   it('a species on both sides is refused (422) naming both fields, not balanced as "NaCl -> NaCl"', async () => {

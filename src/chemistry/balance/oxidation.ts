@@ -90,8 +90,12 @@ export function oxidationStates(species: Species): OxidationStates {
 export interface ElectronCount {
   /** Electrons transferred by the reaction as written; null when a species' states are undetermined or the count is not whole. */
   readonly electrons: number | null;
-  /** Per element that changes state: the electrons its atoms give up (oxidation) and take up (reduction). */
-  readonly changes: readonly { readonly element: string; readonly oxidised: string; readonly reduced: string }[];
+  /**
+   * Per element that changes state: the electrons its atoms give up (oxidation) and take up
+   * (reduction); [] for a reaction in which no state changes; null when a species' states are
+   * undetermined (then nothing is known of the changes, see `undetermined`).
+   */
+  readonly changes: readonly { readonly element: string; readonly oxidised: string; readonly reduced: string }[] | null;
   /** Species whose oxidation states the rules leave open, with the open elements. */
   readonly undetermined: readonly { readonly species: string; readonly elements: readonly string[] }[];
   /** Species where the common-oxyanion convention fixed an element. */
@@ -138,7 +142,7 @@ export function electronsTransferred(terms: readonly Term[]): ElectronCount {
       (t.side === 'reactant' ? entry.from : entry.to).push([state, n]);
     }
   }
-  if (undetermined.length > 0) return { electrons: null, changes: [], undetermined, conventions };
+  if (undetermined.length > 0) return { electrons: null, changes: null, undetermined, conventions };
   let total = Rational.ZERO;
   const changes: { element: string; oxidised: string; reduced: string }[] = [];
   for (const [element, { from, to }] of [...atoms].sort((a, b) => (a[0] < b[0] ? -1 : 1))) {

@@ -98,7 +98,11 @@ export function balanceService(input: BalanceTextInput, elements?: ReadonlySet<s
       equationUnicode: unicodeEquation(r),
       terms: termsOut(r.terms),
       electrons: count === null ? r.electrons : count.electrons,
-      ...(count ? { oxidationStateChanges: count.changes.map((c) => ({ element: c.element, electronsLost: c.oxidised, electronsGained: c.reduced })) } : {}),
+      // null (the reason in electronsNote) when the formula rules leave a species' states open:
+      // an empty list would read as "no element changes state", a non-redox reaction
+      ...(count
+        ? { oxidationStateChanges: count.changes === null ? null : count.changes.map((c) => ({ element: c.element, electronsLost: c.oxidised, electronsGained: c.reduced })) }
+        : {}),
       ...(electronsNote ? { electronsNote } : {}),
       method: 'Null space of the element-and-charge matrix over exact rationals; smallest whole coefficients',
     };

@@ -13,7 +13,8 @@
  *            multiplier: CuSO4·5H2O, Ca(OCl)2.4H2O, Na2CO3*10H2O. Spaces around the dot are allowed.
  * Charge     Written after the formula, before any phase label:
  *              ^ form, always accepted and never ambiguous: MnO4^-, SO4^2-, Fe^3+, MnO4^2-, NH4^+
- *              repeated signs: SO4-- (charge 2-), Fe+++ (charge 3+)
+ *              repeated signs: SO4-- (charge 2-), Fe+++ (charge 3+), Fe(OH)2++; digits directly before
+ *                them are a count only where a single sign would read them as one too (see below)
  *              one trailing sign: charge 1+ or 1-, any digits before it are a count:
  *                MnO4- (four O, charge 1-), NH4+, HCO3-, ClO2-, OH-, H+, Fe(OH)2+
  *              a monatomic ion written as ONE element symbol, ONE digit and a sign: the digit is the
@@ -21,9 +22,14 @@
  *              superscripts: SO₄²⁻, Fe³⁺
  *            Refused as ambiguous (FORMULA_AMBIGUOUS_CHARGE, naming both readings; use the ^ form):
  *              two or more digits before a single sign: SO42- (SO4^2- or SO42^-?), MnO42-, HPO42-;
- *              digits after a closing square bracket then a sign: [Fe(H2O)6]3+ (charge 3+ or count 3?).
+ *              digits after a closing square bracket then a sign: [Fe(H2O)6]3+ (charge 3+ or count 3?);
+ *              the same digits before a repeated sign: Fe2++ (Fe^2+ with the sign doubled, or the dimer
+ *                Fe2^2+?), Hg2++, O2--, SO42--, [Fe(H2O)6]3++. One digit after a formula of more than one
+ *                element, or after ")", stays a count: SO4--, Cr2O7--, Fe(OH)2++.
  *            Note: by the one-sign rule FeOH2+ reads as FeOH2^+ (count 2); write FeOH^2+ for the
  *            hydroxo-iron(III) ion. Likewise O2- reads as the oxide ion O^2-; write O2^- for superoxide.
+ *            A charge is not written after a number or inside parentheses: Fe+2, Fe^+2, SO4-2 and Fe(2+)
+ *            are refused, the message spelling the formula typed with its charge in the notation (Fe2+, Fe^2+).
  * Phase      At the very end, after any charge: (s), (l), (g), (aq): Fe(OH)3(s), Fe2+(aq), O2(g).
  *            A space before the label is allowed.
  * Electron   "e-" (also "e^-", "e−"): composition {}, charge 1-.
@@ -100,6 +106,8 @@ export function parseFormulaIn(
   start: number,
   end: number,
   elements: ReadonlySet<string>,
+  /** Whether errors spell out corrected formulas (off while such a spelling is itself being checked). */
+  suggest = true,
 ): { species: Species; ast: FormulaAst } {
   while (start < end && /\s/.test(source[start] as string)) start++;
   while (end > start && /\s/.test(source[end - 1] as string)) end--;
@@ -121,7 +129,7 @@ export function parseFormulaIn(
     };
   }
   const tokens = lex({ source, start, end }, elements);
-  const ast = new Parser(source, start, tokens).species();
+  const ast = new Parser(source, start, tokens, elements, suggest).species();
   const composition: Record<string, number> = {};
   for (const part of ast.parts) addItems(composition, part.items, part.multiplier ?? 1);
   const species: Species = { text, composition, charge: ast.charge, phase: ast.phase };
@@ -164,10 +172,14 @@ function asciiText(text: string, species: Species, elements: ReadonlySet<string>
     plain += mapped;
     caret += mapped;
   }
-  for (const candidate of [plain, caret]) {
+  // a trailing run of plain signs after digits that came from subscripts (Fe₂+, Fe₂++) reads
+  // differently in plain digits (Fe2+ is Fe^2+; Fe2++ is ambiguous): write it with ^
+  const run = /^(.*?[^+\-^])([+-]+)(\s*\((?:s|l|g|aq)\))?$/.exec(caret);
+  const signsWithCaret = run && !caret.includes('^') ? `${run[1]}^${run[2]!.length > 1 ? run[2]!.length : ''}${run[2]![0]}${run[3] ?? ''}` : null;
+  for (const candidate of signsWithCaret ? [plain, caret, signsWithCaret] : [plain, caret]) {
     if (!/^[\x20-\x7e]*$/.test(candidate)) continue;
     try {
-      const again = parseFormulaIn(candidate, 0, candidate.length, elements).species;
+      const again = parseFormulaIn(candidate, 0, candidate.length, elements, false).species;
       if (again.charge === species.charge && again.phase === species.phase && sameComposition(again.composition, species.composition)) return candidate;
     } catch {
       // the plain reading is ambiguous or different: try the ^ form
@@ -216,16 +228,100 @@ function describe(t: Token): string {
 const CLOSER = { '(': ')', '[': ']' } as const;
 const BRACKET_NAME = { '(': 'parenthesis', '[': 'square bracket' } as const;
 
+type NumberToken = Extract<Token, { kind: 'number' }>;
+type SignToken = Extract<Token, { kind: 'sign' }>;
+
+/** How the charge of the formula was written: where it starts and whether it had a number of its own. */
+interface WrittenCharge {
+  /** Position of the first character of the charge (the "^", the first sign, or the digit read as the charge). */
+  readonly start: number;
+  readonly magnitude: number;
+  readonly sign: 1 | -1;
+  /** The charge was written with a number (^2-, Fe2+, ²⁻), not with signs alone. */
+  readonly numbered: boolean;
+}
+
+function signText(sign: 1 | -1): string {
+  return sign > 0 ? '+' : '-';
+}
+
+function chargeText(magnitude: number, sign: 1 | -1): string {
+  return `${magnitude}${signText(sign)}`;
+}
+
+/** '"A"', '"A" or "B"'. */
+function either(spellings: readonly string[]): string {
+  return spellings.map(quote).join(' or ');
+}
+
 class Parser {
   private i = 0;
   /** The count token read last, with the item it was given to (a single trailing sign may turn it into a charge). */
-  private lastCount: { token: Extract<Token, { kind: 'number' }>; item: Item; afterClose: ']' | ')' | null } | null = null;
+  private lastCount: { token: NumberToken; item: Item; afterClose: ']' | ')' | null } | null = null;
+  private written: WrittenCharge | null = null;
 
   constructor(
     private readonly source: string,
     private readonly start: number,
     private readonly tokens: readonly Token[],
+    private readonly elements: ReadonlySet<string>,
+    private readonly suggest: boolean,
   ) {}
+
+  /** Position just past the formula (the end token). */
+  private get end(): number {
+    return (this.tokens[this.tokens.length - 1] as Token).pos;
+  }
+
+  /**
+   * Spellings of `formula` (the text before the charge, as typed) with the charge `magnitude`,`sign`
+   * and then `suffix` (a phase label or nothing) that this parser reads as that species, the most
+   * usual first: Fe2+ and Fe^2+; SO4^2- and SO4--; at most two. Empty when the formula before the
+   * charge does not parse on its own, or while a spelling is being checked.
+   */
+  private spellings(formula: string, magnitude: number, sign: 1 | -1, suffix: string): string[] {
+    if (!this.suggest || formula.trim() === '' || magnitude < 1) return [];
+    let composition: Readonly<Record<string, number>>;
+    try {
+      const bare = parseFormulaIn(formula, 0, formula.length, this.elements, false).species;
+      if (bare.charge !== 0) return [];
+      composition = bare.composition;
+    } catch {
+      return [];
+    }
+    const s = signText(sign);
+    const candidates = [
+      ...(magnitude > 1 ? [`${formula}${magnitude}${s}`] : [`${formula}${s}`]),
+      `${formula}^${magnitude > 1 ? magnitude : ''}${s}`,
+      ...(magnitude > 1 && magnitude <= 3 ? [`${formula}${s.repeat(magnitude)}`] : []),
+    ].map((c) => c + suffix);
+    const out: string[] = [];
+    for (const c of candidates) {
+      try {
+        const sp = parseFormulaIn(c, 0, c.length, this.elements, false).species;
+        if (sp.charge === magnitude * sign && sameComposition(sp.composition, composition) && !out.includes(c)) out.push(c);
+      } catch {
+        // not read as meant: not offered
+      }
+      if (out.length === 2) break;
+    }
+    return out;
+  }
+
+  /**
+   * The text from token index `from` to the end when it is a phase label or nothing ("", " (aq)");
+   * null when something else follows (a corrected spelling of the part before would drop it).
+   */
+  private phaseSuffix(from: number): string | null {
+    const rest = this.tokens.slice(from);
+    const first = rest[0];
+    if (!first) return null;
+    if (first.kind === 'end' || (first.kind === 'phase' && rest[1]?.kind === 'end')) {
+      const prev = this.tokens[from - 1];
+      return this.source.slice(prev ? prev.end : first.pos, this.end);
+    }
+    return null;
+  }
 
   private peek(): Token {
     return this.tokens[this.i] as Token;
@@ -294,6 +390,7 @@ class Parser {
         items.push(item);
       } else if (t.kind === 'open') {
         this.next();
+        this.refuseRomanNumeral(t);
         const inner = this.items(t);
         const close = this.next(); // checked by the inner call
         const item: GroupItem = { kind: 'group', bracket: t.bracket, items: inner, count: 1, pos: t.pos };
@@ -305,7 +402,7 @@ class Parser {
       const t = this.peek();
       const name = BRACKET_NAME[open.bracket];
       if (items.length === 0) {
-        throw this.fail(t.pos, `the ${name} opened at position ${open.pos} is empty; expected an element symbol inside it`);
+        throw this.notItems(open) ?? this.fail(t.pos, `the ${name} opened at position ${open.pos} is empty; expected an element symbol inside it`);
       }
       if (t.kind !== 'close') {
         const at = t.kind === 'end' ? 'at the end' : `before ${describe(t)} at position ${t.pos}`;
@@ -316,6 +413,69 @@ class Parser {
       }
     }
     return items;
+  }
+
+  /**
+   * "Fe(II)", "As(III)", "Mn(IV)": an oxidation state in Roman numerals would otherwise read as a
+   * group of iodine and vanadium atoms (FeI2, AsI3, MnIV). Refused, with the ion spelled in the
+   * notation where the element's ion of that charge reads ("Fe2+" for iron(II)).
+   */
+  private refuseRomanNumeral(open: Extract<Token, { kind: 'open' }>): void {
+    if (open.bracket !== '(') return;
+    const rest = this.source.slice(open.end);
+    const m = /^(VIII|VII|VI|IV|V|III|II|I)\)/.exec(rest);
+    if (!m) return;
+    const roman = m[1]!;
+    const value = { I: 1, II: 2, III: 3, IV: 4, V: 5, VI: 6, VII: 7, VIII: 8 }[roman as 'I']!;
+    const formula = this.source.slice(this.start, open.pos);
+    // the bare ion only where it is a usual aqueous ion's charge (Fe2+, Mn2+, Fe3+, Cu+); As(III), Cr(VI) are in oxyanions
+    const spelled = /^[A-Z][a-z]?$/.test(formula) && value <= 3 ? this.spellings(formula, value, 1, '') : [];
+    const fix = spelled.length > 0 ? `: for the ion write ${either(spelled)}, or the species it is in (e.g. "Fe(OH)3" for iron(III) hydroxide)` : ': write the species as a formula with its charge (e.g. "Fe2+" for iron(II), "H3AsO3" for arsenic(III))';
+    throw this.fail(open.pos, `the parentheses at position ${open.pos} hold "${roman}", an oxidation state in Roman numerals, which a formula does not carry (it would read as atoms of iodine or vanadium)${fix}`);
+  }
+
+  /**
+   * A bracket that holds no element but a charge ("Fe(2+)", "SO4(2-)", "Fe(+3)") or only a number
+   * ("Fe(2)"): the error that says so, spelling the formula with its charge in the notation.
+   */
+  private notItems(open: Extract<Token, { kind: 'open' }>): DomainError | null {
+    let j = this.i;
+    const inner: Token[] = [];
+    for (; j < this.tokens.length; j++) {
+      const t = this.tokens[j] as Token;
+      if (t.kind === 'close' || t.kind === 'end') break;
+      if (t.kind !== 'number' && t.kind !== 'sign' && t.kind !== 'caret' && t.kind !== 'supcharge') return null;
+      inner.push(t);
+    }
+    const close = this.tokens[j];
+    if (inner.length === 0 || close?.kind !== 'close') return null;
+    const name = open.bracket === '(' ? 'parentheses' : 'square brackets';
+    const shownInner = this.source.slice(open.end, close.pos);
+    const formula = this.source.slice(this.start, open.pos);
+    const suffix = this.phaseSuffix(j + 1);
+    const signs = inner.filter((t): t is SignToken => t.kind === 'sign');
+    const numbers = inner.filter((t): t is NumberToken => t.kind === 'number');
+    const sup = inner.find((t): t is Extract<Token, { kind: 'supcharge' }> => t.kind === 'supcharge');
+    const where = `the ${name} at position ${open.pos} hold`;
+    if (signs.length === 0 && !sup) {
+      const n = numbers[0]?.digits ?? '';
+      // "Fe(2)" → Fe2; after a longer formula the count's place is not known ("SO4(2)": (SO4)2?)
+      const count = /^[A-Z][a-z]*$/.test(formula) && numbers.length === 1 ? ` (e.g. ${quote(formula + n)})` : ' (e.g. "Fe2(SO4)3")';
+      const charged = `${formula || 'Fe'}^${n || 2}`;
+      return this.fail(open.pos, `${where} only ${quote(shownInner)}, with no element symbol; a count is written directly after the element or group it counts${count}, and a charge after the formula with its sign and no brackets (e.g. ${either([`${charged}+`, `${charged}-`])})`);
+    }
+    let magnitude = 0;
+    let sign: 1 | -1 = 1;
+    if (sup) {
+      magnitude = Math.abs(sup.charge);
+      sign = sup.charge > 0 ? 1 : -1;
+    } else if (signs.every((t) => t.sign === (signs[0] as SignToken).sign) && numbers.length <= 1) {
+      sign = (signs[0] as SignToken).sign;
+      magnitude = numbers.length === 1 ? (numbers[0] as NumberToken).value : signs.length;
+    }
+    const spelled = magnitude > 0 && suffix !== null ? this.spellings(formula, magnitude, sign, suffix) : [];
+    const fix = spelled.length > 0 ? `: write ${either(spelled)}` : ' (e.g. "Fe^2+", "SO4^2-")';
+    return this.fail(open.pos, `${where} a charge, ${quote(shownInner)}, and no element symbol; a charge is written after the formula without brackets${fix}`);
   }
 
   private count(item: Item, afterClose: ']' | ')' | null): void {
@@ -334,6 +494,7 @@ class Parser {
     const t = this.peek();
     if (t.kind === 'supcharge') {
       this.next();
+      this.written = { start: t.pos, magnitude: Math.abs(t.charge), sign: t.charge > 0 ? 1 : -1, numbered: true };
       return t.charge;
     }
     if (t.kind === 'caret') {
@@ -353,29 +514,37 @@ class Parser {
       if (magnitude !== null && signs.length > 1) {
         throw this.fail((signs[1] as Token).pos, `the charge after "^" at position ${t.pos} has a number and more than one sign; write one sign, e.g. ^2-`);
       }
-      return (magnitude ?? signs.length) * (signs[0] as Extract<Token, { kind: 'sign' }>).sign;
+      const sign = (signs[0] as SignToken).sign;
+      this.written = { start: t.pos, magnitude: magnitude ?? signs.length, sign, numbered: magnitude !== null };
+      return (magnitude ?? signs.length) * sign;
     }
     if (t.kind !== 'sign') return 0;
 
     const before = this.tokens[this.i - 1];
     const signs = this.signs();
-    const sign = (signs[0] as Extract<Token, { kind: 'sign' }>).sign;
-    if (signs.length > 1) return sign * signs.length;
+    const sign = (signs[0] as SignToken).sign;
+    this.written = { start: t.pos, magnitude: signs.length, sign, numbered: false };
 
     const last = this.lastCount;
-    if (!last || before !== last.token || last.token.subscript) return sign;
+    if (!last || before !== last.token || last.token.subscript) return sign * signs.length;
 
-    // digits directly before a single sign: count or charge?
+    // digits directly before the sign(s): count or charge?
     const digits = last.token.digits;
     const only = parts.length === 1 && parts[0]?.items.length === 1 ? parts[0].items[0] : undefined;
     const monatomic = only !== undefined && only.kind === 'element' && only === last.item;
+    // where a single sign would read the digits as a charge or refuse them, a repeated sign is
+    // no help: "Fe2++" may be Fe^2+ with its sign doubled or the dimer Fe2^2+
+    const unclear = digits.length >= 2 || last.afterClose === ']' || monatomic;
+    if (signs.length > 1) {
+      if (unclear) throw this.ambiguousRepeated(last.token, sign, signs, last.afterClose === ']', monatomic);
+      return sign * signs.length;
+    }
     if (monatomic && digits.length === 1) {
       last.item.count = 1;
+      this.written = { start: last.token.pos, magnitude: Number(digits), sign, numbered: true };
       return sign * Number(digits);
     }
-    if (digits.length >= 2 || last.afterClose === ']' || monatomic) {
-      throw this.ambiguous(last.token, sign, last.afterClose === ']');
-    }
+    if (unclear) throw this.ambiguous(last.token, sign, last.afterClose === ']');
     return sign;
   }
 
@@ -393,7 +562,31 @@ class Parser {
     return out;
   }
 
-  private ambiguous(token: Extract<Token, { kind: 'number' }>, sign: 1 | -1, afterBracket: boolean): DomainError {
+  /**
+   * A number after the charge: "Fe+2", "Fe^+2", "SO4-2" (the number of the charge written after its
+   * sign), or "Fe2+3", "Fe^2+3" (a second number). The fix is spelled with the formula typed.
+   */
+  private numberAfterCharge(t: NumberToken, written: WrittenCharge): DomainError {
+    const formula = this.source.slice(this.start, written.start);
+    const chargeWritten = this.source.slice(written.start, t.pos);
+    const suffix = this.phaseSuffix(this.i + 1);
+    const magnitudes = written.numbered || (written.magnitude > 1 && written.magnitude !== t.value) ? [written.magnitude, t.value] : [t.value];
+    const options = [...new Set(magnitudes)]
+      .filter((m) => m >= 1 && suffix !== null)
+      .map((m) => ({ m, spelled: this.spellings(formula, m, written.sign, suffix ?? '') }))
+      .filter((o) => o.spelled.length > 0);
+    const at = `the number ${quote(t.digits)} at position ${t.pos}`;
+    const head = written.numbered
+      ? `${at} follows the charge ${quote(chargeWritten)}; a charge is written once, its number before the sign`
+      : `${at} follows the sign; the number of a charge is written before its sign`;
+    if (options.length === 0) return this.fail(t.pos, `${head} (e.g. "Fe2+", "Fe^2+", "SO4^2-")`);
+    const fix = options.length === 1
+      ? `: write ${either(options[0]!.spelled)}`
+      : `: write ${options.map((o) => `${either(o.spelled)} for charge ${chargeText(o.m, written.sign)}`).join(', ')}`;
+    return this.fail(t.pos, head + fix);
+  }
+
+  private ambiguous(token: NumberToken, sign: 1 | -1, afterBracket: boolean): DomainError {
     const prefix = this.source.slice(this.start, token.pos);
     const digits = token.digits;
     const s = sign > 0 ? '+' : '-';
@@ -419,12 +612,53 @@ class Parser {
     });
   }
 
+  /**
+   * Digits before a repeated sign where they could be the charge: "Fe2++" (Fe^2+ with the sign
+   * doubled, or Fe2^2+), "SO42--" (SO4^2- or SO42^2-), "[Fe(H2O)6]3++" ([Fe(H2O)6]^3+ or
+   * [Fe(H2O)6]3^2+). The readings with the last digits as the charge come first.
+   */
+  private ambiguousRepeated(token: NumberToken, sign: 1 | -1, signs: readonly SignToken[], afterBracket: boolean, monatomic: boolean): DomainError {
+    const prefix = this.source.slice(this.start, token.pos);
+    const digits = token.digits;
+    const s = signText(sign);
+    const suffix = this.phaseSuffix(this.i) ?? '';
+    const readings: { formula: string; count: string; magnitude: number; why: string }[] = [];
+    const lowest = afterBracket || (monatomic && digits.length === 1) ? 0 : 1;
+    for (let k = digits.length - 1; k >= lowest; k--) {
+      const chargePart = digits.slice(k);
+      if (chargePart.startsWith('0')) continue;
+      readings.push({
+        formula: prefix + digits.slice(0, k),
+        count: k === 0 ? '1' : digits.slice(0, k),
+        magnitude: Number(chargePart),
+        why: `${chargePart.length === 1 ? 'the digit' : 'the digits'} ${quote(chargePart)} as the charge, the sign ${signs.length === 2 ? 'doubled' : 'repeated'}`,
+      });
+    }
+    readings.push({ formula: prefix + digits, count: digits, magnitude: signs.length, why: `the ${signs.length} signs as the charge` });
+    const caretForm = (r: (typeof readings)[number]): string => `${r.formula}^${r.magnitude > 1 ? r.magnitude : ''}${s}`;
+    const described = readings.map((r) => `count ${r.count} and charge ${chargeText(r.magnitude, sign)} (${r.why})`);
+    const fixes = readings.map((r) => {
+      const spelled = this.spellings(r.formula, r.magnitude, sign, suffix);
+      return `${either(spelled.length > 0 ? spelled : [caretForm(r) + suffix])} for count ${r.count} and charge ${chargeText(r.magnitude, sign)}`;
+    });
+    const signsText = this.source.slice((signs[0] as SignToken).pos, (signs[signs.length - 1] as SignToken).end);
+    const ways = readings.length === 2 ? 'two ways' : 'several ways';
+    return new DomainError('FORMULA_AMBIGUOUS_CHARGE', {
+      detail:
+        `In ${quote(this.source)} the ${digits.length === 1 ? 'digit' : 'digits'} ${quote(digits)} at position ${token.pos} before the repeated sign ${quote(signsText)} can be read ${ways}: ` +
+        `${described.slice(0, -1).join(', ')} or ${described[described.length - 1]}. Write ${fixes.join('; ')}`,
+      text: this.source,
+      position: token.pos,
+      params: { formula: this.source, readings: readings.map(caretForm) },
+    });
+  }
+
   private trailing(t: Token, hadCharge: boolean, hadPhase: boolean): DomainError {
     if (hadPhase) {
       return this.fail(t.pos, `${describe(t)} at position ${t.pos} follows the phase label; the phase label comes last (e.g. "Fe2+(aq)")`);
     }
-    if (t.kind === 'number' && hadCharge) {
-      return this.fail(t.pos, `the number ${quote(t.digits)} at position ${t.pos} follows the sign; write the charge number before the sign with ^ (e.g. "SO4^2-")`);
+    if (t.kind === 'number' && hadCharge && this.written) {
+      return this.numberAfterCharge(t, this.written);
     }
     if (hadCharge) {
       return this.fail(t.pos, `${describe(t)} at position ${t.pos} follows the charge; only a phase label ((s), (l), (g), (aq)) may come after the charge`);

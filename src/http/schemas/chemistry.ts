@@ -36,8 +36,9 @@ export const BalanceResponse = z.object({
     .describe('Electrons transferred by the reaction as written: the e- coefficient of a half-reaction, else from the oxidation states of the species (0 for a non-redox reaction); null when the formula rules cannot settle them (see electronsNote)'),
   oxidationStateChanges: z
     .array(z.object({ element: z.string(), electronsLost: z.string(), electronsGained: z.string() }))
+    .nullable()
     .optional()
-    .describe('Per element that changes oxidation state: the electrons its atoms give up (oxidation) and take up (reduction) in the reaction as written, exact'),
+    .describe('Per element that changes oxidation state: the electrons its atoms give up (oxidation) and take up (reduction) in the reaction as written, exact; null when the formula rules cannot settle a species (the reason is in electronsNote)'),
   electronsNote: z.string().optional(),
   medium: Medium.optional(),
   mediumReason: z.string().optional(),

@@ -88,6 +88,13 @@ describe('electrons transferred by a balanced reaction', () => {
     const count = electronsTransferred(balance(['FeS2', 'O2', 'H2O'], ['Fe(OH)3', 'SO4^2-', 'H+']).terms);
     expect(count.electrons).toBeNull();
     expect(count.undetermined).toEqual([{ species: 'FeS2', elements: expect.arrayContaining(['Fe', 'S']) }]);
+    // nothing is known of the changes: null, not [] (which says "no element changes state")
+    expect(count.changes).toBeNull();
+  });
+
+  it('a reaction in which no state changes has an empty list of changes, not null', () => {
+    const count = electronsTransferred(balance(['CaCO3', 'HCl'], ['CaCl2', 'CO2', 'H2O']).terms);
+    expect(count).toMatchObject({ electrons: 0, changes: [], undetermined: [] });
   });
 
   // independent route: the half-reaction method counts electrons as the LCM of the two halves

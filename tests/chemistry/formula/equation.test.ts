@@ -70,6 +70,19 @@ describe('parseEquation', () => {
     expect(e.caret()?.split('\n')[1]).toBe(' '.repeat(30) + '^');
   });
 
+  it.each([
+    ['Fe3+ + e- = Fe+2', 'FORMULA_SYNTAX', 15, 'write "Fe2+" or "Fe^2+"'],
+    ['Fe3+ + e- = Fe(2+)(aq)', 'FORMULA_SYNTAX', 14, 'write "Fe2+(aq)" or "Fe^2+(aq)"'],
+    ['Hg2++ + 2e- = 2Hg', 'FORMULA_AMBIGUOUS_CHARGE', 2, '"Hg2^2+" for count 2 and charge 2+'],
+    ['2H+ + 2e- = Hg2++', 'FORMULA_AMBIGUOUS_CHARGE', 14, '"Hg2^2+" for count 2 and charge 2+'],
+  ] as const)('a charge written the wrong way inside an equation: %j is %s at %i, spelled with the formula typed there', (text, code, position, words) => {
+    const e = fails(text);
+    expect(e.code).toBe(code);
+    expect(e.position).toBe(position);
+    expect(e.text).toBe(text);
+    expect(e.detail).toContain(words);
+  });
+
   it('suggests " + " when terms were run together', () => {
     const e = fails('H++OH- = H2O');
     expect(e.code).toBe('FORMULA_SYNTAX');

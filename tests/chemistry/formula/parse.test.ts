@@ -40,6 +40,11 @@ describe('parseFormula: edge cases', () => {
     ['MnO4−', { Mn: 1, O: 4 }, -1, null, 'MnO4-'], // U+2212 minus
     ['Fe³⁺', { Fe: 1 }, 3, null, 'Fe3+'],
     ['O₂⁻', { O: 2 }, -1, null, 'O2^-'], // superoxide: "O2-" reads as the oxide ion O^2-
+    // a subscript is always a count; the plain text needs ^ where plain digits would read as a charge
+    ['Fe₂+', { Fe: 2 }, 1, null, 'Fe2^+'], // "Fe2+" is Fe^2+
+    ['Fe₂++', { Fe: 2 }, 2, null, 'Fe2^2+'], // "Fe2++" is ambiguous
+    ['Hg₂²⁺', { Hg: 2 }, 2, null, 'Hg2^2+'], // mercury(I), a dimer
+    ['Hg₂++ (aq)', { Hg: 2 }, 2, 'aq', 'Hg2^2+ (aq)'],
     ['Fe2+ (aq)', { Fe: 1 }, 2, 'aq', 'Fe2+ (aq)'],
     ['CuSO4 · 5H2O', { Cu: 1, S: 1, O: 9, H: 10 }, 0, null, 'CuSO4 . 5H2O'],
   ] as const)('%s', (text, composition, charge, phase, kept) => {
@@ -70,6 +75,16 @@ describe('parseFormula: the notation', () => {
     ['NO3-', { N: 1, O: 3 }, -1, null],
     ['H2PO4-', { H: 2, P: 1, O: 4 }, -1, null],
     ['Fe(OH)2+', { Fe: 1, O: 2, H: 2 }, 1, null],
+    // repeated signs: one digit after a formula of several elements, or after ")", stays a count
+    ['SO4--', { S: 1, O: 4 }, -2, null],
+    ['Cr2O7--', { Cr: 2, O: 7 }, -2, null],
+    ['HPO4--', { H: 1, P: 1, O: 4 }, -2, null],
+    ['Fe(OH)2++', { Fe: 1, O: 2, H: 2 }, 2, null],
+    ['Fe++', { Fe: 1 }, 2, null],
+    ['Fe+++(aq)', { Fe: 1 }, 3, 'aq'],
+    ['Fe2^2+', { Fe: 2 }, 2, null],
+    ['Hg2^2+', { Hg: 2 }, 2, null],
+    ['O2^2-', { O: 2 }, -2, null], // peroxide
     ['OCl-', { O: 1, Cl: 1 }, -1, null],
     // monatomic ion: one symbol, one digit, a sign: the digit is the charge
     ['Fe2+', { Fe: 1 }, 2, null],
@@ -107,6 +122,33 @@ describe('parseFormula: the notation', () => {
   });
 });
 
+describe('parseFormula: oxidation states in Roman numerals are refused, not read as iodine and vanadium', () => {
+  it.each([
+    // [text, position of "(", the fix the message must offer]
+    ['Fe(II)', 2, '"Fe2+" or "Fe^2+"'],
+    ['Fe(III)', 2, '"Fe3+" or "Fe^3+"'],
+    ['Cu(I)', 2, '"Cu+" or "Cu^+"'],
+    ['Mn(IV)', 2, 'the species as a formula'],
+    ['As(III)', 2, '"As3+" or "As^3+"'],
+    ['Cr(VI)', 2, 'the species as a formula'],
+    ['Fe(II)(aq)', 2, '"Fe2+" or "Fe^2+"'],
+  ])('%s', (text, position, fix) => {
+    const e = fails(text);
+    expect(e.code).toBe('FORMULA_SYNTAX');
+    expect(e.position).toBe(position);
+    expect(e.detail).toMatch(/oxidation state in Roman numerals/);
+    expect(e.detail).toContain(fix);
+  });
+  it.each([
+    ['Ca(IO3)2', { Ca: 1, I: 2, O: 6 }],
+    ['Fe(I2)', { Fe: 1, I: 2 }],
+    ['KI', { K: 1, I: 1 }],
+    ['V2O5', { V: 2, O: 5 }],
+  ])('groups that only start with I or V still read: %s', (text, composition) => {
+    expect(parseFormula(text).composition).toEqual(composition);
+  });
+});
+
 describe('parseFormula: errors carry the formula and the position of the bad character', () => {
   it.each([
     // [text, code, position, words the detail must contain]
@@ -122,8 +164,25 @@ describe('parseFormula: errors carry the formula and the position of the bad cha
     ['H02', 'FORMULA_SYNTAX', 1, 'starts with 0'],
     ['2H2O', 'FORMULA_SYNTAX', 0, 'coefficients belong in an equation'],
     ['Mn O4', 'FORMULA_SYNTAX', 2, 'space at position 2'],
-    ['Fe2+3', 'FORMULA_SYNTAX', 4, 'write the charge number before the sign with ^'],
-    ['SO4-2', 'FORMULA_SYNTAX', 4, 'write the charge number before the sign with ^'],
+    // a number after the sign: the fix is spelled with the formula typed
+    ['Fe+2', 'FORMULA_SYNTAX', 3, 'the number "2" at position 3 follows the sign; the number of a charge is written before its sign: write "Fe2+" or "Fe^2+"'],
+    ['Fe^+2', 'FORMULA_SYNTAX', 4, 'write "Fe2+" or "Fe^2+"'],
+    ['Fe-3', 'FORMULA_SYNTAX', 3, 'write "Fe3-" or "Fe^3-"'],
+    ['Fe+2(aq)', 'FORMULA_SYNTAX', 3, 'write "Fe2+(aq)" or "Fe^2+(aq)"'],
+    ['SO4-2', 'FORMULA_SYNTAX', 4, 'write "SO4^2-" or "SO4--"'],
+    ['MnO4-2', 'FORMULA_SYNTAX', 5, 'write "MnO4^2-" or "MnO4--"'],
+    ['Fe2+3', 'FORMULA_SYNTAX', 4, 'follows the charge "2+"; a charge is written once, its number before the sign: write "Fe2+" or "Fe^2+" for charge 2+, "Fe3+" or "Fe^3+" for charge 3+'],
+    ['Fe^2+3', 'FORMULA_SYNTAX', 5, 'follows the charge "^2+"'],
+    ['Fe+2Cl', 'FORMULA_SYNTAX', 3, 'the number of a charge is written before its sign (e.g.'],
+    // a charge in brackets: not an empty bracket
+    ['Fe(2+)', 'FORMULA_SYNTAX', 2, 'the parentheses at position 2 hold a charge, "2+", and no element symbol; a charge is written after the formula without brackets: write "Fe2+" or "Fe^2+"'],
+    ['Fe(+2)', 'FORMULA_SYNTAX', 2, 'write "Fe2+" or "Fe^2+"'],
+    ['Fe(3+)(aq)', 'FORMULA_SYNTAX', 2, 'write "Fe3+(aq)" or "Fe^3+(aq)"'],
+    ['SO4(2-)', 'FORMULA_SYNTAX', 3, 'write "SO4^2-" or "SO4--"'],
+    ['MnO4(-)', 'FORMULA_SYNTAX', 4, 'write "MnO4-" or "MnO4^-"'],
+    ['Fe[3+]', 'FORMULA_SYNTAX', 2, 'the square brackets at position 2 hold a charge'],
+    ['Fe(2)', 'FORMULA_SYNTAX', 2, 'hold only "2", with no element symbol'],
+    ['Fe()', 'FORMULA_SYNTAX', 3, 'the parenthesis opened at position 2 is empty'],
     ['Fe(s)2', 'FORMULA_SYNTAX', 5, 'the phase label comes last'],
     ['Fe^', 'FORMULA_SYNTAX', 3, 'after "^" at position 2 a charge is expected'],
     ['Fe^2', 'FORMULA_SYNTAX', 4, 'after "^" at position 2 a charge is expected'],
@@ -138,6 +197,17 @@ describe('parseFormula: errors carry the formula and the position of the bad cha
     ['HPO42-', 'FORMULA_AMBIGUOUS_CHARGE', 3, '"HPO4^2-"'],
     ['S22-', 'FORMULA_AMBIGUOUS_CHARGE', 1, '"S2^2-"'],
     ['[Fe(H2O)6]3+', 'FORMULA_AMBIGUOUS_CHARGE', 10, '"[Fe(H2O)6]^3+"'],
+    // digits before a repeated sign where a single sign would not read them as a plain count
+    ['Fe2++', 'FORMULA_AMBIGUOUS_CHARGE', 2, 'the digit "2" at position 2 before the repeated sign "++" can be read two ways'],
+    ['Fe2++', 'FORMULA_AMBIGUOUS_CHARGE', 2, 'Write "Fe2+" or "Fe^2+" for count 1 and charge 2+; "Fe2^2+" for count 2 and charge 2+'],
+    ['Fe2++(aq)', 'FORMULA_AMBIGUOUS_CHARGE', 2, 'Write "Fe2+(aq)" or "Fe^2+(aq)" for count 1 and charge 2+; "Fe2^2+(aq)" for count 2 and charge 2+'],
+    ['Fe2+++', 'FORMULA_AMBIGUOUS_CHARGE', 2, '"Fe2^3+" for count 2 and charge 3+'],
+    ['Hg2++', 'FORMULA_AMBIGUOUS_CHARGE', 2, '"Hg2^2+" for count 2 and charge 2+'],
+    ['O2--', 'FORMULA_AMBIGUOUS_CHARGE', 1, '"O2-" or "O^2-" for count 1 and charge 2-; "O2^2-" for count 2 and charge 2-'],
+    ['S2--', 'FORMULA_AMBIGUOUS_CHARGE', 1, '"S2^2-" for count 2 and charge 2-'],
+    ['SO42--', 'FORMULA_AMBIGUOUS_CHARGE', 2, 'Write "SO4^2-" or "SO4--" for count 4 and charge 2-; "SO42^2-" for count 42 and charge 2-'],
+    ['Fe22++', 'FORMULA_AMBIGUOUS_CHARGE', 2, '"Fe2^2+" for count 2 and charge 2+; "Fe22^2+" for count 22 and charge 2+'],
+    ['[Fe(H2O)6]3++', 'FORMULA_AMBIGUOUS_CHARGE', 10, '"[Fe(H2O)6]^3+" or "[Fe(H2O)6]+++" for count 1 and charge 3+; "[Fe(H2O)6]3^2+" for count 3 and charge 2+'],
   ] as const)('%j → %s at %i', (text, code, position, words) => {
     const e = fails(text);
     expect(e.code).toBe(code);
@@ -151,6 +221,50 @@ describe('parseFormula: errors carry the formula and the position of the bad cha
     const e = fails('SO42-');
     expect(e.params['readings']).toEqual(['SO4^2-', 'SO42^-']);
     expect(e.detail).toContain('Write the charge with ^');
+  });
+
+  it.each([
+    ['Fe2++', ['Fe^2+', 'Fe2^2+'], [{ Fe: 1 }, { Fe: 2 }], [2, 2]],
+    ['Hg2++', ['Hg^2+', 'Hg2^2+'], [{ Hg: 1 }, { Hg: 2 }], [2, 2]],
+    ['O2--', ['O^2-', 'O2^2-'], [{ O: 1 }, { O: 2 }], [-2, -2]], // oxide or peroxide
+    ['SO42--', ['SO4^2-', 'SO42^2-'], [{ S: 1, O: 4 }, { S: 1, O: 42 }], [-2, -2]],
+    ['[Fe(H2O)6]3++', ['[Fe(H2O)6]^3+', '[Fe(H2O)6]3^2+'], [{ Fe: 1, H: 12, O: 6 }, { Fe: 3, H: 36, O: 18 }], [3, 2]],
+  ] as const)('%s names its readings in params, each of which reads back as the species it describes', (text, readings, compositions, charges) => {
+    const e = fails(text);
+    expect(e.params['readings']).toEqual(readings);
+    readings.forEach((r, i) => {
+      const s = parseFormula(r);
+      expect(s.composition).toEqual(compositions[i]);
+      expect(s.charge).toBe(charges[i]);
+    });
+  });
+
+  it.each(['Fe+2', 'Fe^+2', 'Fe-3', 'Fe+2(aq)', 'SO4-2', 'MnO4-2', 'Fe2+3', 'Fe(2+)', 'Fe(+2)', 'Fe(3+)(aq)', 'SO4(2-)', 'MnO4(-)', 'Fe[3+]', 'Fe2++', 'Fe2++(aq)', 'O2--', 'SO42--', 'Fe22++', '[Fe(H2O)6]3++'])(
+    '%s: every spelling the message offers reads without error and keeps the elements typed',
+    (text) => {
+      const e = fails(text);
+      const offered = [...e.detail.slice(e.detail.search(/[Ww]rite /)).matchAll(/"([^"]+)"/g)].map((m) => m[1]!);
+      expect(offered.length).toBeGreaterThan(0);
+      const typed = new Set(text.match(/[A-Z][a-z]?/g));
+      for (const o of offered) {
+        const s = parseFormula(o);
+        expect(new Set(Object.keys(s.composition))).toEqual(typed);
+        expect(s.charge).not.toBe(0);
+      }
+    },
+  );
+
+  it('a repeated sign after one element and one digit is refused for every element and digit, the ^ form read as a count', () => {
+    for (const symbol of ['H', 'O', 'S', 'Fe', 'Mn', 'Hg', 'Cu']) {
+      for (let d = 1; d <= 9; d++) {
+        for (const signs of ['++', '--', '+++']) {
+          expect(fails(`${symbol}${d}${signs}`).code).toBe('FORMULA_AMBIGUOUS_CHARGE');
+          const s = parseFormula(`${symbol}${d}^${signs.length}${signs[0]}`);
+          expect(s.composition).toEqual({ [symbol]: d });
+          expect(s.charge).toBe(signs.length * (signs[0] === '+' ? 1 : -1));
+        }
+      }
+    }
   });
 
   it('draws a caret under the bad character', () => {

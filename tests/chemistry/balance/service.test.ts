@@ -1,0 +1,53 @@
+/**
+ * The balance answer built from text (src/chemistry/balance/service.ts), as the HTTP route and
+ * the CLI return it: the electrons and the oxidation-state changes of a reaction given as
+ * species. Oxidation states are the usual textbook values (e.g. Atkins, Inorganic Chemistry;
+ * from memory); pyrite's balance 4FeS2 + 15O2 + 14H2O → 4Fe(OH)3 + 8SO4^2- + 16H+ is the
+ * textbook acid-mine-drainage reaction (e.g. Stumm & Morgan, Aquatic Chemistry; from memory).
+ */
+import { describe, expect, it } from 'vitest';
+import { balanceService } from '../../../src/chemistry/balance/service.js';
+
+describe('balanceService: oxidation-state changes of a reaction given as species', () => {
+  it('open oxidation states (pyrite FeS2): electrons and oxidationStateChanges are both null, the reason in electronsNote', () => {
+    const r = balanceService({ reactants: ['FeS2', 'O2', 'H2O'], products: ['Fe(OH)3', 'SO4^2-', 'H+'] });
+    expect(r.equation).toBe('4FeS2 + 15O2 + 14H2O -> 4Fe(OH)3 + 8SO4^2- + 16H+');
+    expect(r.electrons).toBeNull();
+    expect(r).toHaveProperty('oxidationStateChanges', null);
+    expect(r).toHaveProperty('electronsNote');
+    expect((r as { electronsNote: string }).electronsNote).toMatch(/oxidation states of Fe and S in FeS2 do not follow from the formula rules/);
+  });
+
+  it('a non-redox reaction: 0 electrons and an empty list (no element changes state)', () => {
+    const r = balanceService({ reactants: ['CaCO3', 'H+'], products: ['Ca2+', 'CO2', 'H2O'] });
+    expect(r).toMatchObject({ electrons: 0, oxidationStateChanges: [] });
+    expect(r).not.toHaveProperty('electronsNote');
+  });
+
+  it('a redox reaction: the changes per element, lost = gained = electrons (5Fe2+ + MnO4- + 8H+: Fe +2→+3, Mn +7→+2)', () => {
+    const r = balanceService({ reactants: ['Fe2+', 'MnO4-', 'H+'], products: ['Fe3+', 'Mn2+', 'H2O'] });
+    expect(r).toMatchObject({
+      electrons: 5,
+      oxidationStateChanges: [
+        { element: 'Fe', electronsLost: '5', electronsGained: '0' },
+        { element: 'Mn', electronsLost: '0', electronsGained: '5' },
+      ],
+    });
+  });
+
+  it('a half-reaction written with e-: its e- coefficient, and no oxidation-state report', () => {
+    const r = balanceService({ reactants: ['MnO4-', 'H+', 'e-'], products: ['Mn2+', 'H2O'] });
+    expect(r.electrons).toBe(5);
+    expect(r).not.toHaveProperty('oxidationStateChanges');
+  });
+
+  it('a formula with its charge written ambiguously is refused with the field pointer, not read as a dimer', () => {
+    try {
+      balanceService({ reactants: ['Fe2++'], products: ['Fe3+', 'e-'] });
+      expect.unreachable('Fe2++ must be refused');
+    } catch (e) {
+      expect(e).toMatchObject({ code: 'FORMULA_AMBIGUOUS_CHARGE', position: 2, text: 'Fe2++' });
+      expect((e as { fields: { pointer: string }[] }).fields[0]?.pointer).toBe('/reactants/0');
+    }
+  });
+});
