@@ -77,6 +77,8 @@ export const ERROR_CATALOGUE = {
   PLANT_NOT_FOUND: { kind: 'not-found', title: 'No such plant profile' },
   PLANT_INVALID: { kind: 'invalid', title: 'The plant profile is not valid' },
   DOSE_INPUT_MISSING: { kind: 'invalid', title: 'A required input for the dose is missing' },
+  READING_IMPLAUSIBLE: { kind: 'unprocessable', title: 'A reading is beyond what a raw water source holds' },
+  DENSITY_NOT_TABLED: { kind: 'unprocessable', title: 'No tabled density for this product strength' },
 
   // jar tests
   JAR_TEST_INVALID: { kind: 'invalid', title: 'The jar test is not valid' },

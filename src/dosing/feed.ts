@@ -130,6 +130,83 @@ export function solubilityAt(ox: OxidantRow, temperatureC: number): { value: Dec
   return { value: last.v, clamped: true };
 }
 
+/** One tabled density of a product (a strength row of tables/oxidants.json with a density), at both strength scales. */
+export interface DensityPoint {
+  readonly label: string;
+  /** % w/w of the strength formula (product compound, or available chlorine as Cl2 for hypochlorite). */
+  readonly massPercent: DecT;
+  /** g/L of the strength formula. */
+  readonly gramsPerL: DecT;
+  readonly density: DecT;
+  readonly source: string;
+  readonly fromMemory: boolean;
+}
+
+/**
+ * The product's strength rows that carry a density, as % w/w and g/L of the strength formula,
+ * ordered by strength: % w/w = g/L ÷ (10 × density), g/L = % w/w × density × 10, % w/v = g/L ÷ 10.
+ */
+export function densitySeries(ox: OxidantRow): DensityPoint[] {
+  const out: DensityPoint[] = [];
+  for (const n of ox.strength.nominal) {
+    if (n.densityKgPerL === undefined) continue;
+    const rho = new Dec(n.densityKgPerL);
+    const v = new Dec(n.value);
+    const gramsPerL = n.unit === '% w/w' ? v.times(rho).times(TEN) : n.unit === '% w/v' ? v.times(TEN) : v;
+    out.push({ label: n.label, massPercent: gramsPerL.dividedBy(rho.times(TEN)), gramsPerL, density: rho, source: n.source, fromMemory: /memory/i.test(n.note ?? '') });
+  }
+  return out.sort((a, b) => a.massPercent.comparedTo(b.massPercent));
+}
+
+/**
+ * Density at a strength by straight-line interpolation between the two tabled rows around it
+ * (a tabled strength gives its row's density); null outside the rows: never extrapolated.
+ */
+export function interpolateDensity(series: readonly DensityPoint[], by: 'massPercent' | 'gramsPerL', x: DecT): { density: DecT; text: string; note: string; source: string } | null {
+  if (series.length === 0) return null;
+  const first = series[0]!;
+  const last = series[series.length - 1]!;
+  if (x.lessThan(first[by]) || x.greaterThan(last[by])) return null;
+  const scale = by === 'massPercent' ? '% w/w' : 'g/L';
+  const at = (p: DensityPoint) => `${p.label} at ${roundSigNumber(p[by].toNumber(), 4)} ${scale}, ${p.density.toString()} kg/L`;
+  const memo = (ps: readonly DensityPoint[]) => (ps.some((p) => p.fromMemory) ? '; the rows are from memory of the source, verify' : '');
+  for (let i = 0; i < series.length; i++) {
+    const b = series[i]!;
+    if (x.equals(b[by])) {
+      return { density: b.density, text: `the tabled density of ${at(b)} (tables/oxidants.json, source ${b.source}${memo([b])}), was used`, note: `tabled density of ${b.label} (${b.density.toString()} kg/L)`, source: b.source };
+    }
+    if (i > 0 && x.lessThan(b[by])) {
+      const a = series[i - 1]!;
+      const density = a.density.plus(b.density.minus(a.density).times(x.minus(a[by])).dividedBy(b[by].minus(a[by])));
+      const d = roundSigNumber(density.toNumber(), 4);
+      const sources = a.source === b.source ? `source ${a.source}` : `sources ${a.source} and ${b.source}`;
+      return {
+        density,
+        text: `${d} kg/L was interpolated linearly by strength (${scale}) between the tabled ${at(a)}, and ${at(b)} (tables/oxidants.json, ${sources}${memo([a, b])}),`,
+        note: `${d} kg/L interpolated by strength between ${a.label} (${a.density.toString()} kg/L) and ${b.label} (${b.density.toString()} kg/L)`,
+        source: a.source,
+      };
+    }
+  }
+  return null;
+}
+
+/** A % w/w strength outside the tabled densities: the density is needed and is not guessed. */
+function densityOutOfTable(ox: OxidantRow, series: readonly DensityPoint[], value: number): DomainError {
+  const lo = roundSigNumber(series[0]!.massPercent.toNumber(), 4);
+  const hi = roundSigNumber(series[series.length - 1]!.massPercent.toNumber(), 4);
+  const basis = ox.strength.basis === 'product' ? ox.productFormula : `available chlorine as ${ox.doseBasis}`;
+  const range = series.length === 1 ? `${lo} % w/w ${basis} only (${series[0]!.label})` : `${lo} to ${hi} % w/w ${basis} only (${series[0]!.label} to ${series[series.length - 1]!.label})`;
+  return new DomainError('DENSITY_NOT_TABLED', {
+    detail: `${value} % w/w ${ox.name.toLowerCase()} needs its density to give g/L, and the table holds densities for ${range}; a density is not extrapolated outside them. Give product.density (kg/L, from the certificate of analysis or a hydrometer reading), or the strength in % w/v or g/L.`,
+    fields: [
+      { pointer: '/product/strength', message: `${value} % w/w is outside the ${series.length === 1 ? lo : `${lo} to ${hi}`} % w/w the table holds densities for: the density is not extrapolated` },
+      { pointer: '/product/density', message: 'needed for this strength in % w/w (kg/L)' },
+    ],
+    params: { strength: value, unit: '% w/w', tabledMinPercent: series[0]!.massPercent.toNumber(), tabledMaxPercent: series[series.length - 1]!.massPercent.toNumber() },
+  });
+}
+
 /** Resolve the strength of the fed solution to g/L of its strength formula, saying where the density came from. */
 export function resolveStrength(ox: OxidantRow, product: ProductInput | undefined, flags: Flag[]): { gPerL: DecT; density: DecT | null; used: StrengthUsed } | null {
   const asFormula = ox.strength.basis === 'product' ? ox.productFormula : ox.doseBasis;
@@ -169,18 +246,18 @@ export function resolveStrength(ox: OxidantRow, product: ProductInput | undefine
         });
       }
     } else if (strength.unit === '% w/w') {
-      const withDensity = ox.strength.nominal.filter((n) => n.densityKgPerL !== undefined);
-      if (withDensity.length > 0) {
-        // nearest nominal strength in the same unit, said as such
-        const best = withDensity.reduce((a, b) => (Math.abs(Number(b.value) - strength!.value) < Math.abs(Number(a.value) - strength!.value) ? b : a));
-        density = new Dec(best.densityKgPerL!);
+      const series = densitySeries(ox);
+      if (series.length > 0) {
+        const hit = interpolateDensity(series, 'massPercent', new Dec(strength.value));
+        if (!hit) throw densityOutOfTable(ox, series, strength.value);
+        density = hit.density;
         densityFrom = 'table';
-        densityNote = `density of the nearest tabled product, ${best.label} (${best.densityKgPerL} kg/L), used for ${strength.value} % w/w`;
+        densityNote = hit.note;
         flags.push({
-          code: 'DENSITY_APPROXIMATED',
+          code: 'DENSITY_INTERPOLATED',
           severity: 'warning',
-          message: `A strength in % w/w needs the solution's density; none was given, so the density of ${best.label} (${best.densityKgPerL} kg/L) was used for ${strength.value} % w/w. Give product.density for an exact solution rate.`,
-          source: best.source,
+          message: `A strength in % w/w needs the solution's density; none was given, so ${hit.text} for ${strength.value} % w/w. The density also moves with the temperature${ox.doseBasis === 'Cl2' ? ' and the excess caustic' : ''}: give product.density from the certificate of analysis for an exact solution rate.`,
+          source: hit.source,
         });
       } else {
         density = new Dec(1);
@@ -191,6 +268,21 @@ export function resolveStrength(ox: OxidantRow, product: ProductInput | undefine
           severity: 'warning',
           message: `A strength in % w/w needs the solution's density; none was given or tabled, so 1.00 kg/L (water) was assumed for this dilute solution. Give product.density to refine.`,
           source: 'input',
+        });
+      }
+    } else {
+      // % w/v or g/L: the solution rate needs no density; within the tabled rows the product mass can still be given
+      const gL = strength.unit === '% w/v' ? new Dec(strength.value).times(TEN) : new Dec(strength.value);
+      const hit = interpolateDensity(densitySeries(ox), 'gramsPerL', gL);
+      if (hit) {
+        density = hit.density;
+        densityFrom = 'table';
+        densityNote = hit.note;
+        flags.push({
+          code: 'DENSITY_INTERPOLATED',
+          severity: 'info',
+          message: `No density was given; ${hit.text} for ${strength.value} ${strength.unit} (${roundSigNumber(gL.toNumber(), 4)} g/L), used only for the mass of solution fed and the % w/w. Give product.density from the certificate of analysis to refine.`,
+          source: hit.source,
         });
       }
     }
@@ -304,6 +396,12 @@ export function computeFeed(input: FeedInput): FeedResult {
           const gStrength = gPerL * volumeL;
           const productKg = gStrength / 1000 / purity;
           const solutionG = volumeL * (density ?? 1) * 1000;
+          if (solutionG <= gStrength) {
+            throw new DomainError('QUANTITY_OUT_OF_RANGE', {
+              detail: `A batch solution of ${roundSigNumber(gPerL, 4)} g/L ${strengthFormula} at ${roundSigNumber(density ?? 1, 4)} kg/L would hold more ${strengthFormula} than solution: check product.strength and product.density.`,
+              fields: [{ pointer: '/product/strength/value', message: `${roundSigNumber(gPerL, 4)} g/L is more than the ${roundSigNumber((density ?? 1) * 1000, 4)} g a litre of the solution weighs` }],
+            });
+          }
           const per100 = (gStrength * 100) / (solutionG - gStrength);
           const batchT = input.batch.temperatureC ?? input.temperatureC;
           const sol = solubilityAt(ox, batchT);
@@ -335,7 +433,7 @@ export function computeFeed(input: FeedInput): FeedResult {
             solubilityGPer100gWater: solValue !== null ? reported(solValue, `g ${strengthFormula} per 100 g water`) : null,
             temperatureC: batchT,
             withinSolubility: within,
-            lastsDays: lPerH > 0 ? reported(volumeL / (lPerH * 24), 'd') : null,
+            lastsDays: lPerH > 0 && Number.isFinite(volumeL / (lPerH * 24)) ? reported(volumeL / (lPerH * 24), 'd') : null,
           };
         }
       }
@@ -396,6 +494,11 @@ export function computeFeed(input: FeedInput): FeedResult {
       const stockKg = toBaseDec('mass', input.stock, '/stock').toNumber();
       if (dailyMassKg) daysOfSupply = stockKg / dailyMassKg;
       else notes.push('Stock was given as a mass but the daily product mass is unknown (give the solution density).');
+    }
+    if (daysOfSupply !== null && !Number.isFinite(daysOfSupply)) {
+      // a dose of practically nothing: the quotient is beyond a number; said, not printed as Infinity
+      notes.push('The stock lasts longer than can be stated: the daily use at this dose is practically nil.');
+      daysOfSupply = null;
     }
     if (daysOfSupply !== null && daysOfSupply < 7) {
       flags.push({ code: 'STOCK_LOW', severity: 'warning', message: `Stock on hand lasts ${roundSigNumber(daysOfSupply, 2)} days at this feed; order more.`, source: 'input' });

@@ -7,9 +7,10 @@ import type { Dec as DecT } from '../core/decimal.js';
 import type { LimitRow, OxidantRow } from '../reference/dosing-schemas.js';
 import type { Flag, Severity } from './types.js';
 import { roundSigNumber } from './round.js';
+import { readingBound, readingFlags } from './bounds.js';
 
-/** Iron above which a drinking-water source is unusual (common practice). */
-export const IRON_UNUSUAL_MG_PER_L = 20;
+/** Iron above which a drinking-water source is unusual (common practice; the band of every reading is in bounds.ts). */
+export const IRON_UNUSUAL_MG_PER_L = readingBound('iron').warnAbove;
 /** pH below which a drinking-water source is unusual (common practice). */
 export const PH_UNUSUAL_LOW = 5;
 /** pH above which a drinking-water source is unusual (common practice). */
@@ -38,17 +39,9 @@ function limitText(l: LimitRow): string {
   return `${l.authority} ${l.kind === 'guideline' ? 'guideline value' : l.kind} ${l.valueText} mg/L ${l.basis} (${l.citation}${l.edition && !l.citation.includes(l.edition) ? `, ${l.edition}` : ''})`;
 }
 
-/** Unusual but legal readings: a warning, not an error. */
-export function inputFlags(input: { readonly pH: number; readonly ironMgPerL: DecT | null; readonly temperatureC: number }): Flag[] {
-  const flags: Flag[] = [];
-  if (input.ironMgPerL !== null && input.ironMgPerL.greaterThan(IRON_UNUSUAL_MG_PER_L)) {
-    flags.push({
-      code: 'IRON_UNUSUALLY_HIGH',
-      severity: 'warning',
-      message: `Iron ${roundSigNumber(input.ironMgPerL.toNumber())} mg/L is above ${IRON_UNUSUAL_MG_PER_L} mg/L, unusual for a drinking-water source (common practice): check the reading and the sample; the dose and the solids load scale with it.`,
-      source: 'operator-practice',
-    });
-  }
+/** Unusual but legal readings: a warning, not an error (readings above their refusal bound never get here: checkDoseRequest refuses them). */
+export function inputFlags(input: { readonly pH: number; readonly sample: Parameters<typeof readingFlags>[0]; readonly temperatureC: number }): Flag[] {
+  const flags: Flag[] = readingFlags(input.sample);
   if (input.pH < PH_UNUSUAL_LOW) {
     flags.push({
       code: 'PH_UNUSUALLY_LOW',

@@ -28,7 +28,7 @@ import { checkPotentialOverrides, evaluateFeasibility, unusedPotentialOverrides,
 import { checkContact, type ContactDeps, type ContactResult } from './contact.js';
 import { sideEffects, type SideEffects } from './side-effects.js';
 import { inputFlags, rawWaterFlags, residualFlags, sortFlags, LOCAL_RULES_GOVERN } from './flags.js';
-import { mergePlantIntoRequest, type PlantProfile } from './plant.js';
+import { mergePlantIntoRequest, type PlantMergeOxidant, type PlantProfile, type PlantResidual } from './plant.js';
 import { checkDoseRequest, type DoseRequest } from './request.js';
 import { REPORT_SIG_FIGS, reported, type Flag, type Reported } from './types.js';
 
@@ -87,6 +87,8 @@ export interface DosingContext {
   readonly citations: ReadonlyMap<string, string>;
   /** Per oxidant: caution texts and rows (its own, the standing note, its storage note). */
   readonly cautionsByOxidant: ReadonlyMap<string, { readonly texts: readonly string[]; readonly details: DoseResult['cautionDetails'] }>;
+  /** Per oxidant: its dose basis and whether it is fed as a gas, for merging a plant profile. */
+  readonly plantMergeOxidants: ReadonlyMap<string, PlantMergeOxidant>;
   readonly carbonateMemo: Map<string, AcidAdditionResult>;
   readonly resultMemo: Map<string, DoseResult>;
   readonly resultMemoSize: number;
@@ -268,6 +270,7 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
     resultMemo: new Map<string, DoseResult>(),
     resultMemoSize: deps.resultMemoSize ?? 256,
     cautionsByOxidant,
+    plantMergeOxidants: new Map(tables.oxidants.map((o) => [o.id, { doseBasis: o.doseBasis, fedAsGas: fedAsGas(o) }])),
     oxidants,
     contaminants: tables.contaminants,
     limits: tables.limits,
@@ -288,6 +291,20 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
     pKaAt,
     o2SaturationAt,
   };
+}
+
+/** Fed to the water as a gas: chlorine gas and oxygen, and ozone, which is generated on site as a gas. */
+function fedAsGas(ox: OxidantRow): boolean {
+  return ox.form === 'gas' || (ox.form === 'generated' && ox.activeSpecies === 'O3');
+}
+
+/** computeFeed, with a problem about a value the plant profile supplied saying so. */
+function computeFeedNamingPlant(name: (e: unknown) => unknown, input: Parameters<typeof computeFeed>[0]): FeedResult {
+  try {
+    return computeFeed(input);
+  } catch (e) {
+    throw name(e);
+  }
 }
 
 /** The derived ratio for a pair from the context's memo (throws what balancing threw). */
@@ -381,6 +398,7 @@ export function computeDose(request: DoseRequest, context: DosingContext, option
 export function computeDoseUncached(request: DoseRequest, context: DosingContext, options: ComputeDoseOptions = {}): DoseResult {
   let req = request;
   let plantInfo: DoseResult['plant'] = null;
+  let plantResidual: PlantResidual | null = null;
   if (req.plantId !== undefined) {
     if (!options.plant || options.plant.id !== req.plantId) {
       throw new DomainError('PLANT_NOT_FOUND', {
@@ -389,16 +407,35 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
         params: { plantId: req.plantId },
       });
     }
-    const m = mergePlantIntoRequest(req, options.plant);
+    const m = mergePlantIntoRequest(req, options.plant, context.plantMergeOxidants);
     req = m.request;
     plantInfo = { ...m.plant, fromPlant: m.fromPlant };
+    plantResidual = m.residual;
   }
-  checkDoseRequest(req);
+  const fromPlant = plantInfo?.fromPlant ?? [];
+  /** A field problem about a value the plant profile supplied says so (the pointer is the request field it filled). */
+  const namePlantFields = (e: unknown): unknown =>
+    e instanceof DomainError && plantInfo
+      ? e.withFields((fs) => fs.map((f) => (fromPlant.includes(f.pointer.split('/')[1] ?? '') ? { pointer: f.pointer, message: `${f.message} (value from plant profile "${plantInfo!.id}")` } : f)))
+      : e;
+  try {
+    checkDoseRequest(req);
+  } catch (e) {
+    throw namePlantFields(e);
+  }
   const ox = context.oxidants.get(req.oxidant);
   if (!ox) {
     throw new DomainError('OXIDANT_UNKNOWN', {
       detail: `Unknown oxidant "${req.oxidant}"; accepted: ${[...context.oxidants.keys()].join(', ')}.`,
       fields: [{ pointer: '/oxidant', message: `accepted: ${[...context.oxidants.keys()].join(', ')}` }],
+    });
+  }
+  if (req.product && fedAsGas(ox)) {
+    const how = ox.form === 'gas' ? 'is fed as a gas' : 'is generated on site and transferred to the water as a gas';
+    const name = ox.name.replace(/\s*\([^)]*\)$/, '');
+    throw new DomainError('VALIDATION_FAILED', {
+      detail: `${name} ${how}: it has no product strength, density or solution rate, so product does not apply. Remove product; the feed is the mass rate (feed.massRate${ox.form === 'generated' ? ', and the generator output in feed.generator' : ''}).`,
+      fields: [{ pointer: '/product/strength', message: `${name} ${how}; a product strength (${req.product.strength.value} ${req.product.strength.unit}) does not apply: remove product` }],
     });
   }
   const per = context.perOxidant.get(ox.id)!;
@@ -427,8 +464,10 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
   let residualSource = 'input';
   if (req.targetResidual) {
     residual = mgPerL(req.targetResidual, '/targetResidual');
-    residualReason = `Target residual ${residual.toString()} mg/L as ${ox.doseBasis} after contact${plantInfo?.fromPlant.includes('targetResidual') ? ' (from the plant profile)' : ''}.`;
+    residualReason = `Target residual ${residual.toString()} mg/L as ${ox.doseBasis} after contact${plantResidual?.used ? ` (from the plant profile: ${plantResidual.used.entry}, ${plantResidual.used.reason})` : ''}.`;
     residualSource = plantInfo?.fromPlant.includes('targetResidual') ? 'plant profile' : 'input';
+  } else if (plantResidual?.forOtherOxidant) {
+    flags.push({ code: 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT', severity: 'info', message: plantResidual.forOtherOxidant, source: 'input' });
   } else if (ox.doseBasis === 'Cl2' || ox.doseBasis === 'ClO2') {
     flags.push({ code: 'NO_TARGET_RESIDUAL', severity: 'info', message: `No target residual was given, so the dose only meets the demand; give targetResidual (mg/L as ${ox.doseBasis}) if a residual must remain after contact.`, source: 'input' });
   }
@@ -448,7 +487,7 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
 
   // flags on the inputs and limits
   const ironQ = s.iron ? mgPerL(s.iron, '/sample/iron') : null;
-  flags.push(...inputFlags({ pH, ironMgPerL: ironQ, temperatureC }));
+  flags.push(...inputFlags({ pH, sample: s, temperatureC }));
   const readings: { parameter: string; name: string; mgPerL: DecT }[] = [];
   if (ironQ) readings.push({ parameter: 'iron', name: 'iron', mgPerL: ironQ });
   if (s.manganese) readings.push({ parameter: 'manganese', name: 'manganese', mgPerL: mgPerL(s.manganese, '/sample/manganese') });
@@ -461,7 +500,7 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
   let flowM3PerD: DecT | null = null;
   if (req.flow) {
     flowM3PerD = toBaseDec('flow', req.flow, '/flow');
-    feed = computeFeed({
+    feed = computeFeedNamingPlant(namePlantFields, {
       oxidant: ox,
       doseMgPerL: total.doseMgPerL,
       flowM3PerD,
@@ -537,6 +576,12 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
     const m3 = toBaseDec('volume', req.contactVolume, '/contactVolume').dividedBy(1000);
     availableMinutes = m3.dividedBy(flowM3PerD).times(1440).toNumber();
     availableFrom = 'contact volume ÷ flow';
+  }
+  if (availableMinutes !== null && !Number.isFinite(availableMinutes)) {
+    // checkDoseRequest bounds both, so this is a guard: the problem names the request's fields, never the derived figure
+    const fields = availableFrom === 'given' ? ['/contactTime/value'] : ['/contactVolume/value', '/flow/value'];
+    const message = availableFrom === 'given' ? 'the contact time is beyond any number' : 'contact volume ÷ flow is beyond any number of minutes: check both values and their units';
+    throw namePlantFields(new DomainError('QUANTITY_OUT_OF_RANGE', { detail: `${fields.join(' and ')}: ${message}.`, fields: fields.map((pointer) => ({ pointer, message })) }));
   }
   const limitById = (id: string | undefined) => (id === undefined ? undefined : context.limits.find((l) => l.id === id));
   const doMeasured = s.dissolvedOxygen;

@@ -6,6 +6,8 @@
  */
 import { z } from 'zod';
 import { DomainError } from '../core/errors.js';
+import { toBaseDec } from '../core/quantity.js';
+import { quantityBoundProblems } from './bounds.js';
 import {
   ConcentrationSchema,
   DensitySchema,
@@ -17,6 +19,7 @@ import {
   StrengthSchema,
   VolumeSchema,
   issuesToFields,
+  type ConcentrationInput,
   type DoseRequest,
 } from './request.js';
 
@@ -80,7 +83,20 @@ export function parsePlantProfile(input: unknown): PlantProfile {
     if (products.has(prod.oxidant)) fields.push({ pointer: `/products/${i}/oxidant`, message: `product ${prod.oxidant} is listed twice; keep one entry per oxidant` });
     products.add(prod.oxidant);
     if (prod.strength.unit !== 'g/L' && prod.strength.value > 100) fields.push({ pointer: `/products/${i}/strength/value`, message: `a strength in ${prod.strength.unit} must be at most 100` });
+    fields.push(
+      ...quantityBoundProblems(
+        { product: prod, stock: prod.stock, batch: prod.batchVolume ? { volume: prod.batchVolume } : undefined },
+        { product: `/products/${i}`, stock: `/products/${i}/stock`, batch: `/products/${i}/batchVolume` },
+      ).map((f) => (f.pointer === `/products/${i}/batchVolume/volume/value` ? { ...f, pointer: `/products/${i}/batchVolume/value` } : f)),
+    );
   });
+  // the same ranges as a dose request, so a stored profile cannot make every dose refused or overflow
+  fields.push(...quantityBoundProblems({ flow: p.flow, contactVolume: p.contactVolume }, { flow: '/flow', contactVolume: '/contactVolume' }));
+  p.pumps.forEach((pump, i) => fields.push(...quantityBoundProblems({ pump }, { pump: `/pumps/${i}` })));
+  const residuals: [string, ConcentrationInput | undefined][] = [['/targets/residual', p.targets.residual], ...Object.entries(p.targets.residualByOxidant ?? {}).map(([id, q]): [string, ConcentrationInput | undefined] => [`/targets/residualByOxidant/${id}`, q])];
+  for (const [pointer, q] of residuals) {
+    if (q) fields.push(...quantityBoundProblems({ targetResidual: q }, { targetResidual: pointer }));
+  }
   if (fields.length > 0) {
     throw new DomainError('PLANT_INVALID', { detail: fields.map((f) => `${f.pointer}: ${f.message}`).join('; ') + '.', fields });
   }
@@ -92,13 +108,72 @@ export interface PlantMerge {
   readonly request: DoseRequest;
   readonly fromPlant: readonly string[];
   readonly plant: { readonly id: string; readonly name: string; readonly invented: boolean; readonly preferredUnits: 'SI' | 'US' };
+  /** Which residual target of the profile was taken, or why none was. */
+  readonly residual: PlantResidual;
+}
+
+/** What the merge needs to know of an oxidant (from tables/oxidants.json). */
+export interface PlantMergeOxidant {
+  /** The dose basis (Cl2, KMnO4, O3 …): a residual set for one oxidant holds for the others on its basis. */
+  readonly doseBasis: string;
+  /** Fed as a gas (chlorine gas, oxygen, ozone): a product strength does not apply; stock does. */
+  readonly fedAsGas: boolean;
+}
+
+export interface PlantResidual {
+  /** The profile entry taken as targetResidual (null when the request gave one, or none applies). */
+  readonly used: { readonly entry: string; readonly reason: string } | null;
+  /** The profile holds residual targets, but none for this oxidant or its basis: the sentence for the info flag. */
+  readonly forOtherOxidant: string | null;
+}
+
+const qText = (q: { value: number; unit: string }) => `${q.value} ${q.unit}`;
+const listText = (xs: readonly string[]) => (xs.length <= 1 ? xs.join('') : `${xs.slice(0, -1).join(', ')} and ${xs[xs.length - 1]}`);
+
+/**
+ * The profile's residual target for an oxidant. A residual belongs to an oxidant: the entry of
+ * `targets.residualByOxidant` for it, else one for another oxidant on the same dose basis (the
+ * chlorine products share "as Cl2"; entries that disagree are not chosen between), else the
+ * general `targets.residual` when every product of the profile doses on that basis (the
+ * residual of a plant that feeds only chlorine is a chlorine residual). Otherwise none is taken.
+ */
+export function plantResidualFor(plant: PlantProfile, oxidantId: string, basisOf: (id: string) => string): { value: { value: number; unit: string } | undefined; residual: PlantResidual } {
+  const basis = basisOf(oxidantId);
+  const byOx = Object.entries(plant.targets.residualByOxidant ?? {}).filter((e): e is [string, ConcentrationInput] => e[1] !== undefined);
+  const own = byOx.find(([id]) => id === oxidantId);
+  if (own) return { value: own[1], residual: { used: { entry: `targets.residualByOxidant.${oxidantId}`, reason: `set for ${oxidantId}` }, forOtherOxidant: null } };
+  const sameBasis = byOx.filter(([id]) => basisOf(id) === basis);
+  const sameValues = new Set(sameBasis.map(([, q]) => toBaseDec('concentration', q).toString()));
+  if (sameBasis.length > 0 && sameValues.size === 1) {
+    const [id, q] = sameBasis[0]!;
+    return { value: q, residual: { used: { entry: `targets.residualByOxidant.${id}`, reason: `set for ${listText(sameBasis.map(([x]) => x))}, on the same basis (as ${basis})` }, forOtherOxidant: null } };
+  }
+  const general = plant.targets.residual;
+  const productBases = [...new Set(plant.products.map((p) => basisOf(p.oxidant)))];
+  if (general && sameBasis.length === 0 && productBases.length === 1 && productBases[0] === basis) {
+    return { value: general, residual: { used: { entry: 'targets.residual', reason: `the plant's residual target, read as ${basis} because every product of the profile doses as ${basis}` }, forOtherOxidant: null } };
+  }
+  if (byOx.length === 0 && !general) return { value: undefined, residual: { used: null, forOtherOxidant: null } };
+  const parts: string[] = [];
+  if (byOx.length > 0) parts.push(`targets.residualByOxidant gives ${listText(byOx.map(([id, q]) => `${id} ${qText(q)} (as ${basisOf(id)})`))}`);
+  if (sameBasis.length > 1) parts.push(`its entries on the basis ${basis} disagree, so none is chosen`);
+  if (general) {
+    parts.push(
+      productBases.length === 1
+        ? `targets.residual ${qText(general)} is read as ${productBases[0]}, the basis of every product of the profile`
+        : `targets.residual ${qText(general)} names no oxidant${productBases.length > 1 ? ` and the profile's products dose as ${listText(productBases)}` : ' and the profile lists no product'}`,
+    );
+  }
+  const lead = sameBasis.length > 1 ? `The plant profile's residual targets for the oxidants dosed as ${basis} disagree` : "The plant profile's residual target was set for another oxidant";
+  const sentence = `${lead}: ${parts.join('; ')}. None is for ${oxidantId} (as ${basis}), so no residual from the profile was used and the dose meets the demand only. Give targetResidual (mg/L as ${basis}) in the request to carry one, or add targets.residualByOxidant.${oxidantId} to the plant profile.`;
+  return { value: undefined, residual: { used: null, forOtherOxidant: sentence } };
 }
 
 /**
  * Fill a dose request from a plant profile. Fields the request gives win over the profile
  * (an operator may override today's flow). The request's `plantId` must match the profile.
  */
-export function mergePlantIntoRequest(request: DoseRequest, plant: PlantProfile): PlantMerge {
+export function mergePlantIntoRequest(request: DoseRequest, plant: PlantProfile, oxidants?: ReadonlyMap<string, PlantMergeOxidant>): PlantMerge {
   if (request.plantId !== undefined && request.plantId !== plant.id) {
     throw new DomainError('PLANT_NOT_FOUND', {
       detail: `The request names plant "${request.plantId}" but profile "${plant.id}" was supplied.`,
@@ -115,8 +190,9 @@ export function mergePlantIntoRequest(request: DoseRequest, plant: PlantProfile)
   take('flow', plant.flow);
   if (request.contactTime === undefined) take('contactVolume', plant.contactVolume);
   const product = plant.products.find((p) => p.oxidant === request.oxidant);
+  const fedAsGas = oxidants?.get(request.oxidant)?.fedAsGas ?? false;
   if (product) {
-    take('product', {
+    if (!fedAsGas) take('product', {
       strength: product.strength,
       ...(product.density ? { density: product.density } : {}),
       ...(product.purity ? { purity: product.purity } : {}),
@@ -126,7 +202,13 @@ export function mergePlantIntoRequest(request: DoseRequest, plant: PlantProfile)
   }
   const pump = plant.pumps.find((p) => p.oxidant === request.oxidant);
   if (pump) take('pump', { id: pump.id, ratedCapacity: pump.ratedCapacity });
-  take('targetResidual', plant.targets.residualByOxidant?.[request.oxidant] ?? plant.targets.residual);
+  // a residual target belongs to an oxidant (or its basis): never another oxidant's
+  let residual: PlantResidual = { used: null, forOtherOxidant: null };
+  if (request.targetResidual === undefined) {
+    const r = plantResidualFor(plant, request.oxidant, (id) => oxidants?.get(id)?.doseBasis ?? id);
+    residual = r.residual;
+    take('targetResidual', r.value);
+  }
   if (request.options?.units === undefined) {
     out['options'] = { ...(request.options ?? {}), units: plant.preferredUnits };
   }
@@ -134,5 +216,6 @@ export function mergePlantIntoRequest(request: DoseRequest, plant: PlantProfile)
     request: out as DoseRequest,
     fromPlant,
     plant: { id: plant.id, name: plant.name, invented: plant.invented, preferredUnits: plant.preferredUnits },
+    residual,
   };
 }

@@ -8,6 +8,7 @@
 import { z } from 'zod';
 import { DomainError, toPointer, type FieldProblem } from '../core/errors.js';
 import { UNIT_FACTORS, TEMPERATURE_UNITS, temperatureToC } from '../core/quantity.js';
+import { READING_BOUNDS, quantityBoundProblems, readingBoundProblems } from './bounds.js';
 
 /** The product ids the HTTP contract fixes (tables/oxidants.json holds their properties). */
 export const OXIDANT_IDS = [
@@ -139,6 +140,8 @@ export const SampleSchema = z.strictObject(
   { error: (iss) => (iss.code === 'unrecognized_keys' ? `unknown sample field(s): ${iss.keys.join(', ')}; accepted: ${sampleFieldNames.join(', ')}` : undefined) },
 );
 export type SampleInput = z.infer<typeof SampleSchema>;
+/** The plausibility bounds, stated in the OpenAPI document (the check is checkDoseRequest's, on the converted value). */
+const SAMPLE_BOUNDS_TEXT = `Raw-water readings. Refused above (mg/L, common practice): ${READING_BOUNDS.map((b) => `${b.field} ${b.refuseAbove}`).join(', ')}; a warning above: ${READING_BOUNDS.map((b) => `${b.field} ${b.warnAbove}`).join(', ')}.`;
 
 /** A measured demand (demand test, mg/L on the oxidant's basis) or TOC × a plant-specific factor. */
 export const BackgroundDemandSchema = z.union([
@@ -188,16 +191,16 @@ export const DoseRequestSchema = z.strictObject(
     oxidant: z.enum(OXIDANT_IDS, { error: `oxidant must be one of: ${OXIDANT_IDS.join(', ')}` }),
     /** A stored plant profile supplies flow, product, pump, stock, contact volume and target residual. */
     plantId: z.string().min(1).max(100).optional(),
-    flow: FlowSchema.optional(),
-    sample: SampleSchema,
+    flow: FlowSchema.optional().describe('Plant flow; 1 L/d to 10 000 000 m3/d once converted (common practice), else QUANTITY_OUT_OF_RANGE naming /flow/value'),
+    sample: SampleSchema.describe(SAMPLE_BOUNDS_TEXT),
     backgroundDemand: BackgroundDemandSchema.optional(),
     /** Residual wanted after the contact time, on the oxidant's basis (as Cl2, as KMnO4 …). */
     targetResidual: ConcentrationSchema.optional(),
     product: ProductSchema.optional(),
     /** Available contact time; else contact volume ÷ flow from the plant. */
-    contactTime: TimeSchema.optional(),
+    contactTime: TimeSchema.optional().describe('Available contact time, at most 30 days'),
     /** Contact basin volume (available contact time = volume ÷ flow). */
-    contactVolume: VolumeSchema.optional(),
+    contactVolume: VolumeSchema.optional().describe('Contact basin volume; volume ÷ flow at most 30 days, else both fields are named'),
     pump: z.strictObject({ id: z.string().max(100).optional(), ratedCapacity: SolutionRateSchema }).optional(),
     stock: StockSchema.optional(),
     /** Batch tank for a solid made up as a solution (potassium permanganate, calcium hypochlorite). */
@@ -254,7 +257,18 @@ export function checkDoseRequest(req: DoseRequest): void {
   if (st && st.unit !== 'g/L' && st.value > 100) {
     fields.push({ pointer: '/product/strength/value', message: `a strength in ${st.unit} must be more than 0 and at most 100` });
   }
+  // flow, contact, strength, pump, stock, batch, residual and demand within a plant's range (src/dosing/bounds.ts)
+  fields.push(...quantityBoundProblems(req));
   if (fields.length > 0) {
     throw new DomainError('QUANTITY_OUT_OF_RANGE', { detail: fields.map((f) => `${f.pointer}: ${f.message}`).join('; ') + '.', fields });
+  }
+  // readings a raw water cannot hold (a unit or transcription slip): refused, naming the field, the value, the bound and why
+  const implausible = readingBoundProblems(s);
+  if (implausible.length > 0) {
+    throw new DomainError('READING_IMPLAUSIBLE', {
+      detail: `${implausible.length === 1 ? 'A reading is' : `${implausible.length} readings are`} beyond what a raw drinking-water source holds: ${implausible.map((f) => `${f.pointer}: ${f.message}`).join('; ')}.`,
+      fields: implausible.map((f) => ({ pointer: f.pointer, message: f.message })),
+      params: { readings: implausible.map((f) => ({ field: f.field, mgPerL: f.mgPerL, refusedAboveMgPerL: f.boundMgPerL })) },
+    });
   }
 }

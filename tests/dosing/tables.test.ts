@@ -80,6 +80,17 @@ describe('product properties against outside references', () => {
     const n = hypo.strength.nominal.find((x) => x.default)!;
     expect(((Number(n.value) * 10) / (Number(n.densityKgPerL) * 1000)) * 100).toBeCloseTo(10.68, 2);
   });
+  it('every strength and density row whose source was recalled from memory says so in its note (DEVELOPERS.md, reference data)', () => {
+    const memory = new Set(tables.sources.filter((x) => x.access === 'memory').map((x) => x.id));
+    for (const o of tables.oxidants) for (const n of o.strength.nominal) if (memory.has(n.source)) expect(n.note ?? '', `${o.id}: ${n.label}`).toMatch(/memory/i);
+  });
+  it('the hypochlorite density rows (White 5th ed., memory) follow about 1 + 0.0014 × g/L available chlorine, within 0.006 kg/L, the relation that gives the 1.168 at 120 g/L Powell Fabrication prints (read)', () => {
+    const hypo = tables.oxidants.find((o) => o.id === 'sodium-hypochlorite')!;
+    const rows = hypo.strength.nominal.filter((x) => x.densityKgPerL !== undefined);
+    expect(rows.map((x) => x.value)).toEqual(['5', '10', '12.5', '15']);
+    for (const r of rows) expect(Math.abs(Number(r.densityKgPerL) - (1 + 0.0014 * Number(r.value) * 10))).toBeLessThanOrEqual(0.006);
+    expect(1 + 0.0014 * 120).toBeCloseTo(1.168, 12);
+  });
   it('chlorite fraction of chlorine dioxide: 50 to 70 % (US EPA 1999 ch. 4; read: "approximately 50 to 70 percent")', () => {
     const clo2 = tables.oxidants.find((o) => o.id === 'chlorine-dioxide')!;
     expect([clo2.chloriteFraction!.low, clo2.chloriteFraction!.high]).toEqual(['0.5', '0.7']);

@@ -401,6 +401,37 @@ describe('plantId in place of flow/product/contact', () => {
     near(j.feed.massRate.value, (dose * 4000) / 1000);
     near(j.feed.solutionRate.value, (dose * 4000) / 125 / 24);
   });
+
+  it.each([
+    // the demo profile's residual is 1.0 mg/L as Cl2 for hypochlorite (and 0 as KMnO4 for permanganate): never another oxidant's
+    ['ozone', O3 / (2 * Fe)],
+    ['chlorine-dioxide', ClO2 / Fe],
+  ])('with the demo plant, %s gets no residual from the profile, and an info flag says the target was set for another oxidant', async (oxidant, ratio) => {
+    const r = await post({ plantId: 'demo-groundwater', oxidant, sample: { pH: 7.4, temperatureC: 11, iron: { value: 1.2, unit: 'mg/L' } } });
+    expect(r.statusCode, r.body).toBe(200);
+    const j = r.json();
+    // O3: 1 O3 per 2 Fe (O3 + 2e- -> O2); ClO2: 1 ClO2 per Fe (ClO2 + e- -> ClO2-); × 1.2 mg/L, no residual
+    near(j.dose.value, ratio * 1.2);
+    expect(j.plant.fromPlant).not.toContain('targetResidual');
+    const codes = j.flags.map((f: { code: string }) => f.code);
+    expect(codes).toContain('PLANT_RESIDUAL_FOR_OTHER_OXIDANT');
+    expect(codes).not.toContain('RESIDUAL_ABOVE_MRDL');
+    expect(j.flags.find((f: { code: string }) => f.code === 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT').message).toContain('targetResidual');
+  });
+});
+
+describe('hypochlorite in % w/w without a density: the density is interpolated by strength', () => {
+  it('5 % w/w: between the tabled 5 trade % (5 / 1.07 = 4.673 % w/w, 1.07 kg/L) and 10 trade % (10 / 1.14 = 8.772 % w/w, 1.14 kg/L) rows (White\'s Handbook, memory) → 1.0756 kg/L, 53.78 g/L', async () => {
+    const r = await post({ oxidant: 'sodium-hypochlorite', flow: { value: 4000, unit: 'm3/d' }, sample: { pH: 7.4, temperatureC: 11, iron: { value: 1.2, unit: 'mg/L' } }, product: { strength: { value: 5, unit: '% w/w' } } });
+    expect(r.statusCode, r.body).toBe(200);
+    const j = r.json();
+    const rho = 1.07 + (0.07 * (5 - 5 / 1.07)) / (10 / 1.14 - 5 / 1.07);
+    near(j.feed.strength.density.value, rho);
+    near(j.feed.strength.gramsPerL.value, 50 * rho);
+    // dose 70.90 / 111.69 × 1.2 = 0.761751 mg/L → 3047.00 g/d ÷ 53.78 g/L ÷ 24
+    near(j.feed.solutionRate.value, ((Cl2 / (2 * Fe)) * 1.2 * 4000) / (50 * rho) / 24);
+    expect(j.flags.find((f: { code: string }) => f.code === 'DENSITY_INTERPOLATED')).toMatchObject({ severity: 'warning', source: 'whites-handbook-5' });
+  });
 });
 
 type BadCase = [name: string, mutate: (b: Record<string, any>) => void, status: number, pointer: string, message: RegExp];
@@ -425,6 +456,15 @@ const badInput: BadCase[] = [
   ['temperature in a concentration unit', (b) => { delete b.sample.temperatureC; b.sample.temperature = { value: 20, unit: 'mg/L' }; }, 400, '/sample/temperature/unit', /°C.*°F/],
   ['strength in a flow unit', (b) => (b.product.strength.unit = 'L/h'), 400, '/product/strength/unit', /% w\/w.*% w\/v.*g\/L/],
   ['unknown plantId', (b) => { delete b.flow; delete b.product; b.plantId = 'no-such-plant'; }, 404, '/plantId', /GET \/api\/v1\/plants/],
+  // plausibility bounds (src/dosing/bounds.ts, common practice): tens of mg/L of iron are already extreme for groundwater
+  ['iron 1e9 mg/L', (b) => (b.sample.iron.value = 1e9), 422, '/sample/iron/value', /above 100 mg\/L.*raw-water reading/],
+  ['manganese 80 mg/L', (b) => (b.sample.manganese = { value: 80, unit: 'mg/L' }), 422, '/sample/manganese/value', /above 50 mg\/L/],
+  ['sulfide 0.5 g/L', (b) => (b.sample.sulfide = { value: 0.5, unit: 'g/L' }), 422, '/sample/sulfide/value', /500 mg\/L as S \(given as 0\.5 g\/L\) is above 100 mg\/L/],
+  ['flow 1e308 MGD', (b) => (b.flow = { value: 1e308, unit: 'MGD' }), 400, '/flow/value', /10,000,000 m3\/d/],
+  ['flow 1e-300 MGD with contact volume 1e300 m3', (b) => { b.flow = { value: 1e-300, unit: 'MGD' }; b.contactVolume = { value: 1e300, unit: 'm3' }; }, 400, '/flow/value', /outside 0\.001 to/],
+  ['contact volume 1e300 m3 at 1 MGD', (b) => { b.flow = { value: 1, unit: 'MGD' }; b.contactVolume = { value: 1e300, unit: 'm3' }; }, 400, '/contactVolume/value', /more than 30 days/],
+  ['ozone with a strength in % w/w', (b) => { b.oxidant = 'ozone'; b.product = { strength: { value: 5, unit: '% w/w' } }; }, 400, '/product/strength', /as a gas/],
+  ['hypochlorite 1 % w/w with no density (outside the tabled densities)', (b) => (b.product = { strength: { value: 1, unit: '% w/w' } }), 422, '/product/strength', /not extrapolated/],
 ];
 
 describe('bad input: 4xx problem+json naming the field and what is accepted', () => {
@@ -449,6 +489,7 @@ describe('bad input: 4xx problem+json naming the field and what is accepted', ()
     const p = r.json();
     expect(p).toMatchObject({ status, type: expect.stringMatching(/^\/problems\//), title: expect.any(String), detail: expect.any(String) });
     const field = (p.errors ?? []).find((e: { pointer: string }) => e.pointer === pointer);
+    expect((p.errors ?? []).map((e: { pointer: string }) => e.pointer)).not.toContain('/availableMinutes');
     expect(field, `errors: ${JSON.stringify(p.errors)}`).toBeDefined();
     expect(`${field.message} ${p.detail}`).toMatch(message);
   });

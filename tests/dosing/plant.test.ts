@@ -1,0 +1,169 @@
+/**
+ * Plant profiles (src/dosing/plant.ts): a residual target belongs to an oxidant, or to the
+ * oxidants on its dose basis (the chlorine products share "as Cl2": one OCl- or one Cl2 takes
+ * 2 e-, so a residual as Cl2 is the same free chlorine whichever product carries it, White's
+ * Handbook 5th ed., memory); a profile's residual is never added to another oxidant's dose.
+ * The demo profile (tables/demo/demo-plant.json) and the profiles below are invented.
+ */
+import { readFileSync } from 'node:fs';
+import { describe, expect, it } from 'vitest';
+import { computeDose, parseDoseRequest, parsePlantProfile, type DoseResult, type PlantProfile } from '../../src/dosing/index.js';
+import { plantResidualFor } from '../../src/dosing/plant.js';
+import { isDomainError, type DomainError } from '../../src/core/errors.js';
+import { context } from './fixture.js';
+
+const demo = parsePlantProfile(JSON.parse(readFileSync(new URL('../../tables/demo/demo-plant.json', import.meta.url), 'utf8')));
+const sample = { pH: 7.4, temperatureC: 11, iron: { value: 1.2, unit: 'mg/L' } };
+const dose = (oxidant: string, plant: PlantProfile, extra: Record<string, unknown> = {}): DoseResult =>
+  computeDose(parseDoseRequest({ plantId: plant.id, oxidant, sample, ...extra }), context, { plant });
+const residualTerm = (r: DoseResult) => r.terms.find((t) => t.term === 'residual')!;
+const flag = (r: DoseResult, code: string) => r.flags.find((f) => f.code === code);
+
+/** An invented profile with the given products and targets. */
+const profile = (products: string[], targets: PlantProfile['targets']): PlantProfile =>
+  parsePlantProfile({
+    id: 'invented-plant',
+    name: 'Invented plant',
+    invented: true,
+    flow: { value: 2500, unit: 'm3/d' },
+    contactVolume: { value: 60, unit: 'm3' },
+    products: products.map((oxidant) => ({ oxidant, strength: oxidant === 'potassium-permanganate' ? { value: 2, unit: '% w/w' } : { value: 12.5, unit: '% w/v' } })),
+    pumps: [],
+    targets,
+    preferredUnits: 'SI',
+  });
+
+describe('the demo plant: residual by oxidant (1.0 mg/L as Cl2 for hypochlorite, 0 as KMnO4 for permanganate)', () => {
+  it.each([
+    ['sodium-hypochlorite', 1, 'targets.residualByOxidant.sodium-hypochlorite'],
+    ['chlorine-gas', 1, 'targets.residualByOxidant.sodium-hypochlorite'],
+    ['calcium-hypochlorite', 1, 'targets.residualByOxidant.sodium-hypochlorite'],
+    ['potassium-permanganate', 0, 'targets.residualByOxidant.potassium-permanganate'],
+    ['sodium-permanganate', 0, 'targets.residualByOxidant.potassium-permanganate'],
+  ])('%s takes %s mg/L from %s (its own entry or one on the same basis)', (oxidant, value, entry) => {
+    const r = dose(oxidant, demo);
+    expect(residualTerm(r).value.value).toBe(value);
+    expect(residualTerm(r).reason).toContain(entry);
+    expect(r.plant!.fromPlant).toContain('targetResidual');
+    expect(flag(r, 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT')).toBeUndefined();
+  });
+
+  it.each(['ozone', 'chlorine-dioxide', 'hydrogen-peroxide', 'oxygen'])('%s: no profile residual (it was set for other oxidants), an info flag naming targetResidual', (oxidant) => {
+    const r = dose(oxidant, demo);
+    expect(residualTerm(r).value.value).toBe(0);
+    expect(r.plant!.fromPlant).not.toContain('targetResidual');
+    const f = flag(r, 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT')!;
+    expect(f.severity).toBe('info');
+    expect(f.message).toMatch(/set for another oxidant/);
+    expect(f.message).toContain('targetResidual');
+    expect(f.message).toContain(`targets.residualByOxidant.${oxidant}`);
+  });
+
+  it('chlorine dioxide no longer trips the MRDL flag (0.8 mg/L as ClO2, 40 CFR 141.65) with a hypochlorite residual of 1 mg/L', () => {
+    const r = dose('chlorine-dioxide', demo);
+    expect(r.flags.map((f) => f.code)).not.toContain('RESIDUAL_ABOVE_MRDL');
+  });
+
+  it('ozone: the dose is the iron demand only, 1.2 × 47.997 / (2 × 55.845) = 0.5157 mg/L as O3 (IUPAC 2021 atomic weights), not + 1 mg/L', () => {
+    expect(dose('ozone', demo).dose.value).toBeCloseTo((1.2 * 3 * 15.999) / (2 * 55.845), 10);
+  });
+
+  it('a residual the request gives wins, and no flag is raised', () => {
+    const r = dose('ozone', demo, { targetResidual: { value: 0.2, unit: 'mg/L' } });
+    expect(residualTerm(r).value.value).toBe(0.2);
+    expect(flag(r, 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT')).toBeUndefined();
+  });
+});
+
+describe('the general targets.residual (no oxidant named)', () => {
+  const hypoOnly = profile(['sodium-hypochlorite'], { residual: { value: 0.8, unit: 'mg/L' } });
+  const mixed = profile(['sodium-hypochlorite', 'potassium-permanganate'], { residual: { value: 0.8, unit: 'mg/L' } });
+
+  it('a plant whose products all dose as Cl2 (the README tour plant): read as Cl2, applied to the chlorine products', () => {
+    for (const ox of ['sodium-hypochlorite', 'chlorine-gas']) {
+      const r = dose(ox, hypoOnly);
+      expect(residualTerm(r).value.value, ox).toBe(0.8);
+      expect(residualTerm(r).reason).toMatch(/targets\.residual, the plant's residual target, read as Cl2/);
+    }
+  });
+
+  it('the same plant dosing permanganate: not applied (it is a chlorine residual), flag says it was read as Cl2', () => {
+    const r = dose('potassium-permanganate', hypoOnly);
+    expect(residualTerm(r).value.value).toBe(0);
+    expect(flag(r, 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT')!.message).toMatch(/read as Cl2, the basis of every product/);
+  });
+
+  it('products on two bases and no residualByOxidant: the residual names no oxidant, so it is applied to none', () => {
+    for (const ox of ['sodium-hypochlorite', 'potassium-permanganate', 'ozone']) {
+      const r = dose(ox, mixed);
+      expect(residualTerm(r).value.value, ox).toBe(0);
+      expect(flag(r, 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT')!.message).toMatch(/names no oxidant and the profile's products dose as Cl2 and KMnO4/);
+    }
+  });
+
+  it('two entries on one basis that disagree are not chosen between', () => {
+    const p = profile(['sodium-hypochlorite'], { residualByOxidant: { 'sodium-hypochlorite': { value: 1, unit: 'mg/L' }, 'chlorine-gas': { value: 0.5, unit: 'mg/L' } } });
+    const r = dose('calcium-hypochlorite', p);
+    expect(residualTerm(r).value.value).toBe(0);
+    expect(flag(r, 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT')!.message).toMatch(/residual targets for the oxidants dosed as Cl2 disagree/);
+    // two that agree (1000 µg/L = 1 mg/L) are one residual
+    const q = profile(['sodium-hypochlorite'], { residualByOxidant: { 'sodium-hypochlorite': { value: 1, unit: 'mg/L' }, 'chlorine-gas': { value: 1000, unit: 'ug/L' } } });
+    expect(residualTerm(dose('calcium-hypochlorite', q)).value.value).toBe(1);
+  });
+
+  it('a profile without residual targets: no residual, and no plant flag', () => {
+    const r = dose('ozone', profile(['sodium-hypochlorite'], {}));
+    expect(residualTerm(r).value.value).toBe(0);
+    expect(flag(r, 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT')).toBeUndefined();
+  });
+
+  it('without the oxidant table an entry is matched by oxidant id only (plantResidualFor with identity bases)', () => {
+    expect(plantResidualFor(demo, 'chlorine-gas', (id) => id).value).toBeUndefined();
+    expect(plantResidualFor(demo, 'sodium-hypochlorite', (id) => id).value).toEqual({ value: 1.0, unit: 'mg/L' });
+  });
+});
+
+describe('plant products and bounds', () => {
+  const refusal = (fn: () => unknown): DomainError => {
+    try {
+      fn();
+    } catch (e) {
+      if (isDomainError(e)) return e;
+      throw e;
+    }
+    throw new Error('accepted');
+  };
+
+  it('a profile product of a gas (ozone) is not merged: no solution rate, no refusal', () => {
+    const p = profile(['ozone'], {});
+    const r = dose('ozone', p);
+    expect(r.plant!.fromPlant).not.toContain('product');
+    expect(r.feed!.solutionRate).toBeNull();
+    expect(r.feed!.generator).not.toBeNull();
+  });
+
+  it('a profile strength in % w/w outside the tabled densities is refused at /product/strength, saying the value came from the profile', () => {
+    const p = parsePlantProfile({ ...profile([], {}), products: [{ oxidant: 'sodium-hypochlorite', strength: { value: 1, unit: '% w/w' } }] });
+    const e = refusal(() => dose('sodium-hypochlorite', p));
+    expect(e.code).toBe('DENSITY_NOT_TABLED');
+    expect(e.fields[0]).toMatchObject({ pointer: '/product/strength', message: expect.stringContaining('(value from plant profile "invented-plant")') });
+  });
+
+  it.each([
+    ['flow 1e308 MGD', { flow: { value: 1e308, unit: 'MGD' } }, '/flow/value'],
+    ['contact volume of 100 days', { contactVolume: { value: 250000, unit: 'm3' } }, '/contactVolume/value'],
+    ['pump of 1e-300 L/h', { pumps: [{ id: 'p1', oxidant: 'sodium-hypochlorite', ratedCapacity: { value: 1e-300, unit: 'L/h' } }] }, '/pumps/0/ratedCapacity/value'],
+    ['product stock 1e308 L', { products: [{ oxidant: 'sodium-hypochlorite', strength: { value: 12.5, unit: '% w/v' }, stock: { value: 1e308, unit: 'L' } }] }, '/products/0/stock/value'],
+    ['batch volume 1e9 m3', { products: [{ oxidant: 'potassium-permanganate', strength: { value: 2, unit: '% w/w' }, batchVolume: { value: 1e9, unit: 'm3' } }] }, '/products/0/batchVolume/value'],
+    ['residual for ozone of 2000 mg/L', { targets: { residualByOxidant: { ozone: { value: 2000, unit: 'mg/L' } } } }, '/targets/residualByOxidant/ozone/value'],
+  ])('a new profile with %s is PLANT_INVALID naming %s', (_n, change, pointer) => {
+    const e = refusal(() => parsePlantProfile({ ...profile([], {}), ...change }));
+    expect(e.code).toBe('PLANT_INVALID');
+    expect(e.fields.map((f) => f.pointer)).toContain(pointer);
+  });
+
+  it('the demo profile (and so the existing residual shapes) still loads', () => {
+    expect(demo.targets.residual).toEqual({ value: 1.0, unit: 'mg/L' });
+    expect(Object.keys(demo.targets.residualByOxidant ?? {})).toEqual(['sodium-hypochlorite', 'potassium-permanganate']);
+  });
+});
