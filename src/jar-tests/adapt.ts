@@ -127,12 +127,13 @@ export function jarProductFacts(row: OxidantRow, options: JarProductOptions = {}
     };
   }
 
-  // gas or generated: the stock is a solution made from the generator or the gas and measured.
+  // gas or generated: the stock is a solution made from the generator or the gas and measured; oxygen is aeration.
   if (row.id === 'chlorine-gas' || (row.form === 'gas' && row.doseBasis === 'Cl2')) {
-    notes.push('For chlorine gas make chlorine water and measure it, or use a sodium hypochlorite stock as a surrogate (same basis, as Cl2).');
+    notes.push('For chlorine gas the jar stock is chlorine water (chlorine bubbled into chilled reagent water, measured before dosing), or a sodium hypochlorite stock in its place (same basis, as Cl2).');
   }
   if (row.doseBasis === 'O2') {
-    notes.push('Oxygen is dosed by aeration; a stock can be no stronger than saturation (tables/oxygen-saturation.json), so aliquots are large. An aeration-time test may suit better.');
+    // Oxygen (from air) is dosed by aerating the water; there is no stock to pipette into a jar.
+    return { ...common, stock: { kind: 'aeration' } };
   }
   return { ...common, stock: { kind: 'generated', measureBy: measureMethodFor(row) }, ...(notes.length ? { notes } : {}) };
 }

@@ -8,11 +8,13 @@ import {
   FieldCheck,
   JAR_TEST_DEFAULTS as D,
   aliquotForDose,
+  checkJarVolume,
   doseFromAliquot,
   fmt,
   isMultipleOf,
   nominalDoseFromAliquot,
   roundToResolution,
+  strengthForAliquot,
   type JarProblem,
 } from './common.js';
 import type { Solubility } from './product.js';
@@ -91,7 +93,7 @@ function validate(input: CheckJarPlanInput): void {
   if (typeof input.oxidant !== 'string' || input.oxidant.length === 0) c.add('/oxidant', 'give the oxidant product id');
   if (input.estimateMgPerL !== undefined) c.nonNegative(input.estimateMgPerL, '/estimateMgPerL', 'the stoichiometric estimate (mg/L)');
   if (input.backgroundMgPerL !== undefined) c.nonNegative(input.backgroundMgPerL, '/backgroundMgPerL', 'the background demand (mg/L)');
-  c.positive(input.jarVolumeL, '/jarVolumeL', 'the jar volume (L)');
+  checkJarVolume(c, input.jarVolumeL);
   c.positive(input.stockStrengthGPerL, '/stockStrengthGPerL', 'the stock strength (g/L)');
   if (input.pipetteResolutionMl !== undefined) c.positive(input.pipetteResolutionMl, '/pipetteResolutionMl', 'the pipette resolution (mL)');
   if (input.minAliquotMl !== undefined) c.positive(input.minAliquotMl, '/minAliquotMl', 'the minimum aliquot (mL)');
@@ -176,14 +178,14 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
         code: CHECK_CODES.BELOW_PIPETTE_RESOLUTION,
         severity: 'error',
         jar: n,
-        message: `Jar ${n}: ${what} is below the pipette resolution ${fmt(res)} mL and cannot be measured; use a weaker stock (about ${fmt((C * aliquot) / minAliquot, 2)} g/L gives ${fmt(minAliquot)} mL).`,
+        message: `Jar ${n}: ${what} is below the pipette resolution ${fmt(res)} mL and cannot be measured: the ${fmt(C)} g/L stock is too strong for this dose; dilute it (about ${fmt((C * aliquot) / minAliquot, 2)} g/L gives ${fmt(minAliquot)} mL).`,
       });
     } else if (fromDose && stated! > 0 && aliquot === 0) {
       problems.push({
         code: CHECK_CODES.BELOW_PIPETTE_RESOLUTION,
         severity: 'error',
         jar: n,
-        message: `Jar ${n}: ${fmt(stated!)} mg/L needs ${fmt(aliquotForDose(stated!, C, V, false))} mL, which rounds to 0 at the ${fmt(res)} mL pipette resolution; use a weaker stock.`,
+        message: `Jar ${n}: ${fmt(stated!)} mg/L needs ${fmt(aliquotForDose(stated!, C, V, false))} mL, which rounds to 0 at the ${fmt(res)} mL pipette resolution: the ${fmt(C)} g/L stock is too strong for this dose; dilute it (${fmt(strengthForAliquot(stated!, V, minAliquot))} g/L or weaker gives at least ${fmt(minAliquot)} mL).`,
       });
     } else if (!fromDose && !isMultipleOf(aliquot, res)) {
       const rounded = roundToResolution(aliquot, res);
@@ -199,7 +201,7 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
         code: CHECK_CODES.ALIQUOT_BELOW_MINIMUM,
         severity: 'warning',
         jar: n,
-        message: `Jar ${n}: ${what} is below ${fmt(minAliquot)} mL; half a pipette step is ${fmt((res / 2 / aliquot) * 100, 2)} % of it. A weaker stock gives larger, more precise aliquots.`,
+        message: `Jar ${n}: ${what} is below ${fmt(minAliquot)} mL; half a pipette step is ${fmt((res / 2 / aliquot) * 100, 2)} % of it. Diluting the stock gives larger, more precise aliquots.`,
       });
     }
 

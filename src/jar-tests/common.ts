@@ -72,6 +72,16 @@ export const JAR_TEST_DEFAULTS = {
     value: 0.05,
     basis: 'common practice: the lower working limit of a DPD field colorimeter reading for residual oxidant',
   },
+  minJarVolumeL: {
+    value: 0.25,
+    basis:
+      'common practice: bench jars hold 0.5 to 2 L (ASTM D2035 uses 1 L beakers, from memory of ASTM D2035; verify); in a vessel under 0.25 L the aliquots and the samples drawn for analysis are too large a share of the jar',
+  },
+  permanganateVisibleMgPerL: {
+    value: 0.05,
+    basis:
+      'common practice (operator-practice): permanganate colours water pink from about 0.05 mg/L as KMnO4 (a commonly quoted visibility threshold, from memory; verify); the US EPA 1999 Alternative Disinfectants and Oxidants Guidance Manual §5.1.2 (usepa-1999-adogm) says a permanganate residual is not desirable because it gives water a pink colour',
+  },
   margin: {
     value: { kind: 'relative', fraction: 0.1 } as DoseMargin,
     basis: 'common practice: +10 % over the bench dose covers day-to-day change in raw-water demand and bench-to-plant scale-up',
@@ -190,6 +200,38 @@ export class FieldCheck {
       detail: `${subject}: ${first.pointer || '/'} ${first.message}${more}.`,
       fields: this.problems,
     });
+  }
+}
+
+/** True when the dose basis is permanganate (as KMnO4, NaMnO4 or MnO4-). */
+export function isPermanganateBasis(basis: string | undefined, activeSpecies?: string): boolean {
+  return (basis !== undefined && /MnO4/.test(basis)) || activeSpecies === 'MnO4-';
+}
+
+/**
+ * The pink-water threshold for a permanganate dose basis, or null when the basis is not permanganate
+ * or the threshold is not stated on it. The threshold is stated as KMnO4 only (JAR_TEST_DEFAULTS.permanganateVisibleMgPerL).
+ */
+export function pinkWaterThreshold(basis: string | undefined): { readonly mgPerL: number; readonly basis: string } | null {
+  if (basis !== 'KMnO4') return null;
+  return { mgPerL: JAR_TEST_DEFAULTS.permanganateVisibleMgPerL.value, basis: JAR_TEST_DEFAULTS.permanganateVisibleMgPerL.basis };
+}
+
+/** A stock strength (g/L) that gives at least `aliquotMl` for `doseMgPerL` in `jarVolumeL`: D·V/a, rounded down to 2 significant figures. */
+export function strengthForAliquot(doseMgPerL: number, jarVolumeL: number, aliquotMl: number): number {
+  return new Dec(doseMgPerL).times(jarVolumeL).dividedBy(aliquotMl).toSignificantDigits(2, Dec.ROUND_DOWN).toNumber();
+}
+
+/** The jar volume: above 0, at least the bench minimum, at most the maximum; a message that points at a unit slip. */
+export function checkJarVolume(c: FieldCheck, V: number, maxL?: number): void {
+  if (!c.positive(V, '/jarVolumeL', 'the jar volume (L)')) return;
+  if (maxL !== undefined && V > maxL) c.add('/jarVolumeL', `the jar volume must be at most ${maxL} L (got ${fmt(V)} L); bench jars hold 0.5 to 2 L`);
+  else if (V < JAR_TEST_DEFAULTS.minJarVolumeL.value) {
+    c.add(
+      '/jarVolumeL',
+      `the jar volume must be at least ${JAR_TEST_DEFAULTS.minJarVolumeL.value} L (got ${fmt(V)} L = ${fmt(V * 1000)} mL); bench jars hold 0.5 to 2 L ` +
+        '(common practice; ASTM D2035 uses 1 L beakers, from memory). Check the unit: a 1 L jar is {"value": 1, "unit": "L"} or {"value": 1000, "unit": "mL"}',
+    );
   }
 }
 

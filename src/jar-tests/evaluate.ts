@@ -5,7 +5,7 @@
  * every target at each contact time, and a recommended plant dose with its margin.
  */
 import { DomainError } from '../core/errors.js';
-import { FieldCheck, JAR_TEST_DEFAULTS as D, fmt, type DoseMargin, type JarProblem } from './common.js';
+import { FieldCheck, JAR_TEST_DEFAULTS as D, checkJarVolume, fmt, isPermanganateBasis, pinkWaterThreshold, type DoseMargin, type JarProblem } from './common.js';
 import { inversePrediction, olsFit, studentTQuantile, type LinearFit } from './stats.js';
 
 export interface JarResultInput {
@@ -164,7 +164,7 @@ function validate(input: EvaluateJarTestInput): void {
   const c = new FieldCheck();
   if (typeof input.oxidant !== 'string' || input.oxidant.length === 0) c.add('/oxidant', 'give the oxidant product id');
   c.nonNegative(input.estimateMgPerL, '/estimateMgPerL', 'the stoichiometric estimate (mg/L)');
-  c.positive(input.jarVolumeL, '/jarVolumeL', 'the jar volume (L)');
+  checkJarVolume(c, input.jarVolumeL);
   if (!Array.isArray(input.jars) || input.jars.length === 0 || input.jars.length > 50) {
     c.add('/jars', 'give from 1 to 50 jars, each with doseMgPerL and results');
   } else {
@@ -530,6 +530,35 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       severity: 'warning',
       message: `At the recommended ${fmt(recommendedDose.doseMgPerL, 3)} mg/L the residual line predicts ${fmt(recommendedDose.expectedResidualMgPerL, 2)} mg/L, above the ${fmt(input.targets.residualOxidantMaxMgPerL)} mg/L allowed; use a smaller margin or confirm at the plant.`,
     });
+  }
+
+  // Permanganate without a caller's maximum: the residual that would show pink water is the default limit to check.
+  if (recommendedDose !== null && input.targets?.residualOxidantMaxMgPerL === undefined && isPermanganateBasis(basis)) {
+    const pink = pinkWaterThreshold(basis);
+    const predicted = recommendedDose.expectedResidualMgPerL;
+    if (pink === null) {
+      problems.push({
+        code: 'RESIDUAL_COLOUR_NOT_CHECKED',
+        severity: 'info',
+        message: `No largest residual was given and the pink-water threshold is stated as KMnO4, not as ${basis}, so the residual at the recommended dose was not checked for colour; give targets.residualOxidantMax.`,
+      });
+    } else if (predicted === null) {
+      problems.push({
+        code: 'RESIDUAL_COLOUR_NOT_CHECKED',
+        severity: 'info',
+        message: `The residual line gives no residual at the recommended ${fmt(recommendedDose.doseMgPerL, 3)} mg/L, so it was not checked against the ${fmt(pink.mgPerL)} mg/L as KMnO4 at which permanganate shows pink (${pink.basis}); look for pink in the jar nearest that dose.`,
+      });
+    } else if (predicted > pink.mgPerL) {
+      problems.push({
+        code: 'RECOMMENDED_RESIDUAL_PINK',
+        severity: 'warning',
+        message:
+          `At the recommended ${fmt(recommendedDose.doseMgPerL, 3)} mg/L the residual line predicts ${fmt(predicted, 2)} mg/L of permanganate as KMnO4, above the ${fmt(pink.mgPerL)} mg/L default threshold at which water shows pink ` +
+          `(${pink.basis}). Expect pink water unless the residual is consumed or removed before the tap: use a smaller margin, feed nearer the apparent demand and confirm at the plant, or give targets.residualOxidantMax.`,
+      });
+    } else {
+      notes.push(`Residual at the recommended dose ${fmt(predicted, 2)} mg/L as KMnO4, at or below the ${fmt(pink.mgPerL)} mg/L default pink-water threshold (${pink.basis}).`);
+    }
   }
 
   return {

@@ -1,5 +1,5 @@
 /** Jar tests: plan the bench work, check a plan someone wrote, evaluate the results, plot the residuals. */
-export { planJarTest } from './plan.js';
+export { planJarTest, aerationNotPlanned } from './plan.js';
 export type { PlanJarTestInput, JarTestPlan, PlannedJar, PlannedStock, StockPreparation, JarTestSchedule, ScheduleStep, Measurement } from './plan.js';
 export { checkJarPlan, CHECK_CODES } from './check.js';
 export type { CheckJarPlanInput, JarPlanCheck, CheckedJar, CheckCode } from './check.js';

@@ -1,7 +1,8 @@
 /**
- * Plan a jar test: a dose ladder that brackets the expected demand, a stock solution
- * whose aliquots are measurable and small beside the jar, what to weigh or dilute,
- * and the bench schedule.
+ * Plan a jar test: a dose ladder that brackets the expected demand and the planned dose
+ * (demand + target residual, the dose the plant would feed), a stock solution whose
+ * aliquots are measurable and small beside the jar, what to weigh or dilute, and the
+ * bench schedule.
  *
  * The stoichiometric estimate comes in as a number (the dosing module computes it
  * from the sample readings); product facts come in as arguments (see product.ts).
@@ -12,13 +13,17 @@ import {
   FieldCheck,
   JAR_TEST_DEFAULTS as D,
   aliquotForDose,
+  checkJarVolume,
   doseFromAliquot,
   evenlySpaced,
   fmt,
+  isPermanganateBasis,
+  pinkWaterThreshold,
   roundToResolution,
+  strengthForAliquot,
   type JarProblem,
 } from './common.js';
-import { defaultResidualMethod, type JarProductFacts } from './product.js';
+import { defaultResidualMethod, generatedStockText, productLabel, type JarProductFacts } from './product.js';
 
 export interface PlanJarTestInput {
   /** Oxidant product id (e.g. "potassium-permanganate"). */
@@ -28,6 +33,12 @@ export interface PlanJarTestInput {
   readonly estimateMgPerL: number;
   /** Measured or assumed background demand, mg/L (default 0). */
   readonly backgroundMgPerL?: number;
+  /**
+   * Residual the plant must carry after contact, mg/L on the basis (default 0). The planned dose is
+   * estimate + background + target residual, the dose the dosing module computes for the same inputs;
+   * a default ladder reaches above it.
+   */
+  readonly targetResidualMgPerL?: number;
   readonly jarVolumeL: number;
   /** Number of jars for the default ladder (default 6; ignored when doses are given). */
   readonly jars?: number;
@@ -60,7 +71,7 @@ export type StockPreparation =
       readonly tradeStrengthGPerL: number;
       readonly tradeStrengthMustBeMeasured: boolean;
     }
-  | { readonly kind: 'generate'; readonly measureBy: string };
+  | { readonly kind: 'generate'; readonly measureBy: string; readonly stock: string; readonly make: string };
 
 export interface PlannedStock {
   readonly strengthGPerL: number;
@@ -123,12 +134,20 @@ export interface JarTestPlan {
     readonly backgroundMgPerL: number;
     /** estimate + background: the demand the ladder brackets. */
     readonly expectedDemandMgPerL: number;
+    readonly targetResidualMgPerL: number;
+    /** estimate + background + target residual: the dose the plant would feed, which the ladder also brackets. */
+    readonly plannedDoseMgPerL: number;
   };
   readonly ladder: {
     readonly source: 'default' | 'caller';
+    /** Default ladder: the first dose is fromFraction × the expected demand (× the planned dose when the demand is 0). */
     readonly fromFraction?: number;
+    /** Default ladder: the last dose is toFraction × the planned dose. */
     readonly toFraction?: number;
+    /** Some jar below and some jar above the expected demand. */
     readonly brackets: boolean;
+    /** Some jar below and some jar above the planned dose. */
+    readonly bracketsPlannedDose: boolean;
   };
   readonly jarVolumeL: number;
   readonly pipetteResolutionMl: number;
@@ -152,9 +171,8 @@ function validate(input: PlanJarTestInput): void {
   if (typeof input.oxidant !== 'string' || input.oxidant.length === 0) c.add('/oxidant', 'give the oxidant product id');
   c.nonNegative(input.estimateMgPerL, '/estimateMgPerL', 'the stoichiometric estimate (mg/L)');
   if (input.backgroundMgPerL !== undefined) c.nonNegative(input.backgroundMgPerL, '/backgroundMgPerL', 'the background demand (mg/L)');
-  if (c.positive(input.jarVolumeL, '/jarVolumeL', 'the jar volume (L)') && input.jarVolumeL > MAX_JAR_VOLUME_L) {
-    c.add('/jarVolumeL', `the jar volume must be at most ${MAX_JAR_VOLUME_L} L (got ${input.jarVolumeL} L); bench jars hold 1 to 2 L`);
-  }
+  if (input.targetResidualMgPerL !== undefined) c.nonNegative(input.targetResidualMgPerL, '/targetResidualMgPerL', 'the target residual (mg/L)');
+  checkJarVolume(c, input.jarVolumeL, MAX_JAR_VOLUME_L);
   if (input.doses === undefined && input.jars !== undefined) c.integerInRange(input.jars, '/jars', 'the number of jars', 2, MAX_JARS);
   if (input.doses !== undefined) {
     if (!Array.isArray(input.doses) || input.doses.length < 2 || input.doses.length > MAX_JARS) {
@@ -197,8 +215,8 @@ function validate(input: PlanJarTestInput): void {
       c.positive(s.tradeStrengthGPerL, '/product/stock/tradeStrengthGPerL', 'the trade strength (g/L on the dose basis)');
     } else if (s.kind === 'generated') {
       if (s.solubility !== undefined) c.positive(s.solubility.gPerL, '/product/stock/solubility/gPerL', 'the solubility (g/L)');
-    } else {
-      c.add('/product/stock/kind', 'the stock route must be "solid", "trade-solution" or "generated"');
+    } else if (s.kind !== 'aeration') {
+      c.add('/product/stock/kind', 'the stock route must be "solid", "trade-solution", "generated" or "aeration"');
     }
   }
   c.throwIfAny('The jar-test plan request is not valid');
@@ -207,6 +225,7 @@ function validate(input: PlanJarTestInput): void {
 /** The largest stock strength the product allows, and why. */
 function strengthCeiling(p: JarProductFacts): { gPerL: number; why: string } | null {
   const s = p.stock;
+  if (s.kind === 'aeration') return null;
   if (s.kind === 'trade-solution') return { gPerL: s.tradeStrengthGPerL, why: `the trade strength ${fmt(s.tradeStrengthGPerL)} g/L` };
   if (s.solubility !== undefined) {
     const at = s.solubility.temperatureC !== undefined ? ` at ${s.solubility.temperatureC} °C` : '';
@@ -249,9 +268,13 @@ function chooseStock(input: PlanJarTestInput, targets: readonly number[], minAli
   }
 
   if (input.product.stock.kind === 'generated') {
+    const g = generatedStockText(input.product);
+    const measureBy = input.product.stock.measureBy ?? defaultResidualMethod(input.product.basis);
     throw new DomainError('JAR_TEST_INVALID', {
-      detail: `A ${productLabel(input.product)} stock comes from a generator; give its measured strength as stockStrengthGPerL (g/L as ${input.product.basis}) so the aliquots can be computed.`,
-      fields: [{ pointer: '/stockStrengthGPerL', message: `give the measured strength of the generated stock (g/L as ${input.product.basis})` }],
+      detail:
+        `A jar test with ${productLabel(input.product)} is dosed from ${g.stock} made on the day: ${g.make}. ` +
+        `Measure its strength by ${measureBy} and give the measured strength as stockStrengthGPerL (g/L as ${input.product.basis}) so the aliquots can be computed.`,
+      fields: [{ pointer: '/stockStrengthGPerL', message: `give the measured strength of the ${g.stock} stock (g/L as ${input.product.basis})` }],
     });
   }
   const list = [...(input.stockStrengthsGPerL ?? D.stockStrengthsGPerL.value)].sort((a, b) => a - b);
@@ -279,13 +302,11 @@ function chooseStock(input: PlanJarTestInput, targets: readonly number[], minAli
   warnings.push({
     code: 'STOCK_TOO_STRONG_FOR_LOW_DOSES',
     severity: 'warning',
-    message: `Even the weakest stock (${fmt(C)} g/L) needs less than ${fmt(minAliquotMl)} mL for ${fmt(minDose)} mg/L in a ${fmt(V)} L jar; dilute the stock further or use larger jars.`,
+    message:
+      `Even the weakest stock on the list (${fmt(C)} g/L) needs less than ${fmt(minAliquotMl)} mL for ${fmt(minDose)} mg/L in a ${fmt(V)} L jar: the stock is too strong for the lowest doses. ` +
+      `Dilute it (${fmt(strengthForAliquot(minDose, V, minAliquotMl))} g/L or weaker gives at least ${fmt(minAliquotMl)} mL; give it as stockStrengthGPerL) or use larger jars.`,
   });
   return { strengthGPerL: C, choice: 'chosen', correctDilution: needsDilutionCorrection(C) };
-}
-
-function productLabel(p: JarProductFacts): string {
-  return p.name ?? p.productFormula ?? p.basis;
 }
 
 function planStock(
@@ -313,7 +334,7 @@ function planStock(
     });
   }
   const candidates = bigEnough.length > 0 ? bigEnough : [largest];
-  const solubility = s.kind === 'trade-solution' ? null : (s.solubility?.gPerL ?? null);
+  const solubility = s.kind === 'solid' || s.kind === 'generated' ? (s.solubility?.gPerL ?? null) : null;
   const instructions: string[] = [];
   const label = productLabel(p);
 
@@ -352,7 +373,7 @@ function planStock(
         `dissolve in reagent water and make up to the mark: ${fmt(C)} g/L (${fmt(C)} mg/mL) as ${basis}.`,
     );
     instructions.push(`Mass = strength × flask volume ÷ purity = ${fmt(C)} g/L × ${flask / 1000} L ÷ ${fmt(purity)} = ${fmt(mass)} g.`);
-    if (p.decays !== undefined) instructions.push(`The product loses strength in storage (${p.decays.note}); confirm the stock strength by ${p.decays.measureBy} before dosing.`);
+    if (p.decays !== undefined) instructions.push(`The product loses strength in storage (${noteText(p.decays.note)}); confirm the stock strength by ${p.decays.measureBy} before dosing.`);
     return {
       strengthGPerL: C,
       basis,
@@ -388,7 +409,7 @@ function planStock(
         code: 'TRADE_STRENGTH_DECAYS',
         severity: mustMeasure ? 'warning' : 'info',
         message: mustMeasure
-          ? `The strength of ${label} decays in storage (${p.decays.note}). Measure the trade solution by ${p.decays.measureBy} before making the stock and recompute the volume with the measured strength; the ${fmt(T)} g/L used here is nominal.`
+          ? `The strength of ${label} decays in storage (${noteText(p.decays.note)}). Measure the trade solution by ${p.decays.measureBy} before making the stock and recompute the volume with the measured strength; the ${fmt(T)} g/L used here is nominal.`
           : `The trade strength ${fmt(T)} g/L was measured on the day; make the stock fresh and confirm it by ${p.decays.measureBy}.`,
       });
       instructions.push(`First measure the trade solution's strength by ${p.decays.measureBy}; it decays in storage.`);
@@ -412,28 +433,47 @@ function planStock(
     };
   }
 
+  if (s.kind === 'aeration') throw aerationNotPlanned(p);
   // generated
   const measureBy = s.measureBy ?? defaultResidualMethod(basis);
+  const g = generatedStockText(p);
   const flask = candidates[0]!;
   warnings.push({
     code: 'GENERATED_STOCK_MEASURE',
     severity: 'warning',
-    message: `A ${label} stock comes from a generator: collect at least ${fmt(wanted)} mL, measure its strength by ${measureBy} just before dosing, and recompute the aliquots with the measured strength (jar-test check).`,
+    message: `The ${g.stock} stock is made on the day and loses strength as it stands: make at least ${fmt(wanted)} mL, measure its strength by ${measureBy} just before dosing, and recompute the aliquots with the measured strength (jar-test check).`,
   });
-  instructions.push(`Collect at least ${fmt(wanted)} mL (a ${flask} mL flask) of ${label} solution from the generator, keep it cold and dark, and measure its strength by ${measureBy}.`);
-  instructions.push(`The aliquots assume ${fmt(C)} g/L; if the strength measured just before dosing differs, recompute them (jar-test check).`);
+  instructions.push(`Make at least ${fmt(wanted)} mL (a ${flask} mL flask) of ${g.stock}: ${g.make}. Keep it cold, dark and closed, and measure its strength by ${measureBy}.`);
+  instructions.push(`The aliquots assume ${fmt(C)} g/L as ${basis}; if the strength measured just before dosing differs, recompute them (jar-test check).`);
   return {
     strengthGPerL: C,
     basis,
     strengthChoice: choice,
     flaskVolumeMl: flask,
     productMassG: null,
-    preparation: { kind: 'generate', measureBy },
+    preparation: { kind: 'generate', measureBy, stock: g.stock, make: g.make },
     stockUsedMl,
     stockWantedMl: wanted,
     solubilityGPerL: solubility,
     instructions,
   };
+}
+
+/** A note as a parenthesis inside a sentence: first letter lower-case, no closing full stop. */
+function noteText(note: string): string {
+  const t = note.trim().replace(/[.;]+$/, '');
+  return /^[A-Z][a-z]/.test(t) ? t.charAt(0).toLowerCase() + t.slice(1) : t;
+}
+
+/** Oxygen (air) is dosed by aeration: there is no stock to pipette, so no aliquots to plan or check. */
+export function aerationNotPlanned(p: JarProductFacts): DomainError {
+  return new DomainError('JAR_TEST_INVALID', {
+    detail:
+      `${p.basis === 'O2' ? 'Oxygen' : productLabel(p).replace(/^./, (ch) => ch.toUpperCase())} is dosed by aeration, not from a stock solution, so there are no aliquots to plan. ` +
+      'Run an aeration test instead: aerate each jar (diffuser or vigorous mixing open to air) for a different time, then measure dissolved oxygen with a probe and dissolved iron and manganese after 0.45 µm filtration (common practice). ' +
+      'The stoichiometric oxygen demand of the sample is in POST /api/v1/doses.',
+    fields: [{ pointer: '/oxidant', message: `${p.basis === 'O2' ? 'oxygen' : productLabel(p)} is dosed by aeration, not from a stock; a stock-dosed jar-test plan does not apply` }],
+  });
 }
 
 function planSchedule(input: PlanJarTestInput, contactTimesMin: readonly number[]): JarTestSchedule {
@@ -503,12 +543,23 @@ function planSchedule(input: PlanJarTestInput, contactTimesMin: readonly number[
  */
 export function planJarTest(input: PlanJarTestInput): JarTestPlan {
   validate(input);
+  if (input.product.stock.kind === 'aeration') throw aerationNotPlanned(input.product);
   const warnings: JarProblem[] = (input.product.notes ?? []).map((message) => ({ code: 'PRODUCT_NOTE', severity: 'info' as const, message }));
   const assumptions: string[] = [];
   const V = input.jarVolumeL;
   const basis = input.product.basis;
   const background = input.backgroundMgPerL ?? 0;
   const expected = input.estimateMgPerL + background;
+  const residual = input.targetResidualMgPerL ?? 0;
+  const planned = expected + residual;
+  const pink = isPermanganateBasis(basis, input.product.activeSpecies) ? pinkWaterThreshold(basis) : null;
+  if (pink !== null && residual > pink.mgPerL) {
+    warnings.push({
+      code: 'TARGET_RESIDUAL_VISIBLE',
+      severity: 'warning',
+      message: `A target residual of ${fmt(residual)} mg/L as ${basis} is above the ${fmt(pink.mgPerL)} mg/L at which permanganate colours water pink (${pink.basis}). Permanganate is dosed to leave no residual after the filters; lower the target unless the residual is removed downstream.`,
+    });
+  }
   const res = input.pipetteResolutionMl ?? D.pipetteResolutionMl.value;
   if (input.pipetteResolutionMl === undefined) assumptions.push(`Pipette resolution ${res} mL (${D.pipetteResolutionMl.basis}).`);
   const minAliquotMl = input.minAliquotMl ?? Math.max(D.minAliquotMl.value, D.minAliquotResolutionSteps.value * res);
@@ -523,11 +574,11 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
     targets = [...input.doses];
     ladder = { source: 'caller' };
   } else {
-    if (!(expected > 0)) {
+    if (!(planned > 0)) {
       throw new DomainError('JAR_TEST_INVALID', {
-        detail: 'The expected demand (estimate + background) is 0 mg/L, so there is no ladder to bracket it; give the doses to test.',
+        detail: 'The planned dose (estimate + background + target residual) is 0 mg/L, so there is no ladder to bracket it; give the doses to test.',
         fields: [
-          { pointer: '/estimateMgPerL', message: 'is 0 mg/L; a default ladder needs a positive expected demand' },
+          { pointer: '/estimateMgPerL', message: 'is 0 mg/L; a default ladder needs a positive expected demand or target residual' },
           { pointer: '/doses', message: 'give the doses (mg/L) to test' },
         ],
       });
@@ -535,10 +586,17 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
     const n = input.jars ?? D.jars.value;
     const from = input.ladderFromFraction ?? D.ladderFromFraction.value;
     const to = input.ladderToFraction ?? D.ladderToFraction.value;
-    targets = evenlySpaced(from * expected, to * expected, n);
+    // From below the demand (jars that leave Fe/Mn show where the targets start to be met) to above the planned
+    // dose (jars that keep a residual give the residual line and confirm the dose the plant would feed).
+    const low = expected > 0 ? from * expected : from * planned;
+    targets = evenlySpaced(low, to * planned, n);
     ladder = { source: 'default', fromFraction: from, toFraction: to };
+    const terms = `estimate ${fmt(input.estimateMgPerL)} + background ${fmt(background)}`;
     assumptions.push(
-      `Ladder: ${n} doses evenly spaced from ${fmt(from * 100)} % to ${fmt(to * 100)} % of the expected demand ${fmt(expected)} mg/L (estimate ${fmt(input.estimateMgPerL)} + background ${fmt(background)}) (common practice).`,
+      residual > 0
+        ? `Ladder: ${n} doses evenly spaced from ${fmt(from * 100)} % of the ${expected > 0 ? `expected demand ${fmt(expected)} mg/L (${terms})` : `planned dose ${fmt(planned)} mg/L`} ` +
+            `to ${fmt(to * 100)} % of the planned dose ${fmt(planned)} mg/L (${terms} + target residual ${fmt(residual)}), so it brackets both (common practice).`
+        : `Ladder: ${n} doses evenly spaced from ${fmt(from * 100)} % to ${fmt(to * 100)} % of the expected demand ${fmt(expected)} mg/L (${terms}; no target residual given) (common practice).`,
     );
   }
 
@@ -554,7 +612,12 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
     const aliquotMl = roundToResolution(exact, res);
     const actual = doseFromAliquot(aliquotMl, C, V);
     if (target > 0 && aliquotMl === 0) {
-      warnings.push({ code: 'ALIQUOT_ROUNDS_TO_ZERO', severity: 'error', jar: i + 1, message: `Jar ${i + 1}: ${fmt(exact)} mL rounds to 0 at ${res} mL resolution; use a weaker stock.` });
+      warnings.push({
+        code: 'ALIQUOT_ROUNDS_TO_ZERO',
+        severity: 'error',
+        jar: i + 1,
+        message: `Jar ${i + 1}: ${fmt(exact)} mL rounds to 0 at ${res} mL resolution: the ${fmt(C)} g/L stock is too strong for ${fmt(target)} mg/L; dilute it (${fmt(strengthForAliquot(target, V, minAliquotMl))} g/L or weaker gives at least ${fmt(minAliquotMl)} mL).`,
+      });
     } else if (aliquotMl > 0 && aliquotMl < minAliquotMl) {
       warnings.push({
         code: 'ALIQUOT_BELOW_MINIMUM',
@@ -574,6 +637,25 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
     };
   });
 
+  const dosed = jars.filter((j) => j.targetDoseMgPerL > 0);
+  if (dosed.every((j) => j.aliquotMl === 0)) {
+    // No jar would get any oxidant: refuse rather than print a bench sheet of empty pipettes.
+    const minDose = Math.min(...dosed.map((j) => j.targetDoseMgPerL));
+    const largestExact = Math.max(...dosed.map((j) => j.aliquotExactMl));
+    const weaker = strengthForAliquot(minDose, V, minAliquotMl);
+    throw new DomainError('JAR_TEST_INVALID', {
+      detail:
+        `Every aliquot rounds to 0 mL at the ${fmt(res)} mL pipette resolution (the largest is ${fmt(largestExact, 3)} mL), so no jar would get any oxidant: ` +
+        `the ${fmt(C)} g/L stock is too strong for doses of ${fmt(minDose, 3)} to ${fmt(Math.max(...dosed.map((j) => j.targetDoseMgPerL)), 3)} mg/L in a ${fmt(V)} L jar. ` +
+        `Dilute the stock (${fmt(weaker)} g/L or weaker gives at least ${fmt(minAliquotMl)} mL for the lowest dose), or check the jar volume.`,
+      params: { jarVolumeL: V, stockStrengthGPerL: C, pipetteResolutionMl: res, largestAliquotMl: largestExact, suggestedStockGPerL: weaker },
+      fields: [
+        { pointer: '/stockStrengthGPerL', message: `${fmt(C)} g/L is too strong: every aliquot rounds to 0 mL; dilute it to ${fmt(weaker)} g/L or weaker` },
+        { pointer: '/jarVolumeL', message: `${fmt(V)} L; with a larger jar the aliquots are larger` },
+      ],
+    });
+  }
+
   if (correct) {
     const largest = Math.max(...jars.map((j) => j.aliquotMl));
     warnings.push({
@@ -591,10 +673,23 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
       message: `The doses (${actualDoses.map((d) => fmt(d, 3)).join(', ')} mg/L) do not include one below and one above the expected demand ${fmt(expected)} mg/L; add a jar on the missing side.`,
     });
   }
+  const bracketsPlannedDose = planned > 0 && actualDoses.some((d) => d < planned) && actualDoses.some((d) => d > planned);
+  if (!bracketsPlannedDose && residual > 0) {
+    warnings.push({
+      code: 'NOT_BRACKETING_PLANNED_DOSE',
+      severity: 'warning',
+      message: `The doses (${actualDoses.map((d) => fmt(d, 3)).join(', ')} mg/L) do not include one below and one above the planned dose ${fmt(planned)} mg/L (expected demand ${fmt(expected)} + target residual ${fmt(residual)}); add a jar on the missing side.`,
+    });
+  }
   for (let i = 1; i < jars.length; i++) {
     const prev = jars.slice(0, i).findIndex((j) => j.aliquotMl === jars[i]!.aliquotMl);
     if (prev >= 0) {
-      warnings.push({ code: 'DUPLICATE_DOSE', severity: 'warning', jar: i + 1, message: `Jar ${i + 1} gets the same aliquot (${fmt(jars[i]!.aliquotMl)} mL) as jar ${prev + 1}; spread the doses or use a weaker stock.` });
+      warnings.push({
+        code: 'DUPLICATE_DOSE',
+        severity: 'warning',
+        jar: i + 1,
+        message: `Jar ${i + 1} gets the same aliquot (${fmt(jars[i]!.aliquotMl)} mL) as jar ${prev + 1}; spread the doses, or dilute the stock so the aliquots are larger and differ by more than the pipette step.`,
+      });
     }
   }
   if (ladder.source === 'caller' && !actualDoses.every((d, i) => i === 0 || d > actualDoses[i - 1]!)) {
@@ -614,8 +709,8 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
   return {
     oxidant: input.oxidant,
     basis,
-    estimate: { doseMgPerL: input.estimateMgPerL, backgroundMgPerL: background, expectedDemandMgPerL: expected },
-    ladder: { ...ladder, brackets },
+    estimate: { doseMgPerL: input.estimateMgPerL, backgroundMgPerL: background, expectedDemandMgPerL: expected, targetResidualMgPerL: residual, plannedDoseMgPerL: planned },
+    ladder: { ...ladder, brackets, bracketsPlannedDose },
     jarVolumeL: V,
     pipetteResolutionMl: res,
     minAliquotMl,

@@ -75,13 +75,20 @@ export function jarTestPlanDocument(plan: JarTestPlan, ctx: JarSheetContext): Sh
   const ladderRows: KeyValueRow[] = [
     { label: 'Stoichiometric estimate', value: [t(`${n3(plan.estimate.doseMgPerL)} `), ...basisRuns(b)] },
     { label: 'Background demand', value: `${n3(plan.estimate.backgroundMgPerL)} mg/L` },
-    { label: 'Demand the ladder brackets', value: [{ text: `${n3(plan.estimate.expectedDemandMgPerL)} mg/L`, style: 'bold' }] },
+    { label: 'Demand the ladder brackets', value: [{ text: `${n3(plan.estimate.expectedDemandMgPerL)} mg/L`, style: 'bold' }, t(' (estimate + background)')] },
+    { label: 'Target residual', value: plan.estimate.targetResidualMgPerL > 0 ? `${n3(plan.estimate.targetResidualMgPerL)} mg/L after contact` : 'not given (0 mg/L)' },
+    {
+      label: 'Planned dose',
+      value: [{ text: `${n3(plan.estimate.plannedDoseMgPerL)} mg/L`, style: 'bold' }, t(' (estimate + background + target residual: the dose the plant would feed)')],
+    },
     {
       label: 'Dose ladder',
       value:
-        plan.ladder.source === 'default'
-          ? `${Math.round((plan.ladder.fromFraction ?? 0) * 100)} % to ${Math.round((plan.ladder.toFraction ?? 0) * 100)} % of the demand, ${plan.jars.length} jars; ${plan.ladder.brackets ? 'brackets the demand' : 'does NOT bracket the demand'}`
-          : `doses given by the caller, ${plan.jars.length} jars; ${plan.ladder.brackets ? 'brackets the demand' : 'does NOT bracket the demand'}`,
+        (plan.ladder.source === 'default'
+          ? `${Math.round((plan.ladder.fromFraction ?? 0) * 100)} % of the demand to ${Math.round((plan.ladder.toFraction ?? 0) * 100)} % of the planned dose, ${plan.jars.length} jars; `
+          : `doses given by the caller, ${plan.jars.length} jars; `) +
+        `${plan.ladder.brackets ? 'brackets the demand' : 'does NOT bracket the demand'}` +
+        (plan.estimate.targetResidualMgPerL > 0 ? `; ${plan.ladder.bracketsPlannedDose ? 'brackets the planned dose' : 'does NOT bracket the planned dose'}` : ''),
     },
     { label: 'Jar volume', value: `${nGiven(plan.jarVolumeL)} L` },
     { label: 'Pipette', value: `resolution ${nGiven(plan.pipetteResolutionMl)} mL; aliquots from ${n3(plan.minAliquotMl)} to ${n3(plan.maxAliquotMl)} mL${plan.dilutionCorrected ? '; aliquots corrected for dilution' : ''}` },
@@ -100,7 +107,7 @@ export function jarTestPlanDocument(plan: JarTestPlan, ctx: JarSheetContext): Sh
       value: `${n3(prep.tradeVolumeMl)} mL of the trade solution (${n3(prep.tradeStrengthGPerL)} g/L) to the mark${prep.tradeStrengthMustBeMeasured ? '; measure the trade strength first, it decays in storage' : ''}`,
     });
   } else {
-    stockRows.push({ label: 'Generate', value: `stock generated on site; measure its strength by ${prep.measureBy}` });
+    stockRows.push({ label: 'Make', value: autoRich(`${prep.stock} on the day: ${prep.make}; measure its strength by ${prep.measureBy}`) });
   }
   stockRows.push({ label: 'Stock used', value: `${n3(st.stockUsedMl)} mL by the ladder (make ${n3(st.stockWantedMl)} mL)` });
   if (st.solubilityGPerL !== null) stockRows.push({ label: 'Solubility', value: `${n3(st.solubilityGPerL)} g/L` });

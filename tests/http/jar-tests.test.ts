@@ -205,6 +205,124 @@ describe('POST /api/v1/jar-tests/plans', () => {
     expect(p.detail).not.toMatch(/GPerL|MgPerL/);
   });
 
+  // The planned dose is what POST /api/v1/doses computes for the same oxidant, sample, background and target residual
+  // (demand + background + residual); the plan's ladder must reach above it.
+  it('targetResidual: the planned dose equals the dose of POST /api/v1/doses, and the default ladder brackets it', async () => {
+    const sample = { pH: 7.2, temperatureC: 12, iron: mgL(2.0) };
+    const r = await post('/api/v1/jar-tests/plans', { oxidant: 'sodium-hypochlorite', sample, jarVolume: { value: 1, unit: 'L' }, backgroundDemand: mgL(0.3), targetResidual: mgL(1.0) });
+    expect(r.statusCode, r.body).toBe(200);
+    const b = r.json();
+    const d = (await post('/api/v1/doses', { oxidant: 'sodium-hypochlorite', sample, backgroundDemand: mgL(0.3), targetResidual: mgL(1.0) })).json();
+    expect(b.targetResidual).toMatchObject({ value: 1, unit: 'mg/L', basis: 'as Cl2', source: 'request' });
+    expect(b.plannedDose.value).toBeCloseTo(d.dose.value, 9);
+    expect(b.plannedDose.value).toBeCloseTo(b.estimate.value + 0.3 + 1.0, 12);
+    expect(b.plannedDose.includes).toContain('target residual 1 mg/L');
+    expect(b.plannedDose.includes).toContain('background demand 0.3');
+    expect(b.ladder).toMatchObject({ source: 'default', brackets: true, bracketsPlannedDose: true });
+    const doses = b.jars.map((j: { actualDose: { value: number } }) => j.actualDose.value);
+    expect(Math.min(...doses)).toBeLessThan(b.plannedDose.value);
+    expect(Math.max(...doses)).toBeGreaterThan(b.plannedDose.value);
+    expect(b.jars[0].dose.value).toBeCloseTo(0.5 * b.expectedDemand.value, 9);
+    expect(b.jars[5].dose.value).toBeCloseTo(1.5 * b.plannedDose.value, 9);
+  });
+
+  it('targetResidual above the chlorine MRDL carries the dose route\'s flag into the plan warnings', async () => {
+    // 40 CFR 141.65(a): MRDL 4.0 mg/L as Cl2 (tables/limits.json)
+    const r = await post('/api/v1/jar-tests/plans', { oxidant: 'sodium-hypochlorite', sample: SAMPLE, jarVolume: { value: 1, unit: 'L' }, targetResidual: mgL(5) });
+    expect(r.statusCode).toBe(200);
+    const w = r.json().warnings.find((x: { code: string }) => x.code === 'RESIDUAL_ABOVE_MRDL');
+    expect(w.severity).toBe('warning');
+    expect(w.message).toContain('4.0 mg/L');
+  });
+
+  it('a negative targetResidual is a 400 naming /targetResidual/value', async () => {
+    const r = await post('/api/v1/jar-tests/plans', { ...worked, targetResidual: mgL(-1) });
+    expect(r.statusCode).toBe(400);
+    expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toContain('/targetResidual/value');
+  });
+
+  it('plantId: the target residual and the product on hand come from the stored profile, as for POST /api/v1/doses', async () => {
+    // The invented demo plant (tables/demo/demo-plant.json): sodium hypochlorite 12.5 % w/v (125 g/L), residual 1.0 mg/L.
+    const sample = { pH: 7.4, temperatureC: 11, iron: mgL(1.2) };
+    const r = await post('/api/v1/jar-tests/plans', { plantId: 'demo-groundwater', oxidant: 'sodium-hypochlorite', sample, jarVolume: { value: 1, unit: 'L' } });
+    expect(r.statusCode, r.body).toBe(200);
+    const b = r.json();
+    expect(b.plant).toMatchObject({ id: 'demo-groundwater', invented: true, fromPlant: ['targetResidual', 'product'] });
+    expect(b.targetResidual).toMatchObject({ value: 1, source: 'plant profile' });
+    expect(b.plannedDose.includes).toContain('(from the plant profile)');
+    expect(b.stock.preparation.tradeStrength.value).toBeCloseTo(125, 9);
+    expect(b.warnings.map((w: { code: string }) => w.code)).not.toContain('PRODUCT_NOTE'); // strength from the profile, not the table's nominal
+    const d = (await post('/api/v1/doses', { plantId: 'demo-groundwater', oxidant: 'sodium-hypochlorite', sample })).json();
+    expect(b.plannedDose.value).toBeCloseTo(d.dose.value, 9);
+    // the request's own residual wins over the profile's
+    const own = (await post('/api/v1/jar-tests/plans', { plantId: 'demo-groundwater', oxidant: 'sodium-hypochlorite', sample, jarVolume: { value: 1, unit: 'L' }, targetResidual: mgL(0.5) })).json();
+    expect(own.targetResidual).toMatchObject({ value: 0.5, source: 'request' });
+    expect(own.plant.fromPlant).toEqual(['product']);
+    // the bench sheet names the plant and the planned dose
+    const pdf = await post('/api/v1/jar-tests/plans', { plantId: 'demo-groundwater', oxidant: 'sodium-hypochlorite', sample, jarVolume: { value: 1, unit: 'L' } }, { accept: 'application/pdf' });
+    expect(pdf.statusCode).toBe(200);
+    const txt = pdfText(pdfFile(pdf.rawPayload, 'jar-plan-plant'));
+    expect(txt).toContain('Demo groundwater plant (invented)');
+    expect(txt).toContain('Planned dose');
+    expect(txt).toContain('Target residual');
+  });
+
+  it('an unknown plantId is a 404 naming /plantId', async () => {
+    const r = await post('/api/v1/jar-tests/plans', { ...worked, plantId: 'no-such-plant' });
+    expect(r.statusCode).toBe(404);
+    expect(r.json().code).toBe('PLANT_NOT_FOUND');
+    expect(r.json().errors[0].pointer).toBe('/plantId');
+  });
+
+  it.each([
+    ['application/json', 'the plan'],
+    ['application/pdf', 'the bench sheet'],
+  ])('a 1 mL jar (a unit slip for 1 L) is refused with 400 naming /jarVolume/value, asking for %s: no %s', async (accept) => {
+    const r = await post('/api/v1/jar-tests/plans', { ...worked, jarVolume: { value: 1, unit: 'mL' } }, { accept });
+    expect(r.statusCode).toBe(400);
+    expect(String(r.headers['content-type'])).toContain('application/problem+json');
+    const p = r.json();
+    expect(p.code).toBe('JAR_TEST_INVALID');
+    expect(p.errors[0].pointer).toBe('/jarVolume/value');
+    expect(p.errors[0].message).toContain('at least 0.25 L (got 0.001 L = 1 mL)');
+    expect(p.errors[0].message).toContain('Check the unit');
+  });
+
+  it('a plan whose every aliquot rounds to 0 mL is a 400 naming /stockStrength/value and /jarVolume/value', async () => {
+    // 10 g/L in 2 L: 0.01 mg/L needs 0.002 mL, 0.02 mg/L 0.004 mL → both 0 at 0.1 mL; 0.01 × 2 / 1.0 mL = 0.02 g/L gives 1 mL
+    const r = await post('/api/v1/jar-tests/plans', { ...worked, stockStrength: { value: 10, unit: 'g/L' }, doses: [mgL(0.01), mgL(0.02)] });
+    expect(r.statusCode).toBe(400);
+    const p = r.json();
+    expect(p.errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/stockStrength/value', '/jarVolume/value']);
+    expect(p.detail).toContain('Dilute the stock (0.02 g/L or weaker');
+    expect(p.detail).not.toMatch(/GPerL|MgPerL/);
+  });
+
+  it.each([
+    ['chlorine-gas', 'chlorine water', /hypochlorite/],
+    ['ozone', 'ozone water', /generator/],
+  ])('%s: the stock is %s', async (oxidant, stock, how) => {
+    const refused = await post('/api/v1/jar-tests/plans', { oxidant, sample: SAMPLE, jarVolume: { value: 2, unit: 'L' } });
+    expect(refused.statusCode).toBe(400);
+    expect(refused.json().detail).toContain(stock);
+    expect(refused.json().detail).toMatch(how);
+    expect(refused.json().detail).not.toMatch(/\bA [AEIOU]/);
+    const r = await post('/api/v1/jar-tests/plans', { oxidant, sample: SAMPLE, jarVolume: { value: 2, unit: 'L' }, stockStrength: { value: 0.05, unit: 'g/L' } });
+    expect(r.statusCode).toBe(200);
+    expect(r.json().stock.preparation).toMatchObject({ kind: 'generate', stockSolution: stock });
+    expect(r.json().stock.instructions[0]).toContain(stock);
+  });
+
+  it('oxygen is dosed by aeration: a plan is a 400 naming /oxidant, with or without a stock strength', async () => {
+    for (const extra of [{}, { stockStrength: { value: 0.009, unit: 'g/L' } }]) {
+      const r = await post('/api/v1/jar-tests/plans', { oxidant: 'oxygen', sample: SAMPLE, jarVolume: { value: 2, unit: 'L' }, ...extra });
+      expect(r.statusCode).toBe(400);
+      expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/oxidant']);
+      expect(r.json().detail).toContain('aeration');
+      expect(r.json().detail).not.toContain('generator');
+    }
+  });
+
   it('a sample with nothing to oxidise and no doses: 400 pointing at the sample and the doses', async () => {
     const r = await post('/api/v1/jar-tests/plans', { oxidant: 'potassium-permanganate', sample: { pH: 7.5, temperatureC: 15 }, jarVolume: { value: 2, unit: 'L' } });
     expect(r.statusCode).toBe(400);
@@ -279,6 +397,20 @@ describe('POST /api/v1/jar-tests/checks', () => {
     expect(JSON.stringify(r.json().problems)).not.toMatch(/MgPerL|GPerL/);
   });
 
+  it('oxygen is dosed by aeration, not from a stock: a check of aliquots is a 400 naming /oxidant', async () => {
+    const r = await post('/api/v1/jar-tests/checks', { ...base, oxidant: 'oxygen', jars: goodJars });
+    expect(r.statusCode).toBe(400);
+    expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/oxidant']);
+    expect(r.json().detail).toContain('aeration');
+  });
+
+  it('a 2 mL jar (2 L written in mL) is a 400 naming /jarVolume/value', async () => {
+    const r = await post('/api/v1/jar-tests/checks', { ...base, jarVolume: { value: 2, unit: 'mL' }, jars: goodJars });
+    expect(r.statusCode).toBe(400);
+    expect(r.json().errors[0].pointer).toBe('/jarVolume/value');
+    expect(r.json().errors[0].message).toContain('at least 0.25 L');
+  });
+
   it('a negative aliquot is a 400 naming /jars/1/aliquotMl', async () => {
     const r = await post('/api/v1/jar-tests/checks', { ...base, jars: [goodJars[0], { aliquotMl: -1 }] });
     expect(r.statusCode).toBe(400);
@@ -346,6 +478,21 @@ describe('POST /api/v1/jar-tests/evaluations', () => {
     expect(created.fit.intercept).toBeCloseTo(-created.apparentDemand.value * created.fit.slope, 9);
     expect(created.fit.jarsUsed).toEqual([4, 5, 6, 7, 8]);
     expect(created.fit.contactTimeMin).toBe(30);
+  });
+
+  it('permanganate with no residual maximum: the recommended dose is checked against the 0.05 mg/L pink-water threshold', async () => {
+    // 3.3 mg/L against a demand near 2.5 mg/L leaves about 0.8 mg/L of permanganate: pink (threshold 0.05 mg/L as KMnO4,
+    // common practice, from memory; US EPA 1999 ADOGM §5.1.2: a permanganate residual gives water a pink colour)
+    const w = created.problems.find((p: { code: string }) => p.code === 'RECOMMENDED_RESIDUAL_PINK');
+    expect(w.severity).toBe('warning');
+    expect(w.message).toContain('0.05 mg/L');
+    expect(created.recommendedDose.expectedResidual.value).toBeGreaterThan(0.05);
+    const txt = pdfText(pdfFile((await app.inject({ url: created.pdfUrl })).rawPayload, 'jar-eval-pink'));
+    expect(txt).toContain('RECOMMENDED_RESIDUAL_PINK');
+    // the caller's maximum replaces the default
+    const own = await post('/api/v1/jar-tests/evaluations', { ...body, targets: { ...body.targets, residualOxidantMax: mgL(2) } }, asAdmin);
+    expect(own.statusCode).toBe(201);
+    expect(own.json().problems.map((p: { code: string }) => p.code)).not.toContain('RECOMMENDED_RESIDUAL_PINK');
   });
 
   it('lowest dose meeting the Fe and Mn targets, and the recommended dose with its margin', () => {

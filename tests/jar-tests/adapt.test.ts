@@ -20,7 +20,7 @@ describe('jarProductFacts from tables/oxidants.json', () => {
       const r = row(id);
       const f = jarProductFacts(r, { productPerBasis: productPerBasis(r, weights).factor.toNumber() });
       expect(f.basis).toBe(r.doseBasis);
-      expect(['solid', 'trade-solution', 'generated']).toContain(f.stock.kind);
+      expect(['solid', 'trade-solution', 'generated', 'aeration']).toContain(f.stock.kind);
     }
   });
 
@@ -70,13 +70,63 @@ describe('jarProductFacts from tables/oxidants.json', () => {
   });
 
   it('generated and gas products need a measured stock strength to plan', () => {
-    for (const id of ['chlorine-dioxide', 'ozone', 'chlorine-gas', 'oxygen']) {
+    for (const id of ['chlorine-dioxide', 'ozone', 'chlorine-gas']) {
       const f = jarProductFacts(row(id));
       expect(f.stock.kind).toBe('generated');
       expect(() => planJarTest({ oxidant: id, product: f, estimateMgPerL: 1, jarVolumeL: 2 })).toThrow(/measured strength/);
     }
     const o3 = planJarTest({ oxidant: 'ozone', product: jarProductFacts(row('ozone')), estimateMgPerL: 1, jarVolumeL: 1, stockStrengthGPerL: 0.02 });
     expect(o3.dilutionCorrected).toBe(true);
+  });
+
+  // How each generated stock is made, per oxidant (common practice of bench work): the words must name the
+  // right stock, and no sentence may carry a wrong article ("A Ozone …") or a capitalised name mid-sentence.
+  it.each([
+    ['ozone', 'ozone water', /generator/, /indigo/],
+    ['chlorine-gas', 'chlorine water', /bubble chlorine gas into chilled reagent water/, /hypochlorite/],
+    ['chlorine-dioxide', 'chlorine dioxide solution', /generator/, /glycine|amperometric/],
+  ] as const)('%s: the stock is %s, in words that fit the oxidant', (id, stock, make, measure) => {
+    const f = jarProductFacts(row(id));
+    const refused = (() => {
+      try {
+        planJarTest({ oxidant: id, product: f, estimateMgPerL: 1, jarVolumeL: 2 });
+      } catch (e) {
+        if (e instanceof DomainError) return e;
+      }
+      throw new Error('expected a refusal asking for the measured strength');
+    })();
+    expect(refused.detail).toContain(stock);
+    expect(refused.detail).toMatch(make);
+    expect(refused.detail).toMatch(measure);
+    expect(refused.fields[0]!.pointer).toBe('/stockStrengthGPerL');
+    const plan = planJarTest({ oxidant: id, product: f, estimateMgPerL: 1, jarVolumeL: 2, stockStrengthGPerL: 0.05 });
+    expect(plan.stock.preparation).toMatchObject({ kind: 'generate', stock });
+    const texts = [refused.detail, ...plan.stock.instructions, ...plan.warnings.map((w) => w.message)];
+    expect(texts.join(' ')).toContain(stock);
+    for (const t of texts) {
+      expect(t).not.toMatch(/\bA [AEIOUaeiou]/); // "A Ozone", "A oxygen"
+      expect(t).not.toMatch(/(?<!^|[.:] )\b(Ozone|Chlorine|Oxygen)\b/); // a capitalised product name inside a sentence
+    }
+    if (id === 'chlorine-gas') expect(texts.join(' ')).not.toMatch(/from the generator|comes from a generator/);
+  });
+
+  it('oxygen is dosed by aeration: no stock, so a jar-test plan is refused at /oxidant with what to do instead', () => {
+    const f = jarProductFacts(row('oxygen'));
+    expect(f.stock.kind).toBe('aeration');
+    for (const stock of [undefined, 0.009]) {
+      let e: DomainError | null = null;
+      try {
+        planJarTest({ oxidant: 'oxygen', product: f, estimateMgPerL: 0.2, jarVolumeL: 2, ...(stock !== undefined ? { stockStrengthGPerL: stock } : {}) });
+      } catch (x) {
+        if (x instanceof DomainError) e = x;
+      }
+      expect(e).not.toBeNull();
+      expect(e!.code).toBe('JAR_TEST_INVALID');
+      expect(e!.fields.map((x) => x.pointer)).toEqual(['/oxidant']);
+      expect(e!.detail).toMatch(/^Oxygen is dosed by aeration, not from a stock solution/);
+      expect(e!.detail).toContain('dissolved oxygen');
+      expect(e!.detail).not.toMatch(/generator|g\/L as O2/);
+    }
   });
 });
 

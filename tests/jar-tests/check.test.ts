@@ -41,6 +41,7 @@ describe('checkJarPlan: bad input', () => {
   it.each([
     ['no jars', { jars: [] }, '/jars'],
     ['zero jar volume', { jarVolumeL: 0 }, '/jarVolumeL'],
+    ['a 2 mL jar (2 L written in mL), below the 0.25 L bench minimum', { jarVolumeL: 0.002 }, '/jarVolumeL'],
     ['negative stock', { stockStrengthGPerL: -1 }, '/stockStrengthGPerL'],
     ['negative aliquot', { jars: [{ aliquotMl: 1 }, { aliquotMl: 2 }, { aliquotMl: -3 }] }, '/jars/2/aliquotMl'],
     ['NaN dose', { jars: [{ doseMgPerL: Number.NaN }] }, '/jars/0/doseMgPerL'],
@@ -106,6 +107,18 @@ describe('checkJarPlan: each problem found by a crafted plan', () => {
     expect(found, `codes found: ${allCodes(r).join(', ')}`).toBeDefined();
     expect(found!.message.length).toBeGreaterThan(30);
     expect(Object.values(CHECK_CODES)).toContain(code);
+  });
+
+  it('a stock too strong for a dose says dilute it, with the strength that gives the minimum aliquot', () => {
+    // 1.0 g/L in 2 L: 0.05 mL reads as below the 0.1 mL step; 1.0 × 0.05 / 1.0 mL = 0.05 g/L gives 1.0 mL
+    // 0.01 mg/L needs 0.01 × 2 / 1.0 = 0.02 mL → 0 mL; 0.01 × 2 / 1.0 mL = 0.02 g/L gives 1.0 mL
+    const a = checkJarPlan(jars([{ aliquotMl: 0.05 }, { aliquotMl: 2 }, { aliquotMl: 6 }])).jars[0]!.problems.find((p) => p.code === 'BELOW_PIPETTE_RESOLUTION')!;
+    const b = checkJarPlan(jars([{ doseMgPerL: 0.01 }, { doseMgPerL: 2 }, { doseMgPerL: 3 }])).jars[0]!.problems.find((p) => p.code === 'BELOW_PIPETTE_RESOLUTION')!;
+    expect(a.message).toContain('too strong for this dose; dilute it (about 0.05 g/L gives 1 mL)');
+    expect(b.message).toContain('too strong for this dose; dilute it (0.02 g/L or weaker gives at least 1 mL)');
+    const c = checkJarPlan(jars([{ aliquotMl: 0.5 }, { aliquotMl: 2 }, { aliquotMl: 6 }])).jars[0]!.problems.find((p) => p.code === 'ALIQUOT_BELOW_MINIMUM')!;
+    expect(c.message).toContain('Diluting the stock gives larger');
+    for (const p of [a, b, c]) expect(p.message).not.toMatch(/weaker stock|stronger stock/);
   });
 
   it('the mismatch message gives the recomputed dose and the aliquot that would be right', () => {

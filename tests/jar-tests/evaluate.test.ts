@@ -63,6 +63,7 @@ describe('evaluateJarTest: bad input and too few points (edge cases first)', () 
     ['margin of 10 (not a fraction)', { margin: { kind: 'relative', fraction: 10 } }, '/margin/fraction'],
     ['negative target', { targets: { ironMgPerL: -0.3 } }, '/targets/ironMgPerL'],
     ['zero jar volume', { jarVolumeL: 0 }, '/jarVolumeL'],
+    ['a 1 mL jar (1 L written in mL), below the 0.25 L bench minimum', { jarVolumeL: 0.001 }, '/jarVolumeL'],
   ] as const)('%s → JAR_TEST_INVALID at %s', (_n, over, pointer) => {
     const e = fails(() => evaluateJarTest({ ...MODEL, ...(over as Partial<EvaluateJarTestInput>) }));
     expect(e.code).toBe('JAR_TEST_INVALID');
@@ -235,6 +236,60 @@ describe('evaluateJarTest: worked example from the stated model', () => {
     // lowest meeting at 15 min now also needs residual ≤ 1.0: jar 4 (0.8 at 15 min) → 2.5 + 0.5 = 3.0 → line 1.2 > 1.0
     expect(f.recommendedDose!.doseMgPerL).toBeCloseTo(3.0, 10);
     expect(f.problems.map((p) => p.code)).toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
+  });
+});
+
+describe('evaluateJarTest: pink water from residual permanganate', () => {
+  // Default threshold: 0.05 mg/L as KMnO4, a commonly quoted visibility threshold for permanganate colour (common
+  // practice, from memory; US EPA 1999 ADOGM §5.1.2: a permanganate residual is not desirable, it gives water a pink colour).
+  const codesOf = (e: { problems: readonly { code: string }[] }) => e.problems.map((p) => p.code);
+
+  it('no residual maximum given: the recommended 2.75 mg/L predicts 0.95 mg/L (2.75 − 1.8), above 0.05 → warning naming the threshold and its basis', () => {
+    const e = evaluateJarTest(MODEL);
+    const w = e.problems.find((p) => p.code === 'RECOMMENDED_RESIDUAL_PINK')!;
+    expect(w.severity).toBe('warning');
+    expect(w.message).toContain('predicts 0.95 mg/L');
+    expect(w.message).toContain('0.05 mg/L default threshold');
+    expect(w.message).toContain('common practice');
+    expect(w.message).toContain('from memory');
+    expect(w.message).toContain('usepa-1999-adogm');
+    expect(codesOf(e)).not.toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
+  });
+
+  it("the caller's maximum is kept: 1.0 mg/L allowed → no default pink check, and 0.95 is within it", () => {
+    const e = evaluateJarTest({ ...MODEL, targets: { ...MODEL.targets, residualOxidantMaxMgPerL: 1.0 } });
+    expect(codesOf(e)).not.toContain('RECOMMENDED_RESIDUAL_PINK');
+    expect(codesOf(e)).not.toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
+    // + 0.5 mg/L on the 2.5 mg/L jar: 3.0 mg/L predicts 1.2 mg/L, above the caller's 1.0 (their limit, not the default)
+    const f = evaluateJarTest({ ...MODEL, margin: { kind: 'absolute', mgPerL: 0.5 }, targets: { ...MODEL.targets, residualOxidantMaxMgPerL: 1.0 } });
+    expect(codesOf(f)).toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
+    expect(codesOf(f)).not.toContain('RECOMMENDED_RESIDUAL_PINK');
+  });
+
+  it('a recommendation whose predicted residual is at or below 0.05 mg/L gets a note, not a warning', () => {
+    // No targets and no margin: the recommendation is the apparent demand 1.8 mg/L, where the line predicts 1.8 − 1.8 = 0.
+    const jars = MODEL.jars.map((j) => ({ ...j, results: j.results.map((x) => ({ contactTimeMin: x.contactTimeMin, residualOxidantMgPerL: x.residualOxidantMgPerL })) }));
+    const e = evaluateJarTest({ ...MODEL, jars, targets: undefined, margin: { kind: 'relative', fraction: 0 } });
+    expect(e.recommendedDose!.expectedResidualMgPerL).toBeCloseTo(0, 9);
+    expect(codesOf(e)).not.toContain('RECOMMENDED_RESIDUAL_PINK');
+    expect(e.notes.join(' ')).toContain('at or below the 0.05 mg/L default pink-water threshold');
+  });
+
+  it.each([
+    ['Cl2', null],
+    ['NaMnO4', 'RESIDUAL_COLOUR_NOT_CHECKED'],
+  ])('basis %s: no pink warning (%s)', (basis, code) => {
+    const e = evaluateJarTest({ ...MODEL, basis, oxidant: basis === 'Cl2' ? 'sodium-hypochlorite' : 'sodium-permanganate' });
+    expect(codesOf(e)).not.toContain('RECOMMENDED_RESIDUAL_PINK');
+    if (code === null) expect(codesOf(e)).not.toContain('RESIDUAL_COLOUR_NOT_CHECKED');
+    else expect(e.problems.find((p) => p.code === code)!.severity).toBe('info');
+  });
+
+  it('no usable residual line: the colour is not checked, and the evaluation says so', () => {
+    const jars = [2, 2.5, 3].map((d, i) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 0.9 - 0.2 * i, ironMgPerL: 0.1, manganeseMgPerL: 0.02 }] }));
+    const e = evaluateJarTest({ ...MODEL, jars });
+    expect(e.recommendedDose!.expectedResidualMgPerL).toBeNull();
+    expect(codesOf(e)).toContain('RESIDUAL_COLOUR_NOT_CHECKED');
   });
 });
 

@@ -59,10 +59,57 @@ describe('planJarTest: bad input (edge cases first)', () => {
     ['negative contact time', { contactTimesMin: [5, -15] }, '/contactTimesMin/1'],
     ['purity as a percent', { product: { ...KMNO4, stock: { kind: 'solid', purityFraction: 97 } } }, '/product/stock/purityFraction'],
     ['ladder that does not straddle 1', { ladderFromFraction: 1.1 }, '/ladderToFraction'],
+    ['negative target residual', { targetResidualMgPerL: -0.5 }, '/targetResidualMgPerL'],
+    ['a 1 mL jar (a unit slip for 1 L)', { jarVolumeL: 0.001 }, '/jarVolumeL'],
+    ['a 200 mL jar, below the 0.25 L bench minimum', { jarVolumeL: 0.2 }, '/jarVolumeL'],
   ] as const)('%s → JAR_TEST_INVALID at %s', (_name, over, pointer) => {
     const e = invalid(() => planJarTest(base(over as Partial<PlanJarTestInput>)));
     expect(e.code).toBe('JAR_TEST_INVALID');
     expect(e.fields.map((f) => f.pointer)).toContain(pointer);
+  });
+
+  it('a jar volume below 0.25 L names the bound, its basis and the unit to check; 0.25 L itself is a jar', () => {
+    // Bench jars hold 0.5 to 2 L (common practice; ASTM D2035 uses 1 L beakers, from memory).
+    const e = invalid(() => planJarTest(base({ jarVolumeL: 0.001 })));
+    const f = e.fields.find((x) => x.pointer === '/jarVolumeL')!;
+    expect(f.message).toContain('at least 0.25 L');
+    expect(f.message).toContain('got 0.001 L = 1 mL');
+    expect(f.message).toContain('ASTM D2035');
+    expect(f.message).toContain('Check the unit');
+    expect(planJarTest(base({ jarVolumeL: 0.25 })).jarVolumeL).toBe(0.25);
+  });
+
+  it('a plan whose every aliquot rounds to 0 mL is refused, naming the stock and the jar volume, with a stock to dilute to', () => {
+    // 10 g/L (10 mg/mL) in 1 L: 0.02 mg/L needs 0.02 × 1 / 10 = 0.002 mL, 0.04 mg/L 0.004 mL: both round to 0 at 0.1 mL.
+    // A stock that gives the 1.0 mL minimum for the lowest dose: 0.02 mg/L × 1 L / 1.0 mL = 0.02 g/L.
+    const e = invalid(() => planJarTest(base({ stockStrengthGPerL: 10, jarVolumeL: 1, doses: [0, 0.02, 0.04] })));
+    expect(e.code).toBe('JAR_TEST_INVALID');
+    expect(e.fields.map((f) => f.pointer)).toEqual(['/stockStrengthGPerL', '/jarVolumeL']);
+    expect(e.detail).toContain('Every aliquot rounds to 0 mL');
+    expect(e.detail).toContain('Dilute the stock (0.02 g/L or weaker');
+    expect(e.params).toMatchObject({ suggestedStockGPerL: 0.02, stockStrengthGPerL: 10, jarVolumeL: 1 });
+  });
+
+  it('one aliquot that rounds to 0 is an error in the plan; too strong says dilute, too weak says stronger', () => {
+    // 1 g/L in 1 L: 0.04 mg/L needs 0.04 mL → 0 mL; a stock for 1.0 mL: 0.04 × 1 / 1.0 = 0.04 g/L
+    const p = planJarTest(base({ stockStrengthGPerL: 1, jarVolumeL: 1, doses: [0.04, 2, 3] }));
+    const zero = p.warnings.find((w) => w.code === 'ALIQUOT_ROUNDS_TO_ZERO')!;
+    expect(zero).toMatchObject({ severity: 'error', jar: 1 });
+    expect(zero.message).toContain('too strong');
+    expect(zero.message).toContain('dilute it (0.04 g/L or weaker');
+    // the weakest listed stock still too strong for the lowest dose: 0.05 mg/L × 0.5 L / 0.1 g/L = 0.25 mL < 1 mL;
+    // a stock for 1.0 mL: 0.05 mg/L × 0.5 L / 1.0 mL = 0.025 g/L
+    const q = planJarTest(base({ estimateMgPerL: 0.1, jarVolumeL: 0.5 }));
+    const low = q.warnings.find((w) => w.code === 'STOCK_TOO_STRONG_FOR_LOW_DOSES')!;
+    expect(low.message).toContain('too strong');
+    expect(low.message).toContain('Dilute it (0.025 g/L or weaker');
+    // too weak: the dilution by large aliquots is avoided by a stronger stock
+    const r = planJarTest(base({ doses: [0.5, 5, 10, 20] }));
+    expect(r.warnings.find((w) => w.code === 'DILUTION_CORRECTED')!.message).toContain('A stronger stock avoids this');
+    for (const w of [...p.warnings, ...q.warnings, ...r.warnings]) {
+      if (/too strong/.test(w.message)) expect(w.message).not.toMatch(/stronger stock/);
+      expect(w.message).not.toMatch(/use a weaker stock/);
+    }
   });
 
   it('a zero expected demand without doses asks for the doses', () => {
@@ -165,7 +212,8 @@ describe('planJarTest: worked examples', () => {
     expect(p.jars[3]!.actualDoseMgPerL).toBeCloseTo(2.222 / 1.1111, 12);
     expect(codes(p)).toContain('DILUTION_CORRECTED');
     expect(codes(p)).toContain('GENERATED_STOCK_MEASURE');
-    expect(p.stock.preparation).toMatchObject({ kind: 'generate', measureBy: 'indigo colorimetric' });
+    expect(p.stock.preparation).toMatchObject({ kind: 'generate', measureBy: 'indigo colorimetric', stock: 'ozone water' });
+    expect(p.stock.instructions[0]).toContain('ozone water: bubble ozone from a generator through chilled reagent water');
   });
 
   it('a ladder too wide for any one stock keeps the smallest aliquot measurable and corrects the largest', () => {
@@ -224,6 +272,70 @@ describe('planJarTest: worked examples', () => {
   });
 });
 
+describe('planJarTest: the target residual (the dose the plant would feed)', () => {
+  it('hypochlorite, estimate 1.2 + background 0.3 + target residual 1.0 = planned dose 2.5 mg/L in 1 L jars', () => {
+    // ladder from 50 % of the demand 1.5 (0.75) to 150 % of the planned dose 2.5 (3.75), 6 jars, step 0.6:
+    //   0.75, 1.35, 1.95, 2.55, 3.15, 3.75 mg/L
+    // stock: aliquots within [1.0, 10] mL (1 % of 1 L): 0.1 g/L → 7.5 … 37.5 mL, 0.25 g/L → 3 … 15 mL (too large);
+    //   0.5 g/L → 1.5 … 7.5 mL ✓: 1.5, 2.7, 3.9, 5.1, 6.3, 7.5 mL
+    // jar 4: 5.1 × 0.5 / 1.0051 = 2.537061 mg/L, above 2.5; jar 3: 3.9 × 0.5 / 1.0039 = 1.942424, below it
+    // expected residual of jar 4 if the demand 1.5 is met: 2.537061 − 1.5 = 1.037061 mg/L (≈ the 1.0 target)
+    const p = planJarTest(base({ oxidant: 'sodium-hypochlorite', product: NAOCL, estimateMgPerL: 1.2, backgroundMgPerL: 0.3, targetResidualMgPerL: 1.0, jarVolumeL: 1 }));
+    expect(p.estimate).toMatchObject({ targetResidualMgPerL: 1.0 });
+    expect(p.estimate.expectedDemandMgPerL).toBeCloseTo(1.5, 12);
+    expect(p.estimate.plannedDoseMgPerL).toBeCloseTo(2.5, 12);
+    expect(p.jars.map((j) => j.targetDoseMgPerL)).toEqual([0.75, 1.35, 1.95, 2.55, 3.15, 3.75].map((d) => expect.closeTo(d, 12)));
+    expect(p.stock.strengthGPerL).toBe(0.5);
+    expect(p.jars.map((j) => j.aliquotMl)).toEqual([1.5, 2.7, 3.9, 5.1, 6.3, 7.5]);
+    expect(p.jars[3]!.actualDoseMgPerL).toBeCloseTo(2.55 / 1.0051, 12);
+    expect(p.jars[3]!.expectedResidualMgPerL).toBeCloseTo(2.55 / 1.0051 - 1.5, 12);
+    expect(p.ladder).toMatchObject({ source: 'default', fromFraction: 0.5, toFraction: 1.5, brackets: true, bracketsPlannedDose: true });
+    expect(p.assumptions.join(' ')).toContain('to 150 % of the planned dose 2.5 mg/L');
+    expect(p.assumptions.join(' ')).toContain('target residual 1');
+  });
+
+  it('without a target residual the ladder is 50–150 % of the demand, as before, and the planned dose is the demand', () => {
+    const p = planJarTest(base());
+    expect(p.estimate.plannedDoseMgPerL).toBe(p.estimate.expectedDemandMgPerL);
+    expect(p.jars.map((j) => j.targetDoseMgPerL)).toEqual([1, 1.4, 1.8, 2.2, 2.6, 3]);
+    expect(p.assumptions.join(' ')).toContain('no target residual given');
+  });
+
+  it('a sample with no demand but a target residual: the ladder is 50–150 % of the residual', () => {
+    // planned dose = 0 + 0 + 1.0; ladder 0.5 … 1.5 mg/L
+    const p = planJarTest(base({ oxidant: 'sodium-hypochlorite', product: NAOCL, estimateMgPerL: 0, targetResidualMgPerL: 1.0, jarVolumeL: 1 }));
+    expect(p.jars[0]!.targetDoseMgPerL).toBeCloseTo(0.5, 12);
+    expect(p.jars[5]!.targetDoseMgPerL).toBeCloseTo(1.5, 12);
+    expect(p.ladder.bracketsPlannedDose).toBe(true);
+  });
+
+  it('explicit doses that miss the planned dose are warned about; with no residual that warning is not repeated', () => {
+    // demand 2.0, residual 1.0 → planned 3.0; doses 1 … 2.5 bracket the demand but not 3.0
+    const p = planJarTest(base({ stockStrengthGPerL: 1, targetResidualMgPerL: 1.0, doses: [1, 1.5, 2.5] }));
+    expect(p.ladder).toMatchObject({ brackets: true, bracketsPlannedDose: false });
+    expect(codes(p)).toContain('NOT_BRACKETING_PLANNED_DOSE');
+    const q = planJarTest(base({ stockStrengthGPerL: 1, doses: [0.5, 1, 1.5] }));
+    expect(codes(q)).toContain('NOT_BRACKETING');
+    expect(codes(q)).not.toContain('NOT_BRACKETING_PLANNED_DOSE');
+  });
+
+  it.each([
+    [0.2, true],
+    [0.05, false], // at the threshold, not above it
+    [0, false],
+  ])('permanganate target residual %s mg/L: warned of pink water = %s (0.05 mg/L as KMnO4, common practice, from memory)', (residual, warned) => {
+    const p = planJarTest(base({ targetResidualMgPerL: residual }));
+    const w = p.warnings.find((x) => x.code === 'TARGET_RESIDUAL_VISIBLE');
+    expect(w !== undefined).toBe(warned);
+    if (w) {
+      expect(w.message).toContain('0.05 mg/L');
+      expect(w.message).toContain('common practice');
+      expect(w.message).toContain('from memory');
+      expect(w.message).toContain('usepa-1999-adogm');
+    }
+  });
+});
+
 describe('planJarTest: properties', () => {
   it('a default ladder brackets the expected demand, rises, and every aliquot is measurable to the pipette', () => {
     fc.assert(
@@ -254,6 +366,31 @@ describe('planJarTest: properties', () => {
         },
       ),
       { seed: 20240611, numRuns: 150 },
+    );
+  });
+
+  it('with a target residual, a default ladder brackets both the expected demand and the planned dose', () => {
+    fc.assert(
+      fc.property(
+        fc.double({ min: 0.1, max: 10, noNaN: true }),
+        fc.double({ min: 0, max: 2, noNaN: true }),
+        fc.double({ min: 0.01, max: 3, noNaN: true }),
+        fc.constantFrom(0.5, 1, 2),
+        fc.integer({ min: 3, max: 12 }),
+        (estimate, background, residual, V, n) => {
+          const p = planJarTest(base({ oxidant: 'sodium-hypochlorite', product: NAOCL, estimateMgPerL: estimate, backgroundMgPerL: background, targetResidualMgPerL: residual, jarVolumeL: V, jars: n }));
+          const E = estimate + background;
+          const P = E + residual;
+          const doses = p.jars.map((j) => j.actualDoseMgPerL);
+          expect(p.estimate.plannedDoseMgPerL).toBeCloseTo(P, 12);
+          expect(doses.some((d) => d < E) && doses.some((d) => d > E)).toBe(true);
+          expect(doses.some((d) => d < P) && doses.some((d) => d > P)).toBe(true);
+          expect(p.ladder).toMatchObject({ brackets: true, bracketsPlannedDose: true });
+          expect(p.jars[0]!.targetDoseMgPerL).toBeCloseTo(0.5 * E, 12);
+          expect(p.jars[n - 1]!.targetDoseMgPerL).toBeCloseTo(1.5 * P, 12);
+        },
+      ),
+      { seed: 20260107, numRuns: 150 },
     );
   });
 });

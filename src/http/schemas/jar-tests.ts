@@ -85,6 +85,15 @@ export const JarPlanBody = z.strictObject({
   pipetteResolutionMl: PipetteResolutionMl.optional(),
   contactTimesMin: z.array(ContactTimeMin).min(1, { error: 'give at least one contact time' }).max(12, { error: 'give at most 12 contact times' }).optional(),
   backgroundDemand: BackgroundDemandSchema.optional().describe('Measured background demand (mg/L) or TOC × plant factor; added to the estimate the ladder brackets'),
+  targetResidual: ConcentrationSchema.optional().describe(
+    'Residual the plant must carry after contact, on the dose basis, as in the dose request; the planned dose (estimate + background + target residual) is what POST /api/v1/doses computes, and the ladder reaches above it',
+  ),
+  plantId: z
+    .string()
+    .min(1)
+    .max(100)
+    .optional()
+    .describe('Stored plant profile: fills targetResidual (per oxidant, else the plant\'s) and product (strength, density, purity) when the request leaves them out'),
   product: JarProductSchema.optional(),
   ...SampleMeta,
 });
@@ -172,10 +181,21 @@ const OxidantInfo = z.object({ id: z.string(), name: z.string(), basis: z.string
 
 export const PlanOut = z.object({
   oxidant: OxidantInfo,
+  plant: z
+    .object({ id: z.string(), name: z.string(), version: z.number().int(), invented: z.boolean(), fromPlant: z.array(z.string()).describe('Request fields taken from the profile') })
+    .nullable(),
   estimate: EstimateOut,
   backgroundDemand: ReportedBasis.extend({ method: z.string() }),
   expectedDemand: ReportedBasis.extend({ how: z.string() }),
-  ladder: z.object({ source: z.enum(['default', 'caller']), fromFraction: z.number().optional(), toFraction: z.number().optional(), brackets: z.boolean() }),
+  targetResidual: ReportedBasis.extend({ source: z.enum(['request', 'plant profile', 'not given']), reason: z.string() }),
+  plannedDose: ReportedBasis.extend({ includes: z.string().describe('Which terms make up the planned dose, and how the ladder relates to it') }),
+  ladder: z.object({
+    source: z.enum(['default', 'caller']),
+    fromFraction: z.number().optional().describe('First dose of a default ladder as a fraction of the expected demand'),
+    toFraction: z.number().optional().describe('Last dose of a default ladder as a fraction of the planned dose'),
+    brackets: z.boolean().describe('A jar below and a jar above the expected demand'),
+    bracketsPlannedDose: z.boolean().describe('A jar below and a jar above the planned dose'),
+  }),
   jarVolume: QuantityOut,
   pipetteResolutionMl: z.number(),
   minAliquotMl: z.number(),
@@ -195,6 +215,8 @@ export const PlanOut = z.object({
       tradeStrength: Reported.optional(),
       tradeStrengthMustBeMeasured: z.boolean().optional(),
       measureBy: z.string().optional(),
+      stockSolution: z.string().optional().describe('A generated stock: what it is (ozone water, chlorine water, chlorine dioxide solution)'),
+      make: z.string().optional().describe('A generated stock: how it is made'),
     }),
     stockUsed: Reported,
     stockWanted: Reported,

@@ -4,7 +4,10 @@
  *
  * The stoichiometric estimate is computeDose's contaminant demand for the sample with the oxidant
  * (Σ of the `demand` entries, each from its balanced reaction); the background demand and the
- * target residual are not in it. The domain (src/jar-tests) takes plain mg/L, L, g/L and mL; this
+ * target residual are not in it. A plan's planned dose is estimate + background + target residual,
+ * the dose POST /api/v1/doses computes for the same oxidant, sample, backgroundDemand and
+ * targetResidual (the residual may come from the plant profile named by plantId). The domain
+ * (src/jar-tests) takes plain mg/L, L, g/L and mL; this
  * shell converts the {value, unit} quantities of the request and maps the domain's field pointers
  * back onto the request body.
  */
@@ -12,9 +15,10 @@ import type { FastifyInstance } from 'fastify';
 import { DomainError, type FieldProblem } from '../../../core/errors.js';
 import { roundSig } from '../../../core/decimal.js';
 import { toBaseDec, type Quantity } from '../../../core/quantity.js';
-import { computeDose, type DoseRequest } from '../../../dosing/index.js';
-import type { BackgroundDemandInput, SampleInput } from '../../../dosing/request.js';
+import { computeDose, type DoseRequest, type PlantProfile } from '../../../dosing/index.js';
+import type { BackgroundDemandInput, ConcentrationInput, SampleInput } from '../../../dosing/request.js';
 import {
+  aerationNotPlanned,
   checkJarPlan,
   evaluateJarTest,
   jarProductFacts,
@@ -34,7 +38,7 @@ import { renderSheet } from '../../../sheets/pdf.js';
 import { renderSignedSheet } from '../../../sheets/sign.js';
 import { safetyBoxFromCautions } from '../../../sheets/safety.js';
 import type { SafetyBox } from '../../../sheets/model.js';
-import { canonicalJson, newSheetId, sha256Hex, sheetContentSha256, type SheetRecord, type SheetSummary, type User } from '../../../archive/index.js';
+import { canonicalJson, isValidPlantId, newSheetId, sha256Hex, sheetContentSha256, type SheetRecord, type SheetSummary, type User } from '../../../archive/index.js';
 import {
   CheckOut,
   EvaluationCreatedOut,
@@ -106,6 +110,7 @@ function mapped<T>(fn: () => T, map: (pointer: string) => string): T {
 function commonPointer(p: string): string | null {
   if (p === '/estimateMgPerL') return '/sample';
   if (p === '/backgroundMgPerL') return '/backgroundDemand';
+  if (p === '/targetResidualMgPerL') return '/targetResidual/value';
   if (p === '/jarVolumeL') return '/jarVolume/value';
   if (p === '/productPerBasis' || p.startsWith('/solubility')) return '/oxidant';
   return null;
@@ -170,9 +175,17 @@ export interface JarEstimate {
   }[];
 }
 
-/** The stoichiometric estimate (Σ contaminant demand terms of computeDose) and the background term. */
-export function jarEstimate(services: Services, oxidant: DoseRequest['oxidant'], sample: SampleInput, backgroundDemand?: BackgroundDemandInput) {
-  const request: DoseRequest = { oxidant, sample, ...(backgroundDemand !== undefined ? { backgroundDemand } : {}) };
+/**
+ * The stoichiometric estimate (Σ contaminant demand terms of computeDose), the background term and, when a
+ * target residual is given, the residual term and the dose route's flags about it (e.g. above the MRDL).
+ */
+export function jarEstimate(services: Services, oxidant: DoseRequest['oxidant'], sample: SampleInput, backgroundDemand?: BackgroundDemandInput, targetResidual?: ConcentrationInput) {
+  const request: DoseRequest = {
+    oxidant,
+    sample,
+    ...(backgroundDemand !== undefined ? { backgroundDemand } : {}),
+    ...(targetResidual !== undefined ? { targetResidual } : {}),
+  };
   const result = computeDose(request, services.dosing);
   const ox = services.dosing.oxidants.get(oxidant)!;
   const terms = result.demand.map((d) => ({
@@ -197,7 +210,31 @@ export function jarEstimate(services: Services, oxidant: DoseRequest['oxidant'],
     mgPerL: backgroundDemand !== undefined && bgTerm ? bgTerm.value.value : 0,
     method: backgroundDemand === undefined ? 'not given: 0 mg/L' : bgTerm?.reason ?? 'as given',
   };
-  return { estimate, background, oxidant: ox };
+  const resTerm = result.terms.find((t) => t.term === 'residual');
+  const residual = { mgPerL: targetResidual !== undefined && resTerm ? resTerm.value.value : 0, reason: resTerm?.reason ?? 'No target residual given: 0 mg/L.' };
+  // Flags of the dose route about the residual itself (e.g. a target above the MRDL), passed on to the plan.
+  const residualFlags = targetResidual !== undefined ? result.flags.filter((f) => f.code.startsWith('RESIDUAL_')) : [];
+  return { estimate, background, residual, residualFlags, oxidant: ox };
+}
+
+/** The latest stored version of the plant profile a plan names, or null; a missing one is a 404 naming /plantId. */
+function planPlant(services: Services, plantId: string | undefined): { profile: PlantProfile; version: number } | null {
+  if (plantId === undefined) return null;
+  let stored: { profile: unknown; version: number } | null = null;
+  if (isValidPlantId(plantId)) {
+    try {
+      stored = services.archive.getPlant(plantId);
+    } catch (e) {
+      if (!(e instanceof DomainError) || e.code !== 'PLANT_NOT_FOUND') throw e;
+    }
+  }
+  if (stored === null) {
+    throw new DomainError('PLANT_NOT_FOUND', {
+      detail: `No plant profile "${plantId}"; GET /api/v1/plants lists the stored ones, or give targetResidual and product in the request instead.`,
+      fields: [{ pointer: '/plantId', message: 'no stored plant profile with this id' }],
+    });
+  }
+  return { profile: stored.profile as PlantProfile, version: stored.version };
 }
 
 function productFacts(services: Services, oxidant: string, product: JarPlanBodyT['product']): JarProductFacts {
@@ -264,8 +301,27 @@ export function preferredRepresentation(accept: string | undefined): 'json' | 'p
 // plan
 
 export function makeJarPlan(services: Services, body: JarPlanBodyT) {
-  const { estimate, background, oxidant: ox } = jarEstimate(services, body.oxidant, body.sample, body.backgroundDemand);
-  const product = mapped(() => productFacts(services, body.oxidant, body.product), planPointer(body));
+  // A plant profile fills what the request leaves out, as for POST /api/v1/doses: the target residual
+  // (per oxidant, else the plant's) and the product on hand (strength, density, purity).
+  const plant = planPlant(services, body.plantId);
+  const fromPlant: string[] = [];
+  let targetResidual = body.targetResidual;
+  let productBody = body.product;
+  if (plant !== null) {
+    const t = plant.profile.targets;
+    const plantResidual = t.residualByOxidant?.[body.oxidant] ?? t.residual;
+    if (targetResidual === undefined && plantResidual !== undefined) {
+      targetResidual = plantResidual;
+      fromPlant.push('targetResidual');
+    }
+    const onHand = plant.profile.products.find((p) => p.oxidant === body.oxidant);
+    if (productBody === undefined && onHand !== undefined) {
+      productBody = { strength: onHand.strength, ...(onHand.density ? { density: onHand.density } : {}), ...(onHand.purity ? { purity: onHand.purity } : {}) };
+      fromPlant.push('product');
+    }
+  }
+  const { estimate, background, residual, residualFlags, oxidant: ox } = jarEstimate(services, body.oxidant, body.sample, body.backgroundDemand, targetResidual);
+  const product = mapped(() => productFacts(services, body.oxidant, productBody), planPointer(body));
   const jarVolumeL = litres(body.jarVolume, '/jarVolume');
   const doses = body.doses?.map((d, i) => mgPerL(d, `/doses/${i}`));
   const stock = body.stockStrength ? stockGPerL(body.stockStrength, '/stockStrength') : undefined;
@@ -276,6 +332,7 @@ export function makeJarPlan(services: Services, body: JarPlanBodyT) {
         product,
         estimateMgPerL: estimate.value,
         backgroundMgPerL: background.mgPerL,
+        ...(targetResidual !== undefined ? { targetResidualMgPerL: residual.mgPerL } : {}),
         jarVolumeL,
         ...(body.jars !== undefined ? { jars: body.jars } : {}),
         ...(doses !== undefined ? { doses } : {}),
@@ -285,11 +342,27 @@ export function makeJarPlan(services: Services, body: JarPlanBodyT) {
       }),
     planPointer(body),
   );
-  return { plan, estimate, background, oxidant: ox };
+  const flagWarnings: JarProblem[] = residualFlags.map((f) => ({ code: f.code, severity: f.severity === 'danger' || f.severity === 'warning' ? 'warning' : 'info', message: f.message }));
+  const withFlags: JarTestPlan = flagWarnings.length > 0 ? { ...plan, warnings: [...plan.warnings, ...flagWarnings] } : plan;
+  const residualSource: 'request' | 'plant profile' | 'not given' = fromPlant.includes('targetResidual') ? 'plant profile' : targetResidual !== undefined ? 'request' : 'not given';
+  const plantInfo = plant === null ? null : { id: plant.profile.id, name: plant.profile.name, version: plant.version, invented: plant.profile.invented, fromPlant };
+  return { plan: withFlags, estimate, background, residual: { ...residual, source: residualSource }, plant: plantInfo, oxidant: ox };
+}
+
+/** What the planned dose is made of, in words (the plan's "includes"). */
+function plannedDoseIncludes(plan: JarTestPlan, residualSource: 'request' | 'plant profile' | 'not given'): string {
+  const e = plan.estimate;
+  const r = residualSource === 'not given' ? 'target residual not given (0 mg/L)' : `target residual ${roundSig(e.targetResidualMgPerL, 3)} mg/L${residualSource === 'plant profile' ? ' (from the plant profile)' : ''}`;
+  return (
+    `stoichiometric estimate ${roundSig(e.doseMgPerL, 3)} + background demand ${roundSig(e.backgroundMgPerL, 3)} + ${r}: the dose POST /api/v1/doses computes for the same oxidant, sample, backgroundDemand and targetResidual. ` +
+    (plan.ladder.source === 'default'
+      ? `The ladder runs from ${roundSig((plan.ladder.fromFraction ?? 0) * 100, 3)} % of the expected demand (estimate + background) to ${roundSig((plan.ladder.toFraction ?? 0) * 100, 3)} % of this planned dose.`
+      : 'The doses were given by the caller.')
+  );
 }
 
 function planOut(m: ReturnType<typeof makeJarPlan>) {
-  const { plan, estimate, background, oxidant: ox } = m;
+  const { plan, estimate, background, residual, plant, oxidant: ox } = m;
   const basis = `as ${plan.basis}`;
   const st = plan.stock;
   const prep = st.preparation;
@@ -298,12 +371,15 @@ function planOut(m: ReturnType<typeof makeJarPlan>) {
       ? { kind: prep.kind, productMass: rep(prep.productMassG, 'g'), purityPercent: prep.purityFraction * 100, purityAssumed: prep.purityAssumed }
       : prep.kind === 'dilute'
         ? { kind: prep.kind, tradeVolume: rep(prep.tradeVolumeMl, 'mL'), tradeStrength: rep(prep.tradeStrengthGPerL, 'g/L'), tradeStrengthMustBeMeasured: prep.tradeStrengthMustBeMeasured }
-        : { kind: prep.kind, measureBy: prep.measureBy };
+        : { kind: prep.kind, measureBy: prep.measureBy, stockSolution: prep.stock, make: prep.make };
   return {
     oxidant: { id: ox.id, name: ox.name, basis },
+    plant,
     estimate,
     backgroundDemand: { ...repB(plan.estimate.backgroundMgPerL, MG_PER_L, basis), method: background.method },
     expectedDemand: { ...repB(plan.estimate.expectedDemandMgPerL, MG_PER_L, basis), how: 'stoichiometric estimate + background demand: the demand the ladder brackets' },
+    targetResidual: { ...repB(plan.estimate.targetResidualMgPerL, MG_PER_L, basis), source: residual.source, reason: residual.reason },
+    plannedDose: { ...repB(plan.estimate.plannedDoseMgPerL, MG_PER_L, basis), includes: plannedDoseIncludes(plan, residual.source) },
     ladder: plan.ladder,
     jarVolume: { value: plan.jarVolumeL, unit: 'L' },
     pipetteResolutionMl: plan.pipetteResolutionMl,
@@ -337,20 +413,31 @@ function planOut(m: ReturnType<typeof makeJarPlan>) {
   };
 }
 
-/** Bench sheet ids are not archive ids: JTP-<UTC day>-<first 10 hex of the request's SHA-256>. */
-function planSheetId(body: JarPlanBodyT, now: Date): string {
-  return `JTP-${now.toISOString().slice(0, 10).replace(/-/g, '')}-${sha256Hex(canonicalJson(body)).slice(0, 10).toUpperCase()}`;
+/**
+ * Bench sheet ids are not archive ids: JTP-<UTC day>-<first 10 hex of the request's SHA-256>; with a plant
+ * profile, of the request and the profile version used, so a new profile version gives a new id.
+ */
+function planSheetId(body: JarPlanBodyT, now: Date, plant: { id: string; version: number } | null): string {
+  const hashed = plant === null ? body : { request: body, plant: { id: plant.id, version: plant.version } };
+  return `JTP-${now.toISOString().slice(0, 10).replace(/-/g, '')}-${sha256Hex(canonicalJson(hashed)).slice(0, 10).toUpperCase()}`;
 }
 
-export async function renderJarPlanPdf(services: Services, body: JarPlanBodyT, plan: JarTestPlan, now = new Date()): Promise<{ id: string; pdf: Buffer }> {
+export async function renderJarPlanPdf(
+  services: Services,
+  body: JarPlanBodyT,
+  plan: JarTestPlan,
+  now = new Date(),
+  plant: { id: string; name: string; version: number } | null = null,
+): Promise<{ id: string; pdf: Buffer }> {
   const ox = services.dosing.oxidants.get(body.oxidant)!;
-  const id = planSheetId(body, now);
+  const id = planSheetId(body, now, plant);
   const ctx: JarSheetContext = {
     id,
     issuedAt: now.toISOString(),
     preparedBy: { name: 'oxidant-dosing service', role: 'computed bench plan, not signed' },
     productName: ox.name,
     safety: safetyFor(services, body.oxidant),
+    ...(plant !== null ? { plantName: `${plant.name} (profile ${plant.id}, version ${plant.version})` } : {}),
     ...(body.sampleLabel ? { sampleLabel: body.sampleLabel } : {}),
     ...(body.samplingPoint ? { samplingPoint: body.samplingPoint } : {}),
     ...(body.sampledAt ? { sampledAt: body.sampledAt } : {}),
@@ -373,7 +460,8 @@ function checkOut(services: Services, body: JarCheckBodyT) {
     });
   }
   const facts = mapped(() => productFacts(services, body.oxidant, undefined), checkPointer);
-  const solubility = facts.stock.kind === 'trade-solution' ? undefined : facts.stock.solubility;
+  if (facts.stock.kind === 'aeration') throw aerationNotPlanned(facts);
+  const solubility = facts.stock.kind === 'solid' || facts.stock.kind === 'generated' ? facts.stock.solubility : undefined;
   const jarVolumeL = litres(body.jarVolume, '/jarVolume');
   const C = stockGPerL(body.stockStrength, '/stockStrength');
   const check = mapped(
@@ -668,7 +756,7 @@ export async function jarTestRoutes(app: FastifyInstance): Promise<void> {
     method: 'POST',
     url: '/jar-tests/plans',
     summary:
-      'Plan a jar test: the stoichiometric estimate from the sample, a dose ladder that brackets it, the stock to make, each jar’s aliquot and the schedule. With "Accept: application/pdf" the bench sheet (unsigned) with blank result cells and the safety box.',
+      'Plan a jar test: the stoichiometric estimate from the sample, a dose ladder that brackets the demand and the planned dose (estimate + background + target residual, as POST /api/v1/doses computes it; the residual and product may come from a plant profile), the stock to make, each jar’s aliquot and the schedule. With "Accept: application/pdf" the bench sheet (unsigned) with blank result cells and the safety box.',
     tags: ['jar-tests'],
     body: JarPlanBody,
     response: { 200: PlanOut },
@@ -681,7 +769,7 @@ export async function jarTestRoutes(app: FastifyInstance): Promise<void> {
       reply.header('vary', 'Accept');
       const m = makeJarPlan(app.services, req.body);
       if (want === 'pdf') {
-        const { id, pdf } = await renderJarPlanPdf(app.services, req.body, m.plan);
+        const { id, pdf } = await renderJarPlanPdf(app.services, req.body, m.plan, new Date(), m.plant);
         reply.header('content-type', 'application/pdf').header('content-disposition', `inline; filename="${id}.pdf"`);
         return pdf;
       }
