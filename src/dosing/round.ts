@@ -35,8 +35,13 @@ function digitsOf(x: number): { digits: string; exp: number } {
   return { digits: all, exp };
 }
 
-/** decimal.js toString with toExpNeg −12 and toExpPos 21 (the project's Dec configuration). */
-function format(digits: string, exp: number, negative: boolean): string {
+/**
+ * The text of 0.digits × 10^exp as roundSig prints it: decimal.js notation with toExpNeg −12 and
+ * toExpPos 21 (the project's Dec configuration), the digits padded with the zeros that are
+ * significant up to `sig` figures.
+ */
+function format(digitsIn: string, exp: number, negative: boolean, sig: number): string {
+  const digits = digitsIn.length < sig && (exp < sig || exp - 1 <= -12 || exp - 1 >= 21) ? digitsIn.padEnd(sig, '0') : digitsIn;
   // value = 0.digits × 10^exp ; decimal exponent of the first digit e = exp - 1
   const e = exp - 1;
   let out: string;
@@ -58,7 +63,7 @@ export function roundSigNumber(x: number, sig = 3): string {
   if (x === 0) return '0';
   const negative = x < 0;
   const { digits, exp } = digitsOf(Math.abs(x));
-  if (digits.length <= sig) return format(digits, exp, negative);
+  if (digits.length <= sig) return format(digits, exp, negative, sig);
   let head = digits.slice(0, sig);
   const next = digits.charCodeAt(sig) - 48;
   const restNonZero = digits.length > sig + 1; // trailing zeros were stripped
@@ -87,5 +92,5 @@ export function roundSigNumber(x: number, sig = 3): string {
   }
   let j = head.length;
   while (j > 1 && head[j - 1] === '0') j--;
-  return format(head.slice(0, j), e, negative);
+  return format(head.slice(0, j), e, negative, sig);
 }

@@ -70,7 +70,7 @@ describe('readings: refused above the bound, warned in the band below it', () =>
     expect(pointers(refusal(b))).toEqual(['/sample/iron/value']);
     b.sample['iron'] = { value: 1e308, unit: 'g/L' };
     const e = refusal(b);
-    expect(e.fields[0]!.message).toContain('1e+311 mg/L');
+    expect(e.fields[0]!.message).toContain('1.00e+311 mg/L');
     expect(e.params).toMatchObject({ readings: [{ field: 'iron', mgPerL: '1e+311', refusedAboveMgPerL: 100 }] });
   });
 

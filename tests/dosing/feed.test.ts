@@ -41,7 +41,7 @@ describe('sodium hypochlorite, 2.0 mg/L as Cl2 at 4000 m3/d, 12.5 trade % (% w/v
   });
   it('NaOCl fed: 8.0 kg/d × 74.439 / 70.90 = 8.399 kg/d (one Cl per NaOCl)', () => {
     expect(r.compoundMassRate.value).toBeCloseTo((8 * (22.99 + 15.999 + 35.45)) / 70.9, 10);
-    expect(r.compoundMassRate.rounded).toBe('8.4');
+    expect(r.compoundMassRate.rounded).toBe('8.40');
   });
   it('solution: 125 g/L available chlorine; 8000 g/d ÷ 125 g/L = 64 L/d = 2.667 L/h = 44.44 mL/min = 16.91 gal/d', () => {
     expect(r.strength!.gramsPerL.value).toBe(125);
@@ -204,7 +204,7 @@ describe('density by strength (tabled rows, interpolated, never extrapolated)', 
     const e = errorOf(() => feed('sodium-hypochlorite', 2.0, 4000, { product: { strength: { value, unit: '% w/w' } } }));
     expect(e.code).toBe('DENSITY_NOT_TABLED');
     expect(e.fields.map((f) => f.pointer)).toEqual(['/product/strength', '/product/density']);
-    expect(e.detail).toMatch(/4\.673 to 12\.4 % w\/w available chlorine as Cl2/);
+    expect(e.detail).toMatch(/4\.673 to 12\.40 % w\/w available chlorine as Cl2/);
     expect(e.detail).toMatch(/not extrapolated/);
   });
 

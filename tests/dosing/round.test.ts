@@ -12,15 +12,22 @@ describe('roundSigNumber', () => {
     [2.5, 1, '2'],
     [3.5, 1, '4'],
     [0.125, 2, '0.12'],
-    // carries and trailing zeros
-    [9.995, 3, '10'],
+    // carries, and the zeros that are significant (the text shows its figures: "20.0", not "20")
+    [9.995, 3, '10.0'],
+    [19.97, 3, '20.0'],
+    [2, 3, '2.00'],
+    [0.05, 3, '0.0500'],
+    [0.9996, 3, '1.00'],
     [99950, 3, '100000'],
     [4000, 3, '4000'],
     [0, 3, '0'],
     [-1.2345, 3, '-1.23'],
+    [-4.1, 3, '-4.10'],
     // exponent notation at the clone's limits (toExpNeg −12, toExpPos 21)
     [1.2345e-13, 3, '1.23e-13'],
+    [1.5e-13, 3, '1.50e-13'],
     [1.5e22, 2, '1.5e+22'],
+    [3e21, 3, '3.00e+21'],
   ])('%s to %s figures → %s', (x, sig, out) => {
     expect(roundSigNumber(x, sig)).toBe(out);
     expect(roundSig(new Dec(x), sig)).toBe(out);

@@ -75,7 +75,7 @@ describe('POST /api/v1/jar-tests/plans', () => {
     expect(b.jars[5].expectedResidual.value).toBeCloseTo(6.0 / 2.006 - b.estimate.value, 9);
     expect(b.jars[0].expectedResidual.value).toBe(0);
     expect(b.dilutionCorrected).toBe(false);
-    expect(b.stock.strength).toMatchObject({ value: 1, unit: 'g/L', basis: 'as KMnO4', rounded: '1' });
+    expect(b.stock.strength).toMatchObject({ value: 1, unit: 'g/L', basis: 'as KMnO4', rounded: '1.00' });
     expect(b.stock.flaskVolume).toEqual({ value: 100, unit: 'mL' });
     expect(b.stock.productMass.value).toBeCloseTo((1.0 * 0.1) / 0.97, 9);
     expect(b.stock.productMass.unit).toBe('g');
@@ -216,7 +216,7 @@ describe('POST /api/v1/jar-tests/plans', () => {
     expect(b.targetResidual).toMatchObject({ value: 1, unit: 'mg/L', basis: 'as Cl2', source: 'request' });
     expect(b.plannedDose.value).toBeCloseTo(d.dose.value, 9);
     expect(b.plannedDose.value).toBeCloseTo(b.estimate.value + 0.3 + 1.0, 12);
-    expect(b.plannedDose.includes).toContain('target residual 1 mg/L');
+    expect(b.plannedDose.includes).toContain('target residual 1.00 mg/L');
     expect(b.plannedDose.includes).toContain('background demand 0.3');
     expect(b.ladder).toMatchObject({ source: 'default', brackets: true, bracketsPlannedDose: true });
     const doses = b.jars.map((j: { actualDose: { value: number } }) => j.actualDose.value);
