@@ -84,6 +84,14 @@ describe('POST /api/v1/reactions/balance', () => {
     expect(neutral.oxidationStateChanges).toEqual([]);
   });
 
+  it('a pH or medium sent with a species balance is named as not used, not dropped silently', async () => {
+    const b = (await post({ reactants: ['H2', 'O2'], products: ['H2O'], pH: 7, medium: 'base' })).json();
+    expect(b.equation).toBe('2H2 + O2 -> 2H2O');
+    expect(b.notes.join(' ')).toMatch(/pH 7 and medium base not used.*species listed/);
+    const plain = (await post({ reactants: ['H2', 'O2'], products: ['H2O'] })).json();
+    expect(plain.notes).toBeUndefined();
+  });
+
   it('"Fe2++" is refused as ambiguous (400 at the digit), not read as a dimer Fe2 with charge 2+', async () => {
     const r = await post({ reactants: ['Fe2++'], products: ['Fe3+', 'e-'] });
     expect(r.statusCode).toBe(400);

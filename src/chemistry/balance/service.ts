@@ -104,6 +104,14 @@ export function balanceService(input: BalanceTextInput, elements?: ReadonlySet<s
         ? { oxidationStateChanges: count.changes === null ? null : count.changes.map((c) => ({ element: c.element, electronsLost: c.oxidised, electronsGained: c.reduced })) }
         : {}),
       ...(electronsNote ? { electronsNote } : {}),
+      // pH and medium complete half-reactions of couples; a species balance uses the species given
+      ...(input.pH !== undefined || input.medium !== undefined
+        ? {
+            notes: [
+              `${[input.pH !== undefined ? `pH ${input.pH}` : '', input.medium !== undefined ? `medium ${input.medium}` : ''].filter(Boolean).join(' and ')} not used: a balance of given species uses exactly the species listed (add H+, OH- or H2O to them to balance in a medium); pH and medium choose how couples (oxidant, reductant) are completed.`,
+            ],
+          }
+        : {}),
       method: 'Null space of the element-and-charge matrix over exact rationals; smallest whole coefficients',
     };
   }

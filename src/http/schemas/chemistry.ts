@@ -42,6 +42,7 @@ export const BalanceResponse = z.object({
   electronsNote: z.string().optional(),
   medium: Medium.optional(),
   mediumReason: z.string().optional(),
+  notes: z.array(z.string()).optional().describe('What the request gave that the balance did not use, and why'),
   halfReactions: z.object({ reduction: HalfOut, oxidation: HalfOut }).optional(),
   multipliers: z.object({ oxidant: z.number().int(), reductant: z.number().int() }).optional(),
   method: z.string(),

@@ -37,7 +37,7 @@ export async function reactionRoutes(app: FastifyInstance): Promise<void> {
         if (!b.reactants) missing.push({ pointer: '/reactants', message: '"reactants" is required with "products"' });
         if (!b.products) missing.push({ pointer: '/products', message: '"products" is required with "reactants"' });
         if (missing.length) throw new DomainError('VALIDATION_FAILED', { detail: 'A reaction needs both reactants and products.', fields: missing });
-        return balanceService({ reactants: b.reactants!, products: b.products! }, elements);
+        return balanceService({ reactants: b.reactants!, products: b.products!, medium: b.medium, pH: b.pH }, elements);
       }
       const missing = [];
       if (!b.oxidant) missing.push({ pointer: '/oxidant', message: '"oxidant" {from, to} is required with "reductant"' });
