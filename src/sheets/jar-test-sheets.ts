@@ -58,11 +58,12 @@ function basisRuns(basis: string) {
   return [t('mg/L as '), f(basis)];
 }
 
-function metaFor(ctx: JarSheetContext, extra: MetaItem[]): MetaItem[] {
+function metaFor(ctx: JarSheetContext, extra: MetaItem[], archived = false): MetaItem[] {
+  const notGiven = archived ? 'not given (filed in the archive under the time of issue)' : 'not given';
   return [
     { label: 'Plant', value: ctx.plantName ?? 'Plant not named' },
     { label: 'Sample', value: [ctx.sampleLabel ?? 'Water sample', ctx.samplingPoint].filter(Boolean).join(', ') },
-    { label: 'Sampled at', value: ctx.sampledAt ? displayTime(ctx.sampledAt) : 'not given' },
+    { label: 'Sampled at', value: ctx.sampledAt ? displayTime(ctx.sampledAt) : notGiven },
     ...extra,
     ...(ctx.supersedes ? [{ label: 'Supersedes', value: ctx.supersedes }] : []),
   ];
@@ -334,7 +335,7 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
       { label: 'Jars', value: `${ev.jars.length} × ${nGiven(ev.jarVolumeL)} L` },
       { label: 'Contact times', value: `${ev.contactTimesMin.join(', ')} min` },
       { label: 'Dose basis', value: basisRuns(b) },
-    ]),
+    ], true),
     sections,
     safety: ctx.safety,
     safetyPosition: 'end',
