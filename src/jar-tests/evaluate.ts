@@ -5,6 +5,7 @@
  * every target at each contact time, and a recommended plant dose with its margin.
  */
 import { DomainError } from '../core/errors.js';
+import { roundSig } from '../core/decimal.js';
 import { FieldCheck, JAR_TEST_DEFAULTS as D, checkJarVolume, fmt, isPermanganateBasis, pinkWaterThreshold, type DoseMargin, type JarProblem } from './common.js';
 import { inversePrediction, olsFit, studentTQuantile, type LinearFit } from './stats.js';
 
@@ -434,7 +435,7 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
     problems.push({
       code: 'FIT_POOR',
       severity: 'warning',
-      message: `The residual line fits poorly (r² = ${fmt(f.r2, 3)} over ${f.n} jars); treat the apparent demand as rough and repeat the jars that stand off the line.`,
+      message: `The residual line fits poorly (r² = ${roundSig(f.r2, 3)} over ${f.n} jars); treat the apparent demand as rough and repeat the jars that stand off the line.`,
     });
   }
 

@@ -7,6 +7,7 @@
  * PDF sheet draws it with its own page scale); `residualPlotSvg` draws that description
  * as a standalone SVG document.
  */
+import { roundSig } from '../core/decimal.js';
 import { fmt } from './common.js';
 import type { JarTestEvaluation } from './evaluate.js';
 
@@ -139,7 +140,7 @@ export function residualPlotData(evaluation: JarTestEvaluation): ResidualPlotDat
   if (m > 0 && yAt(x2) > yt.max) x2 = xAt(yt.max);
   if (m < 0 && yAt(x1) > yt.max) x1 = xAt(yt.max);
   if (m < 0 && yAt(x2) < 0) x2 = xAt(0);
-  const fitLabel = `fit at ${fmt(fit.contactTimeMin)} min: residual = ${fmt(m, 3)} × dose ${b < 0 ? '−' : '+'} ${fmt(Math.abs(b), 3)} (r² = ${Number.isFinite(fit.r2) ? fmt(fit.r2, 3) : 'n/a'}, n = ${fit.n})`;
+  const fitLabel = `fit at ${fmt(fit.contactTimeMin)} min: residual = ${fmt(m, 3)} × dose ${b < 0 ? '−' : '+'} ${fmt(Math.abs(b), 3)} (r² = ${Number.isFinite(fit.r2) ? roundSig(fit.r2, 3) : 'n/a'}, n = ${fit.n})`;
   lines.push({ id: 'fit', label: fitLabel, kind: 'fit', color: FIT_COLOR, dash: null, from: { x: x1, y: yAt(x1) }, to: { x: x2, y: yAt(x2) } });
   lines.push({
     id: 'detection-limit',
