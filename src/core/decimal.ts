@@ -30,6 +30,7 @@ export const ROUNDING_RULE = 'significant figures, round half to even';
 
 export function roundSig(x: DecLike, sig = 3): string {
   const d = dec(x);
+  if (!d.isFinite()) return d.toString();
   if (d.isZero()) return '0';
   const r = d.toSignificantDigits(sig, Dec.ROUND_HALF_EVEN);
   // r.e: decimal exponent of the first significant digit

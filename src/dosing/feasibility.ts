@@ -38,6 +38,8 @@ export interface CoupleReport {
   readonly usedValue: PotentialResult['usedValue'];
   readonly derivation: PotentialResult['derivation'];
   readonly tabledCheck: PotentialResult['tabledCheck'] | null;
+  /** The site value used, the form of the couple it was given for, and the value carried to this form (null when it is for this form). */
+  readonly siteValue: { readonly valueV: number; readonly source: string; readonly medium: 'acid' | 'base'; readonly carriedV: number | null } | null;
   readonly notes: readonly string[];
 }
 
@@ -156,6 +158,7 @@ function coupleReport(half: HalfReaction, p: PotentialResult, potentialV: number
     usedValue: p.usedValue,
     derivation: p.derivation,
     tabledCheck: p.tabledCheck ?? null,
+    siteValue: p.override ? { valueV: p.override.valueV, source: p.override.source, medium: p.override.medium ?? 'acid', carriedV: p.override.carriedV ?? null } : null,
     notes: p.notes,
   };
 }
@@ -317,12 +320,23 @@ function pushFlags(e: FeasibilityEntry, input: FeasibilityInput, flags: Flag[]):
     });
   }
   for (const c of [e.oxidantCouple, e.contaminantCouple]) {
+    const sv = c.siteValue;
+    if (sv && sv.carriedV !== null) {
+      flags.push({
+        code: 'POTENTIAL_OVERRIDE_CARRIED',
+        severity: 'info',
+        message: `The site value ${sv.valueV} V is for the couple written ${sv.medium === 'base' ? 'with OH- (base)' : 'with H+ (acid)'}; at pH ${input.pH} the reaction is written ${sv.medium === 'base' ? 'with H+' : 'with OH-'}, so it was carried through the ionisation of water to ${sv.carriedV.toFixed(4)} V for ${c.halfReaction}. Give medium: "${sv.medium === 'base' ? 'acid' : 'base'}" with the value if it is for that form.`,
+        source: sv.source,
+      });
+    }
     if (c.tabledCheck?.flagged) {
       flags.push({
         code: 'POTENTIAL_TABLES_DISAGREE',
         severity: 'info',
         message:
-          c.usedValue === 'derived'
+          c.usedValue === 'override'
+            ? `The tables disagree on ${c.halfReaction} by ${(c.tabledCheck.discrepancyV * 1000).toFixed(1)} mV (a tabled row against its derivation from other rows); the site value from options.potentialOverrides was used instead of either.`
+            : c.usedValue === 'derived'
             ? `The tables' base-medium E° of ${c.halfReaction} differs by ${(c.tabledCheck.discrepancyV * 1000).toFixed(1)} mV from the value carried from its acid form through Kw; the carried value was used, so the potential does not jump at pH 7. A site value can be given in options.potentialOverrides.`
             : `The tabled E° of ${c.halfReaction} differs by ${(c.tabledCheck.discrepancyV * 1000).toFixed(1)} mV from its derivation from other rows; the tabled value was used. A site value can be given in options.potentialOverrides.`,
         source: c.derivation[0]?.source ?? ox.source,

@@ -23,6 +23,10 @@ const Couple = z.object({
   tabledCheck: z
     .object({ tabledV: z.number(), derivedV: z.number(), discrepancyV: z.number(), flagged: z.boolean(), derivation: z.array(DerivationStep) })
     .nullable(),
+  siteValue: z
+    .object({ valueV: z.number(), source: z.string(), medium: z.enum(['acid', 'base']), carriedV: z.number().nullable() })
+    .nullable()
+    .describe('The site value of E° used: the form of the couple it was given for, and the value carried to the form computed (null when it is for that form)'),
   notes: z.array(z.string()),
 });
 

@@ -308,9 +308,14 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
           derivedV: tc.derivedV,
           discrepancyV: tc.discrepancyV,
           flagged: tc.flagged,
-          note: tc.flagged
-            ? `The tabled value differs from its own derivation from other tabled rows by ${(tc.discrepancyV * 1000).toFixed(1)} mV (more than 5 mV): the tables disagree.`
-            : `The tabled value agrees with its derivation from other rows within ${(Math.abs(tc.discrepancyV) * 1000).toFixed(1)} mV.`,
+          note:
+            p.usedValue === 'tabled'
+              ? tc.flagged
+                ? `The tabled value differs from its own derivation from other tabled rows by ${(tc.discrepancyV * 1000).toFixed(1)} mV (more than 5 mV): the tables disagree.`
+                : `The tabled value agrees with its derivation from other rows within ${(Math.abs(tc.discrepancyV) * 1000).toFixed(1)} mV.`
+              : tc.flagged
+                ? `The tables' own row for this half-reaction (${tc.tabledV} V) differs by ${(tc.discrepancyV * 1000).toFixed(1)} mV (more than 5 mV) from the value derived from other rows (${tc.derivedV.toFixed(4)} V): the tables disagree; the row is not the value used.`
+                : `The tables' own row for this half-reaction agrees with the value derived from other rows within ${(Math.abs(tc.discrepancyV) * 1000).toFixed(1)} mV.`,
           derivation: stepsOut(tc.derivation, deps),
         }
       : null,

@@ -219,6 +219,9 @@ describe('density by strength (tabled rows, interpolated, never extrapolated)', 
     expect(r.strength!.density!.value).toBeCloseTo(1.13 + (0.07 * 5) / 15, 12);
     expect(r.flags.find((f) => f.code === 'DENSITY_INTERPOLATED')!.source).toBe('crc-97-concentrative');
     expect(errorOf(() => feed('hydrogen-peroxide', 1.0, 1000, { product: { strength: { value: 10, unit: '% w/w' } } })).fields[0]!.pointer).toBe('/product/strength');
+    // the 27.5 % technical grade is a tabled row (1.10, CRC, memory); 30 % lies between it and 35 %: 1.10 + 0.03 × 2.5 / 7.5 = 1.11
+    expect(feed('hydrogen-peroxide', 1.0, 1000, { product: { strength: { value: 27.5, unit: '% w/w' } } }).strength!.density!.value).toBeCloseTo(1.1, 12);
+    expect(feed('hydrogen-peroxide', 1.0, 1000, { product: { strength: { value: 30, unit: '% w/w' } } }).strength!.density!.value).toBeCloseTo(1.11, 12);
   });
 
   it('% w/v needs no density for the solution rate; inside the rows the density is still given for the mass fed (info): 11 trade % = 110 g/L → 1.14 + 0.03 × 10 / 25 = 1.152 kg/L, 9.549 % w/w', () => {

@@ -52,7 +52,17 @@ describe('options.potentialOverrides', () => {
     const acidForm = dose(hypochlorite(8, [{ from: 'OCl-', to: 'Cl-', standardPotentialV: 1.7, source: 'site value (invented)' }]));
     expect(acidForm.feasibility[0]!.oxidantCouple.usedValue).toBe('override');
     expect(acidForm.feasibility[0]!.oxidantCouple.standardPotentialV).toBeCloseTo(1.7 - S25 * pKw, 9);
+    // said in a flag and in the couple's siteValue, not only in a note
+    expect(acidForm.feasibility[0]!.oxidantCouple.siteValue).toMatchObject({ valueV: 1.7, medium: 'acid' });
+    const carried = acidForm.flags.filter((f) => f.code === 'POTENTIAL_OVERRIDE_CARRIED');
+    expect(carried).toHaveLength(1);
+    expect(carried[0]!.message).toMatch(/written with H\+ \(acid\); at pH 8 .* carried .* medium: "base"/);
     const baseForm = dose(hypochlorite(8, [{ from: 'OCl-', to: 'Cl-', standardPotentialV: 0.877, source: 'site value (invented)', medium: 'base' }]));
     expect(baseForm.feasibility[0]!.oxidantCouple.standardPotentialV).toBe(0.877);
+    expect(baseForm.feasibility[0]!.oxidantCouple.siteValue).toMatchObject({ medium: 'base', carriedV: null });
+    expect(baseForm.flags.some((f) => f.code === 'POTENTIAL_OVERRIDE_CARRIED')).toBe(false);
+    // the tables' disagreement is still said, and that the site value was used instead
+    const disagree = acidForm.flags.find((f) => f.code === 'POTENTIAL_TABLES_DISAGREE' && /OCl-/.test(f.message));
+    expect(disagree?.message).toMatch(/site value .* was used instead/);
   });
 });

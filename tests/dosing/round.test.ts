@@ -28,6 +28,10 @@ describe('roundSigNumber', () => {
     [1.5e-13, 3, '1.50e-13'],
     [1.5e22, 2, '1.5e+22'],
     [3e21, 3, '3.00e+21'],
+    // not a number to round: said as it is (a message never fails on it)
+    [Infinity, 3, 'Infinity'],
+    [-Infinity, 3, '-Infinity'],
+    [NaN, 3, 'NaN'],
   ])('%s to %s figures → %s', (x, sig, out) => {
     expect(roundSigNumber(x, sig)).toBe(out);
     expect(roundSig(new Dec(x), sig)).toBe(out);

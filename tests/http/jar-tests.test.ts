@@ -267,6 +267,19 @@ describe('POST /api/v1/jar-tests/plans', () => {
     expect(txt).toContain('Target residual');
   });
 
+  it("plantId: another oxidant's residual is never taken, by the same rule as POST /api/v1/doses", async () => {
+    const sample = { pH: 7.4, temperatureC: 11, iron: mgL(1.2) };
+    for (const oxidant of ['sodium-permanganate', 'hydrogen-peroxide', 'ozone']) {
+      const plan = (await post('/api/v1/jar-tests/plans', { plantId: 'demo-groundwater', oxidant, sample, jarVolume: { value: 1, unit: 'L' }, stockStrength: { value: 1, unit: 'g/L' } })).json();
+      const dose = (await post('/api/v1/doses', { plantId: 'demo-groundwater', oxidant, sample })).json();
+      const doseResidual = dose.terms.find((t: { term: string }) => t.term === 'residual')?.value.value ?? 0;
+      expect(plan.targetResidual.value, oxidant).toBeCloseTo(doseResidual, 9);
+      expect(plan.plannedDose.value, oxidant).toBeCloseTo(dose.dose.value, 9);
+      const doseSaysOther = dose.flags.some((f: { code: string }) => f.code === 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT');
+      expect(plan.warnings.some((w: { code: string }) => w.code === 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT'), oxidant).toBe(doseSaysOther);
+    }
+  });
+
   it('an unknown plantId is a 404 naming /plantId', async () => {
     const r = await post('/api/v1/jar-tests/plans', { ...worked, plantId: 'no-such-plant' });
     expect(r.statusCode).toBe(404);

@@ -15,7 +15,7 @@ import type { FastifyInstance } from 'fastify';
 import { DomainError, type FieldProblem } from '../../../core/errors.js';
 import { roundSig } from '../../../core/decimal.js';
 import { toBaseDec, type Quantity } from '../../../core/quantity.js';
-import { computeDose, type DoseRequest, type PlantProfile } from '../../../dosing/index.js';
+import { computeDose, plantResidualFor, type DoseRequest, type PlantProfile } from '../../../dosing/index.js';
 import type { BackgroundDemandInput, ConcentrationInput, SampleInput } from '../../../dosing/request.js';
 import {
   aerationNotPlanned,
@@ -307,14 +307,19 @@ export function makeJarPlan(services: Services, body: JarPlanBodyT) {
   const fromPlant: string[] = [];
   let targetResidual = body.targetResidual;
   let productBody = body.product;
+  let plantResidualNote: string | null = null;
   if (plant !== null) {
-    const t = plant.profile.targets;
-    const plantResidual = t.residualByOxidant?.[body.oxidant] ?? t.residual;
-    if (targetResidual === undefined && plantResidual !== undefined) {
-      targetResidual = plantResidual;
+    // the same rule as a dose: a residual belongs to its oxidant or its basis, never another's
+    const merge = services.dosing.plantMergeOxidants;
+    const r = plantResidualFor(plant.profile, body.oxidant, (id) => merge.get(id)?.doseBasis ?? id);
+    if (targetResidual === undefined && r.value !== undefined) {
+      targetResidual = r.value;
       fromPlant.push('targetResidual');
+      plantResidualNote = r.residual.used ? `from the plant profile: ${r.residual.used.entry}, ${r.residual.used.reason}` : null;
+    } else if (targetResidual === undefined) {
+      plantResidualNote = r.residual.forOtherOxidant;
     }
-    const onHand = plant.profile.products.find((p) => p.oxidant === body.oxidant);
+    const onHand = merge.get(body.oxidant)?.fedAsGas ? undefined : plant.profile.products.find((p) => p.oxidant === body.oxidant);
     if (productBody === undefined && onHand !== undefined) {
       productBody = { strength: onHand.strength, ...(onHand.density ? { density: onHand.density } : {}), ...(onHand.purity ? { purity: onHand.purity } : {}) };
       fromPlant.push('product');
@@ -343,10 +348,12 @@ export function makeJarPlan(services: Services, body: JarPlanBodyT) {
     planPointer(body),
   );
   const flagWarnings: JarProblem[] = residualFlags.map((f) => ({ code: f.code, severity: f.severity === 'danger' || f.severity === 'warning' ? 'warning' : 'info', message: f.message }));
+  if (plantResidualNote !== null && !fromPlant.includes('targetResidual')) flagWarnings.push({ code: 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT', severity: 'info', message: plantResidualNote });
   const withFlags: JarTestPlan = flagWarnings.length > 0 ? { ...plan, warnings: [...plan.warnings, ...flagWarnings] } : plan;
   const residualSource: 'request' | 'plant profile' | 'not given' = fromPlant.includes('targetResidual') ? 'plant profile' : targetResidual !== undefined ? 'request' : 'not given';
   const plantInfo = plant === null ? null : { id: plant.profile.id, name: plant.profile.name, version: plant.version, invented: plant.profile.invented, fromPlant };
-  return { plan: withFlags, estimate, background, residual: { ...residual, source: residualSource }, plant: plantInfo, oxidant: ox };
+  const residualReason = fromPlant.includes('targetResidual') && plantResidualNote !== null ? `${residual.reason.replace(/\.$/, '')} (${plantResidualNote}).` : residual.reason;
+  return { plan: withFlags, estimate, background, residual: { ...residual, reason: residualReason, source: residualSource }, plant: plantInfo, oxidant: ox };
 }
 
 /** What the planned dose is made of, in words (the plan's "includes"). */
