@@ -489,7 +489,13 @@ function acidFormCombination(target: ReactionVector, ledger: Ledger): Combinatio
     const c = (target.get(k) ?? Rational.ZERO).sub(oh.mul(WATER_IONISATION.get(k) ?? Rational.ZERO));
     if (!c.isZero()) acid.set(k, c);
   }
-  const acidDerived = deriveCombination(acid, ledger);
+  // the acid form from acid-medium rows and equilibria: base-medium rows (the target's own and
+  // others', which may disagree with their acid forms) are checks, not steps; where no
+  // derivation exists without them, the acid form may use the other base rows, and where only
+  // the target's own row gives it, that row is used as tabled
+  const targetClass = classKeyOf(target).key;
+  const acidDerived =
+    deriveCombination(acid, ledger, { exclude: baseMediumRedoxClasses(ledger) }) ?? deriveCombination(acid, ledger, { exclude: new Set([targetClass]) });
   if (!acidDerived) return null;
   const kw = waterIonisation(ledger);
   if (!kw) return null;
@@ -499,9 +505,19 @@ function acidFormCombination(target: ReactionVector, ledger: Ledger): Combinatio
     byRow.set(p.row.id, { row: p.row, coefficient: had ? had.coefficient.add(p.coefficient) : p.coefficient });
   }
   const parts = [...byRow.values()].filter((p) => !p.coefficient.isZero());
-  const targetClass = classKeyOf(target).key;
   if (parts.some((p) => p.row.classKey === targetClass)) return null;
   return combinationOf(parts, ledger);
+}
+
+/** Keys of the classes of redox rows written with OH- (cached per ledger). */
+function baseMediumRedoxClasses(ledger: Ledger): ReadonlySet<string> {
+  const key = 'base-medium-redox-classes';
+  let set = ledger.cache.get(key) as ReadonlySet<string> | undefined;
+  if (!set) {
+    set = new Set([...ledger.classes.values()].filter((c) => c.kind === 'redox' && !(c.vector.get(KEY_HYDROXIDE) ?? Rational.ZERO).isZero()).map((c) => c.key));
+    ledger.cache.set(key, set);
+  }
+  return set;
 }
 
 /**

@@ -201,6 +201,24 @@ describe("basis 'acid': a base-medium half-reaction carried from its acid form t
     expect(standardPotential('4OH- = O2(g) + 2H2O + 4e-', l, { basis: 'acid', override: site }).standardPotentialV).toBeCloseTo(1.2 - 14 * K25, 12);
   });
 
+  it('every base-medium row of the repository tables: carried from acid-medium rows and equilibria only, or used as tabled where nothing else gives it', () => {
+    const baseRows = real.rows.filter((r) => r.kind === 'redox' && /OH-/.test(r.equation));
+    expect(baseRows.length).toBeGreaterThan(5);
+    const isBaseRedox = (id: string) => {
+      const row = real.byId.get(id)!;
+      return row.kind === 'redox' && /OH-/.test(row.equation);
+    };
+    for (const row of baseRows) {
+      const r = standardPotential(row.equation, real, { basis: 'acid' });
+      const ids = r.derivation.map((d) => d.rowId);
+      if (r.usedValue === 'tabled') expect(ids, row.id).toHaveLength(1);
+      else expect(ids.filter(isBaseRedox), row.id).toEqual([]);
+    }
+    // ClO2-/OCl- in base is not built from the CRC OCl-/Cl- base row that disagrees with HOCl by 67 mV
+    const clo2 = standardPotential('ClO2- + H2O + 2e- = OCl- + 2OH-', real, { basis: 'acid' });
+    expect(clo2.derivation.map((d) => d.rowId)).not.toContain('crc-ocl-cl-base');
+  });
+
   it('a disagreeing base-medium row becomes the check: CRC OCl-/Cl- 0.81 V against 0.877 V carried from CRC HOCl/Cl- 1.482 V', () => {
     const asWritten = standardPotential('OCl- + H2O + 2e- = Cl- + 2OH-', real);
     const viaAcid = standardPotential('OCl- + H2O + 2e- = Cl- + 2OH-', real, { basis: 'acid' });
