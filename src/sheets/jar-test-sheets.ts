@@ -40,6 +40,8 @@ export interface JarSheetContext {
   readonly sampledAt?: string;
   readonly supersedes?: string;
   readonly pageSize?: PageSize;
+  /** Where a plan's target residual came from when not from the request (the plant profile entry). */
+  readonly residualFrom?: string;
 }
 
 const n3 = (x: number | null | undefined): string => (x === null || x === undefined || !Number.isFinite(x) ? '–' : roundSig(x, 3).replace(/^-/, '−'));
@@ -77,7 +79,16 @@ export function jarTestPlanDocument(plan: JarTestPlan, ctx: JarSheetContext): Sh
     { label: 'Stoichiometric estimate', value: [t(`${n3(plan.estimate.doseMgPerL)} `), ...basisRuns(b)] },
     { label: 'Background demand', value: `${n3(plan.estimate.backgroundMgPerL)} mg/L` },
     { label: 'Demand the ladder brackets', value: [{ text: `${n3(plan.estimate.expectedDemandMgPerL)} mg/L`, style: 'bold' }, t(' (estimate + background)')] },
-    { label: 'Target residual', value: plan.estimate.targetResidualMgPerL > 0 ? `${n3(plan.estimate.targetResidualMgPerL)} mg/L after contact` : 'not given (0 mg/L)' },
+    {
+      label: 'Target residual',
+      value: autoRich(
+        ctx.residualFrom !== undefined
+          ? `${n3(plan.estimate.targetResidualMgPerL)} mg/L after contact; ${ctx.residualFrom}`
+          : plan.estimate.targetResidualMgPerL > 0
+            ? `${n3(plan.estimate.targetResidualMgPerL)} mg/L after contact`
+            : 'not given (0 mg/L)',
+      ),
+    },
     {
       label: 'Planned dose',
       value: [{ text: `${n3(plan.estimate.plannedDoseMgPerL)} mg/L`, style: 'bold' }, t(' (estimate + background + target residual: the dose the plant would feed)')],

@@ -353,7 +353,8 @@ export function makeJarPlan(services: Services, body: JarPlanBodyT) {
   const residualSource: 'request' | 'plant profile' | 'not given' = fromPlant.includes('targetResidual') ? 'plant profile' : targetResidual !== undefined ? 'request' : 'not given';
   const plantInfo = plant === null ? null : { id: plant.profile.id, name: plant.profile.name, version: plant.version, invented: plant.profile.invented, fromPlant };
   const residualReason = fromPlant.includes('targetResidual') && plantResidualNote !== null ? `${residual.reason.replace(/\.$/, '')} (${plantResidualNote}).` : residual.reason;
-  return { plan: withFlags, estimate, background, residual: { ...residual, reason: residualReason, source: residualSource }, plant: plantInfo, oxidant: ox };
+  const residualFrom = fromPlant.includes('targetResidual') ? plantResidualNote : null;
+  return { plan: withFlags, estimate, background, residual: { ...residual, reason: residualReason, source: residualSource }, residualFrom, plant: plantInfo, oxidant: ox };
 }
 
 /** What the planned dose is made of, in words (the plan's "includes"). */
@@ -363,7 +364,7 @@ function plannedDoseIncludes(plan: JarTestPlan, residualSource: 'request' | 'pla
   return (
     `stoichiometric estimate ${roundSig(e.doseMgPerL, 3)} + background demand ${roundSig(e.backgroundMgPerL, 3)} + ${r}: the dose POST /api/v1/doses computes for the same oxidant, sample, backgroundDemand and targetResidual. ` +
     (plan.ladder.source === 'default'
-      ? `The ladder runs from ${roundSig((plan.ladder.fromFraction ?? 0) * 100, 3)} % of the expected demand (estimate + background) to ${roundSig((plan.ladder.toFraction ?? 0) * 100, 3)} % of this planned dose.`
+      ? `The ladder runs from ${Number(((plan.ladder.fromFraction ?? 0) * 100).toPrecision(3))} % of the expected demand (estimate + background) to ${Number(((plan.ladder.toFraction ?? 0) * 100).toPrecision(3))} % of this planned dose.`
       : 'The doses were given by the caller.')
   );
 }
@@ -435,6 +436,7 @@ export async function renderJarPlanPdf(
   plan: JarTestPlan,
   now = new Date(),
   plant: { id: string; name: string; version: number } | null = null,
+  residualFrom: string | null = null,
 ): Promise<{ id: string; pdf: Buffer }> {
   const ox = services.dosing.oxidants.get(body.oxidant)!;
   const id = planSheetId(body, now, plant);
@@ -445,6 +447,7 @@ export async function renderJarPlanPdf(
     productName: ox.name,
     safety: safetyFor(services, body.oxidant),
     ...(plant !== null ? { plantName: `${plant.name} (profile ${plant.id}, version ${plant.version})` } : {}),
+    ...(residualFrom !== null ? { residualFrom } : {}),
     ...(body.sampleLabel ? { sampleLabel: body.sampleLabel } : {}),
     ...(body.samplingPoint ? { samplingPoint: body.samplingPoint } : {}),
     ...(body.sampledAt ? { sampledAt: body.sampledAt } : {}),
@@ -776,7 +779,7 @@ export async function jarTestRoutes(app: FastifyInstance): Promise<void> {
       reply.header('vary', 'Accept');
       const m = makeJarPlan(app.services, req.body);
       if (want === 'pdf') {
-        const { id, pdf } = await renderJarPlanPdf(app.services, req.body, m.plan, new Date(), m.plant);
+        const { id, pdf } = await renderJarPlanPdf(app.services, req.body, m.plan, new Date(), m.plant, m.residualFrom);
         reply.header('content-type', 'application/pdf').header('content-disposition', `inline; filename="${id}.pdf"`);
         return pdf;
       }
