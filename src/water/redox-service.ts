@@ -252,7 +252,20 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   const ox = parseAt(input.from, '/from', deps);
   const red = parseAt(input.to, '/to', deps);
   const medium = chooseMedium(input.medium, input.pH);
-  const half = halfFor(ox, red, medium, '');
+  // A couple written from the reduced form to the oxidised one is an oxidation: computed as its
+  // reduction and reported with the signs of the reaction as written (E°, E and the temperature
+  // term change sign on reversal; multiplying a half-reaction leaves them unchanged).
+  let half: HalfReaction;
+  let reversed = false;
+  try {
+    half = halfFor(ox, red, medium, '');
+  } catch (e) {
+    if (!isDomainError(e) || e.code !== 'BALANCE_COUPLE_DIRECTION') throw e;
+    half = halfFor(red, ox, medium, '');
+    reversed = true;
+  }
+  const sign = reversed ? -1 : 1;
+  const asWritten = (eq: string) => (reversed ? eq.split(' -> ').reverse().join(' -> ') : eq);
   const temperatureC = input.temperatureC ?? 25;
   const correction = input.temperatureCorrection ?? true;
   const override = input.standardPotentialV ? siteValue(input.standardPotentialV) : undefined;
@@ -279,18 +292,20 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   const unusedNotes = n ? [...givenForSolids([n], givenActivities), ...notInEitherHalf([n], givenActivities, 'activity')] : [];
   return {
     couple: { from: input.from, to: input.to },
-    halfReaction: half.equation,
-    halfReactionUnicode: formatEquationUnicode(half.equation),
+    halfReaction: asWritten(half.equation),
+    halfReactionUnicode: formatEquationUnicode(asWritten(half.equation)),
+    direction: reversed ? ('oxidation' as const) : ('reduction' as const),
     medium,
     electrons: half.electrons,
-    standardPotentialV: p.standardPotentialV,
+    standardPotentialV: sign * p.standardPotentialV,
+    reductionStandardPotentialV: p.standardPotentialV,
     valueUsed: p.usedValue,
     override: p.override ? { value: p.override.valueV, source: p.override.source, medium: p.override.medium ?? 'acid', carriedV: p.override.carriedV ?? null } : null,
     tablesStandardPotentialV: p.tablesStandardPotentialV,
     temperatureC,
-    temperatureCorrectionV: p.temperatureCorrectionV,
+    temperatureCorrectionV: sign * p.temperatureCorrectionV,
     temperatureNote: temperatureNote(p, correction),
-    potentialV: n ? n.potentialV : e0T,
+    potentialV: sign * (n ? n.potentialV : e0T),
     nernst: n
       ? {
           slopeV: n.slopeV,
@@ -320,7 +335,16 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
         }
       : null,
     alternatives: p.alternatives.map((a) => ({ standardPotentialV: a.standardPotentialV, rows: a.rows.map((r) => r.rowId), differs: a.differs })),
-    notes: [...p.notes, ...(unitNote ? [unitNote] : []), ...unusedNotes],
+    notes: [
+      ...(reversed
+        ? [
+            `Written from ${input.from} to ${input.to}, the couple is an oxidation: E° and E are those of the reaction as written, the negatives of the reduction's (${half.equation}, E° = ${p.standardPotentialV.toFixed(4)} V). A site value (standardPotentialV) is the E° of the reduction.`,
+          ]
+        : []),
+      ...p.notes,
+      ...(unitNote ? [unitNote] : []),
+      ...unusedNotes,
+    ],
     constants: constantsOut(deps),
   };
 }

@@ -111,9 +111,25 @@ describe('POST /api/v1/couples/potential at conditions', () => {
 });
 
 describe('errors name the fields the request has', () => {
-  it('a couple written the wrong way round points at /from and /to; an underivable one at the whole request; a cell at /oxidant', async () => {
-    const wrong = (await post('/api/v1/couples/potential', { from: 'Fe2+', to: 'Fe3+' })).json();
+  it('a couple written from the reduced form to the oxidised one is the oxidation: E° and E change sign, the electrons do not', async () => {
+    // CRC 97th ed.: MnO4- + 8H+ + 5e- → Mn2+ + 4H2O, E° = 1.507 V; reversed, the oxidation's E° is −1.507 V
+    const red = (await post('/api/v1/couples/potential', { from: 'MnO4-', to: 'Mn2+', pH: 7, temperatureC: 12 })).json();
+    const ox = (await post('/api/v1/couples/potential', { from: 'Mn2+', to: 'MnO4-', pH: 7, temperatureC: 12 })).json();
+    expect(ox.direction).toBe('oxidation');
+    expect(red.direction).toBe('reduction');
+    expect(ox.halfReaction).toBe('Mn2+ + 4H2O -> MnO4- + 8H+ + 5e-');
+    expect(ox.electrons).toBe(red.electrons);
+    expect(ox.standardPotentialV).toBe(-red.standardPotentialV);
+    expect(ox.reductionStandardPotentialV).toBe(red.standardPotentialV);
+    expect(ox.potentialV).toBeCloseTo(-red.potentialV, 12);
+    expect(ox.temperatureCorrectionV).toBeCloseTo(-red.temperatureCorrectionV, 12);
+    expect(ox.notes[0]).toMatch(/is an oxidation/);
+    // a couple that cannot be a half-reaction still points at /from and /to
+    const wrong = (await post('/api/v1/couples/potential', { from: 'Fe2+', to: 'Cl-' })).json();
     expect(wrong.errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/from', '/to']);
+  });
+
+  it('an underivable couple points at the whole request; a cell at /oxidant', async () => {
     const none = await post('/api/v1/couples/potential', { from: 'HAsO4^2-', to: 'H3AsO3' });
     expect(none.statusCode).toBe(422);
     expect(none.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(['']);

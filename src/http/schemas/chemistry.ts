@@ -82,11 +82,13 @@ const ActivityOut = z.object({ species: z.string(), activity: z.number(), origin
 
 export const PotentialResponse = z.object({
   couple: z.object({ from: z.string(), to: z.string() }),
-  halfReaction: z.string().describe('The couple completed as a reduction in the medium'),
+  halfReaction: z.string().describe('The couple completed in the medium, as written: a reduction from the oxidised to the reduced form, an oxidation the other way round'),
   halfReactionUnicode: z.string(),
+  direction: z.enum(['reduction', 'oxidation']).describe('An oxidation (from the reduced form to the oxidised one) has E° and E of the opposite sign to its reduction'),
   medium: Medium,
   electrons: z.number().int(),
-  standardPotentialV: z.number().describe('E° at 25 °C of the half-reaction as written (the value used)'),
+  standardPotentialV: z.number().describe('E° at 25 °C of the half-reaction as written (the value used); for an oxidation the negative of the reduction’s'),
+  reductionStandardPotentialV: z.number().describe('E° at 25 °C of the couple as a reduction (the tabled convention)'),
   valueUsed: z.enum(['tabled', 'derived', 'override']),
   override: z
     .object({
