@@ -18,6 +18,12 @@ export interface RowAtTemperature {
   readonly note: string | null;
 }
 
+/**
+ * A dE°/dT or a van 't Hoff ΔH° is the slope at 25 °C: used more than this far from 25 °C (K),
+ * the linear correction is an extrapolation and the answer says so.
+ */
+export const LINEAR_TEMPERATURE_SPAN_K = 25;
+
 /** Lowest and highest temperatures the service accepts (liquid water at about 1 atm). */
 export const TEMPERATURE_RANGE_C = { min: 0, max: 100 } as const;
 
@@ -44,7 +50,12 @@ export function rowAtTemperature(row: LedgerRow, temperatureK: number, constants
     if (atStandard) return { g: g25, basis: 'standard', note: null };
     if (row.dEdTVPerK !== null) {
       const n = row.electronCoefficient.neg().toNumber();
-      return { g: g25 + n * row.dEdTVPerK * (temperatureK - T25), basis: 'dEdT', note: null };
+      const far = Math.abs(temperatureK - T25) > LINEAR_TEMPERATURE_SPAN_K;
+      return {
+        g: g25 + n * row.dEdTVPerK * (temperatureK - T25),
+        basis: 'dEdT',
+        note: far ? `${row.id}: its dE°/dT is the slope at 25 °C; at ${tC} °C, more than ${LINEAR_TEMPERATURE_SPAN_K} K away, the linear correction is an extrapolation (an estimate).` : null,
+      };
     }
     return { g: g25, basis: 'held', note: `${row.id}: no dE°/dT in the tables; E° held at its 25 °C value at ${tC} °C.` };
   }
@@ -66,7 +77,12 @@ export function rowAtTemperature(row: LedgerRow, temperatureK: number, constants
   }
   if (row.deltaHJPerMol !== null) {
     const logK = logK25 - (row.deltaHJPerMol / (constants.R * Math.LN10)) * (1 / temperatureK - 1 / T25);
-    return { g: k * logK, basis: 'vant-hoff', note: null };
+    const far = Math.abs(temperatureK - T25) > LINEAR_TEMPERATURE_SPAN_K;
+    return {
+      g: k * logK,
+      basis: 'vant-hoff',
+      note: far ? `${row.id}: van 't Hoff with its ΔH° at 25 °C taken as constant; at ${tC} °C, more than ${LINEAR_TEMPERATURE_SPAN_K} K away, that is an extrapolation (an estimate).` : null,
+    };
   }
   return {
     g: k25 * logK25,

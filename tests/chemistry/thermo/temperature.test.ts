@@ -47,6 +47,14 @@ describe('potential rows with dE°/dT (Bratsch 1989)', () => {
     expect(Math.abs(crc - pq)).toBeLessThan(0.0005);
   });
 
+  it('a linear dE°/dT is the slope at 25 °C: used more than 25 K away the answer calls it an extrapolation', () => {
+    const near = standardPotential('MnO4- + 8H+ + 5e- = Mn2+ + 4H2O', real, { temperatureC: 45 });
+    expect(near.notes.join(' ')).not.toMatch(/extrapolation/);
+    const far = standardPotential('MnO4- + 8H+ + 5e- = Mn2+ + 4H2O', real, { temperatureC: 90 });
+    expect(far.temperatureCorrectionV).toBeCloseTo((-0.646 / 1000) * 65, 12); // still applied, and said
+    expect(far.notes.join(' ')).toMatch(/dE°\/dT is the slope at 25 °C; at 90\.0 °C, more than 25 K away, the linear correction is an extrapolation/);
+  });
+
   it('the request can turn the correction off', () => {
     const r = standardPotential('MnO4- + 8H+ + 5e- = Mn2+ + 4H2O', real, { temperatureC: 35, temperatureCorrection: false });
     expect(r.temperatureCorrectionV).toBe(0);
