@@ -337,7 +337,7 @@ function pushFlags(e: FeasibilityEntry, input: FeasibilityInput, flags: Flag[]):
           c.usedValue === 'override'
             ? `The tables disagree on ${c.halfReaction} by ${(c.tabledCheck.discrepancyV * 1000).toFixed(1)} mV (a tabled row against its derivation from other rows); the site value from options.potentialOverrides was used instead of either.`
             : c.usedValue === 'derived'
-            ? `The tables' base-medium E° of ${c.halfReaction} differs by ${(c.tabledCheck.discrepancyV * 1000).toFixed(1)} mV from the value carried from its acid form through Kw; the carried value was used, so the potential does not jump at pH 7. A site value can be given in options.potentialOverrides.`
+            ? `The tables' base-medium E° of ${c.halfReaction} differs by ${(c.tabledCheck.discrepancyV * 1000).toFixed(1)} mV from the value carried from its acid form through Kw; the carried value was used, so the potential is the same whichever medium the reaction is written in. A site value can be given in options.potentialOverrides.`
             : `The tabled E° of ${c.halfReaction} differs by ${(c.tabledCheck.discrepancyV * 1000).toFixed(1)} mV from its derivation from other rows; the tabled value was used. A site value can be given in options.potentialOverrides.`,
         source: c.derivation[0]?.source ?? ox.source,
       });

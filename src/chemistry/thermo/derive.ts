@@ -614,7 +614,7 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
         tabledCheck = { tabledV, derivedV: tablesV, discrepancyV, flagged: Math.abs(discrepancyV) > FLAG_THRESHOLD_V, derivation: steps(combo) };
         if (tabledCheck.flagged) {
           notes.push(
-            `The base-medium row ${row.valueText} (${row.id}, ${row.source}) differs by ${(discrepancyV * 1000).toFixed(1)} mV from the ${tablesV.toFixed(4)} V carried from the acid form; it is not used, so that the potential does not jump where the medium changes. A site value can be given instead.`,
+            `The base-medium row ${row.valueText} (${row.id}, ${row.source}) differs by ${(discrepancyV * 1000).toFixed(1)} mV from the ${tablesV.toFixed(4)} V carried from the acid form; it is not used, so that the potential is the same whichever medium the couple is written in. A site value can be given instead.`,
           );
         }
       }
