@@ -3,8 +3,8 @@
  * whichever unit the operator chose):
  *
  * - raw-water readings: above `warnAbove` a reading is unusual and gets a "check the lab
- *   reading" warning; above `refuseAbove` it cannot be a raw drinking-water source (or is a unit
- *   or transcription error, µg/L entered as mg/L) and the request is refused naming the field,
+ *   reading" warning; above `refuseAbove` it cannot be a raw drinking-water source (it is a unit
+ *   slip or a miscopied reading, µg/L entered as mg/L) and the request is refused naming the field,
  *   the value, the bound and why;
  * - flow, contact time and volume, strengths, purity, pump capacity, stock, batch volume,
  *   residual and demand: ranges beyond which the figure is not a treatment plant's, so that no

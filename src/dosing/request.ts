@@ -262,7 +262,7 @@ export function checkDoseRequest(req: DoseRequest): void {
   if (fields.length > 0) {
     throw new DomainError('QUANTITY_OUT_OF_RANGE', { detail: fields.map((f) => `${f.pointer}: ${f.message}`).join('; ') + '.', fields });
   }
-  // readings a raw water cannot hold (a unit or transcription slip): refused, naming the field, the value, the bound and why
+  // readings a raw water cannot hold (a unit slip or a miscopied reading): refused, naming the field, the value, the bound and why
   const implausible = readingBoundProblems(s);
   if (implausible.length > 0) {
     throw new DomainError('READING_IMPLAUSIBLE', {
