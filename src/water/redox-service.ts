@@ -7,6 +7,7 @@
  * ΔG°, or the caller's site value) → E°(T) from the tables' temperature data → Nernst at the
  * pH, temperature and activities (slope 2.303RT/F from CODATA R and F at T).
  */
+import { UNIT_FACTORS } from '../core/quantity.js';
 import { DomainError, isDomainError } from '../core/errors.js';
 import type { Dec } from '../core/decimal.js';
 import { parseFormula, speciesKey, formatEquationUnicode } from '../chemistry/formula/index.js';
@@ -349,9 +350,6 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   };
 }
 
-/** mg/L per unit of the mass-per-volume concentration units (ppm, ppb: dilute water, 1 kg/L). */
-const MG_PER_L = { 'mg/L': 1, 'ug/L': 0.001, 'µg/L': 0.001, 'g/m3': 1, 'g/L': 1000, ppm: 1, ppb: 0.001 } as const;
-
 export interface ConcentrationIn {
   value: number;
   unit: 'mg/L' | 'ug/L' | 'µg/L' | 'g/m3' | 'g/L' | 'ppm' | 'ppb' | 'mol/L' | 'mmol/L' | 'umol/L' | 'µmol/L' | 'atm';
@@ -467,7 +465,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     else if (q.unit === 'umol/L' || q.unit === 'µmol/L') molPerL = q.value / 1e6;
     else {
       // mass per volume of the species itself (ppm and ppb as mg/L and µg/L in dilute water)
-      const mg = MG_PER_L[q.unit] * q.value;
+      const mg = Number(UNIT_FACTORS.concentration[q.unit]) * q.value;
       molPerL = mg / 1000 / withPointer(pointer, () => deps.molarMassOf(text)).toNumber();
     }
     const gamma = s.charge === 0 ? 1 : daviesGamma(s.charge, I, A);

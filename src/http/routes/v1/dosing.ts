@@ -9,7 +9,7 @@ import { requireRole } from '../../auth.js';
 import type { Services } from '../../services.js';
 
 /** The latest stored version of a plant, or null (the archive throws PLANT_NOT_FOUND; routes name their own field). */
-function findPlant(services: Services, plantId: string) {
+export function findPlant(services: Services, plantId: string) {
   if (!isValidPlantId(plantId)) return null;
   try {
     return services.archive.getPlant(plantId);

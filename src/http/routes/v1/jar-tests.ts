@@ -38,7 +38,8 @@ import { renderSheet } from '../../../sheets/pdf.js';
 import { renderSignedSheet } from '../../../sheets/sign.js';
 import { safetyBoxFromCautions } from '../../../sheets/safety.js';
 import type { SafetyBox } from '../../../sheets/model.js';
-import { canonicalJson, isValidPlantId, newSheetId, sha256Hex, sheetContentSha256, type SheetRecord, type SheetSummary, type User } from '../../../archive/index.js';
+import { canonicalJson, newSheetId, sha256Hex, sheetContentSha256, type SheetRecord, type SheetSummary, type User } from '../../../archive/index.js';
+import { findPlant } from './dosing.js';
 import {
   CheckOut,
   EvaluationCreatedOut,
@@ -220,15 +221,8 @@ export function jarEstimate(services: Services, oxidant: DoseRequest['oxidant'],
 /** The latest stored version of the plant profile a plan names, or null; a missing one is a 404 naming /plantId. */
 function planPlant(services: Services, plantId: string | undefined): { profile: PlantProfile; version: number } | null {
   if (plantId === undefined) return null;
-  let stored: { profile: unknown; version: number } | null = null;
-  if (isValidPlantId(plantId)) {
-    try {
-      stored = services.archive.getPlant(plantId);
-    } catch (e) {
-      if (!(e instanceof DomainError) || e.code !== 'PLANT_NOT_FOUND') throw e;
-    }
-  }
-  if (stored === null) {
+  const stored = findPlant(services, plantId);
+  if (!stored) {
     throw new DomainError('PLANT_NOT_FOUND', {
       detail: `No plant profile "${plantId}"; GET /api/v1/plants lists the stored ones, or give targetResidual and product in the request instead.`,
       fields: [{ pointer: '/plantId', message: 'no stored plant profile with this id' }],
