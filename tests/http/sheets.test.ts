@@ -187,6 +187,9 @@ describe('listing, CSV export, corrections, tokens and users', () => {
     expect(recent.json().sheets.map((s: { id: string }) => s.id)).toEqual([ids.late]);
     const other = await app.inject({ method: 'GET', url: `/api/v1/sheets?plantId=some-other-plant` });
     expect(other.json().sheets).toEqual([]);
+    // the empty list says why: no plant profile has that id (a typo is not "no sheets issued")
+    expect(other.json().notes.join(' ')).toMatch(/No plant profile "some-other-plant" is stored/);
+    expect(all.json().notes).toEqual([]);
   });
 
   it('export.csv: a header with units, one row per sheet, doses as computed', async () => {

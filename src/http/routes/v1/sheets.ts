@@ -7,6 +7,7 @@ import { verifySignedPdf } from '../../../sheets/verify.js';
 import { Created, DateOrTime, SheetBody, SheetId } from '../../schemas/sheets.js';
 import { defineRoute } from '../../route.js';
 import { requireRole } from '../../auth.js';
+import { findPlant } from './dosing.js';
 import type { Services } from '../../services.js';
 
 const Summary = z.object({
@@ -88,8 +89,21 @@ export async function sheetRoutes(app: FastifyInstance): Promise<void> {
     summary: 'List archived sheets by plant and sample date',
     tags: ['sheets'],
     querystring: Query,
-    response: { 200: z.object({ sheets: z.array(Summary) }) },
-    handler: async (req) => ({ sheets: app.services.archive.listSheets(req.query).map(summaryOut) }),
+    response: {
+      200: z.object({
+        sheets: z.array(Summary),
+        notes: z.array(z.string()).describe('Why a list may be empty, e.g. a plantId with no stored plant profile'),
+      }),
+    },
+    handler: async (req) => {
+      const sheets = app.services.archive.listSheets(req.query).map(summaryOut);
+      const notes: string[] = [];
+      // An empty list for a mistyped plant id must not read as "no sheets were issued".
+      if (req.query.plantId !== undefined && !findPlant(app.services, req.query.plantId)) {
+        notes.push(`No plant profile "${req.query.plantId}" is stored, so no sheet can name it; GET /api/v1/plants lists the stored ones.`);
+      }
+      return { sheets, notes };
+    },
   });
 
   defineRoute(app, {
