@@ -98,6 +98,12 @@ export function parseFormulaAst(text: string, options: ParseOptions = {}): { spe
 }
 
 /**
+ * Elements whose oxidation states in water are carried by oxyanions or neutral acids (arsenic(III)
+ * is H3AsO3, not As3+): a Roman numeral after them is not answered with a bare cation.
+ */
+const IN_OXYANIONS: ReadonlySet<string> = new Set(['As', 'Sb', 'Se', 'Te', 'S', 'N', 'P', 'C', 'Si', 'B', 'Cl', 'Br', 'I']);
+
+/**
  * Parse the formula in source[start, end). Errors carry `text` = the whole source and
  * positions into it, so a formula inside an equation is reported in place.
  */
@@ -340,6 +346,7 @@ class Parser {
   }
 
   species(): FormulaAst {
+    this.refuseBareRomanNumeral();
     const parts: FormulaPart[] = [];
     for (;;) {
       let multiplier: number | null = null;
@@ -429,9 +436,37 @@ class Parser {
     const value = { I: 1, II: 2, III: 3, IV: 4, V: 5, VI: 6, VII: 7, VIII: 8 }[roman as 'I']!;
     const formula = this.source.slice(this.start, open.pos);
     // the bare ion only where it is a usual aqueous ion's charge (Fe2+, Mn2+, Fe3+, Cu+); As(III), Cr(VI) are in oxyanions
-    const spelled = /^[A-Z][a-z]?$/.test(formula) && value <= 3 ? this.spellings(formula, value, 1, '') : [];
+    const spelled = /^[A-Z][a-z]?$/.test(formula) && value <= 3 && !IN_OXYANIONS.has(formula) ? this.spellings(formula, value, 1, '') : [];
     const fix = spelled.length > 0 ? `: for the ion write ${either(spelled)}, or the species it is in (e.g. "Fe(OH)3" for iron(III) hydroxide)` : ': write the species as a formula with its charge (e.g. "Fe2+" for iron(II), "H3AsO3" for arsenic(III))';
     throw this.fail(open.pos, `the parentheses at position ${open.pos} hold "${roman}", an oxidation state in Roman numerals, which a formula does not carry (it would read as atoms of iodine or vanadium)${fix}`);
+  }
+
+  /**
+   * "FeIII", "MnII", "AsV", "MnVII": one element symbol followed by a Roman numeral, the way
+   * oxidation states are often written in notes, would read as iodine and vanadium atoms (FeI3,
+   * MnI2, AsV, MnVI2). Nobody writes those compounds so (iron(II) iodide is FeI2), so the form
+   * is refused rather than guessed. A single trailing "I" is left alone: CuI, KI and AgI are
+   * the usual spellings of real iodides.
+   */
+  private refuseBareRomanNumeral(): void {
+    const elements: Extract<Token, { kind: 'element' }>[] = [];
+    for (const t of this.tokens) {
+      if (t.kind === 'element') elements.push(t);
+      else if (t.kind === 'end' || t.kind === 'phase' || t.kind === 'sign' || t.kind === 'caret' || t.kind === 'supcharge') break;
+      else return; // a count, a bracket or a dot: a formula written with counts, not this form
+    }
+    if (elements.length < 3 && !(elements.length === 2 && elements[1]!.symbol === 'V')) return;
+    const [head, ...tail] = elements;
+    const roman = tail.map((t) => t.symbol).join('');
+    if (!/^(VIII|VII|VI|IV|V|III|II)$/.test(roman)) return;
+    const value = { II: 2, III: 3, IV: 4, V: 5, VI: 6, VII: 7, VIII: 8 }[roman as 'II']!;
+    const formula = head!.symbol;
+    const spelled = value <= 3 && !IN_OXYANIONS.has(formula) ? this.spellings(formula, value, 1, '') : [];
+    const fix = spelled.length > 0 ? `: for the ion write ${either(spelled)}, or the species it is in (e.g. "Fe(OH)3" for iron(III) hydroxide)` : ': write the species as a formula with its charge (e.g. "H3AsO3" for arsenic(III), "H2AsO4-" for arsenic(V), "MnO4-" for manganese(VII))';
+    const atoms = new Map<string, number>();
+    for (const t of tail) atoms.set(t.symbol, (atoms.get(t.symbol) ?? 0) + 1);
+    const read = formula + [...atoms].map(([el, n]) => el + (n > 1 ? String(n) : '')).join('');
+    throw this.fail(tail[0]!.pos, `"${roman}" after ${formula} at position ${tail[0]!.pos} reads as an oxidation state in Roman numerals, which a formula does not carry (as atoms it would be ${read})${fix}`);
   }
 
   /**

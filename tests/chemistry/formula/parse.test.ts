@@ -129,7 +129,8 @@ describe('parseFormula: oxidation states in Roman numerals are refused, not read
     ['Fe(III)', 2, '"Fe3+" or "Fe^3+"'],
     ['Cu(I)', 2, '"Cu+" or "Cu^+"'],
     ['Mn(IV)', 2, 'the species as a formula'],
-    ['As(III)', 2, '"As3+" or "As^3+"'],
+    // arsenic(III) is H3AsO3 in water: no bare As3+ is offered
+    ['As(III)', 2, '"H3AsO3" for arsenic(III)'],
     ['Cr(VI)', 2, 'the species as a formula'],
     ['Fe(II)(aq)', 2, '"Fe2+" or "Fe^2+"'],
   ])('%s', (text, position, fix) => {
@@ -140,6 +141,27 @@ describe('parseFormula: oxidation states in Roman numerals are refused, not read
     expect(e.detail).toContain(fix);
   });
   it.each([
+    // [text, position of the numeral, the atoms it would have read as, the fix offered]
+    ['FeIII', 2, 'FeI3', '"Fe3+" or "Fe^3+"'],
+    ['FeII', 2, 'FeI2', '"Fe2+" or "Fe^2+"'],
+    ['MnVII', 2, 'MnVI2', '"MnO4-" for manganese(VII)'],
+    ['MnIV', 2, 'MnIV', 'the species as a formula'],
+    ['AsIII', 2, 'AsI3', '"H3AsO3" for arsenic(III)'],
+    ['AsV', 2, 'AsV', '"H2AsO4-" for arsenic(V)'],
+    ['FeII(aq)', 2, 'FeI2', '"Fe2+" or "Fe^2+"'],
+  ])('without parentheses too: %s', (text, position, read, fix) => {
+    const e = fails(text);
+    expect(e.code).toBe('FORMULA_SYNTAX');
+    expect(e.position).toBe(position);
+    expect(e.detail).toMatch(/oxidation state in Roman numerals/);
+    expect(e.detail).toContain(`as atoms it would be ${read}`);
+    expect(e.detail).toContain(fix);
+  });
+  it.each([
+    ['CuI', { Cu: 1, I: 1 }],
+    ['AgI', { Ag: 1, I: 1 }],
+    ['FeI2', { Fe: 1, I: 2 }],
+    ['CH3COOH', { C: 2, H: 4, O: 2 }],
     ['Ca(IO3)2', { Ca: 1, I: 2, O: 6 }],
     ['Fe(I2)', { Fe: 1, I: 2 }],
     ['KI', { K: 1, I: 1 }],
