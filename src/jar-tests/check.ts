@@ -246,8 +246,11 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
     };
   });
 
-  // Plan-level and cross-jar problems, on each jar's effective dose (stated, else recomputed).
-  const effective = jars.map((j) => j.doseMgPerL ?? j.recomputedDoseMgPerL);
+  // Plan-level and cross-jar problems, on the dose each jar really gets: the one its stated
+  // aliquot gives (a mismatch with the stated dose is reported per jar above), else the stated dose.
+  const effective = jars.map((j) => (j.aliquotMl !== null ? j.recomputedDoseMgPerL : (j.doseMgPerL ?? j.recomputedDoseMgPerL)));
+  const mismatched = jars.some((j) => j.problems.some((p) => p.code === CHECK_CODES.DOSE_MISMATCH));
+  const dosesLabel = mismatched ? 'doses the aliquots give' : 'doses';
   effective.forEach((d, i) => {
     if (d === null) return;
     const prev = effective.findIndex((e, k) => k < i && e !== null && (e === d || Math.abs(e - d) <= DUPLICATE_RELATIVE * Math.max(e, d)));
@@ -267,7 +270,7 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
     planProblems.push({
       code: CHECK_CODES.NON_MONOTONIC_LADDER,
       severity: 'warning',
-      message: `The doses in jar order (${known.map((d) => fmt(d, 3)).join(', ')} mg/L) neither rise nor fall; order the jars by dose so an aliquot put in the wrong jar shows.`,
+      message: `The ${dosesLabel} in jar order (${known.map((d) => fmt(d, 3)).join(', ')} mg/L) neither rise nor fall; order the jars by dose so an aliquot put in the wrong jar shows.`,
     });
   }
 
@@ -283,7 +286,7 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
       planProblems.push({
         code: CHECK_CODES.NOT_BRACKETING,
         severity: 'error',
-        message: `No jar is ${side} the expected demand ${fmt(expected)} mg/L (doses ${known.map((d) => fmt(d, 3)).join(', ')} mg/L); add a jar ${side} it so the ladder brackets the demand.`,
+        message: `No jar is ${side} the expected demand ${fmt(expected)} mg/L (${dosesLabel} ${known.map((d) => fmt(d, 3)).join(', ')} mg/L); add a jar ${side} it so the ladder brackets the demand.`,
       });
     }
   }

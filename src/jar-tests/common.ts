@@ -86,6 +86,11 @@ export const JAR_TEST_DEFAULTS = {
     value: { kind: 'relative', fraction: 0.1 } as DoseMargin,
     basis: 'common practice: +10 % over the bench dose covers day-to-day change in raw-water demand and bench-to-plant scale-up',
   },
+  permanganateMargin: {
+    value: { kind: 'relative', fraction: 0 } as DoseMargin,
+    basis:
+      'common practice for permanganate: no margin over the bench dose, since any permanganate left over shows as pink water (US EPA 1999 Alternative Disinfectants and Oxidants Guidance Manual §5.1.2, usepa-1999-adogm, says a residual is not desirable); the dose is trimmed at the plant by watching for colour ahead of the filters',
+  },
 } as const;
 
 /** The margin added to the bench result to give the plant dose. */

@@ -261,6 +261,16 @@ function judge(r: JarResultInput, targets: readonly ResolvedTarget[]): { meets: 
 
 const T95 = 0.975;
 
+/** The residual line at one contact time over the jars with a measurable residual, or null (< 3 jars or one dose). */
+function residualLineAt(jars: readonly EvaluatedJar[], time: number, dl: number): LinearFit | null {
+  const pts = jars.flatMap((j) => {
+    const r = j.results.find((x) => x.contactTimeMin === time);
+    return r !== undefined && r.residualOxidantMgPerL !== null && r.residualOxidantMgPerL > dl ? [{ x: j.doseMgPerL, y: r.residualOxidantMgPerL }] : [];
+  });
+  if (pts.length < 3 || new Set(pts.map((p) => p.x)).size < 2) return null;
+  return olsFit(pts.map((p) => p.x), pts.map((p) => p.y));
+}
+
 /**
  * Evaluate a jar test.
  * Throws DomainError JAR_TEST_INVALID (field pointers) for bad input, and JAR_TEST_TOO_FEW_POINTS when fewer
@@ -459,8 +469,12 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
   });
 
   // ---- recommendation
-  const margin = input.margin ?? D.margin.value;
-  const marginBasis = input.margin === undefined ? D.margin.basis : 'margin given by the caller';
+  const defaultMargin = isPermanganateBasis(basis) ? D.permanganateMargin : D.margin;
+  const margin = input.margin ?? defaultMargin.value;
+  const marginBasis = input.margin === undefined ? defaultMargin.basis : 'margin given by the caller';
+  // A result the evaluation itself calls an error (residuals above the doses, no rising line)
+  // puts the doses or the readings in doubt: no plant dose is recommended from it.
+  const blocking = problems.filter((p) => p.severity === 'error');
   let benchTime: number;
   if (input.plantContactTimeMin === undefined) {
     benchTime = times[times.length - 1]!;
@@ -485,8 +499,25 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
   let recommendedDose: RecommendedDose | null = null;
   const withMargin = (base: number) => (margin.kind === 'relative' ? base * margin.fraction : margin.mgPerL);
   const marginText = margin.kind === 'relative' ? `+${fmt(margin.fraction * 100)} %` : `+${fmt(margin.mgPerL)} mg/L`;
-  const predict = (x: number) => (f.slope > 0 ? Math.max(0, f.slope * x + f.intercept) : null);
-  if (atBench !== undefined && atBench.doseMgPerL !== null) {
+  // The residual expected at the recommended dose comes from the line at the contact time the
+  // recommendation is for; where that time has no line of its own, none is predicted.
+  const benchLine = benchTime === fitTime ? f : residualLineAt(jars, benchTime, dl);
+  if (benchTime !== fitTime) {
+    notes.push(
+      benchLine
+        ? `Expected residuals at the recommended dose are read from the residual line at ${fmt(benchTime)} min, the contact time of the recommendation (the demand line above is at ${fmt(fitTime)} min).`
+        : `No residual line at ${fmt(benchTime)} min (fewer than 3 jars with a measurable residual at 2 or more doses), so no residual is predicted at the recommended dose.`,
+    );
+  }
+  const predict = (x: number) => (benchLine !== null && benchLine.slope > 0 ? Math.max(0, benchLine.slope * x + benchLine.intercept) : null);
+  const contaminantTargets = targets.filter((t) => t.analyte === 'iron' || t.analyte === 'manganese');
+  if (blocking.length > 0) {
+    problems.push({
+      code: 'NO_RECOMMENDATION',
+      severity: 'error',
+      message: `No plant dose is recommended: ${blocking.map((b) => b.code).join(', ')} puts the jar doses or the readings in doubt. Check the stock strength, the aliquots and the residual method, then repeat the test.`,
+    });
+  } else if (atBench !== undefined && atBench.doseMgPerL !== null) {
     const base = atBench.doseMgPerL;
     const m = withMargin(base);
     recommendedDose = {
@@ -498,6 +529,20 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       expectedResidualMgPerL: predict(base + m),
       reason: `Lowest bench dose meeting every target at ${fmt(benchTime)} min (jar ${atBench.jar}, ${fmt(base, 3)} mg/L) ${marginText} (${marginBasis}).`,
     };
+  } else if (contaminantTargets.length > 0 && atBench !== undefined) {
+    // The residual line says where the oxidant is used up, not where iron or manganese meet
+    // their targets: with every jar failing, a dose from it would sit below doses that failed.
+    const highest = [...jars].sort((a, b) => b.doseMgPerL - a.doseMgPerL)[0]!;
+    const highestResult = highest.results.find((r) => r.contactTimeMin === benchTime);
+    problems.push({
+      code: 'NO_JAR_MET_TARGETS',
+      severity: 'error',
+      message:
+        `No jar met every target at ${fmt(benchTime)} min, up to jar ${highest.jar} at ${fmt(highest.doseMgPerL, 3)} mg/L` +
+        `${highestResult && highestResult.failures.length > 0 ? ` (${highestResult.failures.join('; ')})` : ''}, so no plant dose is recommended. ` +
+        `${apparentDemand !== null ? `The apparent demand (${fmt(apparentDemand.doseMgPerL, 3)} mg/L) is where the oxidant is used up, not where ${contaminantTargets.map((t) => t.analyte).join(' and ')} meet their targets. ` : ''}` +
+        'Repeat with doses above the highest jar or a longer contact time, and check pH, filtration of the samples and the form of the metal (complexed or colloidal iron and manganese may need another treatment).',
+    });
   } else if (apparentDemand !== null && apparentDemand.doseMgPerL >= 0) {
     const base = apparentDemand.doseMgPerL + residualTarget;
     const m = withMargin(base);

@@ -249,11 +249,13 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
   const b = ev.basis;
   const ap = ev.apparentDemand;
   const rec = ev.recommendedDose;
+  // Why there is none: the evaluation's own error (no jar met the targets, or readings in doubt)
+  const why = ev.problems.find((p) => p.code === 'NO_JAR_MET_TARGETS') ?? ev.problems.find((p) => p.code === 'NO_RECOMMENDATION');
   const resultRows: KeyValueRow[] = [
     {
       label: 'Recommended plant dose',
-      value: rec ? [{ text: `${n3(rec.doseMgPerL)} mg/L`, style: 'bold' }, t(' as '), f(b)] : 'none: no usable fit or jar meeting the targets',
-      ...(rec ? { source: autoRich(rec.reason) } : {}),
+      value: rec ? [{ text: `${n3(rec.doseMgPerL)} mg/L`, style: 'bold' }, t(' as '), f(b)] : [{ text: 'none', style: 'bold' }, t(why ? ` (${why.code}): see the flags` : ': no usable fit or jar meeting the targets')],
+      ...(rec ? { source: autoRich(rec.reason) } : why ? { source: autoRich(why.message) } : {}),
     },
     {
       label: 'Apparent demand',

@@ -78,6 +78,28 @@ describe('checkJarPlan: a sound plan', () => {
   });
 });
 
+describe('checkJarPlan: bracketing is judged on the doses the aliquots give', () => {
+  // 0.5 g/L stock, 2 L jars: a mL gives a·0.5/(2 + a/1000) mg/L, so 0.5, 1, 1.5, 2 mL give about 0.125 … 0.5 mg/L,
+  // a factor-of-4 slip against the stated 0.5 … 2.0 mg/L
+  const slip: CheckJarPlanInput = {
+    ...SOUND,
+    stockStrengthGPerL: 0.5,
+    estimateMgPerL: 1.415,
+    jars: [0.5, 1, 1.5, 2].map((d) => ({ doseMgPerL: d, aliquotMl: d })),
+  };
+  it('stated 0.5 … 2.0 mg/L would bracket 1.415, but the jars get at most 0.5 mg/L: NOT_BRACKETING, besides DOSE_MISMATCH per jar', () => {
+    const r = checkJarPlan(slip);
+    expect(r.jars.every((j) => j.problems.some((p) => p.code === 'DOSE_MISMATCH'))).toBe(true);
+    const b = r.problems.find((p) => p.code === 'NOT_BRACKETING')!;
+    expect(b.message).toContain('No jar is above the expected demand 1.415 mg/L');
+    expect(b.message).toContain('doses the aliquots give 0.125, 0.25, 0.375, 0.5 mg/L');
+  });
+  it('the other way round: stated 0.2 … 0.6 mg/L with aliquots that give 0.2 … 6 mg/L does bracket 1.415', () => {
+    const r = checkJarPlan({ ...slip, stockStrengthGPerL: 1, jars: [{ doseMgPerL: 0.2, aliquotMl: 0.4 }, { doseMgPerL: 0.4, aliquotMl: 8 }, { doseMgPerL: 0.6, aliquotMl: 12 }] });
+    expect(r.problems.map((p) => p.code)).not.toContain('NOT_BRACKETING');
+  });
+});
+
 describe('checkJarPlan: each problem found by a crafted plan', () => {
   const jars = (list: CheckJarPlanInput['jars']) => ({ ...SOUND, jars: list });
   it.each<[string, CheckJarPlanInput, string, number | null]>([

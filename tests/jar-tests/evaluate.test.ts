@@ -23,7 +23,7 @@ const SECONDARY = {
 };
 
 /**
- * A noise-free invented jar test (permanganate, 2 L jars), built from a stated model:
+ * A noise-free invented jar test (hypochlorite as Cl2, 2 L jars), built from a stated model:
  *   demand D(t) = 1.4, 1.7, 1.8 mg/L at 5, 15, 30 min;  residual = max(0, dose − D(t));
  *   dissolved Fe ≤ 0.3 once dose ≥ 2.5 (5 min), 2.0 (15 min), 1.5 (30 min), else 0.4–0.6;
  *   dissolved Mn ≤ 0.05 once dose ≥ 3.0 (5 min), 2.5 (15 min), 2.0 (30 min), else 0.08–0.12.
@@ -45,14 +45,16 @@ function modelJars(): JarInput[] {
   }));
 }
 const MODEL: EvaluateJarTestInput = {
-  oxidant: 'potassium-permanganate',
-  basis: 'KMnO4',
+  oxidant: 'sodium-hypochlorite',
+  basis: 'Cl2',
   estimateMgPerL: 1.6,
   jarVolumeL: 2,
   jars: modelJars(),
   targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05 },
   plantContactTimeMin: 20,
 };
+/** The same jars read as permanganate (as KMnO4): no margin by default, and the pink-water check. */
+const PMN: EvaluateJarTestInput = { ...MODEL, oxidant: 'potassium-permanganate', basis: 'KMnO4' };
 
 describe('evaluateJarTest: bad input and too few points (edge cases first)', () => {
   it.each([
@@ -95,15 +97,20 @@ describe('evaluateJarTest: bad input and too few points (edge cases first)', () 
     expect(fails(() => evaluateJarTest({ ...MODEL, jars })).params).toMatchObject({ n: 3, distinctDoses: 1 });
   });
 
-  it('a residual that falls with dose is a problem (no demand), not a crash', () => {
+  it('a residual that falls with dose is a problem (no demand), not a crash, and no dose is recommended from it', () => {
     const jars = [2, 2.5, 3].map((d, i) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 0.9 - 0.2 * i, ironMgPerL: 0.1, manganeseMgPerL: 0.02 }] }));
     const r = evaluateJarTest({ ...MODEL, jars });
     expect(r.fit.slope).toBeLessThan(0);
     expect(r.apparentDemand).toBeNull();
     expect(r.backgroundDemand).toBeNull();
     expect(r.problems.map((p) => p.code)).toContain('FIT_SLOPE_NOT_POSITIVE');
-    // the targets still give a recommendation: lowest dose meeting at 30 min (plant 20 min is shorter than 30 → first time)
-    expect(r.recommendedDose!.basis).toBe('lowest-dose-meeting-targets');
+    // more oxidant leaving less residual means the doses or the readings are wrong: the jars that met the
+    // targets are reported, but no plant dose is recommended from them
+    expect(r.lowestDoseMeetingTargets.find((l) => l.contactTimeMin === 30)!.doseMgPerL).toBe(2);
+    expect(r.recommendedDose).toBeNull();
+    const no = r.problems.find((p) => p.code === 'NO_RECOMMENDATION')!;
+    expect(no.severity).toBe('error');
+    expect(no.message).toContain('FIT_SLOPE_NOT_POSITIVE');
   });
 });
 
@@ -160,8 +167,18 @@ describe('evaluateJarTest: worked example from the stated model', () => {
     expect(rec.margin.mgPerL).toBeCloseTo(0.25, 12);
     expect(rec.doseMgPerL).toBeCloseTo(2.75, 12);
     expect(rec.margin.basis).toContain('common practice');
-    // the residual line at 2.75: 2.75 − 1.8 = 0.95 mg/L
-    expect(rec.expectedResidualMgPerL).toBeCloseTo(0.95, 10);
+    // the residual line at the recommendation's own contact time, 15 min: 2.75 − 1.7 = 1.05 mg/L
+    expect(rec.expectedResidualMgPerL).toBeCloseTo(1.05, 10);
+    expect(r.notes.join(' ')).toContain('read from the residual line at 15 min');
+  });
+
+  it('permanganate: no margin by default (a residual shows as pink water), 2.5 mg/L at 15 min', () => {
+    const rec = evaluateJarTest(PMN).recommendedDose!;
+    expect(rec.margin).toMatchObject({ kind: 'relative', fraction: 0, mgPerL: 0 });
+    expect(rec.margin.basis).toContain('usepa-1999-adogm');
+    expect(rec.doseMgPerL).toBe(2.5);
+    // a margin the caller gives is kept
+    expect(evaluateJarTest({ ...PMN, margin: { kind: 'relative', fraction: 0.1 } }).recommendedDose!.doseMgPerL).toBeCloseTo(2.75, 12);
   });
 
   it.each([
@@ -205,7 +222,7 @@ describe('evaluateJarTest: worked example from the stated model', () => {
   it('permanganate overdose: a higher dose that fails again is reported (pink filtrate reads as Mn)', () => {
     const jars = modelJars();
     (jars[5]!.results[2] as { manganeseMgPerL: number }).manganeseMgPerL = 0.2;
-    const e = evaluateJarTest({ ...MODEL, jars });
+    const e = evaluateJarTest({ ...PMN, jars });
     const at30 = e.lowestDoseMeetingTargets.find((l) => l.contactTimeMin === 30)!;
     expect(at30.doseMgPerL).toBe(2.0);
     expect(at30.higherDosesFailing).toEqual([6]);
@@ -221,19 +238,33 @@ describe('evaluateJarTest: worked example from the stated model', () => {
     expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(1.98, 10);
   });
 
-  it('targets no jar met: fall back to apparent demand + target residual (1.8 + 0.2) × 1.1 = 2.2', () => {
+  it('an iron target no jar met: no dose is recommended (the demand line would sit below doses that failed)', () => {
     const e = evaluateJarTest({ ...MODEL, targets: { ironMgPerL: 0.01, residualOxidantMgPerL: 0.2 }, plantContactTimeMin: 30 });
     expect(e.lowestDoseMeetingTargets.every((l) => l.doseMgPerL === null)).toBe(true);
+    expect(e.recommendedDose).toBeNull();
+    const p = e.problems.find((x) => x.code === 'NO_JAR_MET_TARGETS')!;
+    expect(p.severity).toBe('error');
+    // the highest jar and why it failed, and the apparent demand said to be something else
+    expect(p.message).toContain('up to jar 6 at 3.5 mg/L (iron 0.05 > 0.01 mg/L)');
+    expect(p.message).toContain('apparent demand (1.8 mg/L)');
+  });
+
+  it('only a residual target no jar met: the demand line gives the dose, (1.8 + 5) × 1.1 = 7.48 mg/L', () => {
+    const e = evaluateJarTest({ ...MODEL, targets: { residualOxidantMgPerL: 5 }, plantContactTimeMin: 30 });
+    expect(e.lowestDoseMeetingTargets.every((l) => l.doseMgPerL === null)).toBe(true);
     expect(e.recommendedDose!.basis).toBe('apparent-demand-plus-residual');
-    expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(2.2, 10);
+    expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(7.48, 10);
+    expect(e.problems.map((x) => x.code)).not.toContain('NO_JAR_MET_TARGETS');
   });
 
   it('a residual maximum that the margin would exceed is warned about', () => {
-    // +10 %: recommended 2.75 predicts 2.75 − 1.8 = 0.95 mg/L residual, within 1.0
-    const e = evaluateJarTest({ ...MODEL, targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05, residualOxidantMaxMgPerL: 1.0 } });
+    // +10 %: recommended 2.75 predicts 2.75 − 1.7 = 1.05 mg/L on the 15 min line: within 1.1, above 1.0
+    const e = evaluateJarTest({ ...MODEL, targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05, residualOxidantMaxMgPerL: 1.1 } });
     expect(e.problems.map((p) => p.code)).not.toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
+    const tight = evaluateJarTest({ ...MODEL, targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05, residualOxidantMaxMgPerL: 1.0 } });
+    expect(tight.problems.map((p) => p.code)).toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
     const f = evaluateJarTest({ ...MODEL, margin: { kind: 'absolute', mgPerL: 0.5 }, targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05, residualOxidantMaxMgPerL: 1.0 } });
-    // lowest meeting at 15 min now also needs residual ≤ 1.0: jar 4 (0.8 at 15 min) → 2.5 + 0.5 = 3.0 → line 1.2 > 1.0
+    // lowest meeting at 15 min now also needs residual ≤ 1.0: jar 4 (0.8 at 15 min) → 2.5 + 0.5 = 3.0 → line 1.3 > 1.0
     expect(f.recommendedDose!.doseMgPerL).toBeCloseTo(3.0, 10);
     expect(f.problems.map((p) => p.code)).toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
   });
@@ -244,11 +275,11 @@ describe('evaluateJarTest: pink water from residual permanganate', () => {
   // practice, from memory; US EPA 1999 ADOGM §5.1.2: a permanganate residual is not desirable, it gives water a pink colour).
   const codesOf = (e: { problems: readonly { code: string }[] }) => e.problems.map((p) => p.code);
 
-  it('no residual maximum given: the recommended 2.75 mg/L predicts 0.95 mg/L (2.75 − 1.8), above 0.05 → warning naming the threshold and its basis', () => {
-    const e = evaluateJarTest(MODEL);
+  it('no residual maximum given: the recommended 2.5 mg/L predicts 0.8 mg/L (2.5 − 1.7, the 15 min line), above 0.05 → warning naming the threshold and its basis', () => {
+    const e = evaluateJarTest(PMN);
     const w = e.problems.find((p) => p.code === 'RECOMMENDED_RESIDUAL_PINK')!;
     expect(w.severity).toBe('warning');
-    expect(w.message).toContain('predicts 0.95 mg/L');
+    expect(w.message).toContain('predicts 0.8 mg/L');
     expect(w.message).toContain('0.05 mg/L default threshold');
     expect(w.message).toContain('common practice');
     expect(w.message).toContain('from memory');
@@ -256,20 +287,21 @@ describe('evaluateJarTest: pink water from residual permanganate', () => {
     expect(codesOf(e)).not.toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
   });
 
-  it("the caller's maximum is kept: 1.0 mg/L allowed → no default pink check, and 0.95 is within it", () => {
-    const e = evaluateJarTest({ ...MODEL, targets: { ...MODEL.targets, residualOxidantMaxMgPerL: 1.0 } });
+  it("the caller's maximum is kept: 1.0 mg/L allowed → no default pink check, and 0.8 is within it", () => {
+    const e = evaluateJarTest({ ...PMN, targets: { ...PMN.targets, residualOxidantMaxMgPerL: 1.0 } });
     expect(codesOf(e)).not.toContain('RECOMMENDED_RESIDUAL_PINK');
     expect(codesOf(e)).not.toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
-    // + 0.5 mg/L on the 2.5 mg/L jar: 3.0 mg/L predicts 1.2 mg/L, above the caller's 1.0 (their limit, not the default)
-    const f = evaluateJarTest({ ...MODEL, margin: { kind: 'absolute', mgPerL: 0.5 }, targets: { ...MODEL.targets, residualOxidantMaxMgPerL: 1.0 } });
+    // + 0.5 mg/L on the 2.5 mg/L jar: 3.0 mg/L predicts 3.0 − 1.7 = 1.3 mg/L, above the caller's 1.0 (their limit, not the default)
+    const f = evaluateJarTest({ ...PMN, margin: { kind: 'absolute', mgPerL: 0.5 }, targets: { ...PMN.targets, residualOxidantMaxMgPerL: 1.0 } });
     expect(codesOf(f)).toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
     expect(codesOf(f)).not.toContain('RECOMMENDED_RESIDUAL_PINK');
   });
 
   it('a recommendation whose predicted residual is at or below 0.05 mg/L gets a note, not a warning', () => {
-    // No targets and no margin: the recommendation is the apparent demand 1.8 mg/L, where the line predicts 1.8 − 1.8 = 0.
-    const jars = MODEL.jars.map((j) => ({ ...j, results: j.results.map((x) => ({ contactTimeMin: x.contactTimeMin, residualOxidantMgPerL: x.residualOxidantMgPerL })) }));
-    const e = evaluateJarTest({ ...MODEL, jars, targets: undefined, margin: { kind: 'relative', fraction: 0 } });
+    // No targets, the plant's 30 min of contact, no margin (permanganate): the recommendation is the apparent demand
+    // 1.8 mg/L at 30 min, where the 30 min line predicts 1.8 − 1.8 = 0.
+    const jars = PMN.jars.map((j) => ({ ...j, results: j.results.map((x) => ({ contactTimeMin: x.contactTimeMin, residualOxidantMgPerL: x.residualOxidantMgPerL })) }));
+    const e = evaluateJarTest({ ...PMN, jars, targets: undefined, plantContactTimeMin: 30 });
     expect(e.recommendedDose!.expectedResidualMgPerL).toBeCloseTo(0, 9);
     expect(codesOf(e)).not.toContain('RECOMMENDED_RESIDUAL_PINK');
     expect(e.notes.join(' ')).toContain('at or below the 0.05 mg/L default pink-water threshold');
@@ -285,10 +317,13 @@ describe('evaluateJarTest: pink water from residual permanganate', () => {
     else expect(e.problems.find((p) => p.code === code)!.severity).toBe('info');
   });
 
-  it('no usable residual line: the colour is not checked, and the evaluation says so', () => {
-    const jars = [2, 2.5, 3].map((d, i) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 0.9 - 0.2 * i, ironMgPerL: 0.1, manganeseMgPerL: 0.02 }] }));
-    const e = evaluateJarTest({ ...MODEL, jars });
+  it('no residual line at the contact time of the recommendation: the colour is not checked, and the evaluation says so', () => {
+    // residuals read at 30 min only; the plant's 20 min of contact puts the recommendation at the 15 min readings
+    const jars = PMN.jars.map((j) => ({ ...j, results: j.results.map((x) => (x.contactTimeMin === 30 ? x : { ...x, residualOxidantMgPerL: undefined })) }));
+    const e = evaluateJarTest({ ...PMN, jars });
+    expect(e.recommendedDose!.contactTimeMin).toBe(15);
     expect(e.recommendedDose!.expectedResidualMgPerL).toBeNull();
+    expect(e.notes.join(' ')).toContain('No residual line at 15 min');
     expect(codesOf(e)).toContain('RESIDUAL_COLOUR_NOT_CHECKED');
   });
 });

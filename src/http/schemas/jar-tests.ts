@@ -28,7 +28,7 @@ export const JarVolumeSchema = z.strictObject({
   unit: z.enum(JAR_VOLUME_UNITS, { error: `unit of the jar volume must be one of: ${JAR_VOLUME_UNITS.join(', ')}` }),
 });
 
-export const JAR_DOSE_UNITS = ['mg/L', 'µg/L', 'ug/L'] as const;
+export const JAR_DOSE_UNITS = ['mg/L', 'µg/L', 'ug/L', 'g/m3', 'ppm', 'ppb'] as const;
 /** A jar dose, on the oxidant's basis (as KMnO4, as Cl2 …). */
 export const JarDoseSchema = z.strictObject({
   value: z.number({ error: 'value must be a number' }).min(0, { error: 'a dose must be 0 or more' }),
