@@ -302,3 +302,17 @@ describe('cache', () => {
     expect(standardPotential('Fe(OH)3(s) + 3H+ + e- = Fe2+ + 3H2O', l)).toBe(first);
   });
 });
+
+describe('arsenic(V) in its pH forms: each acid step adds (RT ln10 / nF)·pKa to E°', () => {
+  // H3AsO4 + 2H+ + 2e- = H3AsO3 + H2O, 0.575 V (Harris, Quantitative Chemical Analysis, appendix H; the
+  // table's row), with the arsenic acid pKa values 2.26 and 6.76 (CRC 97th ed. dissociation constants of
+  // inorganic acids, from memory): H2AsO4- takes one more H+ (E° + (K25/2)·2.26), HAsO4^2- two (+ (K25/2)·6.76).
+  const e = (eq: string) => standardPotential(eq, real);
+  it('H2AsO4- and HAsO4^2- to H3AsO3 are derived from the tables, not refused', () => {
+    const h2 = e('H2AsO4- + 3H+ + 2e- = H3AsO3 + H2O');
+    const h1 = e('HAsO4^2- + 4H+ + 2e- = H3AsO3 + H2O');
+    expect(h2.standardPotentialV).toBeCloseTo(0.575 + (K25 / 2) * 2.26, 9);
+    expect(h1.standardPotentialV).toBeCloseTo(h2.standardPotentialV + (K25 / 2) * 6.76, 9);
+    expect(h1.derivation.map((d) => d.rowId).sort()).toEqual(['crc-h2aso4', 'crc-h3aso4', 'harris-h3aso4-h3aso3']);
+  });
+});
