@@ -205,7 +205,8 @@ function feasibleRanges(f: (pH: number) => number, roots: readonly number[]): Fe
 }
 
 /**
- * The activity of the reductant's reduced form at which E would reach 0, everything else held:
+ * The activity of the reductant's reduced form at which E would reach 0, everything else held
+ * (none when E ≤ 0: the reaction does not run, so the reductant stays as given):
  * dE/d log10 a(X) = −(s/nₒ)·νₒ(X) + (s/nᵣ)·νᵣ(X) (ν signed, products +), so
  * log10 a* = log10 a − E / (dE/d log10 a).
  */
@@ -228,6 +229,17 @@ function equilibriumResidual(
   const dE = -(slopeV / ox.electrons) * nuOx + (slopeV / red.electrons) * nuRed;
   if (dE === 0) return { value: null, reason: `The cell potential does not depend on ${reduced.text}.` };
   const current = reductant.activities.find((a) => a.key === key) ?? oxidant.activities.find((a) => a.key === key);
+  const heldAtUnit = current?.origin === 'unit-by-convention';
+  if (!(cellPotentialV > 0)) {
+    // E <= 0: the reaction as written does not run, so no reductant is used up; the level at
+    // which E would reach 0 lies above the given one and is no floor of anything
+    return {
+      value: null,
+      reason:
+        `No equilibrium residual: the reaction does not proceed at these conditions (E = ${cellPotentialV.toFixed(4)} V, not above 0), ` +
+        `so ${reduced.text} stays ${heldAtUnit ? 'where it is (taken at unit activity here, as no concentration was given)' : 'at the level given'}.`,
+    };
+  }
   const logA0 = current?.log10Activity ?? 0;
   const log10Activity = logA0 - cellPotentialV / dE;
   const gamma = input.reductantResidual?.activityCoefficient ?? 1;
@@ -240,7 +252,6 @@ function equilibriumResidual(
   if (M !== undefined && (!Number.isFinite(M) || M <= 0)) {
     throw new DomainError('QUANTITY_OUT_OF_RANGE', { detail: 'The molar mass of the reductant must be a positive number of g/mol.', fields: [{ pointer: '/reductantResidual/molarMassGPerMol', message: 'must be positive' }] });
   }
-  const heldAtUnit = current?.origin === 'unit-by-convention';
   return {
     value: {
       species: reduced.text,
@@ -251,7 +262,8 @@ function equilibriumResidual(
       molPerL,
       mgPerL: M === undefined ? null : molPerL * M * 1000,
       note:
-        `Thermodynamic floor (E = 0 V with every other activity held); kinetics usually stop the reaction well before it.` +
+        `Equilibrium residual of ${reduced.text}: a thermodynamic floor, the level at which E would reach 0 V with every other activity held where it is ` +
+        `(no mass balance: the oxidant used up and the products formed are not followed); kinetics usually stop the reaction well before it.` +
         (heldAtUnit ? ` ${reduced.text} was at unit activity (not given) in the cell evaluation.` : ''),
     },
   };

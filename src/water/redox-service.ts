@@ -8,14 +8,14 @@
  * pH, temperature and activities (slope 2.303RT/F from CODATA R and F at T).
  */
 import { UNIT_FACTORS } from '../core/quantity.js';
-import { DomainError, isDomainError } from '../core/errors.js';
+import { DomainError, isDomainError, pointerToken } from '../core/errors.js';
 import type { Dec } from '../core/decimal.js';
 import { parseFormula, speciesKey, formatEquationUnicode } from '../chemistry/formula/index.js';
 import type { Species } from '../chemistry/formula/types.js';
 import { balanceRedox, halfReaction, mediumForPH, type HalfReaction, type Medium } from '../chemistry/balance/index.js';
 import { standardPotential, type PotentialResult, type DerivationStep, type SiteValue } from '../chemistry/thermo/derive.js';
 import type { Ledger } from '../chemistry/thermo/ledger.js';
-import { nernst, type NernstResult } from './conditions.js';
+import { nernst, type ActivityUsed, type NernstResult } from './conditions.js';
 import { evaluateCell } from './cell.js';
 import { DAVIES_EQUATION, daviesGamma, ionicStrength } from './activity.js';
 import type { PhysicalConstants } from './constants.js';
@@ -210,15 +210,150 @@ function chooseMedium(medium: Medium | undefined, pH: number | undefined): Mediu
   return medium ?? (pH !== undefined ? mediumForPH(pH) : 'acid');
 }
 
-/** Values by species key; `texts` collects key → the text the caller wrote, for the notes. */
-function keyedActivities(map: Readonly<Record<string, number>> | undefined, pointer: string, deps: RedoxDeps, texts?: Map<string, string>): Map<string, number> {
+/** Where a species was given in the request: the text the caller wrote and its JSON pointer. */
+interface GivenAt {
+  readonly text: string;
+  readonly pointer: string;
+}
+
+/**
+ * Two keys of the request that name the same species ("Fe2+" and "Fe^2+", "Fe2+" and
+ * "Fe2+(aq)"): one value would replace the other by key order, so the request is refused.
+ */
+function sameSpecies(key: string, first: GivenAt, second: GivenAt): DomainError {
+  return new DomainError('ACTIVITY_INVALID', {
+    detail:
+      `"${first.text}" (${first.pointer}) and "${second.text}" (${second.pointer}) are the same species (${key}): species are matched by ` +
+      'composition, charge and gas phase, so one value would replace the other. Give the species once.',
+    params: { species: key, pointers: [first.pointer, second.pointer] },
+    fields: [
+      { pointer: first.pointer, message: `the same species as ${second.pointer} (${key}); give it once` },
+      { pointer: second.pointer, message: `the same species as ${first.pointer} (${key}); give it once` },
+    ],
+  });
+}
+
+/** Record where a species was given; refuses a second spelling of one already given. */
+function noteGiven(seen: Map<string, GivenAt>, key: string, at: GivenAt): void {
+  const first = seen.get(key);
+  if (first !== undefined) throw sameSpecies(key, first, at);
+  seen.set(key, at);
+}
+
+/**
+ * Values by species key; `seen` collects key → the text the caller wrote and its pointer, shared
+ * between the maps of one request so that a species given twice is refused (sameSpecies).
+ */
+function keyedActivities(
+  map: Readonly<Record<string, number>> | undefined,
+  pointer: string,
+  deps: RedoxDeps,
+  seen: Map<string, GivenAt>,
+  check?: (s: Species, at: GivenAt) => void,
+): Map<string, number> {
   const out = new Map<string, number>();
   for (const [text, a] of Object.entries(map ?? {})) {
-    const key = speciesKey(parseAt(text, `${pointer}/${text.replace(/~/g, '~0').replace(/\//g, '~1')}`, deps));
+    const at = { text, pointer: `${pointer}/${pointerToken(text)}` };
+    const s = parseAt(text, at.pointer, deps);
+    check?.(s, at);
+    const key = speciesKey(s);
+    noteGiven(seen, key, at);
     out.set(key, a);
-    texts?.set(key, text);
   }
   return out;
+}
+
+/** key → the text the caller wrote, for the notes. */
+function textsOf(seen: ReadonlyMap<string, GivenAt>): Map<string, string> {
+  return new Map([...seen].map(([k, g]) => [k, g.text]));
+}
+
+/**
+ * The cell route answers in ASCII (its reactions in the notation the parser reads, and a lean
+ * body, see CellResponse): the notes it carries from the E° derivations are written with these
+ * plain spellings; any other character outside ASCII is named by its code point.
+ */
+const ASCII_SPELLINGS: readonly [string, string][] = [
+  [' °C', ' degC'], ['°C', 'degC'], ['°', '0'], ['Δ', 'Delta'], ['γ', 'gamma'], ['ε', 'epsilon'], ['λ', 'lambda'], ['Σ', 'Sum'],
+  ['·', '*'], ['×', 'x'], ['±', '+/-'], ['−', '-'], ['–', '-'], ['—', '--'], ['≤', '<='], ['≥', '>='], ['…', '...'], ['→', '->'],
+  ['ᵢ', '_i'], ['ⱼ', '_j'], ['⁻', '-'], ['⁺', '+'], ['²', '^2'], ['³', '^3'], ['¹', '^1'], ['µ', 'u'],
+];
+export function asciiText(text: string): string {
+  // eslint-disable-next-line no-control-regex
+  if (/^[\x00-\x7f]*$/.test(text)) return text;
+  let out = text;
+  for (const [from, to] of ASCII_SPELLINGS) out = out.split(from).join(to);
+  // eslint-disable-next-line no-control-regex
+  return out.replace(/[^\x00-\x7f]/gu, (c) => `U+${c.codePointAt(0)!.toString(16).toUpperCase().padStart(4, '0')}`);
+}
+
+/** The example water of the activity-coefficient notes: a fresh water of 300 mg/L TDS (an illustration, not the sample). */
+const EXAMPLE_TDS_MG_PER_L = 300;
+
+/**
+ * What activity coefficients of 1 mean, with figures computed at the temperature: γ of a 1+ and
+ * a 2+ ion by Davies at the example water's ionic strength (Langelier 1936 from its TDS), the
+ * E shift s·|log10 γ(2+)| of a one-electron couple, and `shiftOf(log10 γ by charge)`: how far
+ * this answer's E would move with those coefficients.
+ */
+function gammaOneNote(
+  lead: string,
+  temperatureC: number,
+  slopeV: number,
+  deps: RedoxDeps,
+  shiftOf: (log10Gamma: (charge: number) => number) => number,
+  what: string,
+  advice: string,
+): string {
+  const est = ionicStrength({ method: 'tds', tdsMgPerL: EXAMPLE_TDS_MG_PER_L });
+  const I = est.ionicStrengthMolPerL;
+  const A = deps.daviesAAt(temperatureC);
+  const lg = (z: number) => (z === 0 ? 0 : Math.log10(daviesGamma(z, I, A)));
+  const shiftMV = shiftOf(lg) * 1000;
+  const perIonMV = slopeV * Math.abs(lg(2)) * 1000;
+  return (
+    `${lead} In a real water ions have γ below 1: ` +
+    `for example at ${EXAMPLE_TDS_MG_PER_L} mg/L TDS (I = ${I.toPrecision(2)} mol/L by ${est.relation?.id ?? 'the TDS relation'}), ` +
+    `Davies at ${temperatureC} °C gives γ = ${Math.pow(10, lg(1)).toFixed(2)} for a 1+ ion and ${Math.pow(10, lg(2)).toFixed(2)} for a 2+ ion; ` +
+    `one 2+ ion in Q moves E by s·|log10 γ|/n = ${perIonMV.toFixed(1)} mV/n for a couple of n electrons, ` +
+    `and ${what} would move by ${shiftMV >= 0 ? '+' : ''}${shiftMV.toFixed(1)} mV with these coefficients. ${advice}`
+  );
+}
+
+/**
+ * ΔE of a half (as a reduction, E = E° − (s/n) log10 Q) if the activity of each term given
+ * for a charged species (`charges`: key → charge) were multiplied by its γ: −(s/n) Σ ν log10 γ.
+ */
+function gammaShiftV(half: NernstResult, charges: ReadonlyMap<string, number>, log10Gamma: (charge: number) => number): number {
+  let sum = 0;
+  for (const a of half.activities) {
+    const z = charges.get(a.key);
+    if (a.origin !== 'given' || z === undefined || z === 0) continue;
+    sum += (a.side === 'product' ? a.coefficient : -a.coefficient) * log10Gamma(z);
+  }
+  return -(half.slopeV / half.electrons) * sum;
+}
+
+/** Whether a given value entered a half as the activity of a charged dissolved species. */
+function givenCharged(halves: readonly NernstResult[], charges: ReadonlyMap<string, number>): boolean {
+  return halves.some((h) => h.activities.some((a: ActivityUsed) => a.origin === 'given' && (charges.get(a.key) ?? 0) !== 0));
+}
+
+/**
+ * The notes of each half's E° (temperature data extrapolated or missing, ΔG° held, tables that
+ * disagree, a site value, a base-medium form carried), each saying which half it is from; a
+ * note both halves give is given once.
+ */
+function halfNotes(halves: readonly [string, readonly string[]][]): string[] {
+  const from = new Map<string, string[]>();
+  for (const [where, notes] of halves) {
+    for (const n of notes) {
+      const list = from.get(n) ?? [];
+      if (!list.includes(where)) list.push(where);
+      from.set(n, list);
+    }
+  }
+  return [...from].map(([n, where]) => `${where.length > 1 ? 'Both couples' : where[0]}: ${n}`);
 }
 
 function constantsOut(deps: RedoxDeps) {
@@ -237,6 +372,56 @@ function temperatureNote(p: PotentialResult, correction: boolean): string {
   return notes.length ? notes.join(' ') : `E° moved from 25 °C to ${p.temperatureC} °C with the tables' temperature data.`;
 }
 
+/** The pH a couple request is evaluated at, and where it comes from. */
+interface RequestPH {
+  /** undefined: neither a pH nor an H+ or OH- activity was given. */
+  readonly pH: number | undefined;
+  readonly pHNote: string;
+  /** The species key of an H+ or OH- activity that set the pH. */
+  readonly key?: string;
+  readonly note?: string;
+}
+
+/**
+ * The pH of a couple request: the pH given; else the one an H+ activity sets (pH = −log10 a(H+))
+ * or an OH- activity sets through Kw at the temperature (pH = pKw + log10 a(OH-)); else none
+ * (H+ at unit activity, pH 0). With a pH given, an H+ or OH- activity is not used (a note says
+ * so); H+ and OH- both given without a pH are refused, as two settings of one quantity.
+ */
+function pHOfRequest(pH: number | undefined, activities: ReadonlyMap<string, number>, seen: ReadonlyMap<string, GivenAt>, temperatureC: number, deps: RedoxDeps): RequestPH {
+  if (pH !== undefined) return { pH, pHNote: `pH ${pH}: a(H+) = 10^-${pH}` };
+  const [hKey, ohKey] = PH_KEYS;
+  const h = activities.has(hKey) ? seen.get(hKey) : undefined;
+  const oh = activities.has(ohKey) ? seen.get(ohKey) : undefined;
+  if (h === undefined && oh === undefined) return { pH: undefined, pHNote: 'No pH given: H+ at unit activity (pH 0), its standard state.' };
+  if (h !== undefined && oh !== undefined) {
+    throw new DomainError('ACTIVITY_INVALID', {
+      detail: `Activities are given for both ${h.text} and ${oh.text} and no pH: each sets the pH (through Kw), so they are one quantity given twice. Give pH, or one of them.`,
+      fields: [
+        { pointer: h.pointer, message: `sets the pH, as ${oh.pointer} does; give one of them, or pH` },
+        { pointer: oh.pointer, message: `sets the pH, as ${h.pointer} does; give one of them, or pH` },
+      ],
+    });
+  }
+  const g = (h ?? oh)!;
+  const key = h !== undefined ? hKey : ohKey;
+  const a = activities.get(key)!;
+  const pKw = -Math.log10(deps.kwAt(temperatureC));
+  const value = h !== undefined ? -Math.log10(a) : pKw + Math.log10(a);
+  const how = h !== undefined ? 'pH = -log10 a(H+)' : 'pH = pKw + log10 a(OH-)';
+  const kwText = h !== undefined ? '' : ` (pKw = ${pKw.toFixed(3)} at ${temperatureC} °C)`;
+  if (!(value >= 0 && value <= 14)) {
+    const range = h !== undefined ? 'between 1e-14 and 1' : `between ${Math.pow(10, -pKw).toPrecision(3)} and ${Math.pow(10, 14 - pKw).toPrecision(3)}`;
+    throw new DomainError('QUANTITY_OUT_OF_RANGE', {
+      detail: `The activity given for ${g.text} (${a}) sets pH ${value.toFixed(2)} (${how}${kwText}), outside the accepted range 0 to 14.`,
+      params: { pH: value, min: 0, max: 14 },
+      fields: [{ pointer: g.pointer, message: `must be ${range} (pH 0 to 14)` }],
+    });
+  }
+  const text = `No pH given: the activity given for ${g.text} (${a}) sets it, ${how} = ${Number(value.toFixed(4))}${kwText}.`;
+  return { pH: value, pHNote: text, key, note: text };
+}
+
 export interface CoupleInput {
   from: string;
   to: string;
@@ -252,7 +437,22 @@ export interface CoupleInput {
 export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   const ox = parseAt(input.from, '/from', deps);
   const red = parseAt(input.to, '/to', deps);
-  const medium = chooseMedium(input.medium, input.pH);
+  const temperatureC = input.temperatureC ?? 25;
+  // every species given once, under one spelling, across activities and partialPressuresAtm
+  const seen = new Map<string, GivenAt>();
+  const charges = new Map<string, number>();
+  const activities = keyedActivities(input.activities, '/activities', deps, seen, (s) => charges.set(speciesKey(s), s.charge));
+  const pressures = keyedActivities(input.partialPressuresAtm, '/partialPressuresAtm', deps, seen, (s, at) => {
+    if (s.phase !== 'g') {
+      throw new DomainError('ACTIVITY_INVALID', {
+        detail: `${at.text} is given as a partial pressure, which is for a gas: write the gas with (g), e.g. "O2(g)", or give the dissolved species in activities.`,
+        fields: [{ pointer: at.pointer, message: 'a partial pressure only for a gas written with (g)' }],
+      });
+    }
+  });
+  const ph = pHOfRequest(input.pH, activities, seen, temperatureC, deps);
+  for (const k of PH_KEYS) charges.delete(k);
+  const medium = chooseMedium(input.medium, ph.pH);
   // A couple written from the reduced form to the oxidised one is an oxidation: computed as its
   // reduction and reported with the signs of the reaction as written (E°, E and the temperature
   // term change sign on reversal; multiplying a half-reaction leaves them unchanged).
@@ -267,22 +467,23 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   }
   const sign = reversed ? -1 : 1;
   const asWritten = (eq: string) => (reversed ? eq.split(' -> ').reverse().join(' -> ') : eq);
-  const temperatureC = input.temperatureC ?? 25;
   const correction = input.temperatureCorrection ?? true;
   const override = input.standardPotentialV ? siteValue(input.standardPotentialV) : undefined;
   const p = potentialFor(half, deps, { temperatureC, temperatureCorrection: correction, ...(override ? { override } : {}) }, '');
   const e0T = p.standardPotentialAtTemperatureV;
   const atConditions = input.pH !== undefined || input.activities !== undefined || input.partialPressuresAtm !== undefined;
   let n: NernstResult | null = null;
-  const givenActivities = new Map<string, string>();
+  // the notes speak of what was given; an H+ or OH- activity that set the pH is spoken of by ph.note
+  const givenActivities = textsOf(seen);
+  if (ph.key !== undefined) givenActivities.delete(ph.key);
   if (atConditions) {
     n = nernst({
       half,
       standardPotentialV: e0T,
-      pH: input.pH ?? 0,
+      pH: ph.pH ?? 0,
       temperatureC,
-      activities: keyedActivities(input.activities, '/activities', deps, givenActivities),
-      partialPressuresAtm: keyedActivities(input.partialPressuresAtm, '/partialPressuresAtm', deps, givenActivities),
+      activities,
+      partialPressuresAtm: pressures,
       kw: deps.kwAt(temperatureC),
       constants: deps.constants,
       solids: tabledSolids(deps.ledger),
@@ -291,6 +492,21 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   const tc = p.tabledCheck;
   const unitNote = n ? unitActivityNote(n.notGiven, 'Nernst') : null;
   const unusedNotes = n ? [...givenForSolids([n], givenActivities), ...notInEitherHalf([n], givenActivities, 'activity')] : [];
+  const nh = n;
+  const gammaNote =
+    nh && givenCharged([nh], charges)
+      ? gammaOneNote(
+          'The values in activities are used as activities: if they are concentrations in mol/L, the activity coefficients are taken as 1 (this route takes no ionic strength).',
+          temperatureC,
+          nh.slopeV,
+          deps,
+          (lg) => sign * gammaShiftV(nh, charges, lg),
+          'E of this couple',
+          "POST /api/v1/cells/evaluate converts concentrations to activities at the water's ionic strength (ionicStrength, tdsMgPerL or conductanceUSPerCm).",
+        )
+      : null;
+  const pHFree = n !== null && !n.activities.some((a) => a.key === PH_KEYS[0] || a.key === PH_KEYS[1]);
+  const phNote = ph.note && pHFree ? `${ph.note} The half-reaction has neither H+ nor OH-, so the pH does not change E.` : ph.note;
   return {
     couple: { from: input.from, to: input.to },
     halfReaction: asWritten(half.equation),
@@ -305,15 +521,20 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
     tablesStandardPotentialV: p.tablesStandardPotentialV,
     temperatureC,
     temperatureCorrectionV: sign * p.temperatureCorrectionV,
+    waterIonisationShiftV: sign * p.waterIonisationShiftV,
     temperatureNote: temperatureNote(p, correction),
     potentialV: sign * (n ? n.potentialV : e0T),
     nernst: n
       ? {
           slopeV: n.slopeV,
           log10Q: n.log10Q,
-          pH: input.pH ?? 0,
-          pHNote: input.pH === undefined ? 'No pH given: H+ at unit activity (pH 0), its standard state.' : `pH ${input.pH}: a(H+) = 10^-${input.pH}`,
-          activities: n.activities.map((a) => ({ species: a.text, activity: a.activity, origin: a.origin + (a.reason ? ` (${a.reason})` : '') })),
+          pH: ph.pH ?? 0,
+          pHNote: ph.pHNote,
+          activities: n.activities.map((a) => ({
+            species: a.text,
+            activity: a.activity,
+            origin: a.key === ph.key ? 'given (sets the pH)' : a.origin + (a.reason ? ` (${a.reason})` : ''),
+          })),
           unitActivity: [...n.notGiven],
         }
       : null,
@@ -344,7 +565,9 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
         : []),
       ...p.notes,
       ...(unitNote ? [unitNote] : []),
+      ...(phNote && n ? [phNote] : []),
       ...unusedNotes,
+      ...(gammaNote ? [gammaNote] : []),
     ],
     constants: constantsOut(deps),
   };
@@ -434,12 +657,13 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
   const A = deps.daviesAAt(T);
   const activities = new Map<string, number>();
   const pressures = new Map<string, number>();
-  const given = new Map<string, string>(); // species key → the text the caller wrote, for the notes
+  const seen = new Map<string, GivenAt>(); // species key → the text the caller wrote and where, once per species
+  const charges = new Map<string, number>(); // of the dissolved species given, for the activity-coefficient note
   for (const [text, q] of Object.entries(input.concentrations ?? {})) {
-    const pointer = `/concentrations/${text.replace(/~/g, '~0').replace(/\//g, '~1')}`;
+    const pointer = `/concentrations/${pointerToken(text)}`;
     const s = parseAt(text, pointer, deps);
     const key = speciesKey(s);
-    given.set(key, text);
+    noteGiven(seen, key, { text, pointer });
     if ((q.unit === 'atm') !== (s.phase === 'g')) {
       throw new DomainError('ACTIVITY_INVALID', {
         detail:
@@ -470,7 +694,9 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     }
     const gamma = s.charge === 0 ? 1 : daviesGamma(s.charge, I, A);
     activities.set(key, molPerL * gamma);
+    if (key !== PH_KEYS[0] && key !== PH_KEYS[1]) charges.set(key, s.charge);
   }
+  const given = textsOf(seen);
 
   const molarMassRed = (() => {
     try {
@@ -499,6 +725,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     electrons: h.electrons,
     standardPotentialV: p.standardPotentialV,
     temperatureCorrectionV: p.temperatureCorrectionV,
+    waterIonisationShiftV: p.waterIonisationShiftV,
     standardPotentialAtTemperatureV: p.standardPotentialAtTemperatureV,
     potentialV: n.potentialV,
     valueUsed: p.usedValue,
@@ -515,6 +742,21 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     const note = unitActivityNote(half.notGiven, where);
     if (note) notes.push(note);
   }
+  notes.push(...halfNotes([['Oxidant couple', pOx.notes], ['Reductant couple', pRed.notes]]).map(asciiText));
+  if (iBasis === 'none' && givenCharged([cell.oxidant, cell.reductant], charges)) {
+    notes.push(
+      asciiText(gammaOneNote(
+        'No ionicStrength, tdsMgPerL or conductanceUSPerCm given: activity coefficients taken as 1 (activities equal to the concentrations).',
+        T,
+        cell.slopeV,
+        deps,
+        (lg) => gammaShiftV(cell.oxidant, charges, lg) - gammaShiftV(cell.reductant, charges, lg),
+        "this cell's E",
+        "Give one of those fields for activities at the water's ionic strength.",
+      )),
+    );
+  }
+  if (res) notes.push(res.note);
   if (res && (cell.oxidant.notGiven.length > 0 || cell.reductant.notGiven.length > 0)) {
     notes.push(
       'The equilibrium residual holds every other activity where it is, including those taken at unit activity (1 mol/L): ' +

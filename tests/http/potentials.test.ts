@@ -5,6 +5,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import fc from 'fast-check';
 import { buildApp } from '../../src/http/app.js';
+import { asciiText } from '../../src/water/redox-service.js';
 
 let app: FastifyInstance;
 beforeAll(async () => {
@@ -80,6 +81,23 @@ describe('POST /api/v1/couples/potential', () => {
     expect(on.temperatureCorrectionV).not.toBe(0);
   });
 
+  it.each([true, false])('Fe(OH)3/Fe2+ at pH 7.5 and 5 °C, correction %s: the same E whether written with H+ or OH-', async (temperatureCorrection) => {
+    // E_base = E°_base(T) − 3·s(T)·(pH − pKw(T)) and E_acid = E°_acid(T) − 3·s(T)·pH agree only if the base form's E° is
+    // carried by Kw at the water's temperature; the correction switch holds the tables' dE°/dT terms, not the water's Kw
+    const body = { from: 'Fe(OH)3', to: 'Fe2+', pH: 7.5, temperatureC: 5, temperatureCorrection };
+    const acid = (await post('/api/v1/couples/potential', { ...body, medium: 'acid' })).json();
+    const base = (await post('/api/v1/couples/potential', { ...body, medium: 'base' })).json();
+    expect(base.potentialV).toBeCloseTo(acid.potentialV, 9);
+    expect(base.temperatureCorrectionV).toBeCloseTo(acid.temperatureCorrectionV, 12);
+    expect(base.waterIonisationShiftV).not.toBe(0);
+    expect(acid.waterIonisationShiftV).toBe(0);
+    // and no jump across pH 7, where the medium changes: 3·s(5 °C)·0.002 = 0.33 mV between pH 6.999 and 7.001
+    const below = (await post('/api/v1/couples/potential', { ...body, pH: 6.999 })).json();
+    const above = (await post('/api/v1/couples/potential', { ...body, pH: 7.001 })).json();
+    const s5 = (8.314462618 * 278.15 * Math.LN10) / 96485.33212;
+    expect(below.potentialV - above.potentialV).toBeCloseTo(3 * s5 * 0.002, 6);
+  });
+
   it('a couple the tables cannot give is a 422 saying what to do', async () => {
     const r = await post('/api/v1/couples/potential', { from: 'UO2^2+', to: 'U4+' });
     expect(r.statusCode).toBe(422);
@@ -130,10 +148,11 @@ describe('errors name the fields the request has', () => {
   });
 
   it('an underivable couple points at the whole request; a cell at /oxidant', async () => {
-    const none = await post('/api/v1/couples/potential', { from: 'HAsO4^2-', to: 'H3AsO3' });
+    // selenate/selenite: no row of the tables holds selenium
+    const none = await post('/api/v1/couples/potential', { from: 'SeO4^2-', to: 'SeO3^2-' });
     expect(none.statusCode).toBe(422);
     expect(none.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(['']);
-    const cell = (await post('/api/v1/cells/evaluate', { oxidant: { from: 'HAsO4^2-', to: 'H3AsO3' }, reductant: { from: 'Fe2+', to: 'Fe3+' }, pH: 5, temperatureC: 20 })).json();
+    const cell = (await post('/api/v1/cells/evaluate', { oxidant: { from: 'SeO4^2-', to: 'SeO3^2-' }, reductant: { from: 'Fe2+', to: 'Fe3+' }, pH: 5, temperatureC: 20 })).json();
     expect(cell.errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/oxidant']);
   });
 
@@ -341,7 +360,7 @@ describe('POST /api/v1/cells/evaluate', () => {
   it('each half reports E°(T), the value Nernst started from: E°(25 °C) plus the temperature term', async () => {
     const b = (await post('/api/v1/cells/evaluate', { ...MN_CELL, temperatureC: 8 })).json();
     for (const h of [b.halfReactions.oxidant, b.halfReactions.reductant]) {
-      expect(h.standardPotentialAtTemperatureV).toBeCloseTo(h.standardPotentialV + h.temperatureCorrectionV, 12);
+      expect(h.standardPotentialAtTemperatureV).toBeCloseTo(h.standardPotentialV + h.temperatureCorrectionV + h.waterIonisationShiftV, 12);
     }
     expect(b.standardCellPotentialAtTemperatureV).toBeCloseTo(b.halfReactions.oxidant.standardPotentialAtTemperatureV - b.halfReactions.reductant.standardPotentialAtTemperatureV, 12);
     // standardCellPotentialV is at 25 °C, as each half's standardPotentialV
@@ -448,5 +467,178 @@ describe('GET /api/v1/tables/potentials', () => {
     const e = b.entries.find((x: { rowId: string }) => x.rowId === 'crc-mno4-mno2-acid');
     expect(e.flagged).toBe(true);
     expect(Math.abs(e.discrepancyMV)).toBeGreaterThan(5);
+  });
+});
+
+describe('one value per species, under one spelling', () => {
+  it.each([
+    // couples: two spellings of Fe2+ (the ^ charge form, and (aq), which is not part of the key: src/chemistry/formula/format.ts)
+    ['/api/v1/couples/potential', { from: 'Fe(OH)3', to: 'Fe2+', pH: 7, activities: { 'Fe2+': 1e-5, 'Fe^2+': 1e-3 } }, ['/activities/Fe2+', '/activities/Fe^2+']],
+    ['/api/v1/couples/potential', { from: 'Fe3+', to: 'Fe2+', activities: { 'Fe2+(aq)': 1e-5, 'Fe2+': 1e-3 } }, ['/activities/Fe2+(aq)', '/activities/Fe2+']],
+    // a gas in both maps
+    ['/api/v1/couples/potential', { from: 'O2(g)', to: 'H2O', pH: 7, activities: { 'O2(g)': 0.2 }, partialPressuresAtm: { 'O2(g)': 0.21 } }, ['/activities/O2(g)', '/partialPressuresAtm/O2(g)']],
+    ['/api/v1/cells/evaluate', { ...MN_CELL, concentrations: { 'Mn2+': { value: 0.4, unit: 'mg/L' }, 'Mn^2+(aq)': { value: 0.1, unit: 'mg/L' } } }, ['/concentrations/Mn2+', '/concentrations/Mn^2+(aq)']],
+  ])('%s %j is a 400 naming both keys', async (url, body, pointers) => {
+    const r = await post(url, body);
+    expect(r.statusCode).toBe(400);
+    const b = r.json();
+    expect(b.code).toBe('ACTIVITY_INVALID');
+    expect(b.errors.map((e: { pointer: string }) => e.pointer)).toEqual(pointers);
+    expect(b.detail).toMatch(/are the same species/);
+  });
+
+  it('either key order gives the same refusal (no value wins by position)', async () => {
+    const cell = { oxidant: { from: 'HOCl', to: 'Cl-' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH: 7, temperatureC: 15 };
+    const a = await post('/api/v1/cells/evaluate', { ...cell, concentrations: { 'Fe2+': { value: 1, unit: 'mg/L' }, 'Fe2+(aq)': { value: 0.01, unit: 'mg/L' } } });
+    const b = await post('/api/v1/cells/evaluate', { ...cell, concentrations: { 'Fe2+(aq)': { value: 0.01, unit: 'mg/L' }, 'Fe2+': { value: 1, unit: 'mg/L' } } });
+    expect([a.statusCode, b.statusCode]).toEqual([400, 400]);
+    expect(new Set(a.json().errors.map((e: { pointer: string }) => e.pointer))).toEqual(new Set(b.json().errors.map((e: { pointer: string }) => e.pointer)));
+  });
+
+  it('a partial pressure for a species that is not a gas is refused, as atm is on the cell route', async () => {
+    const r = await post('/api/v1/couples/potential', { from: 'Fe3+', to: 'Fe2+', partialPressuresAtm: { 'Fe2+': 0.2 } });
+    expect(r.statusCode).toBe(400);
+    expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/partialPressuresAtm/Fe2+']);
+  });
+});
+
+describe('the equilibrium residual only where the reaction runs', () => {
+  it('Fe3+/Fe2+ against Mn2+/MnO2 at pH 2: not feasible, so no residual, and the note says why', async () => {
+    const body = {
+      oxidant: { from: 'Fe3+', to: 'Fe2+' },
+      reductant: { from: 'Mn2+', to: 'MnO2' },
+      pH: 2,
+      temperatureC: 25,
+      concentrations: { 'Fe3+': { value: 1, unit: 'mg/L' }, 'Fe2+': { value: 0.01, unit: 'mg/L' }, 'Mn2+': { value: 0.3, unit: 'mg/L' } },
+    };
+    const b = (await post('/api/v1/cells/evaluate', body)).json();
+    // Hand arithmetic, CRC 97th ed. E° Fe3+/Fe2+ 0.771 V and MnO2/Mn2+ 1.224 V, γ = 1 (no ionic strength given):
+    //   E(ox)  = 0.771 − s·log10(a(Fe2+)/a(Fe3+)) = 0.771 + 2s (same molar mass, 0.01/1)
+    //   E(red) = 1.224 − (s/2)·log10(a(Mn2+)/a(H+)^4), a(Mn2+) = 0.3e-3 g/L ÷ 54.938 g/mol (tables/atomic-weights.json)
+    const s = b.slopeV;
+    const eRed = 1.224 - (s / 2) * (Math.log10(0.3e-3 / 54.938) + 8);
+    expect(b.cellPotentialV).toBeCloseTo(0.771 + 2 * s - eRed, 4);
+    expect(b.cellPotentialV).toBeLessThan(0);
+    expect(b.feasible).toBe(false);
+    expect(b.equilibriumResidual).toBeNull();
+    expect(b.notes.join(' ')).toMatch(/No equilibrium residual: the reaction does not proceed at these conditions .*so Mn2\+ stays at the level given/);
+    expect(b.notes.join(' ')).not.toMatch(/thermodynamic floor/);
+  });
+
+  it('when feasible the residual comes with the note that every other activity is held (no mass balance)', async () => {
+    const b = (await post('/api/v1/cells/evaluate', MN_CELL)).json();
+    expect(b.feasible).toBe(true);
+    expect(b.equilibriumResidual.species).toBe('Mn2+');
+    expect(b.notes.join(' ')).toMatch(/every other activity held where it is \(no mass balance/);
+  });
+});
+
+describe('activity coefficients of 1 are said, with what they mean', () => {
+  /** The mV figure a note gives for "would move by ±x mV". */
+  const movedMV = (notes: string[]) => Number(/would move by ([+-][0-9.]+) mV/.exec(notes.join(' '))?.[1]);
+
+  it('cells: without ionicStrength, TDS or conductance the note gives the shift that 300 mg/L TDS would cause, and that shift is what the route computes with it', async () => {
+    const none = (await post('/api/v1/cells/evaluate', MN_CELL)).json();
+    const tds = (await post('/api/v1/cells/evaluate', { ...MN_CELL, tdsMgPerL: 300 })).json();
+    expect(none.activity.ionicStrengthBasis).toBe('none');
+    expect(none.notes.join(' ')).toMatch(/activity coefficients taken as 1/);
+    expect(tds.notes.join(' ')).not.toMatch(/activity coefficients taken as 1/);
+    // the note's example water is the one tdsMgPerL 300 gives (Langelier 1936, I = 2.5e-5 × 300 = 0.0075 mol/L), so its
+    // figure is the difference of the two answers, to the 0.1 mV the note prints
+    expect(Math.abs(movedMV(none.notes) - (tds.cellPotentialV - none.cellPotentialV) * 1000)).toBeLessThan(0.051);
+    // and its γ of a 2+ ion is Davies' at that I with the route's own A: log γ = −A·4·(√I/(1+√I) − 0.3 I) (Davies 1962)
+    const I = tds.activity.ionicStrength;
+    const g2 = Math.pow(10, -tds.activity.daviesA * 4 * (Math.sqrt(I) / (1 + Math.sqrt(I)) - 0.3 * I));
+    expect(none.notes.join(' ')).toContain(`${g2.toFixed(2)} for a 2+ ion`);
+    // typical fresh water: γ(2+) near 0.7 (common practice)
+    expect(g2).toBeGreaterThan(0.6);
+    expect(g2).toBeLessThan(0.8);
+  });
+
+  it('couples: activities of ions taken as given; the note gives what γ(2+) at 300 mg/L TDS would change: −s·log10 γ for Fe2+ (ν = 1, n = 1)', async () => {
+    const b = (await post('/api/v1/couples/potential', { from: 'Fe(OH)3', to: 'Fe2+', pH: 7, activities: { 'Fe2+': 1e-5 } })).json();
+    const tds = (await post('/api/v1/cells/evaluate', { ...MN_CELL, tdsMgPerL: 300 })).json();
+    const I = tds.activity.ionicStrength;
+    const log10G2 = -tds.activity.daviesA * 4 * (Math.sqrt(I) / (1 + Math.sqrt(I)) - 0.3 * I);
+    // E = E° − s·log10(a(Fe2+)/a(H+)^3): a(Fe2+) × γ lowers Q and raises E by −s·log10 γ (about 9 mV at 25 °C)
+    expect(movedMV(b.notes)).toBeCloseTo(-b.nernst.slopeV * log10G2 * 1000, 1);
+    expect(b.notes.join(' ')).toMatch(/if they are concentrations in mol\/L, the activity coefficients are taken as 1/);
+    // no ion given, no note: a gas pressure has no activity coefficient
+    const o2 = (await post('/api/v1/couples/potential', { from: 'O2(g)', to: 'H2O', pH: 7, partialPressuresAtm: { 'O2(g)': 0.21 } })).json();
+    expect(o2.notes.join(' ')).not.toMatch(/activity coefficients/);
+  });
+});
+
+describe('the cell carries each half-reaction\'s notes on E°', () => {
+  it('HOCl/Cl- with Fe2+/Fe(OH)3 at pH 7 and 99 °C: the temperature caveats of both couples, each named by its half, in ASCII', async () => {
+    const cell = await post('/api/v1/cells/evaluate', { oxidant: { from: 'HOCl', to: 'Cl-' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH: 7, temperatureC: 99 });
+    expect(cell.statusCode).toBe(200);
+    expect(cell.body).toMatch(/^[\x20-\x7e]*$/);
+    const notes: string[] = cell.json().notes;
+    // each couple on its own (as reductions): its notes on E° at 99 °C (temperature data extrapolated, missing, ΔG° held)
+    const ox = (await post('/api/v1/couples/potential', { from: 'HOCl', to: 'Cl-', pH: 7, temperatureC: 99 })).json();
+    const red = (await post('/api/v1/couples/potential', { from: 'Fe(OH)3', to: 'Fe2+', pH: 7, temperatureC: 99 })).json();
+    const onE0 = (n: string) => /dE°\/dT|held at|ΔG°/.test(n);
+    expect(ox.notes.filter(onE0).length).toBeGreaterThan(0);
+    expect(red.notes.filter(onE0).length).toBeGreaterThan(0);
+    for (const [where, couple] of [['Oxidant couple', ox], ['Reductant couple', red]] as const) {
+      for (const n of couple.notes.filter(onE0)) expect(notes).toContain(`${where}: ${asciiText(n)}`);
+    }
+  });
+
+  it('a note both halves give is given once, for both', async () => {
+    const b = (await post('/api/v1/cells/evaluate', { ...MN_CELL, temperatureC: 8 })).json();
+    const notes: string[] = b.notes;
+    expect(new Set(notes).size).toBe(notes.length);
+    // both couples are written with OH- at pH 7.2, each with E° carried from its acid form (DEVELOPERS.md, reference data, step 5)
+    expect(notes.filter((n) => /carried from its acid form/.test(n))).toEqual([expect.stringMatching(/^Both couples: /)]);
+  });
+});
+
+describe('H+ or OH- given as an activity on the couple route', () => {
+  const fe = { from: 'Fe(OH)3', to: 'Fe2+' };
+
+  it('with no pH, a(H+) sets it: the same answer as the pH, and the note says where the pH came from', async () => {
+    const byH = (await post('/api/v1/couples/potential', { ...fe, activities: { 'H+': 1e-9, 'Fe2+': 1e-5 } })).json();
+    const byPH = (await post('/api/v1/couples/potential', { ...fe, pH: 9, activities: { 'Fe2+': 1e-5 } })).json();
+    expect(byH.nernst.pH).toBeCloseTo(9, 12); // pH = −log10 a(H+)
+    expect(byH.medium).toBe(byPH.medium); // base above pH 7, from the pH the activity sets
+    expect(byH.potentialV).toBeCloseTo(byPH.potentialV, 12);
+    expect(byH.nernst.pHNote).toMatch(/No pH given: the activity given for H\+ \(1e-9\) sets it/);
+    expect(byH.notes.join(' ')).not.toMatch(/set by the pH/);
+    expect(byH.nernst.activities.find((a: { species: string }) => a.species === 'H+')?.origin ?? 'given (sets the pH)').toBe('given (sets the pH)');
+  });
+
+  it('with no pH, a(OH-) sets it through Kw at the temperature: pH = pKw + log10 a(OH-)', async () => {
+    const b = (await post('/api/v1/couples/potential', { ...fe, activities: { 'OH-': 1e-4, 'Fe2+': 1e-5 } })).json();
+    // pKw(25 °C) = 13.995 (Harned & Owen 1958, from memory): pH = 13.995 − 4 ≈ 9.995
+    expect(b.nernst.pH).toBeCloseTo(9.995, 2);
+    const same = (await post('/api/v1/couples/potential', { ...fe, pH: b.nernst.pH, activities: { 'Fe2+': 1e-5 } })).json();
+    expect(b.potentialV).toBeCloseTo(same.potentialV, 12);
+    expect(b.nernst.pHNote).toMatch(/pH = pKw \+ log10 a\(OH-\)/);
+  });
+
+  it('H+ that does not enter the half-reaction still sets the reported pH, and the note says it does not change E', async () => {
+    const b = (await post('/api/v1/couples/potential', { from: 'Fe3+', to: 'Fe2+', activities: { 'H+': 0.1, 'Fe2+': 1e-3 } })).json();
+    expect(b.nernst.pH).toBeCloseTo(1, 12);
+    // Fe3+ + e- → Fe2+, a(Fe3+) = 1 (not given): E = 0.771 − s·log10 1e-3 = 0.771 + 3s (CRC 97th ed.)
+    expect(b.potentialV).toBeCloseTo(0.771 + 3 * b.nernst.slopeV, 12);
+    expect(b.notes.join(' ')).toMatch(/neither H\+ nor OH-, so the pH does not change E/);
+  });
+
+  it.each([
+    [{ activities: { 'H+': 1e-7, 'OH-': 1e-7 } }, ['/activities/H+', '/activities/OH-'], 400],
+    [{ activities: { 'H+': 10 } }, ['/activities/H+'], 400], // pH −1, outside 0–14
+    [{ activities: { 'H+': 1e-15 } }, ['/activities/H+'], 400], // pH 15
+  ])('%j is refused, naming %j', async (extra, pointers, status) => {
+    const r = await post('/api/v1/couples/potential', { ...fe, ...extra });
+    expect(r.statusCode).toBe(status);
+    expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(pointers);
+  });
+
+  it('with a pH given, the pH governs and the note says the H+ value was not used (as on the cell route)', async () => {
+    const b = (await post('/api/v1/couples/potential', { ...fe, pH: 7, activities: { 'H+': 0.1 } })).json();
+    expect(b.nernst.pH).toBe(7);
+    expect(b.notes.join(' ')).toMatch(/H\+ is set by the pH; the activity given for it was not used/);
   });
 });

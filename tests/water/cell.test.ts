@@ -144,6 +144,35 @@ describe('equilibrium residual of the reductant', () => {
     expect(r.reductantResidual!.log10Activity).toBeCloseTo(-5 - r.cellPotentialV / s25, 9);
   });
 
+  it('is null, with the reason, when the reaction does not proceed (E ≤ 0): the reductant stays as given', () => {
+    // Hand arithmetic at pH 0 (a(H+) = 1), pO2 = 0.21 atm, a(Fe2+) = 1e-5:
+    //   E(O2/H2O)       = 1.229 + (s/4)·log10 0.21          (O2 + 4H+ + 4e- → 2H2O)
+    //   E(Fe(OH)3/Fe2+) = 0.947 − s·log10 1e-5 = 0.947 + 5s (Fe(OH)3 + 3H+ + e- → Fe2+ + 3H2O)
+    //   E = 0.282 + (s/4)·log10 0.21 − 5s = 0.282 − 0.0100 − 0.2958 = −0.0238 V < 0
+    const r = evaluateCell({ ...o2Fe, pH: 0 });
+    const e = 0.282 + (s25 / 4) * Math.log10(0.21) - 5 * s25;
+    expect(r.cellPotentialV).toBeCloseTo(e, 12);
+    expect(e).toBeLessThan(0);
+    expect(r.feasible).toBe(false);
+    expect(r.reductantResidual).toBeNull();
+    expect(r.reductantResidualReason).toMatch(/does not proceed at these conditions/);
+    expect(r.reductantResidualReason).toMatch(/Fe2\+ stays at the level given/);
+    // Fe2+ not given (unit activity) against a test E° of 1.3 V: E = 1.229 + (s/4)·log10 0.21 − 1.3 < 0 at pH 0; the reason says it was not given
+    const unit = evaluateCell({ ...o2Fe, pH: 0, activities: {}, reductantE0V: 1.3 });
+    expect(unit.cellPotentialV).toBeCloseTo(1.229 + (s25 / 4) * Math.log10(0.21) - 1.3, 12);
+    expect(unit.reductantResidual).toBeNull();
+    expect(unit.reductantResidualReason).toMatch(/taken at unit activity/);
+  });
+
+  it('when feasible its note says every other activity is held (no mass balance)', () => {
+    // at pH 0.5 the same cell is feasible: E = −0.0238 + 2s·0.5 = +0.0354 V (the cell gains 2s per pH unit: 3s − s)
+    const r = evaluateCell({ ...o2Fe, pH: 0.5 });
+    expect(r.cellPotentialV).toBeCloseTo(0.282 + (s25 / 4) * Math.log10(0.21) - 5 * s25 + s25, 12);
+    expect(r.feasible).toBe(true);
+    expect(r.reductantResidual!.note).toMatch(/every other activity held where it is \(no mass balance/);
+    expect(r.reductantResidualReason).toBeUndefined();
+  });
+
   it('is null, with a reason, when the reduced form is a solid or water', () => {
     // reductant written as a reduction whose reduced form is water: H2O2 + 2H+ + 2e- → 2H2O
     const h2o2 = explicitHalf([[1, 'H2O2'], [2, 'H+'], [2, 'e-']], [[2, 'H2O']]);

@@ -87,6 +87,12 @@ export interface PotentialResult {
   readonly temperatureC: number;
   /** E°(T) − E°(25 °C) of the reduction from the tables' temperature data (0 when turned off). */
   readonly temperatureCorrectionV: number;
+  /**
+   * For a half-reaction written with OH- whose E° is carried from its acid form: the change of
+   * that carry (water's ionisation) between 25 °C and the temperature; 0 otherwise. Applied
+   * whether or not the temperature correction of E° is on, so that both forms give one potential.
+   */
+  readonly waterIonisationShiftV: number;
   readonly standardPotentialAtTemperatureV: number;
   readonly derivation: readonly DerivationStep[];
   readonly usedValue: 'tabled' | 'derived' | 'override';
@@ -481,7 +487,7 @@ const WATER_IONISATION: ReactionVector = new Map([
  * from the ledger, plus the water ionisation steps: null when the target has no OH-, the
  * acid form is not derivable, or the acid form itself comes back to the target's own row.
  */
-function acidFormCombination(target: ReactionVector, ledger: Ledger): Combination | null {
+function acidFormCombination(target: ReactionVector, ledger: Ledger): { combination: Combination; carry: CombinationPart } | null {
   const oh = target.get(KEY_HYDROXIDE);
   if (!oh || oh.isZero()) return null;
   const acid = new Map<string, Rational>();
@@ -500,13 +506,14 @@ function acidFormCombination(target: ReactionVector, ledger: Ledger): Combinatio
   const kw = waterIonisation(ledger);
   if (!kw) return null;
   const byRow = new Map<string, CombinationPart>();
-  for (const p of [...acidDerived.combination.parts, { row: kw.row, coefficient: oh.mul(kw.perUnit) }]) {
+  const carry: CombinationPart = { row: kw.row, coefficient: oh.mul(kw.perUnit) };
+  for (const p of [...acidDerived.combination.parts, carry]) {
     const had = byRow.get(p.row.id);
     byRow.set(p.row.id, { row: p.row, coefficient: had ? had.coefficient.add(p.coefficient) : p.coefficient });
   }
   const parts = [...byRow.values()].filter((p) => !p.coefficient.isZero());
   if (parts.some((p) => p.row.classKey === targetClass)) return null;
-  return combinationOf(parts, ledger);
+  return { combination: combinationOf(parts, ledger), carry };
 }
 
 /** Keys of the classes of redox rows written with OH- (cached per ledger). */
@@ -558,6 +565,26 @@ function siteValueShiftV(target: ReactionVector, valueMedium: 'acid' | 'base', l
   return reductionPotentialV(gKw, e) * c.toNumber();
 }
 
+/** parts less one part (same row, coefficient subtracted; dropped at zero). */
+function withoutPart(parts: readonly CombinationPart[], less: CombinationPart): CombinationPart[] {
+  return parts
+    .map((p) => (p.row.id === less.row.id ? { row: p.row, coefficient: p.coefficient.sub(less.coefficient) } : p))
+    .filter((p) => !p.coefficient.isZero());
+}
+
+/**
+ * The water-ionisation part between a target written with OH- and its acid form, for a site
+ * value on the acid basis (a site value is held at 25 °C as its acid-form equivalent, whichever
+ * form it was given for): null without a site value, on another basis, or without OH-.
+ */
+function siteCarryPart(target: ReactionVector, options: PotentialOptions, ledger: Ledger): CombinationPart | null {
+  if (!options.override || options.basis !== 'acid') return null;
+  const oh = target.get(KEY_HYDROXIDE);
+  if (!oh || oh.isZero()) return null;
+  const kw = waterIonisation(ledger);
+  return kw ? { row: kw.row, coefficient: oh.mul(kw.perUnit) } : null;
+}
+
 function combinationOf(parts: readonly CombinationPart[], ledger: Ledger): Combination {
   let exact = Rational.ZERO;
   let float = 0;
@@ -581,7 +608,8 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
   const comboV = (c: Combination): number => reductionPotentialV(c, e);
 
   const asWritten = deriveCombination(vector, ledger);
-  const viaAcid = options.basis === 'acid' ? acidFormCombination(vector, ledger) : null;
+  const acidForm = options.basis === 'acid' ? acidFormCombination(vector, ledger) : null;
+  const viaAcid = acidForm?.combination ?? null;
   const derived: DerivedCombination | null = viaAcid
     ? { combination: viaAcid, alternatives: asWritten ? [{ combination: asWritten.combination, differs: asWritten.tabled ? 'the base-medium row as tabled' : 'the base-medium reaction derived as written' }, ...asWritten.alternatives] : [], tabled: false }
     : asWritten;
@@ -634,12 +662,28 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
     }
     if (temperatureC !== 25 && options.temperatureCorrection !== false) {
       const T = ledger.constants.T0 + temperatureC;
-      const atT = combinationG(combo.parts, ledger, T);
-      correction = toReductionV(atT.g) - tablesV;
+      // A base-medium form is its acid form plus water ionisation: the correction is the acid
+      // form's (what the tables' dE°/dT and ΔH° give); water's Kw at the temperature is carried
+      // separately (kwCarryV), so that turning the correction off holds the same E° in both forms.
+      const parts = acidForm ? withoutPart(combo.parts, acidForm.carry) : combo.parts;
+      const atT = combinationG(parts, ledger, T);
+      correction = toReductionV(atT.g - combinationG(parts, ledger, ledger.constants.T25).g);
       notes.push(...atT.notes);
     }
   }
   if (temperatureC !== 25 && options.temperatureCorrection === false) notes.push('Temperature correction of E° turned off by the request.');
+  // The base-medium form at the temperature: its acid form's E° carried through Kw at the water's
+  // temperature (the pH scale of that water), whether or not the E° itself is corrected.
+  const carry = acidForm?.carry ?? siteCarryPart(vector, options, ledger);
+  let kwCarryV = 0;
+  if (carry && temperatureC !== 25) {
+    const T = ledger.constants.T0 + temperatureC;
+    const g = (K: number) => combinationG([carry], ledger, K).g;
+    kwCarryV = toReductionV(g(T) - g(ledger.constants.T25));
+    notes.push(
+      `Water's ionisation at ${temperatureC} °C moves the E° of this base-medium form by ${(kwCarryV * 1000).toFixed(1)} mV from its 25 °C value (Kw at the water's temperature; not part of the temperature correction of E°).`,
+    );
+  }
 
   let usedV: number;
   let usedValue: PotentialResult['usedValue'];
@@ -676,7 +720,8 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
     log10K: gAsWritten / k25,
     temperatureC,
     temperatureCorrectionV: correction,
-    standardPotentialAtTemperatureV: usedV + correction,
+    waterIonisationShiftV: kwCarryV,
+    standardPotentialAtTemperatureV: usedV + correction + kwCarryV,
     derivation,
     usedValue,
     ...(tabledCheck ? { tabledCheck } : {}),

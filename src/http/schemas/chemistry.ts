@@ -62,11 +62,14 @@ export const DerivationStep = z.object({
 export const PotentialBody = z.strictObject({
   from: Formula.describe('Oxidised form'),
   to: Formula.describe('Reduced form'),
-  pH: PH.optional(),
+  pH: PH.optional().describe('pH (0–14); without it an H+ or OH- entry in activities sets the pH, else H+ is at unit activity (pH 0)'),
   temperatureC: TemperatureC.optional(),
   medium: Medium.optional(),
-  activities: z.record(z.string(), z.number().gt(0)).optional().describe('Activities (or mol/L) by species formula; unit activity otherwise'),
-  partialPressuresAtm: z.record(z.string(), z.number().gt(0)).optional(),
+  activities: z
+    .record(z.string(), z.number().gt(0))
+    .optional()
+    .describe('Activities by species formula, each species once (two spellings of one species are refused); mol/L are taken with activity coefficients of 1; unit activity otherwise'),
+  partialPressuresAtm: z.record(z.string(), z.number().gt(0)).optional().describe('Partial pressures (atm) of gases written with (g); a gas is given here or in activities, not both'),
   standardPotentialV: z
     .strictObject({
       value: z.number().min(-4).max(4),
@@ -100,7 +103,12 @@ export const PotentialResponse = z.object({
     .nullable(),
   tablesStandardPotentialV: z.number().nullable().describe('What the tables give, whatever value was used'),
   temperatureC: z.number(),
-  temperatureCorrectionV: z.number().describe('E°(T) − E°(25 °C) from the tables’ dE°/dT and log K(T) data; 0 where none'),
+  temperatureCorrectionV: z
+    .number()
+    .describe('E°(T) − E°(25 °C) of the couple written with H+ (its acid form), from the tables’ dE°/dT and log K(T) data; 0 where none or when turned off'),
+  waterIonisationShiftV: z
+    .number()
+    .describe('For a couple written with OH-: the change of its E° carried from the acid form by Kw between 25 °C and the water temperature, applied whether or not the correction is on, so that both forms give one potential; 0 otherwise'),
   temperatureNote: z.string(),
   potentialV: z.number().describe('E at the given pH, temperature and activities; E°(T) without them'),
   nernst: z
@@ -143,7 +151,10 @@ export const CellBody = z.strictObject({
   reductant: CoupleSchema.describe('Reductant couple: from the reduced form to the oxidised form'),
   pH: PH,
   temperatureC: TemperatureC,
-  concentrations: z.record(z.string(), ConcentrationIn).optional().describe('Concentrations by species formula (atm for gases); others at unit activity'),
+  concentrations: z
+    .record(z.string(), ConcentrationIn)
+    .optional()
+    .describe('Concentrations by species formula (atm for gases), each species once (two spellings of one species are refused); others at unit activity'),
   ionicStrength: z.number().min(0).max(0.5).optional().describe('mol/L; Davies activity coefficients are used up to 0.5'),
   tdsMgPerL: z.number().min(0).max(20000).optional().describe('Total dissolved solids, to estimate ionic strength (Langelier 1936)'),
   conductanceUSPerCm: z
@@ -163,8 +174,9 @@ const HalfAtConditions = z.object({
   equation: z.string().describe('The couple completed as a reduction in the medium (plain text)'),
   electrons: z.number().int(),
   standardPotentialV: z.number().describe('E° at 25 °C of the half-reaction as written (the value used)'),
-  temperatureCorrectionV: z.number().describe('E°(T) − E°(25 °C); E°(T) is the sum of the two'),
-  standardPotentialAtTemperatureV: z.number().describe('E°(T), the standard potential the Nernst equation started from'),
+  temperatureCorrectionV: z.number().describe('E°(T) − E°(25 °C) of the couple’s acid form, from the tables’ temperature data'),
+  waterIonisationShiftV: z.number().describe('For a couple written with OH-: the change of Kw between 25 °C and the water temperature, in V; 0 otherwise'),
+  standardPotentialAtTemperatureV: z.number().describe('E°(T) = standardPotentialV + temperatureCorrectionV + waterIonisationShiftV, the standard potential the Nernst equation started from'),
   potentialV: z.number().describe('E at the sample pH, temperature and activities'),
   valueUsed: z.enum(['tabled', 'derived', 'override']),
   derivation: z
@@ -198,7 +210,8 @@ export const CellResponse = z.object({
     .nullable()
     .describe(
       'Thermodynamic floor of the reductant: its level where E reaches 0 V with every other activity held; ' +
-        'kinetics usually stop the reaction well before it. Null when none applies (the reason is in notes)',
+        'kinetics usually stop the reaction well before it. Null when none applies, and when feasible is false (the reaction does not run, ' +
+        'so the reductant stays as given); the reason is in notes',
     ),
   activity: z
     .object({
