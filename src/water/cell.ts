@@ -262,8 +262,7 @@ function equilibriumResidual(
       molPerL,
       mgPerL: M === undefined ? null : molPerL * M * 1000,
       note:
-        `Equilibrium residual of ${reduced.text}: a thermodynamic floor, the level at which E would reach 0 V with every other activity held where it is ` +
-        `(no mass balance: the oxidant used up and the products formed are not followed); kinetics usually stop the reaction well before it.` +
+        `Equilibrium residual of ${reduced.text}: where E reaches 0 V with every other activity held (no mass balance); kinetics usually stop the reaction well before it.` +
         (heldAtUnit ? ` ${reduced.text} was at unit activity (not given) in the cell evaluation.` : ''),
     },
   };

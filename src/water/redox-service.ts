@@ -13,7 +13,7 @@ import type { Dec } from '../core/decimal.js';
 import { parseFormula, speciesKey, formatEquationUnicode } from '../chemistry/formula/index.js';
 import type { Species } from '../chemistry/formula/types.js';
 import { balanceRedox, halfReaction, mediumForPH, type HalfReaction, type Medium } from '../chemistry/balance/index.js';
-import { standardPotential, type PotentialResult, type DerivationStep, type SiteValue } from '../chemistry/thermo/derive.js';
+import { CARRIED_FROM_ACID_NOTE, standardPotential, type PotentialResult, type DerivationStep, type SiteValue } from '../chemistry/thermo/derive.js';
 import type { Ledger } from '../chemistry/thermo/ledger.js';
 import { nernst, type ActivityUsed, type NernstResult } from './conditions.js';
 import { evaluateCell } from './cell.js';
@@ -266,25 +266,6 @@ function keyedActivities(
 /** key → the text the caller wrote, for the notes. */
 function textsOf(seen: ReadonlyMap<string, GivenAt>): Map<string, string> {
   return new Map([...seen].map(([k, g]) => [k, g.text]));
-}
-
-/**
- * The cell route answers in ASCII (its reactions in the notation the parser reads, and a lean
- * body, see CellResponse): the notes it carries from the E° derivations are written with these
- * plain spellings; any other character outside ASCII is named by its code point.
- */
-const ASCII_SPELLINGS: readonly [string, string][] = [
-  [' °C', ' degC'], ['°C', 'degC'], ['°', '0'], ['Δ', 'Delta'], ['γ', 'gamma'], ['ε', 'epsilon'], ['λ', 'lambda'], ['Σ', 'Sum'],
-  ['·', '*'], ['×', 'x'], ['±', '+/-'], ['−', '-'], ['–', '-'], ['—', '--'], ['≤', '<='], ['≥', '>='], ['…', '...'], ['→', '->'],
-  ['ᵢ', '_i'], ['ⱼ', '_j'], ['⁻', '-'], ['⁺', '+'], ['²', '^2'], ['³', '^3'], ['¹', '^1'], ['µ', 'u'],
-];
-export function asciiText(text: string): string {
-  // eslint-disable-next-line no-control-regex
-  if (/^[\x00-\x7f]*$/.test(text)) return text;
-  let out = text;
-  for (const [from, to] of ASCII_SPELLINGS) out = out.split(from).join(to);
-  // eslint-disable-next-line no-control-regex
-  return out.replace(/[^\x00-\x7f]/gu, (c) => `U+${c.codePointAt(0)!.toString(16).toUpperCase().padStart(4, '0')}`);
 }
 
 /** The example water of the activity-coefficient notes: a fresh water of 300 mg/L TDS (an illustration, not the sample). */
@@ -742,10 +723,12 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     const note = unitActivityNote(half.notGiven, where);
     if (note) notes.push(note);
   }
-  notes.push(...halfNotes([['Oxidant couple', pOx.notes], ['Reductant couple', pRed.notes]]).map(asciiText));
+  // the halves' caveats on E° (the explanation of a base-medium E° is on couples/potential)
+  const caveats = (p: PotentialResult) => p.notes.filter((n) => n !== CARRIED_FROM_ACID_NOTE);
+  notes.push(...halfNotes([['Oxidant couple', caveats(pOx)], ['Reductant couple', caveats(pRed)]]));
   if (iBasis === 'none' && givenCharged([cell.oxidant, cell.reductant], charges)) {
     notes.push(
-      asciiText(gammaOneNote(
+      gammaOneNote(
         'No ionicStrength, tdsMgPerL or conductanceUSPerCm given: activity coefficients taken as 1 (activities equal to the concentrations).',
         T,
         cell.slopeV,
@@ -753,7 +736,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
         (lg) => gammaShiftV(cell.oxidant, charges, lg) - gammaShiftV(cell.reductant, charges, lg),
         "this cell's E",
         "Give one of those fields for activities at the water's ionic strength.",
-      )),
+      ),
     );
   }
   if (res) notes.push(res.note);

@@ -565,6 +565,10 @@ function siteValueShiftV(target: ReactionVector, valueMedium: 'acid' | 'base', l
   return reductionPotentialV(gKw, e) * c.toNumber();
 }
 
+/** The note of a base-medium half-reaction whose E° comes from its acid form (an explanation, not a caveat). */
+export const CARRIED_FROM_ACID_NOTE =
+  'E° of this base-medium half-reaction is carried from its acid form (the same reaction written with H+) through the ionisation of water, so the potential at a pH is the same in either form.';
+
 /** parts less one part (same row, coefficient subtracted; dropped at zero). */
 function withoutPart(parts: readonly CombinationPart[], less: CombinationPart): CombinationPart[] {
   return parts
@@ -632,9 +636,7 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
       differs: a.differs,
     }));
     if (viaAcid) {
-      notes.push(
-        'E° of this base-medium half-reaction is carried from its acid form (the same reaction written with H+) through the ionisation of water, so the potential at a pH is the same in either form.',
-      );
+      notes.push(CARRIED_FROM_ACID_NOTE);
       if (asWritten?.tabled) {
         const row = asWritten.combination.parts[0]!.row;
         const tabledV = comboV(asWritten.combination);
@@ -679,10 +681,7 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
   if (carry && temperatureC !== 25) {
     const T = ledger.constants.T0 + temperatureC;
     const g = (K: number) => combinationG([carry], ledger, K).g;
-    kwCarryV = toReductionV(g(T) - g(ledger.constants.T25));
-    notes.push(
-      `Water's ionisation at ${temperatureC} °C moves the E° of this base-medium form by ${(kwCarryV * 1000).toFixed(1)} mV from its 25 °C value (Kw at the water's temperature; not part of the temperature correction of E°).`,
-    );
+    kwCarryV = toReductionV(g(T) - g(ledger.constants.T25)); // reported as waterIonisationShiftV
   }
 
   let usedV: number;
