@@ -132,10 +132,19 @@ export function requireTimestamp(text: unknown, pointer: string): string {
   return iso;
 }
 
+/** The day of a date-only bound ("2026-03-01"), or null for a date-time or a text that is no date. */
+export function dayOf(text: string): string | null {
+  const dm = DATE_RE.exec(text);
+  if (!dm) return null;
+  const [y, mo, d] = [dm[1], dm[2], dm[3]].map(Number) as [number, number, number];
+  return validDate(y, mo, d) ? text : null;
+}
+
 /**
  * A range bound for listings and exports, as an SQL comparison on the normalised sampled_at text.
- * A date-only bound is a UTC day: `from=2026-03-01` starts at 2026-03-01T00:00Z, `to=2026-03-31`
- * includes the whole of 31 March (UTC). A date-time bound is inclusive at that instant.
+ * A date-only bound is given here as a UTC day (`from=2026-03-01` starts at 2026-03-01T00:00Z,
+ * `to=2026-03-31` includes the whole of 31 March, UTC); sheetFilter widens it by the largest UTC
+ * offset and then compares the sample's own local day. A date-time bound is inclusive at that instant.
  */
 export function rangeBound(text: string, which: 'from' | 'to', pointer: string): { op: '>=' | '<' | '<='; iso: string } {
   const dm = DATE_RE.exec(text);
@@ -150,7 +159,7 @@ export function rangeBound(text: string, which: 'from' | 'to', pointer: string):
   const iso = normalizeTimestamp(text);
   if (iso === null) {
     throw new DomainError('VALIDATION_FAILED', {
-      detail: `${which}=${JSON.stringify(text)} is neither a date (YYYY-MM-DD, a UTC day) nor an ISO 8601 date-time with a time zone.`,
+      detail: `${which}=${JSON.stringify(text)} is neither a date (YYYY-MM-DD, the day of the sample as written) nor an ISO 8601 date-time with a time zone.`,
       fields: [{ pointer, message: 'expected YYYY-MM-DD or an ISO 8601 date-time with a time zone' }],
     });
   }

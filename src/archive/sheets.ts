@@ -38,7 +38,7 @@
 import { DomainError } from '../core/errors.js';
 import { ZERO_HASH, canonicalJson, sha256Hex } from './canonical.js';
 import type { ArchiveContext } from './context.js';
-import { isSheetKind, rangeBound, requirePlantId, requireSheetId, requireTimestamp, SHEET_KINDS, type SheetKind } from './ids.js';
+import { dayOf, isSheetKind, rangeBound, requirePlantId, requireSheetId, requireTimestamp, SHEET_KINDS, type SheetKind } from './ids.js';
 
 export const RECORD_FORMAT = 1;
 const RECORD_FORMAT_TAG = 'oxd-sheet-record/1';
@@ -414,13 +414,22 @@ export function getSheetPdf(ctx: ArchiveContext, id: string): Buffer {
 
 export interface SheetQuery {
   readonly plantId?: string;
-  /** YYYY-MM-DD (UTC day, inclusive) or an ISO date-time (inclusive); compared with sampled_at. */
+  /** YYYY-MM-DD (the sample's local day as written in its sampledAt, inclusive) or an ISO date-time (inclusive, compared with sampled_at). */
   readonly from?: string;
   readonly to?: string;
   readonly kind?: SheetKind;
   /** listSheets only: at most this many (1–10000), the earliest first. */
   readonly limit?: number;
 }
+
+/** UTC offsets run from −12:00 to +14:00. */
+const MAX_UTC_OFFSET_MS = 14 * 3_600_000;
+/**
+ * The local day of a sample: the date part of the sampledAt its request wrote (with its own
+ * offset), else (no sampledAt in the request, or not in YYYY-MM-DD… form) the UTC day.
+ */
+const LOCAL_SAMPLE_DAY = `(CASE WHEN json_extract(s.request_json, '$.sampledAt') GLOB '[0-9][0-9][0-9][0-9]-[0-9][0-9]-[0-9][0-9][T ]*'
+  THEN substr(json_extract(s.request_json, '$.sampledAt'), 1, 10) ELSE substr(s.sampled_at, 1, 10) END)`;
 
 /** The WHERE clause and parameters for a query on sampled_at (shared with the CSV export). */
 export function sheetFilter(query: SheetQuery): { where: string; params: unknown[] } {
@@ -437,10 +446,22 @@ export function sheetFilter(query: SheetQuery): { where: string; params: unknown
     params.push(query.kind);
   }
   let fromIso: string | undefined;
+  // A date-only bound is the sample's own day, as written with its offset in the request's
+  // sampledAt (a 00:30+01:00 sample belongs to that local day, for a monthly report): the indexed
+  // UTC column is first widened by the largest UTC offset, then the local day is compared.
+  const dayBound = (b: { op: string; iso: string }, day: string, which: 'from' | 'to') => {
+    const widened = new Date(Date.parse(b.iso) + (which === 'from' ? -1 : 1) * MAX_UTC_OFFSET_MS).toISOString();
+    clauses.push(`s.sampled_at ${b.op} ?`, `${LOCAL_SAMPLE_DAY} ${which === 'from' ? '>=' : '<='} ?`);
+    params.push(widened, day);
+  };
   if (query.from !== undefined) {
     const b = rangeBound(query.from, 'from', '/from');
-    clauses.push(`s.sampled_at ${b.op} ?`);
-    params.push(b.iso);
+    const day = dayOf(query.from);
+    if (day !== null) dayBound(b, day, 'from');
+    else {
+      clauses.push(`s.sampled_at ${b.op} ?`);
+      params.push(b.iso);
+    }
     fromIso = b.iso;
   }
   if (query.to !== undefined) {
@@ -448,8 +469,12 @@ export function sheetFilter(query: SheetQuery): { where: string; params: unknown
     if (fromIso !== undefined && (b.op === '<' ? b.iso <= fromIso : b.iso < fromIso)) {
       throw invalid('/to', `to=${query.to} is before from=${query.from}.`);
     }
-    clauses.push(`s.sampled_at ${b.op} ?`);
-    params.push(b.iso);
+    const day = dayOf(query.to);
+    if (day !== null) dayBound(b, day, 'to');
+    else {
+      clauses.push(`s.sampled_at ${b.op} ?`);
+      params.push(b.iso);
+    }
   }
   return { where: clauses.length ? `WHERE ${clauses.join(' AND ')}` : '', params };
 }

@@ -291,6 +291,26 @@ describe('listSheets', () => {
     expect(archive.listSheets({ plantId: 'plant-a', limit: 2 }).map((s) => s.id)).toEqual([feb28, mar01]);
   });
 
+  it("a date-only range is the sample's own local day, as its request wrote sampledAt (a monthly report files night samples right)", () => {
+    const { archive, author } = fresh();
+    archive.savePlant({ id: 'plant-a' }, { createdBy: 'x' });
+    const mk = (sampledAt: string, inRequest = true) => {
+      const input = doseSheetInput(author, { plantId: 'plant-a', plantVersion: 1, sampledAt });
+      return archive.appendSheet({ ...input, request: { ...(input.request as object), ...(inRequest ? { sampledAt } : {}) } }).id;
+    };
+    const dec01Night = mk('2026-12-01T00:30:00+01:00'); // 2026-11-30T23:30Z: December at the plant
+    const nov30Evening = mk('2026-11-30T20:00:00-05:00'); // 2026-12-01T01:00Z: November at the plant
+    const dec31Late = mk('2026-12-31T23:50:00+14:00'); // 2026-12-31T09:50Z
+    const jan01Early = mk('2027-01-01T00:10:00-12:00'); // 2027-01-01T12:10Z
+    const utcOnly = mk('2026-12-15T12:00:00Z', false); // no sampledAt in the request: the UTC day
+    const dec = archive.listSheets({ plantId: 'plant-a', from: '2026-12-01', to: '2026-12-31' }).map((s) => s.id);
+    expect(dec.sort()).toEqual([dec01Night, dec31Late, utcOnly].sort());
+    expect(archive.listSheets({ plantId: 'plant-a', from: '2026-11-01', to: '2026-11-30' }).map((s) => s.id)).toEqual([nov30Evening]);
+    expect(archive.listSheets({ plantId: 'plant-a', from: '2027-01-01' }).map((s) => s.id)).toEqual([jan01Early]);
+    // a date-time bound is an instant, whatever the offsets: 2026-12-01T00:00Z onwards
+    expect(archive.listSheets({ plantId: 'plant-a', from: '2026-12-01T00:00:00Z', to: '2026-12-01T23:59:59Z' }).map((s) => s.id)).toEqual([nov30Evening]);
+  });
+
   it.each([
     [{ from: '2026-13-01' }, '/from'],
     [{ to: 'yesterday' }, '/to'],

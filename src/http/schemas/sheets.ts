@@ -15,9 +15,9 @@ export const IsoDateTime = z
 export const DateOrTime = z
   .string()
   .regex(/^\d{4}-\d{2}-\d{2}(T\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?(Z|[+-]\d{2}:\d{2}))?$/, {
-    error: 'must be a day YYYY-MM-DD (a UTC day) or an ISO 8601 date and time with its zone, e.g. 2026-12-01 or 2026-12-01T07:30:00+01:00',
+    error: 'must be a day YYYY-MM-DD (the day of the sample as written in its sampledAt) or an ISO 8601 date and time with its zone, e.g. 2026-12-01 or 2026-12-01T07:30:00+01:00',
   })
-  .describe('YYYY-MM-DD (UTC day) or an ISO 8601 date-time');
+  .describe('YYYY-MM-DD (the sample’s own day, as written with its offset in sampledAt) or an ISO 8601 date-time (an instant)');
 
 export const SheetBody = DoseBody.extend({
   sampledAt: IsoDateTime,
