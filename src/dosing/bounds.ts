@@ -180,7 +180,10 @@ export const STOCK_MAX_L = new Dec('10000000');
 export const STOCK_MAX_KG = new Dec('10000000');
 /** Batch tank: 1 000 m3, far above the few m3 of a permanganate or hypochlorite batch tank (common practice). */
 export const BATCH_MAX_L = new Dec('1000000');
-/** Product strength: a feed solution weaker than 0.1 g/L (0.01 %) is not one (common practice). */
+/**
+ * Product strength: a feed solution weaker than 0.1 g/L (0.01 %) is not one (common practice). The upper end depends on
+ * the product (its solubility or strongest grade): src/dosing/strength-limits.ts.
+ */
 export const STRENGTH_MIN_G_PER_L = new Dec('0.1');
 export const STRENGTH_MIN_PERCENT = new Dec('0.01');
 /** Purity of a solid product: below 10 % it is not a commercial product (common practice; commercial grades are 65 to 99 %). */

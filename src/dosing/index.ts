@@ -30,6 +30,7 @@ import { sideEffects, type SideEffects } from './side-effects.js';
 import { inputFlags, rawWaterFlags, residualFlags, sortFlags, LOCAL_RULES_GOVERN } from './flags.js';
 import { mergePlantIntoRequest, type PlantMergeOxidant, type PlantProfile, type PlantResidual } from './plant.js';
 import { checkDoseRequest, type DoseRequest } from './request.js';
+import { checkStrengthLimits, oxidantFedAsGas, strengthLimitFlags } from './strength-limits.js';
 import { REPORT_SIG_FIGS, reported, type Flag, type Reported } from './types.js';
 
 export type { DoseRequest } from './request.js';
@@ -39,6 +40,7 @@ export type { Flag, Reported, Severity } from './types.js';
 export { stoichiometricRatio, type RatioResult } from './ratio.js';
 export { computeFeed, type FeedResult } from './feed.js';
 export { DoseResultSchema } from './response.js';
+export { STRENGTH_LIMITS, strengthLimitProblem, type StrengthLimit } from './strength-limits.js';
 
 /** The tables computeDose needs (the loaded reference tables satisfy this). */
 export type DosingTables = Pick<
@@ -128,6 +130,14 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
   const constants = constantsFrom(tables);
   const ledger = deps.ledger ?? buildLedger(tables);
   const oxidants = new Map(tables.oxidants.map((o) => [o.id, o]));
+  // the strongest solution of each product (src/dosing/strength-limits.ts) against the tables it cites
+  const limitProblems = checkStrengthLimits({ oxidants: tables.oxidants, sourceIds: new Set(tables.sources.map((s) => s.id)) });
+  if (limitProblems.length > 0) {
+    throw new DomainError('TABLE_INVALID', {
+      detail: `The product strength limits disagree with the tables: ${limitProblems.join('; ')}. Fix src/dosing/strength-limits.ts or the table row, with its source.`,
+      params: { file: 'src/dosing/strength-limits.ts', problems: limitProblems },
+    });
+  }
   const molarMemo = new Map<string, DecT>();
   const molarMassOf = (formula: string): DecT => {
     let m = molarMemo.get(formula);
@@ -294,9 +304,7 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
 }
 
 /** Fed to the water as a gas: chlorine gas and oxygen, and ozone, which is generated on site as a gas. */
-function fedAsGas(ox: OxidantRow): boolean {
-  return ox.form === 'gas' || (ox.form === 'generated' && ox.activeSpecies === 'O3');
-}
+const fedAsGas = oxidantFedAsGas;
 
 /** computeFeed, with a problem about a value the plant profile supplied saying so. */
 function computeFeedNamingPlant(name: (e: unknown) => unknown, input: Parameters<typeof computeFeed>[0]): FeedResult {
@@ -444,6 +452,13 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
   const s = req.sample;
   const pH = s.pH;
   const temperatureC = s.temperatureC ?? temperatureToC(s.temperature!, '/sample/temperature');
+  // a possible but unusual strength (the impossible ones were refused by checkDoseRequest): above the strongest grade, or dissolving only in a warm tank
+  if (req.product) {
+    const tankC = req.batch?.temperatureC ?? temperatureC;
+    const tankFrom = req.batch?.temperatureC !== undefined ? 'batch.temperatureC' : "the sample temperature (give batch.temperatureC for the tank's)";
+    // with a batch and a flow, the feed's batch check (BATCH_ABOVE_SOLUBILITY) covers the solubility
+    flags.push(...strengthLimitFlags(ox, req.product, tankC, tankFrom, !(req.batch && req.flow)));
+  }
   const medium: Medium = req.options?.medium ?? mediumForPH(pH);
   checkPotentialOverrides(req.options?.potentialOverrides);
   const mediumReason = req.options?.medium ? `medium ${medium} chosen by the request` : `medium from the pH: ${medium === 'base' ? 'basic (OH-)' : 'acidic (H+)'} because pH ${pH} ${medium === 'base' ? '>' : '≤'} 7`;
@@ -467,7 +482,8 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
     residualReason = `Target residual ${residual.toString()} mg/L as ${ox.doseBasis} after contact${plantResidual?.used ? ` (from the plant profile: ${plantResidual.used.entry}, ${plantResidual.used.reason})` : ''}.`;
     residualSource = plantInfo?.fromPlant.includes('targetResidual') ? 'plant profile' : 'input';
   } else if (plantResidual?.forOtherOxidant) {
-    flags.push({ code: 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT', severity: 'info', message: plantResidual.forOtherOxidant, source: 'input' });
+    // a warning: the profile holds a residual target the operator may expect in this dose, and it is not in it
+    flags.push({ code: 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT', severity: 'warning', message: plantResidual.forOtherOxidant, source: 'input' });
   } else if (ox.doseBasis === 'Cl2' || ox.doseBasis === 'ClO2') {
     flags.push({ code: 'NO_TARGET_RESIDUAL', severity: 'info', message: `No target residual was given, so the dose only meets the demand; give targetResidual (mg/L as ${ox.doseBasis}) if a residual must remain after contact.`, source: 'input' });
   }

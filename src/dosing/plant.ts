@@ -8,6 +8,7 @@ import { z } from 'zod';
 import { DomainError } from '../core/errors.js';
 import { toBaseDec } from '../core/quantity.js';
 import { quantityBoundProblems } from './bounds.js';
+import { FED_AS_GAS_IDS, GAS_FEEDER_TEXT, strengthLimitProblem } from './strength-limits.js';
 import {
   ConcentrationSchema,
   DensitySchema,
@@ -82,6 +83,16 @@ export function parsePlantProfile(input: unknown): PlantProfile {
   p.products.forEach((prod, i) => {
     if (products.has(prod.oxidant)) fields.push({ pointer: `/products/${i}/oxidant`, message: `product ${prod.oxidant} is listed twice; keep one entry per oxidant` });
     products.add(prod.oxidant);
+    // a gas has no product strength: refused as the dose route refuses product for it. A product entry needs a strength (the
+    // profile's shape), so a gas cannot be listed among the products at all; its residual target goes in targets.residualByOxidant.
+    if (FED_AS_GAS_IDS.has(prod.oxidant)) {
+      fields.push({
+        pointer: `/products/${i}/strength`,
+        message: `${GAS_FEEDER_TEXT[prod.oxidant] ?? `${prod.oxidant} is fed as a gas`}: a product strength (${prod.strength.value} ${prod.strength.unit}) does not apply. Remove this product entry; a residual target for it goes in targets.residualByOxidant.${prod.oxidant}, and its stock on hand with the dose request (stock)`,
+      });
+      return;
+    }
+    const before = fields.length;
     if (prod.strength.unit !== 'g/L' && prod.strength.value > 100) fields.push({ pointer: `/products/${i}/strength/value`, message: `a strength in ${prod.strength.unit} must be at most 100` });
     fields.push(
       ...quantityBoundProblems(
@@ -89,10 +100,25 @@ export function parsePlantProfile(input: unknown): PlantProfile {
         { product: `/products/${i}`, stock: `/products/${i}/stock`, batch: `/products/${i}/batchVolume` },
       ).map((f) => (f.pointer === `/products/${i}/batchVolume/volume/value` ? { ...f, pointer: `/products/${i}/batchVolume/value` } : f)),
     );
+    // a strength no solution of the product can have (src/dosing/strength-limits.ts), the same check as a dose request's
+    if (!fields.slice(before).some((f) => f.pointer.startsWith(`/products/${i}/strength`) || f.pointer.startsWith(`/products/${i}/density`))) {
+      const limit = strengthLimitProblem(prod.oxidant, prod, `/products/${i}`);
+      if (limit) fields.push({ pointer: limit.pointer, message: limit.message });
+    }
   });
   // the same ranges as a dose request, so a stored profile cannot make every dose refused or overflow
   fields.push(...quantityBoundProblems({ flow: p.flow, contactVolume: p.contactVolume }, { flow: '/flow', contactVolume: '/contactVolume' }));
-  p.pumps.forEach((pump, i) => fields.push(...quantityBoundProblems({ pump }, { pump: `/pumps/${i}` })));
+  p.pumps.forEach((pump, i) => {
+    // a metering pump is rated in a solution rate (L/h, gal/h …): a gas has none
+    if (FED_AS_GAS_IDS.has(pump.oxidant)) {
+      fields.push({
+        pointer: `/pumps/${i}/ratedCapacity`,
+        message: `${GAS_FEEDER_TEXT[pump.oxidant] ?? `${pump.oxidant} is fed as a gas`}: a metering pump rated in ${pump.ratedCapacity.unit} does not apply. Remove this pump`,
+      });
+      return;
+    }
+    fields.push(...quantityBoundProblems({ pump }, { pump: `/pumps/${i}` }));
+  });
   const residuals: [string, ConcentrationInput | undefined][] = [['/targets/residual', p.targets.residual], ...Object.entries(p.targets.residualByOxidant ?? {}).map(([id, q]): [string, ConcentrationInput | undefined] => [`/targets/residualByOxidant/${id}`, q])];
   for (const [pointer, q] of residuals) {
     if (q) fields.push(...quantityBoundProblems({ targetResidual: q }, { targetResidual: pointer }));
@@ -116,7 +142,10 @@ export interface PlantMerge {
 export interface PlantMergeOxidant {
   /** The dose basis (Cl2, KMnO4, O3 …): a residual set for one oxidant holds for the others on its basis. */
   readonly doseBasis: string;
-  /** Fed as a gas (chlorine gas, oxygen, ozone): a product strength does not apply; stock does. */
+  /**
+   * Fed as a gas (chlorine gas, oxygen, ozone): a product strength does not apply. parsePlantProfile refuses a product
+   * entry for a gas; one stored before it did is not merged as product (its stock still is).
+   */
   readonly fedAsGas: boolean;
 }
 

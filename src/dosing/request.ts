@@ -2,13 +2,15 @@
  * The dose request as a zod schema, shared by the HTTP layer (POST /api/v1/doses) and the CLI.
  * Only checks JSON Schema can state live here (types, ranges, enums, required, no unknown
  * fields), so the same schema runs through Fastify's compiled validator; checks that depend
- * on other fields (a % strength ≤ 100, a temperature range in the unit chosen, flow or a
- * plant) are made by `checkDoseRequest` with the same RFC 6901 pointers.
+ * on other fields (a % strength ≤ 100 and within what the oxidant's product can be, a
+ * temperature range in the unit chosen, flow or a plant) are made by `checkDoseRequest` with the
+ * same RFC 6901 pointers.
  */
 import { z } from 'zod';
 import { DomainError, toPointer, type FieldProblem } from '../core/errors.js';
 import { UNIT_FACTORS, TEMPERATURE_UNITS, temperatureToC } from '../core/quantity.js';
 import { READING_BOUNDS, quantityBoundProblems, readingBoundProblems } from './bounds.js';
+import { strengthLimitProblem, type StrengthLimitProblem } from './strength-limits.js';
 
 /** The product ids the HTTP contract fixes (tables/oxidants.json holds their properties). */
 export const OXIDANT_IDS = [
@@ -259,8 +261,14 @@ export function checkDoseRequest(req: DoseRequest): void {
   }
   // flow, contact, strength, pump, stock, batch, residual and demand within a plant's range (src/dosing/bounds.ts)
   fields.push(...quantityBoundProblems(req));
+  // a strength no solution of the product can have: above its solubility, or far above its strongest grade (src/dosing/strength-limits.ts)
+  let strengthLimit: StrengthLimitProblem | null = null;
+  if (req.product && !fields.some((f) => f.pointer.startsWith('/product/'))) {
+    strengthLimit = strengthLimitProblem(req.oxidant, req.product, '/product');
+    if (strengthLimit) fields.push({ pointer: strengthLimit.pointer, message: strengthLimit.message });
+  }
   if (fields.length > 0) {
-    throw new DomainError('QUANTITY_OUT_OF_RANGE', { detail: fields.map((f) => `${f.pointer}: ${f.message}`).join('; ') + '.', fields });
+    throw new DomainError('QUANTITY_OUT_OF_RANGE', { detail: fields.map((f) => `${f.pointer}: ${f.message}`).join('; ') + '.', fields, ...(strengthLimit ? { params: { strengthLimit: strengthLimit.params } } : {}) });
   }
   // readings a raw water cannot hold (a unit slip or a miscopied reading): refused, naming the field, the value, the bound and why
   const implausible = readingBoundProblems(s);

@@ -48,12 +48,12 @@ describe('the demo plant: residual by oxidant (1.0 mg/L as Cl2 for hypochlorite,
     expect(flag(r, 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT')).toBeUndefined();
   });
 
-  it.each(['ozone', 'chlorine-dioxide', 'hydrogen-peroxide', 'oxygen'])('%s: no profile residual (it was set for other oxidants), an info flag naming targetResidual', (oxidant) => {
+  it.each(['ozone', 'chlorine-dioxide', 'hydrogen-peroxide', 'oxygen'])('%s: no profile residual (it was set for other oxidants), a warning naming targetResidual (the dose is not the one the profile led the operator to expect)', (oxidant) => {
     const r = dose(oxidant, demo);
     expect(residualTerm(r).value.value).toBe(0);
     expect(r.plant!.fromPlant).not.toContain('targetResidual');
     const f = flag(r, 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT')!;
-    expect(f.severity).toBe('info');
+    expect(f.severity).toBe('warning');
     expect(f.message).toMatch(/set for another oxidant/);
     expect(f.message).toContain('targetResidual');
     expect(f.message).toContain(`targets.residualByOxidant.${oxidant}`);
@@ -134,8 +134,9 @@ describe('plant products and bounds', () => {
     throw new Error('accepted');
   };
 
-  it('a profile product of a gas (ozone) is not merged: no solution rate, no refusal', () => {
-    const p = profile(['ozone'], {});
+  it('a profile product of a gas (ozone) stored before profiles refused it is not merged: no solution rate, no refusal', () => {
+    // built without parsePlantProfile, as an archive written by an earlier build may hold it
+    const p: PlantProfile = { ...profile([], {}), products: [{ oxidant: 'ozone', strength: { value: 12.5, unit: '% w/v' } }] };
     const r = dose('ozone', p);
     expect(r.plant!.fromPlant).not.toContain('product');
     expect(r.feed!.solutionRate).toBeNull();
@@ -162,8 +163,82 @@ describe('plant products and bounds', () => {
     expect(e.fields.map((f) => f.pointer)).toContain(pointer);
   });
 
+  // The limits of src/dosing/strength-limits.ts, the same as a dose request's: hypochlorite refused above 200 g/L available
+  // chlorine (a third above the 15 trade % row, White's Handbook 5th ed., memory; common practice); potassium permanganate
+  // above its 22.2 g per 100 g water at 60 °C (Perry's 8th ed. solubility table, memory); calcium hypochlorite above roughly
+  // 21 g per 100 mL water (CRC Handbook 97th ed., memory).
+  it.each([
+    ['hypochlorite 500 g/L', { oxidant: 'sodium-hypochlorite', strength: { value: 500, unit: 'g/L' } }, /above 200 g\/L.*source operator-practice.*whites-handbook-5/],
+    ['hypochlorite 30 % w/v', { oxidant: 'sodium-hypochlorite', strength: { value: 30, unit: '% w/v' } }, /30 % w\/v \(300 g\/L\)/],
+    ['permanganate 25 % w/v (33.33 g per 100 g water)', { oxidant: 'potassium-permanganate', strength: { value: 25, unit: '% w/v' } }, /22\.2 g KMnO4 per 100 g water that dissolve at 60 °C.*perry-8-solubility/],
+    ['calcium hypochlorite 65 % w/w', { oxidant: 'calcium-hypochlorite', strength: { value: 65, unit: '% w/w' } }, /roughly 21 g per 100 mL.*crc-97-inorganic-constants.*product\.purity/],
+  ])('a profile product of %s is PLANT_INVALID naming /products/1/strength/value, with the limit and its source', (_n, product, message) => {
+    const good = { oxidant: 'sodium-permanganate', strength: { value: 20, unit: '% w/w' } };
+    const e = refusal(() => parsePlantProfile({ ...profile([], {}), products: [good, product] }));
+    expect(e.code).toBe('PLANT_INVALID');
+    expect(e.fields.map((f) => f.pointer)).toEqual(['/products/1/strength/value']);
+    expect(e.fields[0]!.message).toMatch(message);
+  });
+
+  it('permanganate 8 % w/v is possible in a warm tank (9.0 g per 100 g water at 30 °C, Perry\'s 8th ed., memory): the profile is stored, and the dose at 11 °C warns', () => {
+    const p = parsePlantProfile({ ...profile([], {}), products: [{ oxidant: 'potassium-permanganate', strength: { value: 8, unit: '% w/v' } }] });
+    const f = flag(dose('potassium-permanganate', p), 'STRENGTH_ABOVE_SOLUBILITY')!;
+    expect(f.severity).toBe('warning');
+    expect(f.message).toMatch(/11 °C, the sample temperature/);
+  });
+
+  it('a profile stored before the limit (500 g/L hypochlorite) is refused by the dose, naming the field and that the value came from the profile', () => {
+    const p: PlantProfile = { ...profile([], {}), products: [{ oxidant: 'sodium-hypochlorite', strength: { value: 500, unit: 'g/L' } }] };
+    const e = refusal(() => dose('sodium-hypochlorite', p));
+    expect(e.code).toBe('QUANTITY_OUT_OF_RANGE');
+    expect(e.fields[0]).toMatchObject({ pointer: '/product/strength/value', message: expect.stringContaining('(value from plant profile "invented-plant")') });
+  });
+
+  it.each([
+    ['chlorine-gas', /chlorinator rated in mass per time/],
+    ['ozone', /generated on site and transferred to the water as a gas/],
+    ['oxygen', /aeration/],
+  ])('a profile product for %s (fed as a gas) is PLANT_INVALID naming /products/0/strength, as the dose route refuses product for it', (oxidant, message) => {
+    const e = refusal(() => parsePlantProfile({ ...profile([], {}), products: [{ oxidant, strength: { value: 5, unit: '% w/w' }, stock: { value: 900, unit: 'kg' } }] }));
+    expect(e.code).toBe('PLANT_INVALID');
+    expect(e.fields.map((f) => f.pointer)).toEqual(['/products/0/strength']);
+    expect(e.fields[0]!.message).toMatch(message);
+    expect(e.fields[0]!.message).toContain(`targets.residualByOxidant.${oxidant}`);
+  });
+
+  it.each(['chlorine-gas', 'ozone', 'oxygen'])('a metering pump in L/h for %s is PLANT_INVALID naming /pumps/0/ratedCapacity', (oxidant) => {
+    const e = refusal(() => parsePlantProfile({ ...profile([], {}), pumps: [{ id: 'p1', oxidant, ratedCapacity: { value: 10, unit: 'L/h' } }] }));
+    expect(e.code).toBe('PLANT_INVALID');
+    expect(e.fields.map((f) => f.pointer)).toEqual(['/pumps/0/ratedCapacity']);
+    expect(e.fields[0]!.message).toMatch(/rated in L\/h does not apply/);
+  });
+
+  it('a pump for chlorine dioxide (generated, fed as a solution) is still accepted', () => {
+    const p = parsePlantProfile({ ...profile([], {}), pumps: [{ id: 'p1', oxidant: 'chlorine-dioxide', ratedCapacity: { value: 10, unit: 'L/h' } }] });
+    expect(p.pumps.map((x) => x.oxidant)).toEqual(['chlorine-dioxide']);
+  });
+
   it('the demo profile (and so the existing residual shapes) still loads', () => {
     expect(demo.targets.residual).toEqual({ value: 1.0, unit: 'mg/L' });
     expect(Object.keys(demo.targets.residualByOxidant ?? {})).toEqual(['sodium-hypochlorite', 'potassium-permanganate']);
+  });
+});
+
+describe('a residual target no product of the profile can carry: a warning naming what the target is for', () => {
+  it('a chlorine-gas plant (no product entries: a gas has no strength) with a general targets.residual: 0 mg/L residual and a warning saying the target names no oxidant and no product is listed', () => {
+    const p = profile([], { residual: { value: 1, unit: 'mg/L' } });
+    const r = dose('chlorine-gas', p);
+    expect(residualTerm(r).value.value).toBe(0);
+    const f = flag(r, 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT')!;
+    expect(f.severity).toBe('warning');
+    expect(f.message).toMatch(/targets\.residual 1 mg\/L names no oxidant and the profile lists no product/);
+    expect(f.message).toContain('targets.residualByOxidant.chlorine-gas');
+  });
+
+  it('ozone at a plant whose only product is permanganate: the target is read as KMnO4 and the warning says so', () => {
+    const r = dose('ozone', profile(['potassium-permanganate'], { residual: { value: 0.05, unit: 'mg/L' } }));
+    const f = flag(r, 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT')!;
+    expect(f.severity).toBe('warning');
+    expect(f.message).toMatch(/read as KMnO4, the basis of every product of the profile.*None is for ozone \(as O3\)/);
   });
 });

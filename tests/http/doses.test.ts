@@ -406,7 +406,7 @@ describe('plantId in place of flow/product/contact', () => {
     // the demo profile's residual is 1.0 mg/L as Cl2 for hypochlorite (and 0 as KMnO4 for permanganate): never another oxidant's
     ['ozone', O3 / (2 * Fe)],
     ['chlorine-dioxide', ClO2 / Fe],
-  ])('with the demo plant, %s gets no residual from the profile, and an info flag says the target was set for another oxidant', async (oxidant, ratio) => {
+  ])('with the demo plant, %s gets no residual from the profile, and a warning says the target was set for another oxidant', async (oxidant, ratio) => {
     const r = await post({ plantId: 'demo-groundwater', oxidant, sample: { pH: 7.4, temperatureC: 11, iron: { value: 1.2, unit: 'mg/L' } } });
     expect(r.statusCode, r.body).toBe(200);
     const j = r.json();
@@ -416,7 +416,12 @@ describe('plantId in place of flow/product/contact', () => {
     const codes = j.flags.map((f: { code: string }) => f.code);
     expect(codes).toContain('PLANT_RESIDUAL_FOR_OTHER_OXIDANT');
     expect(codes).not.toContain('RESIDUAL_ABOVE_MRDL');
-    expect(j.flags.find((f: { code: string }) => f.code === 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT').message).toContain('targetResidual');
+    const other = j.flags.find((f: { code: string }) => f.code === 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT');
+    expect(other.severity).toBe('warning');
+    expect(other.message).toContain('targetResidual');
+    // it names what the profile's targets are for: hypochlorite as Cl2, permanganate as KMnO4
+    expect(other.message).toContain('sodium-hypochlorite 1 mg/L (as Cl2)');
+    expect(other.message).toContain('potassium-permanganate 0 mg/L (as KMnO4)');
   });
 });
 
@@ -465,6 +470,14 @@ const badInput: BadCase[] = [
   ['contact volume 1e300 m3 at 1 MGD', (b) => { b.flow = { value: 1, unit: 'MGD' }; b.contactVolume = { value: 1e300, unit: 'm3' }; }, 400, '/contactVolume/value', /more than 30 days/],
   ['ozone with a strength in % w/w', (b) => { b.oxidant = 'ozone'; b.product = { strength: { value: 5, unit: '% w/w' } }; }, 400, '/product/strength', /as a gas/],
   ['hypochlorite 1 % w/w with no density (outside the tabled densities)', (b) => (b.product = { strength: { value: 1, unit: '% w/w' } }), 422, '/product/strength', /not extrapolated/],
+  // strengths no solution of the product can have (src/dosing/strength-limits.ts): a range of the field, 400 like the other strength bounds.
+  // Hypochlorite: a third above 15 trade % = 150 g/L (White's Handbook 5th ed., memory), refused above 200 g/L (common practice).
+  ['hypochlorite 500 g/L', (b) => (b.product = { strength: { value: 500, unit: 'g/L' } }), 400, '/product/strength/value', /above 200 g\/L.*source operator-practice.*15 trade %.*source whites-handbook-5/],
+  ['hypochlorite 30 % w/v (trade %: 300 g/L)', (b) => (b.product = { strength: { value: 30, unit: '% w/v' } }), 400, '/product/strength/value', /300 g\/L.*above 200 g\/L/],
+  // Potassium permanganate: 22.2 g per 100 g water at 60 °C, the warmest point of the solubility table (Perry's 8th ed., memory).
+  ['permanganate 25 % w/v (25 000 / 750 = 33.33 g per 100 g water)', (b) => { b.oxidant = 'potassium-permanganate'; b.product = { strength: { value: 25, unit: '% w/v' } }; }, 400, '/product/strength/value', /33\.33 g KMnO4 per 100 g water.*22\.2 g KMnO4 per 100 g water that dissolve at 60 °C.*source perry-8-solubility/],
+  // Calcium hypochlorite: roughly 21 g per 100 mL of water (CRC Handbook 97th ed., memory); 65 % is the granules' assay (ANSI/AWWA B300, memory).
+  ['calcium hypochlorite 65 % w/w', (b) => { b.oxidant = 'calcium-hypochlorite'; b.product = { strength: { value: 65, unit: '% w/w' } }; }, 400, '/product/strength/value', /roughly 21 g per 100 mL.*source crc-97-inorganic-constants.*product\.purity/],
 ];
 
 describe('bad input: 4xx problem+json naming the field and what is accepted', () => {
@@ -498,6 +511,11 @@ describe('bad input: 4xx problem+json naming the field and what is accepted', ()
     // "Legal but unusual" thresholds of the issue (common practice): Fe above 20 mg/L, pH below 5.
     ['iron 25 mg/L', (b: Record<string, any>) => (b.sample.iron.value = 25), /IRON/],
     ['pH 4.5', (b: Record<string, any>) => (b.sample.pH = 4.5), /PH/],
+    // above 15 trade %, the strongest hypochlorite tabled (White's Handbook 5th ed., memory), below the 200 g/L refusal
+    ['hypochlorite 17 trade %', (b: Record<string, any>) => (b.product = { strength: { value: 17, unit: '% w/v' } }), /STRENGTH_ABOVE_TRADE_GRADE/],
+    // permanganate 8 % w/v at 12 °C: 8000 / 920 = 8.70 g per 100 g water, above the 4.8 interpolated at 12 °C (4.4 at 10, 6.4 at 20)
+    // but below 9.0 at 30 °C (Perry's 8th ed. solubility table, memory): possible only in a warm tank
+    ['permanganate 8 % w/v at 12 °C', (b: Record<string, any>) => { b.oxidant = 'potassium-permanganate'; b.product = { strength: { value: 8, unit: '% w/v' } }; }, /STRENGTH_ABOVE_SOLUBILITY/],
   ])('legal but unusual: %s → 200 with a warning flag', async (_name, mutate, code) => {
     const b = good() as Record<string, any>;
     mutate(b);
@@ -549,11 +567,31 @@ describe('POST /api/v1/plants', () => {
     ['missing name', (({ name: _n, ...p }) => p)(profile), '/name'],
     ['unknown product oxidant', { ...profile, products: [{ ...profile.products[0], oxidant: 'bleach-x' }] }, '/products/0/oxidant'],
     ['density out of range', { ...profile, products: [{ ...profile.products[0], density: { value: 3, unit: 'kg/L' } }] }, '/products/0/density/value'],
+    // the strength limits of a dose request (src/dosing/strength-limits.ts; sources as in the bad-input cases above)
+    ['hypochlorite 500 g/L', { ...profile, products: [{ ...profile.products[0], strength: { value: 500, unit: 'g/L' } }] }, '/products/0/strength/value'],
+    ['hypochlorite 30 % w/v', { ...profile, products: [{ ...profile.products[0], strength: { value: 30, unit: '% w/v' } }] }, '/products/0/strength/value'],
+    ['permanganate 25 % w/v', { ...profile, products: [{ oxidant: 'potassium-permanganate', strength: { value: 25, unit: '% w/v' } }] }, '/products/0/strength/value'],
+    ['calcium hypochlorite 65 % w/w', { ...profile, products: [{ oxidant: 'calcium-hypochlorite', strength: { value: 65, unit: '% w/w' } }] }, '/products/0/strength/value'],
+    // fed as a gas: no product strength, no metering pump (the dose route refuses product for a gas the same way)
+    ['a chlorine-gas product', { ...profile, products: [...profile.products, { oxidant: 'chlorine-gas', strength: { value: 100, unit: '% w/w' }, stock: { value: 900, unit: 'kg' } }] }, '/products/1/strength'],
+    ['an ozone product', { ...profile, products: [{ oxidant: 'ozone', strength: { value: 10, unit: 'g/L' } }] }, '/products/0/strength'],
+    ['a chlorine-gas pump in L/h', { ...profile, pumps: [...profile.pumps, { id: 'cl2-1', oxidant: 'chlorine-gas', ratedCapacity: { value: 5, unit: 'L/h' } }] }, '/pumps/1/ratedCapacity'],
+    ['an oxygen pump in gal/h', { ...profile, pumps: [{ id: 'o2-1', oxidant: 'oxygen', ratedCapacity: { value: 5, unit: 'gal/h' } }] }, '/pumps/0/ratedCapacity'],
   ].map(([name, body, pointer]) => ({ name: name as string, body, pointer: pointer as string })))('bad profile ($name) → 400 naming $pointer', async ({ body, pointer }) => {
     const r = await postPlant(body, engineerToken);
     expect(r.statusCode, r.body).toBe(400);
     expect(r.headers['content-type']).toMatch(/^application\/problem\+json/);
     expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toContain(pointer);
+  });
+
+  it('a profile with 500 g/L hypochlorite → 400 PLANT_INVALID whose message names the 200 g/L limit and its sources (common practice; 15 trade %, White\'s Handbook 5th ed., memory); a warm-tank permanganate (8 % w/v) is stored', async () => {
+    const r = await postPlant({ ...profile, products: [{ ...profile.products[0], strength: { value: 500, unit: 'g/L' } }] }, engineerToken);
+    expect(r.statusCode, r.body).toBe(400);
+    expect(r.json().code).toBe('PLANT_INVALID');
+    const field = r.json().errors.find((e: { pointer: string }) => e.pointer === '/products/0/strength/value');
+    expect(field.message).toMatch(/above 200 g\/L.*source operator-practice.*source whites-handbook-5, from memory/);
+    const warm = await postPlant({ ...profile, id: 'test-warm-tank', products: [{ oxidant: 'potassium-permanganate', strength: { value: 8, unit: '% w/v' } }], pumps: [] }, engineerToken);
+    expect(warm.statusCode, warm.body).toBe(201);
   });
 
   it('no token → 401; an operator token → 403', async () => {

@@ -1,0 +1,413 @@
+/**
+ * The strongest solution each oxidant product can be fed as, and the check of a product strength
+ * against it, shared by POST /api/v1/doses and plant profiles:
+ *
+ * - a solid made up on site (potassium permanganate, calcium hypochlorite) cannot be fed stronger
+ *   than it dissolves: above its solubility at the warmest tank temperature its row covers, the
+ *   strength is refused; above the solubility at today's tank temperature but below that, the
+ *   dose gets a warning (it dissolves only in a warm tank);
+ * - a liquid concentrate (sodium hypochlorite, sodium permanganate, hydrogen peroxide) is bought
+ *   at a trade grade: above the strongest grade the tables hold the dose gets a warning, and
+ *   above it by a clear margin (common practice) the strength is refused as a slip (g/L entered
+ *   as trade %, the purity of a solid entered as a solution strength);
+ * - gases (chlorine gas, ozone, oxygen) have no product strength at all (refused where given).
+ *
+ * Why the rows live here and not as a column of tables/oxidants.json: a plant profile is checked
+ * when it is stored, by `parsePlantProfile`, which is given the profile only (no tables). So the
+ * rows are here, validated with zod when this module loads, and `checkStrengthLimits` (run by
+ * `buildDosingContext` at start-up) checks them against the loaded tables: every source id
+ * resolves in tables/sources.json, the strongest grade is the strongest strength row of
+ * tables/oxidants.json (same value, unit, density and source), a solubility taken from the
+ * table is the table's warmest point, no tabled strength is refused, and every oxidant of the
+ * table is either fed as a gas or has a row here. A change to either side that breaks this stops
+ * the service at start-up with TABLE_INVALID naming both.
+ *
+ * Arithmetic is Decimal: g/L = % w/w × density (kg/L) × 10; % w/v = g/L ÷ 10 (for hypochlorite,
+ * trade percent); g per 100 g water = 100 × w ÷ (100 − w) for a mass percent w, or 100 × c ÷
+ * (1000 × density − c) for c g/L.
+ */
+import { z } from 'zod';
+import { Dec, type Dec as DecT } from '../core/decimal.js';
+import type { FieldProblem } from '../core/errors.js';
+import { toBaseDec, type Quantity } from '../core/quantity.js';
+import { DecimalText, type OxidantRow } from '../reference/dosing-schemas.js';
+import { solubilityAt } from './feed.js';
+import { roundSigNumber } from './round.js';
+import type { Flag } from './types.js';
+
+/** Oxidants fed to the water as a gas: no product strength, density or solution rate, no metering pump. */
+export const FED_AS_GAS_IDS: ReadonlySet<string> = new Set(['chlorine-gas', 'ozone', 'oxygen']);
+
+/** How an operator says an oxidant fed as a gas is metered (for the plant-profile refusals). */
+export const GAS_FEEDER_TEXT: Readonly<Record<string, string>> = {
+  'chlorine-gas': 'chlorine gas is fed by a chlorinator rated in mass per time (lb/d or kg/h of Cl2)',
+  ozone: 'ozone is generated on site and transferred to the water as a gas; the generator is rated in g/h or kg/d of O3',
+  oxygen: 'oxygen is supplied by aeration; the aerator transfers a mass of O2, not a solution volume',
+};
+
+/** An oxidant id of tables/oxidants.json (that the row exists is checked at start-up; request.ts, which lists the ids, imports this module). */
+const OxidantId = z.string().regex(/^[a-z0-9-]+$/);
+const SourceId = z.string().min(1);
+
+const SolubilityLimitSchema = z.strictObject({
+  oxidant: OxidantId,
+  kind: z.literal('solubility'),
+  /** What the strength of a request is of, in words ("KMnO4", "available chlorine as Cl2"). */
+  strengthOf: z.string().min(1),
+  /** What the solubility figure is of (KMnO4, Ca(OCl)2). */
+  of: z.string().min(1),
+  gramsPer100gWater: DecimalText,
+  temperatureC: DecimalText,
+  /** The figure is the warmest point of the oxidant's solubility table in tables/oxidants.json (checked at start-up). */
+  fromSolubilityTable: z.boolean(),
+  why: z.string().min(1),
+  source: SourceId,
+  fromMemory: z.boolean(),
+  note: z.string().min(1),
+});
+
+const GradeLimitSchema = z.strictObject({
+  oxidant: OxidantId,
+  kind: z.literal('grade'),
+  strengthOf: z.string().min(1),
+  /** The strongest strength row of tables/oxidants.json for the product (checked at start-up). */
+  strongest: z.strictObject({ label: z.string().min(1), value: DecimalText, unit: z.enum(['% w/w', '% w/v', 'g/L']), densityKgPerL: DecimalText, source: SourceId, fromMemory: z.boolean() }),
+  /** Above this (on its scale; the other scale is converted with the strongest grade's density) the strength is refused. */
+  refuseAbove: z.strictObject({ value: DecimalText, unit: z.enum(['% w/w', 'g/L']), why: z.string().min(1), source: SourceId }),
+});
+
+const NoLimitSchema = z.strictObject({ oxidant: OxidantId, kind: z.literal('none'), why: z.string().min(1) });
+
+export const StrengthLimitSchema = z.discriminatedUnion('kind', [SolubilityLimitSchema, GradeLimitSchema, NoLimitSchema]);
+export type StrengthLimit = z.infer<typeof StrengthLimitSchema>;
+type SolubilityLimit = z.infer<typeof SolubilityLimitSchema>;
+type GradeLimit = z.infer<typeof GradeLimitSchema>;
+
+/** The rows. Every figure names its source; a figure recalled from memory says so (fromMemory, and the note). */
+export const STRENGTH_LIMITS: readonly StrengthLimit[] = z.array(StrengthLimitSchema).parse([
+  {
+    oxidant: 'potassium-permanganate',
+    kind: 'solubility',
+    strengthOf: 'KMnO4',
+    of: 'KMnO4',
+    gramsPer100gWater: '22.2',
+    temperatureC: '60',
+    fromSolubilityTable: true,
+    why: 'the warmest point of the potassium permanganate solubility table (tables/oxidants.json): no tank temperature the table covers dissolves more',
+    source: 'perry-8-solubility',
+    fromMemory: true,
+    note: 'The 60 °C point of the solubility table of tables/oxidants.json, whose values are from memory of the handbook table; verify.',
+  },
+  {
+    oxidant: 'calcium-hypochlorite',
+    kind: 'solubility',
+    strengthOf: 'available chlorine as Cl2',
+    of: 'Ca(OCl)2',
+    gramsPer100gWater: '21',
+    temperatureC: '25',
+    fromSolubilityTable: false,
+    why: 'calcium hypochlorite dissolves to roughly 21 g per 100 mL of water at about 25 °C, and a gram of it carries 0.99 g available chlorine',
+    source: 'crc-97-inorganic-constants',
+    fromMemory: true,
+    note:
+      'From memory (about 21 g Ca(OCl)2 per 100 mL of water at 25 °C); verify. Taken as g per 100 g of water (water about 1 g/mL) and compared with the available chlorine of the solution: 142.98 g of Ca(OCl)2 carries 2 × 70.90 = 141.8 g available chlorine, so the two differ by under 1 %, inside the roughness of the figure. One temperature only, so there is no warm-tank band.',
+  },
+  {
+    oxidant: 'sodium-hypochlorite',
+    kind: 'grade',
+    strengthOf: 'available chlorine as Cl2',
+    strongest: { label: '15 trade % (150 g/L available chlorine)', value: '15', unit: '% w/v', densityKgPerL: '1.21', source: 'whites-handbook-5', fromMemory: true },
+    refuseAbove: {
+      value: '200',
+      unit: 'g/L',
+      why: 'a third above 15 trade %, the strongest hypochlorite the tables hold; trade hypochlorite tops out at about 15 to 16 trade % (150 to 160 g/L) and none is shipped at 20 trade % (common practice)',
+      source: 'operator-practice',
+    },
+  },
+  {
+    oxidant: 'sodium-permanganate',
+    kind: 'grade',
+    strengthOf: 'NaMnO4',
+    strongest: { label: '40 % w/w NaMnO4', value: '40', unit: '% w/w', densityKgPerL: '1.37', source: 'awwa-b603', fromMemory: true },
+    refuseAbove: {
+      value: '50',
+      unit: '% w/w',
+      why: 'a quarter above the 40 % w/w concentrate, the strongest sodium permanganate the tables hold and the strongest shipped (common practice)',
+      source: 'operator-practice',
+    },
+  },
+  {
+    oxidant: 'hydrogen-peroxide',
+    kind: 'grade',
+    strengthOf: 'H2O2',
+    strongest: { label: '50 % w/w H2O2', value: '50', unit: '% w/w', densityKgPerL: '1.20', source: 'crc-97-concentrative', fromMemory: true },
+    refuseAbove: {
+      value: '80',
+      unit: '% w/w',
+      why: 'above the 70 % w/w technical grade, the strongest shipped for industry (from memory); stronger peroxide is propellant grade, never a water-treatment feed (common practice)',
+      source: 'operator-practice',
+    },
+  },
+  {
+    oxidant: 'chlorine-dioxide',
+    kind: 'none',
+    why: 'the strength is that of the solution the generator makes on site, which depends on the generator; no published limit is held, so only the request ranges apply',
+  },
+]);
+
+const LIMIT_OF = new Map(STRENGTH_LIMITS.map((l) => [l.oxidant, l]));
+
+/** The row for an oxidant, or undefined (gases have none). */
+export function strengthLimitFor(oxidantId: string): StrengthLimit | undefined {
+  return LIMIT_OF.get(oxidantId);
+}
+
+// ---------------------------------------------------------------- arithmetic
+
+const TEN = new Dec(10);
+const HUNDRED = new Dec(100);
+const THOUSAND = new Dec(1000);
+const f3 = (x: DecT | number) => roundSigNumber(typeof x === 'number' ? x : x.toNumber(), 3);
+/** A converted figure to 4 significant figures, without trailing zeros ("300", "12.4"). */
+const f4 = (x: DecT) => x.toSignificantDigits(4).toString();
+
+export interface ProductStrengthInput {
+  readonly strength: { readonly value: number; readonly unit: string };
+  readonly density?: Quantity | undefined;
+}
+
+/** The given strength on both scales, where the data allow: g/L of the strength formula and % w/w. */
+interface Scales {
+  readonly gPerL: DecT | null;
+  readonly massPercent: DecT | null;
+  readonly density: DecT | null;
+}
+
+function scalesOf(p: ProductStrengthInput, densityPointer: string): Scales {
+  const v = new Dec(p.strength.value);
+  const density = p.density ? toBaseDec('density', p.density, densityPointer) : null;
+  switch (p.strength.unit) {
+    case '% w/w':
+      return { massPercent: v, gPerL: density ? v.times(density).times(TEN) : null, density };
+    case '% w/v': {
+      const g = v.times(TEN);
+      return { gPerL: g, massPercent: density ? g.dividedBy(density.times(TEN)) : null, density };
+    }
+    default:
+      return { gPerL: v, massPercent: density ? v.dividedBy(density.times(TEN)) : null, density };
+  }
+}
+
+/** g of the strength formula per 100 g water; null when the solution would hold no water at all. */
+function per100gWater(s: Scales): { value: DecT | null; densityAssumed: boolean } {
+  if (s.massPercent) {
+    const water = HUNDRED.minus(s.massPercent);
+    return { value: water.greaterThan(0) ? s.massPercent.times(HUNDRED).dividedBy(water) : null, densityAssumed: false };
+  }
+  // g/L without a density: water (1.00 kg/L), as the batch check of src/dosing/feed.ts does for a dilute solution
+  const c = s.gPerL!;
+  const water = THOUSAND.minus(c);
+  return { value: water.greaterThan(0) ? c.times(HUNDRED).dividedBy(water) : null, densityAssumed: true };
+}
+
+/** The grade's strongest strength and refusal bound on both scales (the other scale through the grade's density). */
+function gradeScales(l: GradeLimit): { strongestGPerL: DecT; strongestPercent: DecT; refuseGPerL: DecT; refusePercent: DecT; rho: DecT } {
+  const rho = new Dec(l.strongest.densityKgPerL);
+  const sv = new Dec(l.strongest.value);
+  const strongestGPerL = l.strongest.unit === '% w/w' ? sv.times(rho).times(TEN) : l.strongest.unit === '% w/v' ? sv.times(TEN) : sv;
+  const strongestPercent = strongestGPerL.dividedBy(rho.times(TEN));
+  const rv = new Dec(l.refuseAbove.value);
+  const refuseGPerL = l.refuseAbove.unit === 'g/L' ? rv : rv.times(rho).times(TEN);
+  const refusePercent = l.refuseAbove.unit === '% w/w' ? rv : rv.dividedBy(rho.times(TEN));
+  return { strongestGPerL, strongestPercent, refuseGPerL, refusePercent, rho };
+}
+
+/** Compare a given strength with a grade row on the row's own scale when the data allow, else on the other. */
+function onGradeScale(l: GradeLimit, s: Scales): { given: DecT; strongest: DecT; refuse: DecT; scale: 'g/L' | '% w/w' } {
+  const g = gradeScales(l);
+  const preferGrams = l.refuseAbove.unit === 'g/L';
+  if ((preferGrams && s.gPerL) || !s.massPercent) return { given: s.gPerL!, strongest: g.strongestGPerL, refuse: g.refuseGPerL, scale: 'g/L' };
+  return { given: s.massPercent, strongest: g.strongestPercent, refuse: g.refusePercent, scale: '% w/w' };
+}
+
+const memoText = (fromMemory: boolean) => (fromMemory ? ', from memory; verify' : '');
+const givenText = (p: ProductStrengthInput) => `${p.strength.value} ${p.strength.unit}`;
+const densityText = (s: Scales) => (s.density ? ` at the given density ${f4(s.density)} kg/L` : '');
+
+// ---------------------------------------------------------------- refusal
+
+export interface StrengthLimitProblem extends FieldProblem {
+  readonly params: Readonly<Record<string, unknown>>;
+}
+
+/**
+ * A strength no solution of this product can have: the field problem at `${at}/strength/value`
+ * (at is the pointer of the product: /product in a dose request, /products/0 in a plant profile),
+ * naming the limit and its source; null when the strength is possible (or the product has no row).
+ */
+export function strengthLimitProblem(oxidantId: string, product: ProductStrengthInput, at = '/product'): StrengthLimitProblem | null {
+  const l = strengthLimitFor(oxidantId);
+  if (!l || l.kind === 'none') return null;
+  const s = scalesOf(product, `${at}/density`);
+  const pointer = `${at}/strength/value`;
+  if (l.kind === 'solubility') {
+    const w = per100gWater(s);
+    const limit = new Dec(l.gramsPer100gWater);
+    if (w.value !== null && !w.value.greaterThan(limit)) return null;
+    const needs = w.value === null ? `more ${l.strengthOf} than solution` : `${f4(w.value)} g ${l.strengthOf} per 100 g water${w.densityAssumed ? ' (taking the solution as 1.00 kg/L, water, since no density was given)' : densityText(s)}`;
+    const solid = l.oxidant === 'calcium-hypochlorite' || l.oxidant === 'potassium-permanganate';
+    return {
+      pointer,
+      message:
+        `${givenText(product)} ${l.strengthOf} would be ${needs}, above the ${l.gramsPer100gWater} g ${l.of} per 100 g water that dissolve at ${l.temperatureC} °C (${l.why}; source ${l.source}${memoText(l.fromMemory)}): no solution that strong can be made up` +
+        (solid ? '. product.strength is the strength of the solution made up from the solid; the assay of the solid itself goes in product.purity' : ''),
+      params: {
+        oxidant: l.oxidant,
+        strength: { value: product.strength.value, unit: product.strength.unit },
+        limit: { kind: 'solubility', gramsPer100gWater: l.gramsPer100gWater, of: l.of, temperatureC: l.temperatureC },
+        source: l.source,
+        fromMemory: l.fromMemory,
+      },
+    };
+  }
+  const c = onGradeScale(l, s);
+  if (!c.given.greaterThan(c.refuse)) return null;
+  const hypo = l.oxidant === 'sodium-hypochlorite';
+  const limitText = c.scale === l.refuseAbove.unit ? `${l.refuseAbove.value} ${l.refuseAbove.unit}` : `${f3(c.refuse)} ${c.scale} (${l.refuseAbove.value} ${l.refuseAbove.unit} through the ${l.strongest.densityKgPerL} kg/L of ${l.strongest.label})`;
+  const givenOnScale = `${givenText(product)}${product.strength.unit === c.scale ? '' : ` (${f4(c.given)} ${c.scale}${densityText(s)})`}`;
+  return {
+    pointer,
+    message:
+      `${givenOnScale} ${l.strengthOf} is above ${limitText}, the most this service takes for this product: ${l.refuseAbove.why} (source ${l.refuseAbove.source}); the strongest grade tabled is ${l.strongest.label} (tables/oxidants.json, source ${l.strongest.source}${memoText(l.strongest.fromMemory)}). Check the value and its unit` +
+      (hypo ? ' (trade % is % w/v: g/L available chlorine ÷ 10)' : ''),
+    params: {
+      oxidant: l.oxidant,
+      strength: { value: product.strength.value, unit: product.strength.unit },
+      limit: { kind: 'grade', refuseAbove: { value: l.refuseAbove.value, unit: l.refuseAbove.unit }, comparedOn: c.scale, comparedWith: c.refuse.toNumber(), strongestGrade: l.strongest.label },
+      source: l.refuseAbove.source,
+      gradeSource: l.strongest.source,
+    },
+  };
+}
+
+// ---------------------------------------------------------------- warnings (dose route)
+
+/** The lowest tabled temperature at which the solubility reaches `per100` (linear between points); null above the table. */
+function temperatureDissolving(ox: OxidantRow, per100: DecT): DecT | null {
+  const pts = (ox.solubility?.points ?? []).map((p) => ({ t: new Dec(p.temperatureC), v: new Dec(p.value) }));
+  for (let i = 0; i < pts.length; i++) {
+    const b = pts[i]!;
+    if (per100.lessThanOrEqualTo(b.v)) {
+      if (i === 0) return b.t;
+      const a = pts[i - 1]!;
+      return a.t.plus(b.t.minus(a.t).times(per100.minus(a.v)).dividedBy(b.v.minus(a.v)));
+    }
+  }
+  return null;
+}
+
+/**
+ * Warnings about a possible but unusual strength, for a dose: above the strongest grade tabled
+ * (but not by the refusal margin), or above the solubility at today's tank temperature (but not
+ * at the warmest temperature the table covers). Call after `strengthLimitProblem` found nothing.
+ * `checkSolubility` is false when the dose's batch check (BATCH_ABOVE_SOLUBILITY) covers it.
+ */
+export function strengthLimitFlags(ox: OxidantRow, product: ProductStrengthInput, tankTemperatureC: number, tankFrom: string, checkSolubility = true): Flag[] {
+  const l = strengthLimitFor(ox.id);
+  if (!l || l.kind === 'none') return [];
+  const s = scalesOf(product, '/product/density');
+  if (l.kind === 'grade') {
+    const c = onGradeScale(l, s);
+    if (!c.given.greaterThan(c.strongest)) return [];
+    const givenOnScale = `${givenText(product)}${product.strength.unit === c.scale ? '' : ` (${f4(c.given)} ${c.scale}${densityText(s)})`}`;
+    return [
+      {
+        code: 'STRENGTH_ABOVE_TRADE_GRADE',
+        severity: 'warning',
+        message: `The product strength, ${givenOnScale} ${l.strengthOf}, is above ${l.strongest.label}, the strongest grade tables/oxidants.json holds for ${ox.name.toLowerCase()} (source ${l.strongest.source}${memoText(l.strongest.fromMemory)}); it is refused above ${l.refuseAbove.value} ${l.refuseAbove.unit} (common practice). Check the strength on the certificate of analysis or measure it: the solution rate is computed for the strength given.`,
+        source: l.strongest.source,
+      },
+    ];
+  }
+  if (!checkSolubility || !l.fromSolubilityTable || !ox.solubility) return [];
+  const sol = solubilityAt(ox, tankTemperatureC);
+  const w = per100gWater(s);
+  if (!sol || w.value === null || !w.value.greaterThan(sol.value)) return [];
+  const warmAt = temperatureDissolving(ox, w.value);
+  return [
+    {
+      code: 'STRENGTH_ABOVE_SOLUBILITY',
+      severity: 'warning',
+      message:
+        `The product strength, ${givenText(product)} ${l.strengthOf} (${f3(w.value)} g per 100 g water${w.densityAssumed ? ', taking the solution as 1.00 kg/L, water' : densityText(s)}), is above the solubility of ${l.of} at the tank temperature of ${tankTemperatureC} °C, ${tankFrom}: ${f3(sol.value)} g per 100 g water (tables/oxidants.json, source ${ox.solubility.source}${memoText(l.fromMemory)})` +
+        `${warmAt ? `; it dissolves only in a tank at ${f3(warmAt)} °C or warmer, and crystals settle when it cools` : ''}. Make up a weaker solution, or give the batch (volume and tank temperature) for the batch check.`,
+      source: ox.solubility.source,
+    },
+  ];
+}
+
+// ---------------------------------------------------------------- start-up check against the tables
+
+/** Fed as a gas, by the oxidant row (chlorine gas, oxygen; ozone, generated on site as a gas). */
+export function oxidantFedAsGas(ox: OxidantRow): boolean {
+  return ox.form === 'gas' || (ox.form === 'generated' && ox.activeSpecies === 'O3');
+}
+
+/**
+ * The rows above against the loaded tables; problems as sentences naming both sides (empty when
+ * consistent). buildDosingContext throws TABLE_INVALID with them.
+ */
+export function checkStrengthLimits(t: { readonly oxidants: readonly OxidantRow[]; readonly sourceIds: ReadonlySet<string> }): string[] {
+  const problems: string[] = [];
+  const here = 'src/dosing/strength-limits.ts';
+  const byId = new Map(t.oxidants.map((o) => [o.id, o]));
+  for (const ox of t.oxidants) {
+    const gas = oxidantFedAsGas(ox);
+    if (gas !== FED_AS_GAS_IDS.has(ox.id)) problems.push(`tables/oxidants.json row ${ox.id} is ${gas ? '' : 'not '}fed as a gas, but ${here} FED_AS_GAS_IDS says ${gas ? 'not' : 'so'}`);
+    if (!gas && !LIMIT_OF.has(ox.id)) problems.push(`tables/oxidants.json row ${ox.id} is fed as a solution but has no row in ${here} STRENGTH_LIMITS (give its solubility, its strongest grade, or kind "none" with why)`);
+  }
+  for (const l of STRENGTH_LIMITS) {
+    const ox = byId.get(l.oxidant);
+    const row = `${here} row ${l.oxidant}`;
+    if (!ox) {
+      problems.push(`${row}: no such row in tables/oxidants.json`);
+      continue;
+    }
+    if (FED_AS_GAS_IDS.has(l.oxidant)) problems.push(`${row}: ${l.oxidant} is fed as a gas and has no product strength`);
+    if (l.kind === 'none') continue;
+    for (const src of l.kind === 'grade' ? [l.strongest.source, l.refuseAbove.source] : [l.source]) {
+      if (!t.sourceIds.has(src)) problems.push(`${row}: source "${src}" is not an id in tables/sources.json`);
+    }
+    if (l.kind === 'solubility') {
+      const pts = ox.solubility?.points ?? [];
+      if (l.fromSolubilityTable) {
+        const warmest = pts.reduce<(typeof pts)[number] | undefined>((m, p) => (m === undefined || new Dec(p.temperatureC).greaterThan(m.temperatureC) ? p : m), undefined);
+        if (!warmest) problems.push(`${row}: fromSolubilityTable, but tables/oxidants.json row ${l.oxidant} has no solubility table`);
+        else if (!new Dec(warmest.value).equals(l.gramsPer100gWater) || !new Dec(warmest.temperatureC).equals(l.temperatureC) || ox.solubility!.source !== l.source) {
+          problems.push(`${row}: ${l.gramsPer100gWater} g per 100 g water at ${l.temperatureC} °C (source ${l.source}) is not the warmest point of the solubility table of tables/oxidants.json row ${l.oxidant} (${warmest.value} at ${warmest.temperatureC} °C, source ${ox.solubility!.source})`);
+        }
+        if (ox.solubility && !ox.solubility.unit.startsWith(`g ${l.of} `)) problems.push(`${row}: the solubility table of tables/oxidants.json row ${l.oxidant} is in "${ox.solubility.unit}", not g ${l.of}`);
+      } else if (pts.length > 0) {
+        problems.push(`${row}: tables/oxidants.json row ${l.oxidant} now has a solubility table; take the limit from it (fromSolubilityTable)`);
+      }
+    } else {
+      const same = ox.strength.nominal.find((n) => n.value === l.strongest.value && n.unit === l.strongest.unit);
+      if (!same || same.densityKgPerL === undefined || !new Dec(same.densityKgPerL).equals(l.strongest.densityKgPerL) || same.source !== l.strongest.source) {
+        problems.push(`${row}: the strongest grade ${l.strongest.label} (${l.strongest.value} ${l.strongest.unit}, ${l.strongest.densityKgPerL} kg/L, source ${l.strongest.source}) is not a strength row of tables/oxidants.json row ${l.oxidant}`);
+      }
+      const g = gradeScales(l);
+      if (!g.refuseGPerL.greaterThan(g.strongestGPerL)) problems.push(`${row}: the refusal bound is not above the strongest grade`);
+      for (const n of ox.strength.nominal) {
+        const ns = scalesOf({ strength: { value: Number(n.value), unit: n.unit }, ...(n.densityKgPerL ? { density: { value: Number(n.densityKgPerL), unit: 'kg/L' } } : {}) }, '');
+        const c = onGradeScale(l, ns);
+        if (c.given.greaterThan(c.strongest)) problems.push(`${row}: tables/oxidants.json row ${l.oxidant} holds ${n.label}, stronger than the strongest grade named here (${l.strongest.label})`);
+      }
+    }
+    // no tabled strength may be refused
+    for (const n of ox.strength.nominal) {
+      const p = strengthLimitProblem(l.oxidant, { strength: { value: Number(n.value), unit: n.unit }, ...(n.densityKgPerL ? { density: { value: Number(n.densityKgPerL), unit: 'kg/L' } } : {}) });
+      if (p) problems.push(`${row}: the tabled strength ${n.label} of tables/oxidants.json would be refused: ${p.message}`);
+    }
+  }
+  return problems;
+}
