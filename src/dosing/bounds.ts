@@ -182,7 +182,7 @@ export const STOCK_MAX_KG = new Dec('10000000');
 export const BATCH_MAX_L = new Dec('1000000');
 /**
  * Product strength: a feed solution weaker than 0.1 g/L (0.01 %) is not one (common practice). The upper end depends on
- * the product (its solubility or strongest grade): src/dosing/strength-limits.ts.
+ * the product (its solubility or strongest grade): tables/strength-limits.json.
  */
 export const STRENGTH_MIN_G_PER_L = new Dec('0.1');
 export const STRENGTH_MIN_PERCENT = new Dec('0.01');

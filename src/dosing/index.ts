@@ -130,12 +130,12 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
   const constants = constantsFrom(tables);
   const ledger = deps.ledger ?? buildLedger(tables);
   const oxidants = new Map(tables.oxidants.map((o) => [o.id, o]));
-  // the strongest solution of each product (src/dosing/strength-limits.ts) against the tables it cites
+  // the strongest solution of each product (tables/strength-limits.json) against the tables it cites
   const limitProblems = checkStrengthLimits({ oxidants: tables.oxidants, sourceIds: new Set(tables.sources.map((s) => s.id)) });
   if (limitProblems.length > 0) {
     throw new DomainError('TABLE_INVALID', {
-      detail: `The product strength limits disagree with the tables: ${limitProblems.join('; ')}. Fix src/dosing/strength-limits.ts or the table row, with its source.`,
-      params: { file: 'src/dosing/strength-limits.ts', problems: limitProblems },
+      detail: `The product strength limits disagree with the tables: ${limitProblems.join('; ')}. Fix tables/strength-limits.json or the other table's row, with its source.`,
+      params: { file: 'tables/strength-limits.json', problems: limitProblems },
     });
   }
   const molarMemo = new Map<string, DecT>();

@@ -261,7 +261,7 @@ export function checkDoseRequest(req: DoseRequest): void {
   }
   // flow, contact, strength, pump, stock, batch, residual and demand within a plant's range (src/dosing/bounds.ts)
   fields.push(...quantityBoundProblems(req));
-  // a strength no solution of the product can have: above its solubility, or far above its strongest grade (src/dosing/strength-limits.ts)
+  // a strength no solution of the product can have: above its solubility, or far above its strongest grade (tables/strength-limits.json)
   let strengthLimit: StrengthLimitProblem | null = null;
   if (req.product && !fields.some((f) => f.pointer.startsWith('/product/'))) {
     strengthLimit = strengthLimitProblem(req.oxidant, req.product, '/product');

@@ -12,25 +12,25 @@
  *   as trade %, the purity of a solid entered as a solution strength);
  * - gases (chlorine gas, ozone, oxygen) have no product strength at all (refused where given).
  *
- * Why the rows live here and not as a column of tables/oxidants.json: a plant profile is checked
- * when it is stored, by `parsePlantProfile`, which is given the profile only (no tables). So the
- * rows are here, validated with zod when this module loads, and `checkStrengthLimits` (run by
- * `buildDosingContext` at start-up) checks them against the loaded tables: every source id
+ * The rows are tables/strength-limits.json, read and validated with zod (as every table) when this
+ * module loads, because a plant profile is checked when it is stored, by `parsePlantProfile`,
+ * which is given the profile only. `checkStrengthLimits` (run by `buildDosingContext` at start-up)
+ * checks them against the other loaded tables: every source id
  * resolves in tables/sources.json, the strongest grade is the strongest strength row of
  * tables/oxidants.json (same value, unit, density and source), a solubility taken from the
  * table is the table's warmest point, no tabled strength is refused, and every oxidant of the
- * table is either fed as a gas or has a row here. A change to either side that breaks this stops
+ * table is either fed as a gas or has a row in tables/strength-limits.json. A change to either side that breaks this stops
  * the service at start-up with TABLE_INVALID naming both.
  *
  * Arithmetic is Decimal: g/L = % w/w × density (kg/L) × 10; % w/v = g/L ÷ 10 (for hypochlorite,
  * trade percent); g per 100 g water = 100 × w ÷ (100 − w) for a mass percent w, or 100 × c ÷
  * (1000 × density − c) for c g/L.
  */
-import { z } from 'zod';
 import { Dec, type Dec as DecT } from '../core/decimal.js';
 import type { FieldProblem } from '../core/errors.js';
 import { toBaseDec, type Quantity } from '../core/quantity.js';
-import { DecimalText, type OxidantRow } from '../reference/dosing-schemas.js';
+import { type GradeLimit, type OxidantRow, type SolubilityLimit, type StrengthLimit } from '../reference/dosing-schemas.js';
+import { loadTables } from '../reference/load.js';
 import { solubilityAt } from './feed.js';
 import { roundSigNumber } from './round.js';
 import type { Flag } from './types.js';
@@ -45,115 +45,9 @@ export const GAS_FEEDER_TEXT: Readonly<Record<string, string>> = {
   oxygen: 'oxygen is supplied by aeration; the aerator transfers a mass of O2, not a solution volume',
 };
 
-/** An oxidant id of tables/oxidants.json (that the row exists is checked at start-up; request.ts, which lists the ids, imports this module). */
-const OxidantId = z.string().regex(/^[a-z0-9-]+$/);
-const SourceId = z.string().min(1);
-
-const SolubilityLimitSchema = z.strictObject({
-  oxidant: OxidantId,
-  kind: z.literal('solubility'),
-  /** What the strength of a request is of, in words ("KMnO4", "available chlorine as Cl2"). */
-  strengthOf: z.string().min(1),
-  /** What the solubility figure is of (KMnO4, Ca(OCl)2). */
-  of: z.string().min(1),
-  gramsPer100gWater: DecimalText,
-  temperatureC: DecimalText,
-  /** The figure is the warmest point of the oxidant's solubility table in tables/oxidants.json (checked at start-up). */
-  fromSolubilityTable: z.boolean(),
-  why: z.string().min(1),
-  source: SourceId,
-  fromMemory: z.boolean(),
-  note: z.string().min(1),
-});
-
-const GradeLimitSchema = z.strictObject({
-  oxidant: OxidantId,
-  kind: z.literal('grade'),
-  strengthOf: z.string().min(1),
-  /** The strongest strength row of tables/oxidants.json for the product (checked at start-up). */
-  strongest: z.strictObject({ label: z.string().min(1), value: DecimalText, unit: z.enum(['% w/w', '% w/v', 'g/L']), densityKgPerL: DecimalText, source: SourceId, fromMemory: z.boolean() }),
-  /** Above this (on its scale; the other scale is converted with the strongest grade's density) the strength is refused. */
-  refuseAbove: z.strictObject({ value: DecimalText, unit: z.enum(['% w/w', 'g/L']), why: z.string().min(1), source: SourceId }),
-});
-
-const NoLimitSchema = z.strictObject({ oxidant: OxidantId, kind: z.literal('none'), why: z.string().min(1) });
-
-export const StrengthLimitSchema = z.discriminatedUnion('kind', [SolubilityLimitSchema, GradeLimitSchema, NoLimitSchema]);
-export type StrengthLimit = z.infer<typeof StrengthLimitSchema>;
-type SolubilityLimit = z.infer<typeof SolubilityLimitSchema>;
-type GradeLimit = z.infer<typeof GradeLimitSchema>;
-
-/** The rows. Every figure names its source; a figure recalled from memory says so (fromMemory, and the note). */
-export const STRENGTH_LIMITS: readonly StrengthLimit[] = z.array(StrengthLimitSchema).parse([
-  {
-    oxidant: 'potassium-permanganate',
-    kind: 'solubility',
-    strengthOf: 'KMnO4',
-    of: 'KMnO4',
-    gramsPer100gWater: '22.2',
-    temperatureC: '60',
-    fromSolubilityTable: true,
-    why: 'the warmest point of the potassium permanganate solubility table (tables/oxidants.json): no tank temperature the table covers dissolves more',
-    source: 'perry-8-solubility',
-    fromMemory: true,
-    note: 'The 60 °C point of the solubility table of tables/oxidants.json, whose values are from memory of the handbook table; verify.',
-  },
-  {
-    oxidant: 'calcium-hypochlorite',
-    kind: 'solubility',
-    strengthOf: 'available chlorine as Cl2',
-    of: 'Ca(OCl)2',
-    gramsPer100gWater: '21',
-    temperatureC: '25',
-    fromSolubilityTable: false,
-    why: 'calcium hypochlorite dissolves to roughly 21 g per 100 mL of water at about 25 °C, and a gram of it carries 0.99 g available chlorine',
-    source: 'crc-97-inorganic-constants',
-    fromMemory: true,
-    note:
-      'From memory (about 21 g Ca(OCl)2 per 100 mL of water at 25 °C); verify. Taken as g per 100 g of water (water about 1 g/mL) and compared with the available chlorine of the solution: 142.98 g of Ca(OCl)2 carries 2 × 70.90 = 141.8 g available chlorine, so the two differ by under 1 %, inside the roughness of the figure. One temperature only, so there is no warm-tank band.',
-  },
-  {
-    oxidant: 'sodium-hypochlorite',
-    kind: 'grade',
-    strengthOf: 'available chlorine as Cl2',
-    strongest: { label: '15 trade % (150 g/L available chlorine)', value: '15', unit: '% w/v', densityKgPerL: '1.21', source: 'whites-handbook-5', fromMemory: true },
-    refuseAbove: {
-      value: '200',
-      unit: 'g/L',
-      why: 'a third above 15 trade %, the strongest hypochlorite the tables hold; trade hypochlorite tops out at about 15 to 16 trade % (150 to 160 g/L) and none is shipped at 20 trade % (common practice)',
-      source: 'operator-practice',
-    },
-  },
-  {
-    oxidant: 'sodium-permanganate',
-    kind: 'grade',
-    strengthOf: 'NaMnO4',
-    strongest: { label: '40 % w/w NaMnO4', value: '40', unit: '% w/w', densityKgPerL: '1.37', source: 'awwa-b603', fromMemory: true },
-    refuseAbove: {
-      value: '50',
-      unit: '% w/w',
-      why: 'a quarter above the 40 % w/w concentrate, the strongest sodium permanganate the tables hold and the strongest shipped (common practice)',
-      source: 'operator-practice',
-    },
-  },
-  {
-    oxidant: 'hydrogen-peroxide',
-    kind: 'grade',
-    strengthOf: 'H2O2',
-    strongest: { label: '50 % w/w H2O2', value: '50', unit: '% w/w', densityKgPerL: '1.20', source: 'crc-97-concentrative', fromMemory: true },
-    refuseAbove: {
-      value: '80',
-      unit: '% w/w',
-      why: 'above the 70 % w/w technical grade, the strongest shipped for industry (from memory); stronger peroxide is propellant grade, never a water-treatment feed (common practice)',
-      source: 'operator-practice',
-    },
-  },
-  {
-    oxidant: 'chlorine-dioxide',
-    kind: 'none',
-    why: 'the strength is that of the solution the generator makes on site, which depends on the generator; no published limit is held, so only the request ranges apply',
-  },
-]);
+/** The rows of tables/strength-limits.json (validated with zod as the tables are; see src/reference/dosing-schemas.ts). */
+export type { StrengthLimit };
+export const STRENGTH_LIMITS: readonly StrengthLimit[] = loadTables(['strengthLimits']).strengthLimits;
 
 const LIMIT_OF = new Map(STRENGTH_LIMITS.map((l) => [l.oxidant, l]));
 
@@ -359,12 +253,12 @@ export function oxidantFedAsGas(ox: OxidantRow): boolean {
  */
 export function checkStrengthLimits(t: { readonly oxidants: readonly OxidantRow[]; readonly sourceIds: ReadonlySet<string> }): string[] {
   const problems: string[] = [];
-  const here = 'src/dosing/strength-limits.ts';
+  const here = 'tables/strength-limits.json';
   const byId = new Map(t.oxidants.map((o) => [o.id, o]));
   for (const ox of t.oxidants) {
     const gas = oxidantFedAsGas(ox);
-    if (gas !== FED_AS_GAS_IDS.has(ox.id)) problems.push(`tables/oxidants.json row ${ox.id} is ${gas ? '' : 'not '}fed as a gas, but ${here} FED_AS_GAS_IDS says ${gas ? 'not' : 'so'}`);
-    if (!gas && !LIMIT_OF.has(ox.id)) problems.push(`tables/oxidants.json row ${ox.id} is fed as a solution but has no row in ${here} STRENGTH_LIMITS (give its solubility, its strongest grade, or kind "none" with why)`);
+    if (gas !== FED_AS_GAS_IDS.has(ox.id)) problems.push(`tables/oxidants.json row ${ox.id} is ${gas ? '' : 'not '}fed as a gas, but src/dosing/strength-limits.ts FED_AS_GAS_IDS says ${gas ? 'not' : 'so'}`);
+    if (!gas && !LIMIT_OF.has(ox.id)) problems.push(`tables/oxidants.json row ${ox.id} is fed as a solution but has no row in ${here} (give its solubility, its strongest grade, or kind "none" with why)`);
   }
   for (const l of STRENGTH_LIMITS) {
     const ox = byId.get(l.oxidant);

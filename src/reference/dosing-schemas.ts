@@ -163,6 +163,49 @@ export type OxygenSaturationRow = z.infer<typeof OxygenSaturationRowSchema>;
  * Table specs in the shape of src/reference/schemas.ts TableSpec (built here without importing
  * schemas.ts, which imports this file): file, table name, row schema, id column, source columns.
  */
+// ---------------------------------------------------------------- strength limits (tables/strength-limits.json)
+// The strongest solution each product can be fed as: a solid's solubility, or the strongest trade
+// grade with the strength above which a request is refused as a slip. Checked against
+// tables/oxidants.json and tables/sources.json at start-up (src/dosing/strength-limits.ts).
+
+/** An oxidant id of tables/oxidants.json (that the row exists is checked at start-up by src/dosing/strength-limits.ts). */
+const LimitOxidantId = z.string().regex(/^[a-z0-9-]+$/);
+const LimitSourceId = z.string().min(1);
+
+const SolubilityLimitSchema = z.strictObject({
+  oxidant: LimitOxidantId,
+  kind: z.literal('solubility'),
+  /** What the strength of a request is of, in words ("KMnO4", "available chlorine as Cl2"). */
+  strengthOf: z.string().min(1),
+  /** What the solubility figure is of (KMnO4, Ca(OCl)2). */
+  of: z.string().min(1),
+  gramsPer100gWater: DecimalText,
+  temperatureC: DecimalText,
+  /** The figure is the warmest point of the oxidant's solubility table in tables/oxidants.json (checked at start-up). */
+  fromSolubilityTable: z.boolean(),
+  why: z.string().min(1),
+  source: LimitSourceId,
+  fromMemory: z.boolean(),
+  note: z.string().min(1),
+});
+
+const GradeLimitSchema = z.strictObject({
+  oxidant: LimitOxidantId,
+  kind: z.literal('grade'),
+  strengthOf: z.string().min(1),
+  /** The strongest strength row of tables/oxidants.json for the product (checked at start-up). */
+  strongest: z.strictObject({ label: z.string().min(1), value: DecimalText, unit: z.enum(['% w/w', '% w/v', 'g/L']), densityKgPerL: DecimalText, source: LimitSourceId, fromMemory: z.boolean() }),
+  /** Above this (on its scale; the other scale is converted with the strongest grade's density) the strength is refused. */
+  refuseAbove: z.strictObject({ value: DecimalText, unit: z.enum(['% w/w', 'g/L']), why: z.string().min(1), source: LimitSourceId }),
+});
+
+const NoLimitSchema = z.strictObject({ oxidant: LimitOxidantId, kind: z.literal('none'), why: z.string().min(1) });
+
+export const StrengthLimitSchema = z.discriminatedUnion('kind', [SolubilityLimitSchema, GradeLimitSchema, NoLimitSchema]);
+export type StrengthLimit = z.infer<typeof StrengthLimitSchema>;
+export type SolubilityLimit = z.infer<typeof SolubilityLimitSchema>;
+export type GradeLimit = z.infer<typeof GradeLimitSchema>;
+
 const spec = <Row>(file: string, table: string, row: z.ZodType<Row>) => ({ file, table, row, idColumn: 'id', sourceColumns: ['source'] as readonly string[] }) as const;
 
 /** Registry entries of the dosing tables; spread into TABLE_REGISTRY. */
@@ -172,6 +215,8 @@ export const DOSING_TABLE_SPECS = {
   limits: spec('limits.json', 'limits', LimitRowSchema),
   cautions: spec('cautions.json', 'cautions', CautionRowSchema),
   oxygenSaturation: spec('oxygen-saturation.json', 'oxygen-saturation', OxygenSaturationRowSchema),
+  // sources sit in nested fields of some rows: resolved by checkStrengthLimits at start-up
+  strengthLimits: { file: 'strength-limits.json', table: 'strength-limits', row: StrengthLimitSchema, idColumn: 'oxidant', sourceColumns: [] as readonly string[] },
 } as const;
 
 /**

@@ -163,7 +163,7 @@ describe('plant products and bounds', () => {
     expect(e.fields.map((f) => f.pointer)).toContain(pointer);
   });
 
-  // The limits of src/dosing/strength-limits.ts, the same as a dose request's: hypochlorite refused above 200 g/L available
+  // The limits of tables/strength-limits.json, the same as a dose request's: hypochlorite refused above 200 g/L available
   // chlorine (a third above the 15 trade % row, White's Handbook 5th ed., memory; common practice); potassium permanganate
   // above its 22.2 g per 100 g water at 60 °C (Perry's 8th ed. solubility table, memory); calcium hypochlorite above roughly
   // 21 g per 100 mL water (CRC Handbook 97th ed., memory).

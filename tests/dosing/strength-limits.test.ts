@@ -1,5 +1,5 @@
 /**
- * The strongest solution each product can be fed as (src/dosing/strength-limits.ts), through
+ * The strongest solution each product can be fed as (tables/strength-limits.json, checked by src/dosing/strength-limits.ts), through
  * parseDoseRequest and computeDose: a strength no solution can have is refused naming
  * /product/strength/value with the limit and its source; a possible but unusual one gets a warning.
  *
@@ -203,6 +203,6 @@ describe('the limits against the tables (checked when the dosing context is buil
     }
     expect(isDomainError(err) && err.code).toBe('TABLE_INVALID');
     expect((err as DomainError).detail).toMatch(message);
-    expect((err as DomainError).detail).toContain('src/dosing/strength-limits.ts');
+    expect((err as DomainError).detail).toContain('tables/strength-limits.json');
   });
 });

@@ -470,7 +470,7 @@ const badInput: BadCase[] = [
   ['contact volume 1e300 m3 at 1 MGD', (b) => { b.flow = { value: 1, unit: 'MGD' }; b.contactVolume = { value: 1e300, unit: 'm3' }; }, 400, '/contactVolume/value', /more than 30 days/],
   ['ozone with a strength in % w/w', (b) => { b.oxidant = 'ozone'; b.product = { strength: { value: 5, unit: '% w/w' } }; }, 400, '/product/strength', /as a gas/],
   ['hypochlorite 1 % w/w with no density (outside the tabled densities)', (b) => (b.product = { strength: { value: 1, unit: '% w/w' } }), 422, '/product/strength', /not extrapolated/],
-  // strengths no solution of the product can have (src/dosing/strength-limits.ts): a range of the field, 400 like the other strength bounds.
+  // strengths no solution of the product can have (tables/strength-limits.json): a range of the field, 400 like the other strength bounds.
   // Hypochlorite: a third above 15 trade % = 150 g/L (White's Handbook 5th ed., memory), refused above 200 g/L (common practice).
   ['hypochlorite 500 g/L', (b) => (b.product = { strength: { value: 500, unit: 'g/L' } }), 400, '/product/strength/value', /above 200 g\/L.*source operator-practice.*15 trade %.*source whites-handbook-5/],
   ['hypochlorite 30 % w/v (trade %: 300 g/L)', (b) => (b.product = { strength: { value: 30, unit: '% w/v' } }), 400, '/product/strength/value', /300 g\/L.*above 200 g\/L/],
@@ -567,7 +567,7 @@ describe('POST /api/v1/plants', () => {
     ['missing name', (({ name: _n, ...p }) => p)(profile), '/name'],
     ['unknown product oxidant', { ...profile, products: [{ ...profile.products[0], oxidant: 'bleach-x' }] }, '/products/0/oxidant'],
     ['density out of range', { ...profile, products: [{ ...profile.products[0], density: { value: 3, unit: 'kg/L' } }] }, '/products/0/density/value'],
-    // the strength limits of a dose request (src/dosing/strength-limits.ts; sources as in the bad-input cases above)
+    // the strength limits of a dose request (tables/strength-limits.json; sources as in the bad-input cases above)
     ['hypochlorite 500 g/L', { ...profile, products: [{ ...profile.products[0], strength: { value: 500, unit: 'g/L' } }] }, '/products/0/strength/value'],
     ['hypochlorite 30 % w/v', { ...profile, products: [{ ...profile.products[0], strength: { value: 30, unit: '% w/v' } }] }, '/products/0/strength/value'],
     ['permanganate 25 % w/v', { ...profile, products: [{ oxidant: 'potassium-permanganate', strength: { value: 25, unit: '% w/v' } }] }, '/products/0/strength/value'],
