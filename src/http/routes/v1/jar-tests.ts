@@ -342,7 +342,7 @@ export function makeJarPlan(services: Services, body: JarPlanBodyT) {
     planPointer(body),
   );
   const flagWarnings: JarProblem[] = residualFlags.map((f) => ({ code: f.code, severity: f.severity === 'danger' || f.severity === 'warning' ? 'warning' : 'info', message: f.message }));
-  if (plantResidualNote !== null && !fromPlant.includes('targetResidual')) flagWarnings.push({ code: 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT', severity: 'info', message: plantResidualNote });
+  if (plantResidualNote !== null && !fromPlant.includes('targetResidual')) flagWarnings.push({ code: 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT', severity: 'warning', message: plantResidualNote });
   const withFlags: JarTestPlan = flagWarnings.length > 0 ? { ...plan, warnings: [...plan.warnings, ...flagWarnings] } : plan;
   const residualSource: 'request' | 'plant profile' | 'not given' = fromPlant.includes('targetResidual') ? 'plant profile' : targetResidual !== undefined ? 'request' : 'not given';
   const plantInfo = plant === null ? null : { id: plant.profile.id, name: plant.profile.name, version: plant.version, invented: plant.profile.invented, fromPlant };
