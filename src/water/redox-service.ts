@@ -13,7 +13,7 @@ import type { Dec } from '../core/decimal.js';
 import { parseFormula, speciesKey, formatEquationUnicode } from '../chemistry/formula/index.js';
 import type { Species } from '../chemistry/formula/types.js';
 import { balanceRedox, halfReaction, mediumForPH, type HalfReaction, type Medium } from '../chemistry/balance/index.js';
-import { CARRIED_FROM_ACID_NOTE, standardPotential, type PotentialResult, type DerivationStep, type SiteValue } from '../chemistry/thermo/derive.js';
+import { standardPotential, type PotentialResult, type DerivationStep, type SiteValue } from '../chemistry/thermo/derive.js';
 import type { Ledger } from '../chemistry/thermo/ledger.js';
 import { nernst, type ActivityUsed, type NernstResult } from './conditions.js';
 import { evaluateCell } from './cell.js';
@@ -723,9 +723,9 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     const note = unitActivityNote(half.notGiven, where);
     if (note) notes.push(note);
   }
-  // the halves' caveats on E° (the explanation of a base-medium E° is on couples/potential)
-  const caveats = (p: PotentialResult) => p.notes.filter((n) => n !== CARRIED_FROM_ACID_NOTE);
-  notes.push(...halfNotes([['Oxidant couple', caveats(pOx)], ['Reductant couple', caveats(pRed)]]));
+  // the halves' caveats on E° at the water's temperature; the rest (how a base-medium E° is carried,
+  // tabled rows that disagree) is on couples/potential, to keep this most-called answer lean
+  notes.push(...halfNotes([['Oxidant couple', pOx.temperatureNotes], ['Reductant couple', pRed.temperatureNotes]]));
   if (iBasis === 'none' && givenCharged([cell.oxidant, cell.reductant], charges)) {
     notes.push(
       gammaOneNote(
@@ -739,7 +739,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
       ),
     );
   }
-  if (res) notes.push(res.note);
+  // (what the residual means is stated once, in the response schema; a note only where it is shaky)
   if (res && (cell.oxidant.notGiven.length > 0 || cell.reductant.notGiven.length > 0)) {
     notes.push(
       'The equilibrium residual holds every other activity where it is, including those taken at unit activity (1 mol/L): ' +

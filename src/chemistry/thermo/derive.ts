@@ -93,6 +93,8 @@ export interface PotentialResult {
    * whether or not the temperature correction of E° is on, so that both forms give one potential.
    */
   readonly waterIonisationShiftV: number;
+  /** The notes on E° away from 25 °C (temperature data extrapolated or missing, correction off); each is also in notes. */
+  readonly temperatureNotes: readonly string[];
   readonly standardPotentialAtTemperatureV: number;
   readonly derivation: readonly DerivationStep[];
   readonly usedValue: 'tabled' | 'derived' | 'override';
@@ -620,6 +622,8 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
   if (!derived && !options.override) throw notDerivable(equation, 'the tables hold no reactions that add up to it');
 
   const notes: string[] = [];
+  /** The caveats on E° away from 25 °C (extrapolated, held, turned off): also in notes. */
+  const temperatureNotes: string[] = [];
   let tablesV: number | null = null;
   let tabledCheck: TabledCheck | undefined;
   let derivation: DerivationStep[] = [];
@@ -671,9 +675,13 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
       const atT = combinationG(parts, ledger, T);
       correction = toReductionV(atT.g - combinationG(parts, ledger, ledger.constants.T25).g);
       notes.push(...atT.notes);
+      temperatureNotes.push(...atT.notes);
     }
   }
-  if (temperatureC !== 25 && options.temperatureCorrection === false) notes.push('Temperature correction of E° turned off by the request.');
+  if (temperatureC !== 25 && options.temperatureCorrection === false) {
+    notes.push('Temperature correction of E° turned off by the request.');
+    temperatureNotes.push('Temperature correction of E° turned off by the request.');
+  }
   // The base-medium form at the temperature: its acid form's E° carried through Kw at the water's
   // temperature (the pH scale of that water), whether or not the E° itself is corrected.
   const carry = acidForm?.carry ?? siteCarryPart(vector, options, ledger);
@@ -730,6 +738,7 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
       : {}),
     alternatives,
     notes,
+    temperatureNotes,
   };
 }
 
