@@ -59,6 +59,7 @@ export const ERROR_CATALOGUE = {
 
   // thermodynamics
   POTENTIAL_NOT_DERIVABLE: { kind: 'unprocessable', title: 'No combination of tabled reactions gives this half-reaction' },
+  SITE_VALUE_MEDIUM_UNCLEAR: { kind: 'invalid', title: 'A site value reads as the E° of the other form of its couple' },
   ACTIVITY_INVALID: { kind: 'invalid', title: 'An activity or concentration is not usable' },
   CONDITIONS_OUT_OF_RANGE: { kind: 'invalid', title: 'Conditions outside the range the method covers' },
 

@@ -13,7 +13,7 @@
  * Activity coefficients by Davies from the ionic strength estimated from TDS (Langelier); without TDS, γ = 1.
  */
 import type { Dec as DecT } from '../core/decimal.js';
-import { DomainError } from '../core/errors.js';
+import { DomainError, isDomainError } from '../core/errors.js';
 import { speciesKey } from '../chemistry/formula/index.js';
 import { halfReaction, type HalfReaction, type Medium } from '../chemistry/balance/index.js';
 import { standardPotential, type PotentialResult } from '../chemistry/thermo/derive.js';
@@ -137,11 +137,21 @@ export function unusedPotentialOverrides(
 }
 
 function potentialOf(half: HalfReaction, temperatureC: number, deps: FeasibilityDeps, overrides: readonly PotentialOverride[] | undefined): PotentialResult {
-  const ov = overrides?.find((o) => overrideMatches(o, half));
-  const key = `${half.equation}|${temperatureC}|${ov ? `${ov.standardPotentialV}|${ov.source}|${ov.medium ?? 'acid'}` : ''}`;
+  const index = overrides?.findIndex((o) => overrideMatches(o, half)) ?? -1;
+  const ov = index >= 0 ? overrides![index] : undefined;
+  // a site value without a medium is checked for which form it reads as (see derive.ts): not the same key as "acid"
+  const key = `${half.equation}|${temperatureC}|${ov ? `${ov.standardPotentialV}|${ov.source}|${ov.medium ?? 'unstated'}` : ''}`;
   let r = deps.potentialMemo.get(key);
   if (!r) {
-    r = standardPotential(half, deps.ledger, { basis: 'acid', temperatureC, ...(ov ? { override: { valueV: ov.standardPotentialV, source: ov.source, ...(ov.medium ? { medium: ov.medium } : {}) } } : {}) });
+    try {
+      r = standardPotential(half, deps.ledger, { basis: 'acid', temperatureC, ...(ov ? { override: { valueV: ov.standardPotentialV, source: ov.source, ...(ov.medium ? { medium: ov.medium } : {}) } } : {}) });
+    } catch (e) {
+      if (isDomainError(e) && e.fields.some((f) => f.pointer === '/override/medium')) {
+        const at = `/options/potentialOverrides/${index}/medium`;
+        throw e.withFields((fields) => fields.map((f) => (f.pointer === '/override/medium' ? { pointer: at, message: f.message } : f)), e.detail);
+      }
+      throw e;
+    }
     deps.potentialMemo.set(key, r);
   }
   return r;

@@ -564,6 +564,8 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
         );
       } catch (e) {
         if (!(e instanceof DomainError)) throw e;
+        // a site value that reads as the other form of its couple is the caller's to settle, not a gap in the tables
+        if (e.code === 'SITE_VALUE_MEDIUM_UNCLEAR') throw e;
         notes.push(`Feasibility of ${ox.name} with ${ct.name.toLowerCase()} not evaluated: ${e.detail}`);
         flags.push({ code: 'FEASIBILITY_NOT_EVALUATED', severity: 'info', message: `Feasibility of ${ox.name} with ${ct.name.toLowerCase()} could not be evaluated: ${e.detail}`, source: ox.source });
       }

@@ -189,10 +189,14 @@ function potentialFor(
         ...(opts.override ? { override: opts.override } : {}),
       });
     } catch (e) {
-      // the ledger speaks of the half-reaction's equation; in this request that is the couple itself
-      if (!isDomainError(e) || !e.fields.some((f) => f.pointer === '/equation')) throw e;
       // on the cell route a site value goes in standardPotentials.oxidant / .reductant
       const siteField = pointer === '/oxidant' || pointer === '/reductant' ? `standardPotentials.${pointer.slice(1)}` : 'standardPotentialV';
+      if (isDomainError(e) && e.fields.some((f) => f.pointer === '/override/medium')) {
+        const at = `/${siteField.replace('.', '/')}/medium`;
+        throw e.withFields((fields) => fields.map((f) => (f.pointer === '/override/medium' ? { pointer: at, message: f.message } : f)), e.detail);
+      }
+      // the ledger speaks of the half-reaction's equation; in this request that is the couple itself
+      if (!isDomainError(e) || !e.fields.some((f) => f.pointer === '/equation')) throw e;
       throw e.withFields(
         (fields) => fields.map((f) => (f.pointer === '/equation' ? { pointer, message: f.message } : f)),
         e.detail.replace('(standardPotentialV)', `(${siteField})`),

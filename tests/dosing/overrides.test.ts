@@ -32,6 +32,27 @@ describe('options.potentialOverrides', () => {
     expect(caught.fields[0]!.message).toMatch(/Fe\(OH3.*parenthesis/);
   });
 
+  it('a base-medium handbook value sent without a medium is refused, naming the override\'s medium, not read as the H+ form', () => {
+    // OCl- + H2O + 2e- = Cl- + 2OH-, 0.89 V (Bratsch 1989, base medium): read as the H+ form it would be off by
+    // (1/1)·s·pKw ≈ 0.83 V (m/n = 2 OH- per 2 e-; s = RT ln10/F, pKw ≈ 14.0 at 25 °C)
+    let caught: unknown;
+    try {
+      dose(hypochlorite(8, [{ from: 'OCl-', to: 'Cl-', standardPotentialV: 0.89, source: 'Bratsch 1989, base medium' }]));
+    } catch (e) {
+      caught = e;
+    }
+    expect(isDomainError(caught) && caught.code).toBe('SITE_VALUE_MEDIUM_UNCLEAR');
+    if (!isDomainError(caught)) return;
+    expect(caught.fields.map((f) => f.pointer)).toEqual(['/options/potentialOverrides/0/medium']);
+    expect(caught.detail).toMatch(/off by about 0\.8\d\d V/);
+    expect(Math.abs((caught.params as { acidFormV: number; baseFormV: number }).acidFormV - (caught.params as { baseFormV: number }).baseFormV - S25 * 14)).toBeLessThan(0.01);
+    // with the medium said, it is used, carried to no other form at pH 8
+    const r = dose(hypochlorite(8, [{ from: 'OCl-', to: 'Cl-', standardPotentialV: 0.89, source: 'Bratsch 1989, base medium', medium: 'base' }]));
+    expect(r.feasibility.every((f) => f.oxidantCouple.usedValue === 'override')).toBe(true);
+    // an acid-form value near the acid-form E° needs no medium
+    expect(() => dose(hypochlorite(8, [{ from: 'OCl-', to: 'Cl-', standardPotentialV: 1.7, source: 'site value (invented)' }]))).not.toThrow();
+  });
+
   it('a value for a couple no reaction uses at this pH is named in a warning with the couples used (HOCl/Cl- at pH 7.5, where OCl-/Cl- is used)', () => {
     const r = dose(hypochlorite(7.5, [{ from: 'HOCl', to: 'Cl-', standardPotentialV: 1.49, source: 'site value (invented)' }]));
     const f = r.flags.filter((x) => x.code === 'POTENTIAL_OVERRIDE_NOT_USED');

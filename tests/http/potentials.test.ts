@@ -269,6 +269,22 @@ describe('POST /api/v1/cells/evaluate', () => {
     expect(below.standardPotentialV).toBeCloseTo(0.595 + (4 / 3) * s * pKw, 6);
   });
 
+  it.each([
+    // [couple, pH, value printed for the base form, source of the printed value]
+    [{ from: 'OCl-', to: 'Cl-' }, 8, 0.89, 'Bratsch 1989, base medium'],
+    [{ from: 'MnO4-', to: 'MnO2' }, 6.5, 0.595, 'CRC 97th ed., base medium row'],
+  ])('%j at pH %s: a base-form value %s V with no medium is a 400 asking which form, not a guess', async (couple, pH, value, source) => {
+    const r = await post('/api/v1/couples/potential', { ...couple, pH, standardPotentialV: { value, source } });
+    expect(r.statusCode).toBe(400);
+    expect(r.json()).toMatchObject({ code: 'SITE_VALUE_MEDIUM_UNCLEAR' });
+    expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/standardPotentialV/medium']);
+    const ok = await post('/api/v1/couples/potential', { ...couple, pH, standardPotentialV: { value, source, medium: 'base' } });
+    expect(ok.statusCode).toBe(200);
+    // on the cell route the field is standardPotentials.oxidant
+    const cell = await post('/api/v1/cells/evaluate', { oxidant: couple, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH, temperatureC: 15, standardPotentials: { oxidant: { value, source } } });
+    expect(cell.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/standardPotentials/oxidant/medium']);
+  });
+
   it('a couple has one potential at a pH whichever medium carries it: no step where the medium changes at pH 7 (property)', async () => {
     // Couples tabled in both media, where the tables' base rows disagree with their acid rows by up to 67 mV
     // (CRC OCl-/Cl- 0.81 V against 0.877 V from HOCl/Cl- and the pKa).

@@ -571,6 +571,34 @@ function siteValueShiftV(target: ReactionVector, valueMedium: 'acid' | 'base', l
 export const CARRIED_FROM_ACID_NOTE =
   'E° of this base-medium half-reaction is carried from its acid form (the same reaction written with H+) through the ionisation of water, so the potential at a pH is the same in either form.';
 
+/**
+ * A site value sent without `medium` is taken as the E° of the couple written with H+. The two
+ * forms' E° differ by (m/n)·s·pKw (0.83 V per H+ per electron at 25 °C), so a value printed for
+ * the base form (OCl-/Cl- 0.89 V, MnO4-/MnO2 0.59 V) read as the acid form is wrong by that much.
+ * When the value lies nearer the tables' E° of the base form than of the acid form, it is
+ * refused (400) asking which form it is for, rather than guessed either way.
+ */
+function refuseUnclearSiteMedium(target: ReactionVector, ov: SiteValue, tablesV: number, ledger: Ledger, equation: string): void {
+  const oh = target.get(KEY_HYDROXIDE) ?? Rational.ZERO;
+  const h = target.get(KEY_PROTON) ?? Rational.ZERO;
+  if (oh.isZero() && h.isZero()) return;
+  const acidV = tablesV - siteValueShiftV(target, 'acid', ledger);
+  const baseV = tablesV - siteValueShiftV(target, 'base', ledger);
+  if (Math.abs(acidV - baseV) < SITE_MEDIUM_MIN_GAP_V) return;
+  if (Math.abs(ov.valueV - baseV) >= Math.abs(ov.valueV - acidV)) return;
+  const v = (x: number) => `${x.toFixed(3)} V`;
+  throw new DomainError('SITE_VALUE_MEDIUM_UNCLEAR', {
+    detail:
+      `The site value ${ov.valueV} V (${ov.source}) for ${equation} lies nearer the tables' E° of the couple written with OH- (${v(baseV)}) than written with H+ (${v(acidV)}); ` +
+      `without a medium it would be taken as the H+ form and be off by about ${v(Math.abs(acidV - baseV))}. Say which form the value is for: medium "base" (as printed in base-medium tables) or "acid".`,
+    fields: [{ pointer: '/override/medium', message: `say which form ${ov.valueV} V is for: "acid" (written with H+) or "base" (written with OH-)` }],
+    params: { valueV: ov.valueV, acidFormV: acidV, baseFormV: baseV },
+  });
+}
+
+/** Forms of a couple nearer than this in E° are not told apart by a site value's size. */
+const SITE_MEDIUM_MIN_GAP_V = 0.2;
+
 /** parts less one part (same row, coefficient subtracted; dropped at zero). */
 function withoutPart(parts: readonly CombinationPart[], less: CombinationPart): CombinationPart[] {
   return parts
@@ -697,6 +725,7 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
   let carriedV: number | undefined;
   if (options.override) {
     const ov = options.override;
+    if (ov.medium === undefined && tablesV !== null) refuseUnclearSiteMedium(vector, ov, tablesV, ledger, equation);
     const shift = siteValueShiftV(vector, ov.medium ?? 'acid', ledger);
     usedV = ov.valueV + shift;
     usedValue = 'override';
