@@ -245,7 +245,10 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
         fe.feasibilityLimitPH === null ? '–' : (Math.round(fe.feasibilityLimitPH * 100) / 100).toFixed(2),
       ]),
       notes: [
-        autoRich(`Nernst at pH ${r.conditions.pH} and ${round1(r.conditions.temperatureC)} °C; ${r.conditions.mediumReason}. Ionic strength ${r.conditions.ionicStrengthMolPerL.toPrecision(2)} mol/L: ${r.conditions.ionicStrengthFrom}. Potentials to 1 mV.`),
+        autoRich(
+          `Nernst at pH ${r.conditions.pH} and ${round1(r.conditions.temperatureC)} °C; ${r.conditions.mediumReason}. Ionic strength ${r.conditions.ionicStrengthMolPerL.toPrecision(2)} mol/L: ${r.conditions.ionicStrengthFrom}. Potentials to 1 mV. ` +
+            `E° cell is for the reactions as written (with ${r.conditions.medium === 'base' ? 'OH-' : 'H+'} in this medium), so it changes where the medium changes at pH 7; compare E, not E°, between samples.`,
+        ),
       ],
     });
   } else {
