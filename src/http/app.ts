@@ -61,6 +61,10 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     routerOptions: { ignoreTrailingSlash: true, maxParamLength: 2048 },
   });
 
+  // Bodies are JSON only: a JSON text sent as text/plain is a 415 saying so, not a string that
+  // fails validation as "expected object" (Fastify parses text/plain by default).
+  app.removeContentTypeParser('text/plain');
+
   const services = options.services ?? (await createServices(options));
   app.decorate('services', services);
   app.addHook('onClose', async () => {
@@ -90,10 +94,10 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
       return sendProblem(reply, p);
     }
     if (err.code === 'FST_ERR_CTP_BODY_TOO_LARGE') {
-      return sendProblem(reply, problem('BODY_TOO_LARGE', `The body is larger than the ${app.initialConfig.bodyLimit} bytes this service accepts.`));
+      return sendProblem(reply, { ...problem('BODY_TOO_LARGE', `The body is larger than the ${app.initialConfig.bodyLimit} bytes this service accepts.`), instance: req.url });
     }
     if (err.code === 'FST_ERR_CTP_INVALID_MEDIA_TYPE') {
-      return sendProblem(reply, problem('MEDIA_TYPE_UNSUPPORTED', `The body was sent as ${String(req.headers['content-type'] ?? 'no content type')}; send it as application/json.`));
+      return sendProblem(reply, { ...problem('MEDIA_TYPE_UNSUPPORTED', `The body was sent as ${String(req.headers['content-type'] ?? 'no content type')}; send it as application/json.`), instance: req.url });
     }
     if (err.code === 'FST_ERR_CTP_EMPTY_JSON_BODY' || err.code === 'FST_ERR_CTP_INVALID_JSON_BODY' || err instanceof SyntaxError || err.statusCode === 400) {
       return sendProblem(reply, problem('BODY_NOT_JSON', `The request body could not be read as JSON: ${err.message}`));

@@ -160,6 +160,11 @@ describe('errors name the fields the request has', () => {
     expect(r.statusCode).toBe(415);
     expect(r.headers['content-type']).toMatch(/^application\/problem\+json/);
     expect(r.json()).toMatchObject({ status: 415, code: 'MEDIA_TYPE_UNSUPPORTED', type: '/problems/media-type-unsupported' });
+    // a JSON text sent as text/plain is a 415 too, naming what it was sent as (not a string that fails as "expected object")
+    const plain = await app.inject({ method: 'POST', url: '/api/v1/cells/evaluate', headers: { 'content-type': 'text/plain' }, payload: JSON.stringify(MN_CELL) });
+    expect(plain.statusCode).toBe(415);
+    expect(plain.json()).toMatchObject({ code: 'MEDIA_TYPE_UNSUPPORTED', instance: '/api/v1/cells/evaluate' });
+    expect(plain.json().detail).toContain('text/plain');
     expect(r.json().detail).toMatch(/application\/xml/);
   });
 });

@@ -60,6 +60,15 @@ describe('system routes', () => {
     expect(p).toMatchObject({ status: 404, title: expect.any(String), type: expect.stringMatching(/^\/problems\//), detail: expect.stringContaining('/nowhere') });
   });
 
+  it('a body over the limit (256 KiB) is a 413 problem naming the limit and the request', async () => {
+    const big = JSON.stringify({ oxidant: 'ozone', padding: 'x'.repeat(300 * 1024) });
+    const r = await app.inject({ method: 'POST', url: '/api/v1/doses', headers: { 'content-type': 'application/json' }, payload: big });
+    expect(r.statusCode).toBe(413);
+    expect(r.headers['content-type']).toMatch(/application\/problem\+json/);
+    expect(r.json()).toMatchObject({ code: 'BODY_TOO_LARGE', instance: '/api/v1/doses' });
+    expect(r.json().detail).toContain(String(256 * 1024));
+  });
+
   it('a problem type resolves to its catalogue entry', async () => {
     const r = await app.inject({ method: 'GET', url: '/problems/formula-syntax' });
     expect(r.statusCode).toBe(200);
