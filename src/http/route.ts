@@ -24,7 +24,7 @@ export function jsonSchemaOf(schema: z.ZodType, io: 'input' | 'output'): Record<
   if (hit) return hit as Record<string, unknown>;
   const js = z.toJSONSchema(schema, { target: 'draft-7', io, unrepresentable: 'any' }) as Record<string, unknown>;
   delete js['$schema'];
-  const out = io === 'output' ? (nullableAsTypeList(js) as Record<string, unknown>) : js;
+  const out = io === 'output' ? (withoutSafeIntegerBounds(nullableAsTypeList(js)) as Record<string, unknown>) : js;
   entry[io] = out;
   return out;
 }
@@ -52,6 +52,21 @@ export function nullableAsTypeList(node: unknown): unknown {
   return obj;
 }
 
+/**
+ * zod writes every .int() as an integer between ±(2^53 − 1); in an answer that bound says nothing
+ * (the serializer does not check ranges) and only clutters the OpenAPI document. Requests keep it.
+ */
+function withoutSafeIntegerBounds(node: unknown): unknown {
+  if (Array.isArray(node)) return node.map(withoutSafeIntegerBounds);
+  if (node === null || typeof node !== 'object') return node;
+  const obj: Record<string, unknown> = {};
+  for (const [k, v] of Object.entries(node)) {
+    if ((k === 'minimum' && v === Number.MIN_SAFE_INTEGER) || (k === 'maximum' && v === Number.MAX_SAFE_INTEGER)) continue;
+    obj[k] = withoutSafeIntegerBounds(v);
+  }
+  return obj;
+}
+
 function isPlainNull(b: unknown): boolean {
   return b !== null && typeof b === 'object' && Object.keys(b).length === 1 && (b as Record<string, unknown>)['type'] === 'null';
 }
@@ -71,6 +86,8 @@ export interface RouteSpec<
   params?: P;
   /** Response schemas by status; 200/201 bodies are serialized by their schema. */
   response?: Record<number, z.ZodType>;
+  /** What each status means, for the OpenAPI document (default "OK", "Created"). */
+  responseDescriptions?: Record<number, string>;
   /** Extra content types this route can produce besides JSON (for the OpenAPI document). */
   produces?: string[];
   /** Requires a bearer token (documented in OpenAPI). */
@@ -120,12 +137,21 @@ export function defineRoute<
   if (spec.querystring) schema['querystring'] = jsonSchemaOf(spec.querystring, 'input');
   if (spec.params) schema['params'] = jsonSchemaOf(spec.params, 'input');
   const response: Record<string, unknown> = {};
+  const files = spec.produces ?? [];
+  const binary = { type: 'string', format: 'binary' } as const;
   for (const [status, s] of Object.entries(spec.response ?? {})) {
-    response[status] = jsonSchemaOf(s, 'output');
+    const described = jsonSchemaOf(s, 'output');
+    // OpenAPI wants a description per response (the document would say "Default Response")
+    const json = 'description' in described ? described : { ...described, description: spec.responseDescriptions?.[Number(status)] ?? (status === '201' ? 'Created' : 'OK') };
+    // a route that also answers a file (Accept: application/pdf) documents both representations
+    response[status] = files.length === 0 ? json : { description: 'The answer, by the Accept header', content: { 'application/json': { schema: json }, ...Object.fromEntries(files.map((t) => [t, { schema: binary }])) } };
   }
-  response['4xx'] = { ...problemJsonSchema, description: 'Problem details (RFC 9457), application/problem+json' };
+  // a route that answers only a file: its 200 is that file (the bytes are sent as they are)
+  if (files.length > 0 && spec.response === undefined) {
+    response['200'] = { description: `The file (${files.join(', ')})`, content: Object.fromEntries(files.map((t) => [t, { schema: binary }])) };
+  }
+  response['4xx'] = { description: 'Problem details (RFC 9457)', content: { 'application/problem+json': { schema: problemJsonSchema } } };
   schema['response'] = response;
-  if (spec.produces) schema['produces'] = ['application/json', ...spec.produces];
   if (spec.auth) schema['security'] = [{ bearer: [] }];
   const opts: RouteShorthandOptions = { schema };
   if (spec.bodyLimit) opts.bodyLimit = spec.bodyLimit;

@@ -39,6 +39,17 @@ describe('system routes', () => {
       expect(op.responses['4XX'] ?? op.responses['4xx'] ?? op.responses['400'], `${method.toUpperCase()} ${path} documents its problems`).toBeDefined();
       if (method === 'post') expect(op.requestBody?.content?.['application/json']?.schema, `${path} body`).toBeDefined();
     }
+    // problems are documented as application/problem+json, files as their own media types (not the error schema)
+    expect(Object.keys(doc.paths['/api/v1/doses'].post.responses['4XX'].content)).toEqual(['application/problem+json']);
+    for (const [path, type] of [['/api/v1/sheets/{id}/pdf', 'application/pdf'], ['/api/v1/sheets/export.csv', 'text/csv']] as const) {
+      expect(doc.paths[path].get.responses['200'].content[type].schema, path).toEqual({ type: 'string', format: 'binary' });
+    }
+    const plan = doc.paths['/api/v1/jar-tests/plans'].post.responses['200'].content;
+    expect(plan['application/json'].schema.properties.jars).toBeDefined();
+    expect(plan['application/pdf'].schema).toEqual({ type: 'string', format: 'binary' });
+    // every response has a description of its own, and answers carry no ±(2^53 − 1) noise
+    expect(r.body).not.toContain('Default Response');
+    expect(JSON.stringify(doc.paths['/api/v1/cells/evaluate'].post.responses['200'])).not.toContain('9007199254740991');
     // a nullable member of an answer is a JSON Schema type list, valid in OpenAPI 3.1
     expect(doc.openapi).toBe('3.1.0');
     const cell = doc.paths['/api/v1/cells/evaluate'].post.responses['200'].content['application/json'].schema;

@@ -97,6 +97,7 @@ export async function dosingRoutes(app: FastifyInstance): Promise<void> {
     auth: true,
     body: PlantBody,
     response: { 201: PlantOut, 200: PlantOut },
+    responseDescriptions: { 201: 'A new version of the profile was stored', 200: 'Unchanged: the latest stored version already holds this profile' },
     preHandler: requireRole('engineer'),
     handler: async (req, reply) => {
       const profile = parsePlantProfile(req.body);
