@@ -22,6 +22,7 @@ import { daviesA, IONIC_STRENGTH_FROM_TDS } from '../water/activity.js';
 import { caco3EquivalentWeightMgPerMeq, type AcidAdditionResult, type CarbonateConstants } from '../water/carbonate.js';
 import { conversionFactor, productPerBasis, species, stoichiometricRatio, type RatioResult } from './ratio.js';
 import { backgroundDemand, contaminantDemands, mgPerL, type DemandEntry, type DemandWork } from './demand.js';
+import { roundSigNumber } from './round.js';
 import { totalDose, type DoseTerm } from './dose.js';
 import { computeFeed, type FeedConversion, type FeedResult } from './feed.js';
 import { checkPotentialOverrides, evaluateFeasibility, unusedPotentialOverrides, type FeasibilityDeps, type FeasibilityEntry } from './feasibility.js';
@@ -41,6 +42,53 @@ export { stoichiometricRatio, type RatioResult } from './ratio.js';
 export { computeFeed, type FeedResult } from './feed.js';
 export { DoseResultSchema } from './response.js';
 export { STRENGTH_LIMITS, strengthLimitProblem, type StrengthLimit } from './strength-limits.js';
+
+/**
+ * What the process does with two demands that a ratio alone misrepresents:
+ * - ammonia with free chlorine: chloramines form first, and only past breakpoint is there free
+ *   chlorine (for manganese, and for a free residual); the theoretical ratio is the minimum;
+ * - sulfide with oxygen: the uncatalysed oxidation is slow, and aeration removes hydrogen sulfide
+ *   mainly by stripping, which takes only the un-ionised H2S (its share from the H2S pKa at T).
+ */
+function processFlags(demands: readonly DemandWork[], ox: OxidantRow, pH: number, temperatureC: number, context: DosingContext): Flag[] {
+  const flags: Flag[] = [];
+  const find = (id: string) => demands.find((d) => d.entry.contaminant === id);
+  const ammonia = find('ammonia');
+  if (ammonia && ox.doseBasis === 'Cl2') {
+    const ct = context.contaminants.find((c) => c.id === 'ammonia');
+    const practical = ct?.ratioOptions?.practical;
+    const ratio = ammonia.entry.ratioKind === 'practical'
+      ? `the practical ${ammonia.entry.ratioRounded} mg Cl2 per mg N counted here is common practice`
+      : `the ${ammonia.entry.ratioRounded} mg Cl2 per mg N counted here is the stoichiometric minimum; plants usually need ${practical?.rangeText ?? '8 to 10'} (common practice; options.ammoniaRatio: "practical")`;
+    flags.push({
+      code: 'BREAKPOINT_CHLORAMINES',
+      severity: 'warning',
+      message:
+        `Ammonia-N ${ammonia.entry.concentration.rounded} mg/L: chlorine first forms chloramines (combined chlorine), and a free residual appears only past breakpoint; ${ratio}. ` +
+        `A residual read before breakpoint is combined chlorine, and manganese is oxidised by free chlorine only once breakpoint is passed${find('manganese') ? ' (this sample has manganese)' : ''}. Confirm the dose with a breakpoint curve on the plant's water.`,
+      source: practical?.source ?? ammonia.entry.source,
+    });
+  }
+  const sulfide = find('sulfide');
+  if (sulfide && ox.id === 'oxygen') {
+    let share = '';
+    try {
+      const pKa = context.pKaAt('crc-h2s', temperatureC);
+      share = `; at pH ${pH} and ${temperatureC} °C about ${roundSigNumber(100 / (1 + Math.pow(10, pH - pKa)), 2)} % of the sulfide is H2S (pKa ${pKa.toFixed(2)}, crc-h2s), the rest HS-, which does not strip`;
+    } catch {
+      // no H2S row: the share is not given
+    }
+    flags.push({
+      code: 'AERATION_SULFIDE_SLOW',
+      severity: 'warning',
+      message:
+        `Oxygen oxidises sulfide slowly without a catalyst (hours to days; from memory of Chen & Morris 1972, verify), so the ${sulfide.entry.demand.rounded} mg/L O2 shown is stoichiometric, not what aeration achieves in the contact time. ` +
+        `Aeration removes hydrogen sulfide mainly by stripping, which takes only the un-ionised H2S${share}. Lower the pH before stripping, or use a stronger oxidant, and confirm removal with a test.`,
+      source: sulfide.entry.source,
+    });
+  }
+  return flags;
+}
 
 /** The tables computeDose needs (the loaded reference tables satisfy this). */
 export type DosingTables = Pick<
@@ -473,6 +521,7 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
     ratio: (o, c, p, m) => ratioFor(context, o, c, p, m),
     flags,
   });
+  flags.push(...processFlags(demands, ox, pH, temperatureC, context));
   const bg = backgroundDemand({ background: req.backgroundDemand, sample: s, oxidant: ox, flags });
   let residual = new Dec(0);
   let residualReason = 'No target residual given: 0 mg/L.';
@@ -489,7 +538,15 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
   }
   const total = totalDose({ oxidant: ox, demands, background: bg, residualMgPerL: residual, residualReason, residualSource });
   if (total.doseMgPerL.isZero()) {
-    flags.push({ code: 'DOSE_ZERO', severity: 'info', message: 'The dose is zero: no contaminant, background demand or residual was given.', source: 'input' });
+    const skipped = flags.some((f) => f.code === 'AMMONIA_BREAKPOINT_NOT_APPLICABLE' || f.code === 'CONTAMINANT_NOT_APPLICABLE');
+    flags.push({
+      code: 'DOSE_ZERO',
+      severity: 'info',
+      message: skipped
+        ? `The dose is zero: the contaminants given are not ones ${ox.name} is counted against (see the flags above), and no background demand or residual was given.`
+        : 'The dose is zero: no contaminant, background demand or residual was given.',
+      source: 'input',
+    });
   }
 
   // conditions

@@ -180,6 +180,29 @@ describe('flags', () => {
     const r = dose({ ...base, oxidant: 'potassium-permanganate', sample: { pH: 7.2, temperatureC: 15, ammoniaN: { value: 0.5, unit: 'mg/L' } } });
     expect(r.flags.find((f) => f.code === 'AMMONIA_BREAKPOINT_NOT_APPLICABLE')?.severity).toBe('info');
     expect(r.demand).toEqual([]);
+    // and the zero dose says why, rather than that no contaminant was given
+    expect(r.flags.find((f) => f.code === 'DOSE_ZERO')?.message).toMatch(/not ones Potassium permanganate.* is counted against/);
+  });
+  it('ammonia with chlorine: a warning that chloramines form before breakpoint, the ratio counted and the practical range (common practice, White\'s Handbook)', () => {
+    // 3 Cl2 per 2 N: 3 × 70.906 / (2 × 14.007) = 7.59 mg Cl2 per mg N, the stoichiometric minimum
+    const r = dose({ ...base, oxidant: 'sodium-hypochlorite', sample: { pH: 7.5, temperatureC: 15, ammoniaN: { value: 0.5, unit: 'mg/L' }, manganese: { value: 0.1, unit: 'mg/L' } } });
+    const f = r.flags.find((x) => x.code === 'BREAKPOINT_CHLORAMINES')!;
+    expect(f.severity).toBe('warning');
+    expect(f.message).toContain('7.59 mg Cl2 per mg N counted here is the stoichiometric minimum');
+    expect(f.message).toContain('8 to 10');
+    expect(f.message).toContain('this sample has manganese');
+    expect(f.source).toBe('whites-handbook-5');
+    const practical = dose({ ...base, oxidant: 'sodium-hypochlorite', sample: { pH: 7.5, temperatureC: 15, ammoniaN: { value: 0.5, unit: 'mg/L' } }, options: { ammoniaRatio: 'practical' } });
+    expect(practical.flags.find((x) => x.code === 'BREAKPOINT_CHLORAMINES')!.message).toContain('the practical 10 mg Cl2 per mg N counted here is common practice');
+    expect(practical.flags.find((x) => x.code === 'BREAKPOINT_CHLORAMINES')!.message).not.toContain('manganese)');
+  });
+  it('sulfide with oxygen: a warning that oxidation is slow and aeration strips only H2S, with its share at the pH (pKa from the tables)', () => {
+    // un-ionised share 1/(1 + 10^(pH − pKa)); the tables' H2S pKa is 7.05 (CRC), so 53 % at pH 7.0 and 3.4 % at pH 8.5
+    const at = (pH: number) => dose({ ...base, oxidant: 'oxygen', sample: { pH, temperatureC: 15, sulfide: { value: 2, unit: 'mg/L' } } }).flags.find((x) => x.code === 'AERATION_SULFIDE_SLOW')!;
+    expect(at(7).severity).toBe('warning');
+    expect(at(7).message).toContain(`about ${(100 / (1 + 10 ** (7 - 7.05))).toPrecision(2)} % of the sulfide is H2S`);
+    expect(at(8.5).message).toContain(`about ${(100 / (1 + 10 ** (8.5 - 7.05))).toPrecision(2)} % of the sulfide is H2S`);
+    expect(dose({ ...base, oxidant: 'sodium-hypochlorite', sample: { pH: 7, temperatureC: 15, sulfide: { value: 2, unit: 'mg/L' } } }).flags.map((x) => x.code)).not.toContain('AERATION_SULFIDE_SLOW');
   });
   it('a target residual above the MRDL (4.0 mg/L as Cl2, 40 CFR 141.65) is danger, naming the limit and that local regulations govern', () => {
     const r = dose({ ...base, oxidant: 'sodium-hypochlorite', targetResidual: { value: 5, unit: 'mg/L' } });
