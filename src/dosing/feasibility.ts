@@ -231,11 +231,11 @@ export function evaluateFeasibility(input: FeasibilityInput, deps: FeasibilityDe
     if (s.phase === 'g') return;
     activities.set(speciesKey(s), Math.max(molPerL, 1e-30) * gamma(text));
   };
-  const setGroup = (forms: readonly string[], equilibrium: string, totalMolPerL: number): void => {
+  const setGroup = (forms: readonly string[], equilibria: string | readonly string[], totalMolPerL: number): void => {
     speciation.push({
       totalMolPerL: Math.max(totalMolPerL, 1e-30),
       speciesKeys: forms.map((f) => speciesKey(species(f))),
-      pKas: [deps.pKaAt(equilibrium, T)],
+      pKas: (typeof equilibria === 'string' ? [equilibria] : equilibria).map((id) => deps.pKaAt(id, T)),
       activityCoefficients: forms.map((f) => gamma(f)),
     });
   };
@@ -258,8 +258,12 @@ export function evaluateFeasibility(input: FeasibilityInput, deps: FeasibilityDe
     setGroup(ct.speciation.forms, ct.speciation.equilibrium, input.contaminantMolPerL);
   } else setDissolved(ct.species, input.contaminantMolPerL);
   const prod = species(input.productFormula);
+  // a product with acid–base forms (arsenate) is split by the pH, as the contaminant is
+  const prodSpeciation = ct.products.find((p) => speciesKey(species(p.formula)) === speciesKey(prod))?.speciation;
   if (prod.phase === 'g') notes.push(`${prod.text} taken at 1 atm by convention.`);
-  else if (prod.phase !== 's') setDissolved(prod.text, input.contaminantMolPerL);
+  else if (prodSpeciation && prodSpeciation.forms.some((f) => speciesKey(species(f)) === speciesKey(prod))) {
+    setGroup(prodSpeciation.forms, prodSpeciation.equilibria, input.contaminantMolPerL);
+  } else if (prod.phase !== 's') setDissolved(prod.text, input.contaminantMolPerL);
 
   const molarMassGPerMol = deps.molarMass(ct.species).toNumber();
   const cell = evaluateCell({

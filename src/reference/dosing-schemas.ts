@@ -27,6 +27,13 @@ const CoupleText = z.strictObject({ from: Formula, to: Formula });
 
 /** Acid–base forms of a species (most protonated first) and the equilibria-table row (tables/equilibria.json) of their pKa. */
 export const SpeciationSchema = z.strictObject({ forms: z.array(Formula).length(2), equilibrium: z.string().min(1) });
+/**
+ * The acid–base forms of a reaction product (arsenate: H3AsO4 … AsO4^3-), most protonated first,
+ * with the equilibria rows of each dissociation in order (one fewer than forms).
+ */
+export const ProductSpeciationSchema = z
+  .strictObject({ forms: z.array(Formula).min(2), equilibria: z.array(z.string().min(1)).min(1) })
+  .refine((s) => s.equilibria.length === s.forms.length - 1, { message: 'give one equilibrium per dissociation: one fewer than forms', path: ['equilibria'] });
 
 const NominalStrengthSchema = z.strictObject({
   label: z.string(),
@@ -85,7 +92,7 @@ export const ContaminantRowSchema = z.strictObject({
   species: Formula,
   speciation: SpeciationSchema.optional(),
   products: z
-    .array(z.strictObject({ id: z.string(), formula: Formula, default: z.boolean().optional(), text: z.string(), source: SourceId.optional(), note: Note.optional() }))
+    .array(z.strictObject({ id: z.string(), formula: Formula, default: z.boolean().optional(), text: z.string(), speciation: ProductSpeciationSchema.optional(), source: SourceId.optional(), note: Note.optional() }))
     .min(1),
   elementBasis: z.string().regex(/^[A-Z][a-z]?$/),
   reportedAs: z.string(),
@@ -239,6 +246,11 @@ export function checkDosingTables(t: {
     for (const row of [...t.oxidants, ...t.contaminants]) {
       const eq = row.speciation?.equilibrium;
       if (eq !== undefined && !t.equilibriumIds.has(eq)) problems.push(`${'doseBasis' in row ? 'oxidants' : 'contaminants'}.json: row ${row.id}: column speciation.equilibrium: "${eq}" is not a row of tables/equilibria.json`);
+      for (const p of 'products' in row ? row.products : []) {
+        for (const id of p.speciation?.equilibria ?? []) {
+          if (!t.equilibriumIds.has(id)) problems.push(`contaminants.json: row ${row.id}: product ${p.id}: speciation.equilibria: "${id}" is not a row of tables/equilibria.json`);
+        }
+      }
     }
   }
   if (t.sourceIds) {

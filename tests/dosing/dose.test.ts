@@ -253,6 +253,19 @@ describe('feasibility at the sample conditions', () => {
     expect(f.feasibilityLimitPH).toBeLessThan(6);
     expect(f.cellPotentialV).toBeCloseTo(f.oxidantCouple.potentialV - f.contaminantCouple.potentialV, 12);
   });
+  it('arsenite to arsenate: both split by the pH (H3AsO3 pKa 9.29; H3AsO4 pKa 2.26, 6.76, 11.29; CRC, from memory), so E of the As couple follows Nernst on the acid forms', () => {
+    // H3AsO4 + 2H+ + 2e- = H3AsO3 + H2O, E° 0.575 V (Harris): E = 0.575 − (s/2)·[log a(H3AsO3) − log a(H3AsO4) + 2 pH], γ = 1 (no TDS)
+    const pH = 7.5;
+    const r = dose({ oxidant: 'sodium-hypochlorite', flow: { value: 1000, unit: 'm3/d' }, sample: { pH, temperatureC: 25, arsenite: { value: 0.05, unit: 'mg/L' } } });
+    const c = 0.05e-3 / 74.9216; // mol/L of As, both forms (IUPAC 2021 As)
+    const a0 = 1 / (1 + 10 ** (pH - 2.26) + 10 ** (2 * pH - 2.26 - 6.76) + 10 ** (3 * pH - 2.26 - 6.76 - 11.29));
+    const aRed = 1 / (1 + 10 ** (pH - 9.29));
+    const s = (8.314462618 * 298.15 * Math.LN10) / 96485.33212;
+    const expected = 0.575 - (s / 2) * (Math.log10(c * aRed) - Math.log10(c * a0) + 2 * pH);
+    const f = r.feasibility.find((x) => x.contaminant === 'arsenite')!;
+    expect(f.contaminantCouple.potentialV).toBeCloseTo(expected, 4);
+    expect(f.feasible).toBe(true);
+  });
   it('a site value for the Fe(OH)3/Fe2+ couple is used when given, and said', () => {
     const r = dose({ oxidant: 'chlorine-gas', flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 6.5, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } }, options: { potentialOverrides: [{ from: 'Fe(OH)3(s)', to: 'Fe2+', standardPotentialV: 0.95, source: 'site study (invented)' }] } });
     expect(r.feasibility[0]!.contaminantCouple.usedValue).toBe('override');
