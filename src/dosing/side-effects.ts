@@ -168,14 +168,24 @@ export function sideEffects(input: SideEffectInput): SideEffects {
   const byproducts: SideEffects['byproducts'][number][] = [];
   if (ox.chloriteFraction) {
     const fraction = input.chloriteFraction ?? Number(ox.chloriteFraction.default);
-    const chlorite = (input.doseMgPerL.toNumber() * fraction * deps.molarMass('ClO2-').toNumber()) / deps.molarMass('ClO2').toNumber();
+    const perClO2 = deps.molarMass('ClO2-').toNumber() / deps.molarMass('ClO2').toNumber();
+    const byFraction = input.doseMgPerL.toNumber() * fraction * perClO2;
+    // The balanced reactions take all the ClO2 that iron, manganese … consume to chlorite (1 e-);
+    // the rule-of-thumb fraction is over the whole dose. The larger is reported, so that a sample
+    // heavy in iron or manganese is not estimated below what its own reactions form.
+    const reacting = input.demands.filter((d) => /(^|\s)\d*ClO2-(\s|$)/.test(d.ratio.equation.split(/->|=/)[1] ?? ''));
+    const byReactions = reacting.reduce((a, d) => a + d.demandMgPerL.toNumber(), 0) * perClO2;
+    const chlorite = Math.max(byFraction, byReactions);
     const us = limitOf(input.limits, 'us-mcl-chlorite');
     const who = limitOf(input.limits, 'who-chlorite');
     byproducts.push({
       id: 'chlorite',
       estimate: reported(chlorite, 'mg/L as ClO2-'),
       limit: us ? { id: us.id, value: us.valueText, citation: us.citation } : null,
-      text: `About ${(fraction * 100).toFixed(0)} % of the chlorine dioxide dose ends as chlorite (${ox.chloriteFraction.text})`,
+      text:
+        byReactions > byFraction
+          ? `The balanced reactions with ${reacting.map((d) => d.entry.name.charAt(0).toLowerCase() + d.entry.name.slice(1)).join(' and ')} reduce ${roundSigNumber(byReactions / perClO2)} mg/L of the chlorine dioxide to chlorite (ClO2 + e- → ClO2-), more than the usual ${(fraction * 100).toFixed(0)} % of the dose (${ox.chloriteFraction.text}); the larger is reported`
+          : `About ${(fraction * 100).toFixed(0)} % of the chlorine dioxide dose ends as chlorite (${ox.chloriteFraction.text})${byReactions > 0 ? `; the balanced reactions alone form ${roundSigNumber(byReactions)} mg/L` : ''}`,
       source: ox.chloriteFraction.source,
     });
     if (us && chlorite > Number(us.valueText)) {
