@@ -250,8 +250,11 @@ export function evaluateFeasibility(input: FeasibilityInput, deps: FeasibilityDe
   if (red.phase === 'g') {
     if (speciesKey(red) === speciesKey(species('O2(g)'))) pressures.set(speciesKey(red), deps.pO2AirAtm(T));
   } else if (speciesKey(red) !== speciesKey(species('H2O'))) {
-    setDissolved(red.text, input.oxidantMolPerL);
-    if (red.phase !== 's') notes.push(`${red.text} taken at the ${input.oxidantMolPerL.toExponential(2)} mol/L the dose forms (background ${red.text} not known).`);
+    // mol of the reduced form per mol of oxidant, from the half-reaction (Cl2 + 2e- → 2Cl-: two)
+    const coef = (sp: typeof red) => Number(oxHalf.terms.find((t) => speciesKey(t.species) === speciesKey(sp))?.coefficient ?? 1n);
+    const formed = (input.oxidantMolPerL * coef(red)) / coef(oxHalf.oxidised);
+    setDissolved(red.text, formed);
+    if (red.phase !== 's') notes.push(`${red.text} taken at the ${formed.toExponential(2)} mol/L the dose forms (background ${red.text} not known).`);
   }
   // contaminant side
   if (ct.speciation && ct.speciation.forms.some((f) => speciesKey(species(f)) === speciesKey(species(ct.species)))) {

@@ -274,6 +274,12 @@ describe('feasibility at the sample conditions', () => {
     expect(f.contaminantCouple.potentialV).toBeCloseTo(expected, 4);
     expect(f.feasible).toBe(true);
   });
+  it('chlorine gas: the chloride the dose forms is two per Cl2 (Cl2 + 2e- → 2Cl-), not one', () => {
+    const r = dose({ oxidant: 'chlorine-gas', flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 6.5, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } } });
+    const molCl2 = r.dose.value / 1000 / 70.906; // mg/L as Cl2 → mol/L (IUPAC 2021 Cl 35.45 × 2 = 70.90)
+    const note = r.feasibility[0]!.notes.find((n) => /^Cl- taken at/.test(n))!;
+    expect(Number(/taken at the ([0-9.e+-]+) mol\/L/.exec(note)![1])).toBeCloseTo(Number((2 * molCl2).toExponential(2)), 8);
+  });
   it('a site value for the Fe(OH)3/Fe2+ couple is used when given, and said', () => {
     const r = dose({ oxidant: 'chlorine-gas', flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 6.5, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } }, options: { potentialOverrides: [{ from: 'Fe(OH)3(s)', to: 'Fe2+', standardPotentialV: 0.95, source: 'site study (invented)' }] } });
     expect(r.feasibility[0]!.contaminantCouple.usedValue).toBe('override');
