@@ -14,7 +14,7 @@
  */
 import type { Dec as DecT } from '../core/decimal.js';
 import { DomainError, isDomainError } from '../core/errors.js';
-import { speciesKey } from '../chemistry/formula/index.js';
+import { parseEquation, speciesKey } from '../chemistry/formula/index.js';
 import { halfReaction, type HalfReaction, type Medium } from '../chemistry/balance/index.js';
 import { standardPotential, type PotentialResult } from '../chemistry/thermo/derive.js';
 import type { Ledger } from '../chemistry/thermo/ledger.js';
@@ -157,6 +157,17 @@ function potentialOf(half: HalfReaction, temperatureC: number, deps: Feasibility
   return r;
 }
 
+/** Mol of `product` per mol of oxidant its hydrolysis equation releases (0 without one, or when it does not form it). */
+function hydrolysisYield(ox: OxidantRow, product: { readonly text: string }): number {
+  const eq = ox.hydrolysis?.equation;
+  if (!eq) return 0;
+  const r = parseEquation(eq);
+  const key = speciesKey(species(product.text));
+  const made = r.products.find((t) => speciesKey(t.species) === key);
+  const from = r.reactants.find((t) => speciesKey(t.species) === speciesKey(species(ox.activeSpecies)));
+  return made && from ? made.coefficient.toNumber() / from.coefficient.toNumber() : 0;
+}
+
 function coupleReport(half: HalfReaction, p: PotentialResult, potentialV: number): CoupleReport {
   return {
     halfReaction: half.equation,
@@ -252,7 +263,9 @@ export function evaluateFeasibility(input: FeasibilityInput, deps: FeasibilityDe
   } else if (speciesKey(red) !== speciesKey(species('H2O'))) {
     // mol of the reduced form per mol of oxidant, from the half-reaction (Cl2 + 2e- → 2Cl-: two)
     const coef = (sp: typeof red) => Number(oxHalf.terms.find((t) => speciesKey(t.species) === speciesKey(sp))?.coefficient ?? 1n);
-    const formed = (input.oxidantMolPerL * coef(red)) / coef(oxHalf.oxidised);
+    // and what the product's own hydrolysis releases (Cl2 + H2O = HOCl + H+ + Cl-: one more Cl-)
+    const hydrolysed = hydrolysisYield(ox, red);
+    const formed = (input.oxidantMolPerL * coef(red)) / coef(oxHalf.oxidised) + input.oxidantMolPerL * hydrolysed;
     setDissolved(red.text, formed);
     if (red.phase !== 's') notes.push(`${red.text} taken at the ${formed.toExponential(2)} mol/L the dose forms (background ${red.text} not known).`);
   }

@@ -274,7 +274,7 @@ describe('feasibility at the sample conditions', () => {
     expect(f.contaminantCouple.potentialV).toBeCloseTo(expected, 4);
     expect(f.feasible).toBe(true);
   });
-  it('chlorine gas: the chloride the dose forms is two per Cl2 (Cl2 + 2e- → 2Cl-), not one', () => {
+  it('chlorine gas: the chloride the dose forms is two per Cl2 (Cl2 + H2O = HOCl + H+ + Cl-, then HOCl + H+ + 2e- → Cl- + H2O), not one', () => {
     const r = dose({ oxidant: 'chlorine-gas', flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 6.5, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } } });
     const molCl2 = r.dose.value / 1000 / 70.906; // mg/L as Cl2 → mol/L (IUPAC 2021 Cl 35.45 × 2 = 70.90)
     const note = r.feasibility[0]!.notes.find((n) => /^Cl- taken at/.test(n))!;
