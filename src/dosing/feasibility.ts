@@ -261,7 +261,7 @@ export function evaluateFeasibility(input: FeasibilityInput, deps: FeasibilityDe
   if (red.phase === 'g') {
     if (speciesKey(red) === speciesKey(species('O2(g)'))) pressures.set(speciesKey(red), deps.pO2AirAtm(T));
   } else if (speciesKey(red) !== speciesKey(species('H2O'))) {
-    // mol of the reduced form per mol of oxidant, from the half-reaction (Cl2 + 2e- → 2Cl-: two)
+    // mol of the reduced form per mol of oxidant, from the half-reaction (HOCl + H+ + 2e- → Cl- + H2O: one)
     const coef = (sp: typeof red) => Number(oxHalf.terms.find((t) => speciesKey(t.species) === speciesKey(sp))?.coefficient ?? 1n);
     // and what the product's own hydrolysis releases (Cl2 + H2O = HOCl + H+ + Cl-: one more Cl-)
     const hydrolysed = hydrolysisYield(ox, red);

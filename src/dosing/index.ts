@@ -31,7 +31,7 @@ import { sideEffects, type SideEffects } from './side-effects.js';
 import { inputFlags, rawWaterFlags, residualFlags, sortFlags, LOCAL_RULES_GOVERN } from './flags.js';
 import { mergePlantIntoRequest, type PlantMergeOxidant, type PlantProfile, type PlantResidual } from './plant.js';
 import { checkDoseRequest, type DoseRequest } from './request.js';
-import { checkStrengthLimits, oxidantFedAsGas, strengthLimitFlags } from './strength-limits.js';
+import { checkStrengthLimits, defaultStrengthLimits, oxidantFedAsGas, strengthLimitFlags, type StrengthLimit } from './strength-limits.js';
 import { REPORT_SIG_FIGS, reported, type Flag, type Reported } from './types.js';
 
 export type { DoseRequest } from './request.js';
@@ -41,7 +41,7 @@ export type { Flag, Reported, Severity } from './types.js';
 export { stoichiometricRatio, type RatioResult } from './ratio.js';
 export { computeFeed, type FeedResult } from './feed.js';
 export { DoseResultSchema } from './response.js';
-export { STRENGTH_LIMITS, strengthLimitProblem, type StrengthLimit } from './strength-limits.js';
+export { defaultStrengthLimits, strengthLimitProblem, type StrengthLimit } from './strength-limits.js';
 
 /**
  * What the process does with two demands that a ratio alone misrepresents:
@@ -59,7 +59,7 @@ function processFlags(demands: readonly DemandWork[], ox: OxidantRow, pH: number
     const practical = ct?.ratioOptions?.practical;
     const ratio = ammonia.entry.ratioKind === 'practical'
       ? `the practical ${ammonia.entry.ratioRounded} mg Cl2 per mg N counted here is common practice`
-      : `the ${ammonia.entry.ratioRounded} mg Cl2 per mg N counted here is the stoichiometric minimum; plants usually need ${practical?.rangeText ?? '8 to 10'} (common practice; options.ammoniaRatio: "practical")`;
+      : `the ${ammonia.entry.ratioRounded} mg Cl2 per mg N counted here is the stoichiometric minimum; ${practical ? `plants usually need ${practical.rangeText} (common practice; options.ammoniaRatio: "practical")` : 'plants usually need more (common practice)'}`;
     flags.push({
       code: 'BREAKPOINT_CHLORAMINES',
       severity: 'warning',
@@ -82,9 +82,9 @@ function processFlags(demands: readonly DemandWork[], ox: OxidantRow, pH: number
       code: 'AERATION_SULFIDE_SLOW',
       severity: 'warning',
       message:
-        `Oxygen oxidises sulfide slowly without a catalyst (hours to days; from memory of Chen & Morris 1972, verify), so the ${sulfide.entry.demand.rounded} mg/L O2 shown is stoichiometric, not what aeration achieves in the contact time. ` +
+        `Oxygen oxidises sulfide slowly without a catalyst (hours to days; chen-morris-1972, from memory), so the ${sulfide.entry.demand.rounded} mg/L O2 shown is stoichiometric, not what aeration achieves in the contact time. ` +
         `Aeration removes hydrogen sulfide mainly by stripping, which takes only the un-ionised H2S${share}. Lower the pH before stripping, or use a stronger oxidant, and confirm removal with a test.`,
-      source: sulfide.entry.source,
+      source: 'chen-morris-1972',
     });
   }
   return flags;
@@ -94,7 +94,8 @@ function processFlags(demands: readonly DemandWork[], ox: OxidantRow, pH: number
 export type DosingTables = Pick<
   ReferenceTables,
   'oxidants' | 'contaminants' | 'limits' | 'cautions' | 'oxygenSaturation' | 'kineticsTypical' | 'sources' | 'atomicWeights' | 'constants' | 'equilibria' | 'potentials'
->;
+> &
+  Partial<Pick<ReferenceTables, 'strengthLimits'>>;
 
 export interface DosingDeps {
   /** The thermodynamic ledger (src/chemistry/thermo/ledger.ts); built from the tables when omitted. */
@@ -113,6 +114,8 @@ export interface DosingDeps {
 
 export interface DosingContext {
   readonly oxidants: ReadonlyMap<string, OxidantRow>;
+  /** The product strength limits of the loaded tables (tables/strength-limits.json of the tables folder). */
+  readonly strengthLimits: readonly StrengthLimit[];
   readonly contaminants: readonly ContaminantRow[];
   readonly limits: readonly LimitRow[];
   readonly cautions: ReadonlyMap<string, CautionRow>;
@@ -179,7 +182,8 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
   const ledger = deps.ledger ?? buildLedger(tables);
   const oxidants = new Map(tables.oxidants.map((o) => [o.id, o]));
   // the strongest solution of each product (tables/strength-limits.json) against the tables it cites
-  const limitProblems = checkStrengthLimits({ oxidants: tables.oxidants, sourceIds: new Set(tables.sources.map((s) => s.id)) });
+  const strengthLimits = tables.strengthLimits ?? defaultStrengthLimits();
+  const limitProblems = checkStrengthLimits({ oxidants: tables.oxidants, sourceIds: new Set(tables.sources.map((s) => s.id)), limits: strengthLimits });
   if (limitProblems.length > 0) {
     throw new DomainError('TABLE_INVALID', {
       detail: `The product strength limits disagree with the tables: ${limitProblems.join('; ')}. Fix tables/strength-limits.json or the other table's row, with its source.`,
@@ -323,12 +327,13 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
     cautionsByOxidant.set(ox.id, { texts: details.map((d) => d.text), details });
   }
   return {
+    strengthLimits,
     citations: new Map(tables.sources.map((s) => [s.id, citation(s)])),
     carbonateMemo: new Map<string, AcidAdditionResult>(),
     resultMemo: new Map<string, DoseResult>(),
     resultMemoSize: deps.resultMemoSize ?? 256,
     cautionsByOxidant,
-    plantMergeOxidants: new Map(tables.oxidants.map((o) => [o.id, { doseBasis: o.doseBasis, fedAsGas: fedAsGas(o) }])),
+    plantMergeOxidants: new Map(tables.oxidants.map((o) => [o.id, { doseBasis: o.doseBasis, fedAsGas: oxidantFedAsGas(o) }])),
     oxidants,
     contaminants: tables.contaminants,
     limits: tables.limits,
@@ -350,9 +355,6 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
     o2SaturationAt,
   };
 }
-
-/** Fed to the water as a gas: chlorine gas and oxygen, and ozone, which is generated on site as a gas. */
-const fedAsGas = oxidantFedAsGas;
 
 /** computeFeed, with a problem about a value the plant profile supplied saying so. */
 function computeFeedNamingPlant(name: (e: unknown) => unknown, input: Parameters<typeof computeFeed>[0]): FeedResult {
@@ -475,7 +477,7 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
       ? e.withFields((fs) => fs.map((f) => (fromPlant.includes(f.pointer.split('/')[1] ?? '') ? { pointer: f.pointer, message: `${f.message} (value from plant profile "${plantInfo!.id}")` } : f)))
       : e;
   try {
-    checkDoseRequest(req);
+    checkDoseRequest(req, context.strengthLimits);
   } catch (e) {
     throw namePlantFields(e);
   }
@@ -486,7 +488,7 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
       fields: [{ pointer: '/oxidant', message: `accepted: ${[...context.oxidants.keys()].join(', ')}` }],
     });
   }
-  if (req.product && fedAsGas(ox)) {
+  if (req.product && oxidantFedAsGas(ox)) {
     const how = ox.form === 'gas' ? 'is fed as a gas' : 'is generated on site and transferred to the water as a gas';
     const name = ox.name.replace(/\s*\([^)]*\)$/, '');
     throw new DomainError('VALIDATION_FAILED', {
@@ -505,7 +507,7 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
     const tankC = req.batch?.temperatureC ?? temperatureC;
     const tankFrom = req.batch?.temperatureC !== undefined ? 'batch.temperatureC' : "the sample temperature (give batch.temperatureC for the tank's)";
     // with a batch and a flow, the feed's batch check (BATCH_ABOVE_SOLUBILITY) covers the solubility
-    flags.push(...strengthLimitFlags(ox, req.product, tankC, tankFrom, !(req.batch && req.flow)));
+    flags.push(...strengthLimitFlags(ox, req.product, tankC, tankFrom, !(req.batch && req.flow), context.strengthLimits));
   }
   const medium: Medium = req.options?.medium ?? mediumForPH(pH);
   checkPotentialOverrides(req.options?.potentialOverrides);

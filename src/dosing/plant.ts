@@ -8,7 +8,7 @@ import { z } from 'zod';
 import { DomainError } from '../core/errors.js';
 import { toBaseDec } from '../core/quantity.js';
 import { quantityBoundProblems } from './bounds.js';
-import { FED_AS_GAS_IDS, GAS_FEEDER_TEXT, strengthLimitProblem } from './strength-limits.js';
+import { FED_AS_GAS_IDS, GAS_FEEDER_TEXT, strengthLimitProblem, type StrengthLimit } from './strength-limits.js';
 import {
   ConcentrationSchema,
   DensitySchema,
@@ -63,7 +63,7 @@ export const PlantProfileSchema = z.strictObject({
 export type PlantProfile = z.infer<typeof PlantProfileSchema>;
 
 /** Validate a profile; throws PLANT_INVALID naming each bad field (pointers relative to the profile). */
-export function parsePlantProfile(input: unknown): PlantProfile {
+export function parsePlantProfile(input: unknown, strengthLimits?: readonly StrengthLimit[]): PlantProfile {
   const r = PlantProfileSchema.safeParse(input);
   if (!r.success) {
     const fields = issuesToFields(r.error.issues);
@@ -102,7 +102,7 @@ export function parsePlantProfile(input: unknown): PlantProfile {
     );
     // a strength no solution of the product can have (src/dosing/strength-limits.ts), the same check as a dose request's
     if (!fields.slice(before).some((f) => f.pointer.startsWith(`/products/${i}/strength`) || f.pointer.startsWith(`/products/${i}/density`))) {
-      const limit = strengthLimitProblem(prod.oxidant, prod, `/products/${i}`);
+      const limit = strengthLimitProblem(prod.oxidant, prod, `/products/${i}`, strengthLimits);
       if (limit) fields.push({ pointer: limit.pointer, message: limit.message });
     }
   });

@@ -10,7 +10,7 @@ import { z } from 'zod';
 import { DomainError, toPointer, type FieldProblem } from '../core/errors.js';
 import { UNIT_FACTORS, TEMPERATURE_UNITS, temperatureToC } from '../core/quantity.js';
 import { READING_BOUNDS, quantityBoundProblems, readingBoundProblems } from './bounds.js';
-import { strengthLimitProblem, type StrengthLimitProblem } from './strength-limits.js';
+import { strengthLimitProblem, type StrengthLimit, type StrengthLimitProblem } from './strength-limits.js';
 
 /** The product ids the HTTP contract fixes (tables/oxidants.json holds their properties). */
 export const OXIDANT_IDS = [
@@ -219,7 +219,7 @@ export function issuesToFields(issues: readonly z.core.$ZodIssue[], prefix = '')
 }
 
 /** Parse with the zod schema and the cross-field checks; throws VALIDATION_FAILED naming every bad field. */
-export function parseDoseRequest(input: unknown): DoseRequest {
+export function parseDoseRequest(input: unknown, strengthLimits?: readonly StrengthLimit[]): DoseRequest {
   const r = DoseRequestSchema.safeParse(input);
   if (!r.success) {
     const fields = issuesToFields(r.error.issues);
@@ -228,7 +228,7 @@ export function parseDoseRequest(input: unknown): DoseRequest {
       fields,
     });
   }
-  checkDoseRequest(r.data);
+  checkDoseRequest(r.data, strengthLimits);
   return r.data;
 }
 
@@ -237,7 +237,7 @@ export function parseDoseRequest(input: unknown): DoseRequest {
  * with pointers relative to the request. Called by computeDose too, so a caller that validated
  * with JSON Schema only still gets them.
  */
-export function checkDoseRequest(req: DoseRequest): void {
+export function checkDoseRequest(req: DoseRequest, strengthLimits?: readonly StrengthLimit[]): void {
   const fields: FieldProblem[] = [];
   const s = req.sample;
   if (s.temperatureC === undefined && s.temperature === undefined) {
@@ -264,7 +264,7 @@ export function checkDoseRequest(req: DoseRequest): void {
   // a strength no solution of the product can have: above its solubility, or far above its strongest grade (tables/strength-limits.json)
   let strengthLimit: StrengthLimitProblem | null = null;
   if (req.product && !fields.some((f) => f.pointer.startsWith('/product/'))) {
-    strengthLimit = strengthLimitProblem(req.oxidant, req.product, '/product');
+    strengthLimit = strengthLimitProblem(req.oxidant, req.product, '/product', strengthLimits);
     if (strengthLimit) fields.push({ pointer: strengthLimit.pointer, message: strengthLimit.message });
   }
   if (fields.length > 0) {

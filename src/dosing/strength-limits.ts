@@ -47,13 +47,24 @@ export const GAS_FEEDER_TEXT: Readonly<Record<string, string>> = {
 
 /** The rows of tables/strength-limits.json (validated with zod as the tables are; see src/reference/dosing-schemas.ts). */
 export type { StrengthLimit };
-export const STRENGTH_LIMITS: readonly StrengthLimit[] = loadTables(['strengthLimits']).strengthLimits;
-
-const LIMIT_OF = new Map(STRENGTH_LIMITS.map((l) => [l.oxidant, l]));
+let defaultLimits: readonly StrengthLimit[] | undefined;
+/**
+ * The rows of the project's own tables/strength-limits.json, read on first use: for callers that
+ * hold no loaded tables (the CLI parsing a request). The service passes the rows of the tables it
+ * loaded (DosingContext.strengthLimits), so a custom tables folder is used throughout.
+ */
+export function defaultStrengthLimits(): readonly StrengthLimit[] {
+  return (defaultLimits ??= loadTables(['strengthLimits']).strengthLimits);
+}
 
 /** The row for an oxidant, or undefined (gases have none). */
-export function strengthLimitFor(oxidantId: string): StrengthLimit | undefined {
-  return LIMIT_OF.get(oxidantId);
+/** A JSON pointer as the dotted field name a message uses ("/products/0" → "products[0]"). */
+function fieldOf(pointer: string): string {
+  return pointer.replace(/^\//, '').split('/').map((p, i) => (/^\d+$/.test(p) ? `[${p}]` : `${i > 0 ? '.' : ''}${p}`)).join('');
+}
+
+export function strengthLimitFor(oxidantId: string, limits: readonly StrengthLimit[] = defaultStrengthLimits()): StrengthLimit | undefined {
+  return limits.find((l) => l.oxidant === oxidantId);
 }
 
 // ---------------------------------------------------------------- arithmetic
@@ -139,8 +150,8 @@ export interface StrengthLimitProblem extends FieldProblem {
  * (at is the pointer of the product: /product in a dose request, /products/0 in a plant profile),
  * naming the limit and its source; null when the strength is possible (or the product has no row).
  */
-export function strengthLimitProblem(oxidantId: string, product: ProductStrengthInput, at = '/product'): StrengthLimitProblem | null {
-  const l = strengthLimitFor(oxidantId);
+export function strengthLimitProblem(oxidantId: string, product: ProductStrengthInput, at = '/product', limits: readonly StrengthLimit[] = defaultStrengthLimits()): StrengthLimitProblem | null {
+  const l = strengthLimitFor(oxidantId, limits);
   if (!l || l.kind === 'none') return null;
   const s = scalesOf(product, `${at}/density`);
   const pointer = `${at}/strength/value`;
@@ -154,7 +165,7 @@ export function strengthLimitProblem(oxidantId: string, product: ProductStrength
       pointer,
       message:
         `${givenText(product)} ${l.strengthOf} would be ${needs}, above the ${l.gramsPer100gWater} g ${l.of} per 100 g water that dissolve at ${l.temperatureC} °C (${l.why}; source ${l.source}${memoText(l.fromMemory)}): no solution that strong can be made up` +
-        (solid ? '. product.strength is the strength of the solution made up from the solid; the assay of the solid itself goes in product.purity' : ''),
+        (solid ? `. ${fieldOf(at)}.strength is the strength of the solution made up from the solid; the assay of the solid itself goes in ${fieldOf(at)}.purity` : ''),
       params: {
         oxidant: l.oxidant,
         strength: { value: product.strength.value, unit: product.strength.unit },
@@ -206,8 +217,8 @@ function temperatureDissolving(ox: OxidantRow, per100: DecT): DecT | null {
  * at the warmest temperature the table covers). Call after `strengthLimitProblem` found nothing.
  * `checkSolubility` is false when the dose's batch check (BATCH_ABOVE_SOLUBILITY) covers it.
  */
-export function strengthLimitFlags(ox: OxidantRow, product: ProductStrengthInput, tankTemperatureC: number, tankFrom: string, checkSolubility = true): Flag[] {
-  const l = strengthLimitFor(ox.id);
+export function strengthLimitFlags(ox: OxidantRow, product: ProductStrengthInput, tankTemperatureC: number, tankFrom: string, checkSolubility = true, limits: readonly StrengthLimit[] = defaultStrengthLimits()): Flag[] {
+  const l = strengthLimitFor(ox.id, limits);
   if (!l || l.kind === 'none') return [];
   const s = scalesOf(product, '/product/density');
   if (l.kind === 'grade') {
@@ -251,8 +262,10 @@ export function oxidantFedAsGas(ox: OxidantRow): boolean {
  * The rows above against the loaded tables; problems as sentences naming both sides (empty when
  * consistent). buildDosingContext throws TABLE_INVALID with them.
  */
-export function checkStrengthLimits(t: { readonly oxidants: readonly OxidantRow[]; readonly sourceIds: ReadonlySet<string> }): string[] {
+export function checkStrengthLimits(t: { readonly oxidants: readonly OxidantRow[]; readonly sourceIds: ReadonlySet<string>; readonly limits?: readonly StrengthLimit[] }): string[] {
   const problems: string[] = [];
+  const limits = t.limits ?? defaultStrengthLimits();
+  const LIMIT_OF = new Map(limits.map((l) => [l.oxidant, l]));
   const here = 'tables/strength-limits.json';
   const byId = new Map(t.oxidants.map((o) => [o.id, o]));
   for (const ox of t.oxidants) {
@@ -260,7 +273,7 @@ export function checkStrengthLimits(t: { readonly oxidants: readonly OxidantRow[
     if (gas !== FED_AS_GAS_IDS.has(ox.id)) problems.push(`tables/oxidants.json row ${ox.id} is ${gas ? '' : 'not '}fed as a gas, but src/dosing/strength-limits.ts FED_AS_GAS_IDS says ${gas ? 'not' : 'so'}`);
     if (!gas && !LIMIT_OF.has(ox.id)) problems.push(`tables/oxidants.json row ${ox.id} is fed as a solution but has no row in ${here} (give its solubility, its strongest grade, or kind "none" with why)`);
   }
-  for (const l of STRENGTH_LIMITS) {
+  for (const l of limits) {
     const ox = byId.get(l.oxidant);
     const row = `${here} row ${l.oxidant}`;
     if (!ox) {

@@ -142,7 +142,7 @@ export async function createServices(options: ServiceOptions): Promise<Services>
   let consistency: ConsistencyOut | undefined;
   const archive = openArchive({ dataDir: options.dataDir });
   // The invented demo plant (tables/demo/), validated like any profile, stored once.
-  const demoPlant = parsePlantProfile(JSON.parse(readFileSync(join(options.tablesDir ?? DEFAULT_TABLES_DIR, 'demo', 'demo-plant.json'), 'utf8')));
+  const demoPlant = parsePlantProfile(JSON.parse(readFileSync(join(options.tablesDir ?? DEFAULT_TABLES_DIR, 'demo', 'demo-plant.json'), 'utf8')), dosing.strengthLimits);
   archive.seedPlant(demoPlant, { createdBy: 'system (invented demo data)' });
   // A clearly labelled self-signed demo signer, made once, so sheets can be signed with no setup.
   // The key is made outside the write lock; the store checks again inside it, so two processes

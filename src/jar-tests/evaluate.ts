@@ -502,14 +502,18 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
   // The residual expected at the recommended dose comes from the line at the contact time the
   // recommendation is for; where that time has no line of its own, none is predicted.
   const benchLine = benchTime === fitTime ? f : residualLineAt(jars, benchTime, dl);
-  if (benchTime !== fitTime) {
+  const benchLineNote = () => {
+    if (benchTime === fitTime) return;
     notes.push(
       benchLine
         ? `Expected residuals at the recommended dose are read from the residual line at ${fmt(benchTime)} min, the contact time of the recommendation (the demand line above is at ${fmt(fitTime)} min).`
         : `No residual line at ${fmt(benchTime)} min (fewer than 3 jars with a measurable residual at 2 or more doses), so no residual is predicted at the recommended dose.`,
     );
-  }
-  const predict = (x: number) => (benchLine !== null && benchLine.slope > 0 ? Math.max(0, benchLine.slope * x + benchLine.intercept) : null);
+  };
+  const lineAt = (line: LinearFit | null) => (x: number) => (line !== null && line.slope > 0 ? Math.max(0, line.slope * x + line.intercept) : null);
+  // each recommendation predicts from the line at its own contact time: the lowest dose meeting
+  // the targets at the plant's bench time, the apparent demand at the fitted time
+  let predict = lineAt(benchLine);
   const contaminantTargets = targets.filter((t) => t.analyte === 'iron' || t.analyte === 'manganese');
   if (blocking.length > 0) {
     problems.push({
@@ -518,6 +522,7 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       message: `No plant dose is recommended: ${blocking.map((b) => b.code).join(', ')} puts the jar doses or the readings in doubt. Check the stock strength, the aliquots and the residual method, then repeat the test.`,
     });
   } else if (atBench !== undefined && atBench.doseMgPerL !== null) {
+    benchLineNote();
     const base = atBench.doseMgPerL;
     const m = withMargin(base);
     recommendedDose = {
@@ -544,6 +549,7 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
         'Repeat with doses above the highest jar or a longer contact time, and check pH, filtration of the samples and the form of the metal (complexed or colloidal iron and manganese may need another treatment).',
     });
   } else if (apparentDemand !== null && apparentDemand.doseMgPerL >= 0) {
+    predict = lineAt(f);
     const base = apparentDemand.doseMgPerL + residualTarget;
     const m = withMargin(base);
     recommendedDose = {

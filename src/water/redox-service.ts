@@ -325,9 +325,9 @@ function givenCharged(halves: readonly NernstResult[], charges: ReadonlyMap<stri
 }
 
 /**
- * The notes of each half's E° (temperature data extrapolated or missing, ΔG° held, tables that
- * disagree, a site value, a base-medium form carried), each saying which half it is from; a
- * note both halves give is given once.
+ * The notes given, per half (here each half's caveats on E° away from 25 °C: temperature data
+ * extrapolated or missing, the correction turned off), each saying which half it is from; a note
+ * both halves give is given once.
  */
 function halfNotes(halves: readonly [string, readonly string[]][]): string[] {
   const from = new Map<string, string[]>();

@@ -171,7 +171,7 @@ describe('plant products and bounds', () => {
     ['hypochlorite 500 g/L', { oxidant: 'sodium-hypochlorite', strength: { value: 500, unit: 'g/L' } }, /above 200 g\/L.*source operator-practice.*whites-handbook-5/],
     ['hypochlorite 30 % w/v', { oxidant: 'sodium-hypochlorite', strength: { value: 30, unit: '% w/v' } }, /30 % w\/v \(300 g\/L\)/],
     ['permanganate 25 % w/v (33.33 g per 100 g water)', { oxidant: 'potassium-permanganate', strength: { value: 25, unit: '% w/v' } }, /22\.2 g KMnO4 per 100 g water that dissolve at 60 °C.*perry-8-solubility/],
-    ['calcium hypochlorite 65 % w/w', { oxidant: 'calcium-hypochlorite', strength: { value: 65, unit: '% w/w' } }, /roughly 21 g per 100 mL.*crc-97-inorganic-constants.*product\.purity/],
+    ['calcium hypochlorite 65 % w/w', { oxidant: 'calcium-hypochlorite', strength: { value: 65, unit: '% w/w' } }, /roughly 21 g per 100 mL.*crc-97-inorganic-constants.*products\[1\]\.purity/],
   ])('a profile product of %s is PLANT_INVALID naming /products/1/strength/value, with the limit and its source', (_n, product, message) => {
     const good = { oxidant: 'sodium-permanganate', strength: { value: 20, unit: '% w/w' } };
     const e = refusal(() => parsePlantProfile({ ...profile([], {}), products: [good, product] }));

@@ -20,7 +20,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { buildDosingContext, computeDose, parseDoseRequest, type DoseResult } from '../../src/dosing/index.js';
-import { checkStrengthLimits, STRENGTH_LIMITS, strengthLimitProblem } from '../../src/dosing/strength-limits.js';
+import { checkStrengthLimits, defaultStrengthLimits, strengthLimitProblem } from '../../src/dosing/strength-limits.js';
 import { isDomainError, type DomainError } from '../../src/core/errors.js';
 import { context, tables } from './fixture.js';
 
@@ -160,7 +160,7 @@ describe('the limits against the tables (checked when the dosing context is buil
 
   it('each limit names a source id of tables/sources.json, and each one from memory says so', () => {
     const ids = new Set(tables.sources.map((s) => s.id));
-    for (const l of STRENGTH_LIMITS) {
+    for (const l of defaultStrengthLimits()) {
       if (l.kind === 'solubility') {
         expect(ids.has(l.source), l.oxidant).toBe(true);
         if (l.fromMemory) expect(l.note, l.oxidant).toMatch(/memory/);
@@ -204,5 +204,22 @@ describe('the limits against the tables (checked when the dosing context is buil
     expect(isDomainError(err) && err.code).toBe('TABLE_INVALID');
     expect((err as DomainError).detail).toMatch(message);
     expect((err as DomainError).detail).toContain('tables/strength-limits.json');
+  });
+});
+
+describe('the limits come from the tables the context was built from', () => {
+  it('a tables folder whose hypochlorite is refused above 170 g/L refuses 180 g/L; the project tables (200 g/L) take it with a warning', () => {
+    const tighter = defaultStrengthLimits().map((l) => (l.oxidant === 'sodium-hypochlorite' && l.kind === 'grade' ? { ...l, refuseAbove: { ...l.refuseAbove, value: '170' } } : l));
+    const ctx = buildDosingContext({ ...tables, strengthLimits: tighter }, { resultMemoSize: 0 });
+    expect(ctx.strengthLimits).toBe(tighter);
+    const body = request('sodium-hypochlorite', { value: 180, unit: 'g/L' });
+    let err: unknown;
+    try {
+      computeDose(parseDoseRequest(body, ctx.strengthLimits), ctx);
+    } catch (e) {
+      err = e;
+    }
+    expect(isDomainError(err) && err.fields.map((f) => f.pointer)).toEqual(['/product/strength/value']);
+    expect(flag(run(body), 'STRENGTH_ABOVE_TRADE_GRADE')?.severity).toBe('warning');
   });
 });

@@ -633,7 +633,10 @@ describe('H+ or OH- given as an activity on the couple route', () => {
     expect(byH.potentialV).toBeCloseTo(byPH.potentialV, 12);
     expect(byH.nernst.pHNote).toMatch(/No pH given: the activity given for H\+ \(1e-9\) sets it/);
     expect(byH.notes.join(' ')).not.toMatch(/set by the pH/);
-    expect(byH.nernst.activities.find((a: { species: string }) => a.species === 'H+')?.origin ?? 'given (sets the pH)').toBe('given (sets the pH)');
+    // written in acid (pH 6 from a(H+) = 1e-6), the H+ term of the Nernst quotient says where it came from
+    const acid = (await post('/api/v1/couples/potential', { ...fe, activities: { 'H+': 1e-6, 'Fe2+': 1e-5 } })).json();
+    expect(acid.medium).toBe('acid');
+    expect(acid.nernst.activities.find((a: { species: string }) => a.species === 'H+').origin).toBe('given (sets the pH)');
   });
 
   it('with no pH, a(OH-) sets it through Kw at the temperature: pH = pKw + log10 a(OH-)', async () => {

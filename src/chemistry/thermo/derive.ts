@@ -568,7 +568,7 @@ function siteValueShiftV(target: ReactionVector, valueMedium: 'acid' | 'base', l
 }
 
 /** The note of a base-medium half-reaction whose E° comes from its acid form (an explanation, not a caveat). */
-export const CARRIED_FROM_ACID_NOTE =
+const CARRIED_FROM_ACID_NOTE =
   'E° of this base-medium half-reaction is carried from its acid form (the same reaction written with H+) through the ionisation of water, so the potential at a pH is the same in either form.';
 
 /**
@@ -716,8 +716,13 @@ function computePotential(vector: Map<string, Rational>, ledger: Ledger, options
   let kwCarryV = 0;
   if (carry && temperatureC !== 25) {
     const T = ledger.constants.T0 + temperatureC;
-    const g = (K: number) => combinationG([carry], ledger, K).g;
-    kwCarryV = toReductionV(g(T) - g(ledger.constants.T25)); // reported as waterIonisationShiftV
+    const atT = combinationG([carry], ledger, T);
+    kwCarryV = toReductionV(atT.g - combinationG([carry], ledger, ledger.constants.T25).g); // reported as waterIonisationShiftV
+    // Kw's own temperature caveat (a range it is stated for), whether or not E° is corrected
+    for (const n of atT.notes) {
+      if (!notes.includes(n)) notes.push(n);
+      if (!temperatureNotes.includes(n)) temperatureNotes.push(n);
+    }
   }
 
   let usedV: number;

@@ -49,6 +49,13 @@ describe('base and acid forms give one potential at any temperature, correction 
     }
   }
 
+  it.each([true, false])('the Kw row stated for 0–60 °C says so when a base form is carried at 80 °C (correction %s)', (temperatureCorrection) => {
+    // Harned & Owen 1958: the Kw temperature expression of the tables is for 0–60 °C
+    const b = standardPotential('O2(g) + 2H2O + 4e- = 4OH-', real, { temperatureC: 80, temperatureCorrection, basis: 'acid' });
+    expect(b.temperatureNotes.some((n) => /harned-owen-kw.*0–60 °C.*80/.test(n))).toBe(true);
+    expect(b.notes.filter((n) => /harned-owen-kw/.test(n))).toHaveLength(1);
+  });
+
   it('OCl-/Cl- in base at 5 °C: the correction is only that of HOCl\'s pKa (HOCl/Cl- has no dE°/dT); Kw is carried apart', () => {
     // acid form OCl- + 2H+ + 2e- = Cl- + H2O is HOCl + H+ + 2e- = Cl- + H2O plus OCl- + H+ = HOCl (log K = pKa),
     // so E°(T) − E°(25) = [s(T)·pKa(T) − s(25)·pKa(25)] / 2 with HOCl/Cl- itself held at 25 °C

@@ -100,7 +100,7 @@ export async function dosingRoutes(app: FastifyInstance): Promise<void> {
     responseDescriptions: { 201: 'A new version of the profile was stored', 200: 'Unchanged: the latest stored version already holds this profile' },
     preHandler: requireRole('engineer'),
     handler: async (req, reply) => {
-      const profile = parsePlantProfile(req.body);
+      const profile = parsePlantProfile(req.body, app.services.dosing.strengthLimits);
       const saved = app.services.archive.savePlant(profile, { createdBy: req.user!.id });
       reply.code(saved.changed ? 201 : 200);
       return plantOut(saved);
