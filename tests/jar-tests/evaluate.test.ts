@@ -257,6 +257,35 @@ describe('evaluateJarTest: worked example from the stated model', () => {
     expect(e.problems.map((x) => x.code)).not.toContain('NO_JAR_MET_TARGETS');
   });
 
+  it('a residual target is judged at the first bench time at or after the plant contact, where iron and manganese are judged before it', () => {
+    // plant 10 min: Fe and Mn are judged at 5 min (the last bench time within the contact), a 1.5 mg/L minimum residual
+    // at 15 min (the first after it). By the model, residual = dose − D(t), D = 1.4 at 5 min and 1.7 at 15 min:
+    // jar 5 (3.0 mg/L) holds 1.6 at 5 min but 1.3 at 15 min; jar 6 (3.5 mg/L) holds 1.8 at 15 min
+    const e = evaluateJarTest({ ...MODEL, plantContactTimeMin: 10, targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05, residualOxidantMgPerL: 1.5 } });
+    // at 5 min jars 5 and 6 meet every target (residual 3.0 − 1.4 = 1.6 ≥ 1.5); at 15 min only jar 6 still holds 1.5
+    expect(e.lowestDoseMeetingTargets.find((l) => l.contactTimeMin === 5)!.jar).toBe(5);
+    expect(e.recommendedDose!.baseDoseMgPerL).toBe(3.5);
+    expect(e.notes.join(' ')).toMatch(/Jar 5 met every target at 5 min but its residual fell below 1.5 mg\/L by 15 min/);
+    // a target no jar keeps to 15 min: no recommendation, saying why
+    const none = evaluateJarTest({ ...MODEL, plantContactTimeMin: 10, targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05, residualOxidantMgPerL: 1.9 } });
+    expect(none.recommendedDose).toBeNull();
+    expect(none.problems.find((p) => p.code === 'RESIDUAL_NOT_KEPT')!.severity).toBe('error');
+  });
+
+  it('a residual line steeper than 1: within 5 % nothing, 5–10 % a warning, beyond 10 % an error that blocks the recommendation (common practice)', () => {
+    // residual = k·dose − 1.8·k at 30 min (a stock k times stronger than labelled), exactly, jars 3–6 above detection
+    const jarsFor = (k: number) => DOSES.map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: Math.max(0, k * (d - 1.8)) }] }));
+    const codes = (k: number) => evaluateJarTest({ ...MODEL, jars: jarsFor(k), targets: {}, plantContactTimeMin: 30 });
+    // an exact line has zero standard error, so any excess is "beyond its error"
+    expect(codes(1.03).problems.map((p) => p.code)).not.toContain('FIT_SLOPE_ABOVE_ONE');
+    expect(codes(1.07).problems.find((p) => p.code === 'FIT_SLOPE_ABOVE_ONE')!.severity).toBe('warning');
+    expect(codes(1.07).recommendedDose).not.toBeNull();
+    const strong = codes(1.3);
+    expect(strong.problems.find((p) => p.code === 'FIT_SLOPE_ABOVE_ONE')!.message).toMatch(/about 30 % stronger than labelled/);
+    expect(strong.recommendedDose).toBeNull();
+    expect(strong.problems.map((p) => p.code)).toContain('NO_RECOMMENDATION');
+  });
+
   it('a residual maximum that the margin would exceed is warned about', () => {
     // +10 %: recommended 2.75 predicts 2.75 − 1.7 = 1.05 mg/L on the 15 min line: within 1.1, above 1.0
     const e = evaluateJarTest({ ...MODEL, targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05, residualOxidantMaxMgPerL: 1.1 } });
