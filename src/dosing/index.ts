@@ -322,8 +322,11 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
   const cautionsByOxidant = new Map<string, { texts: string[]; details: DoseResult['cautionDetails'] }>();
   for (const ox of tables.oxidants) {
     const rows = [...ox.cautions.map((id) => cautionMap.get(id)).filter((c): c is CautionRow => c !== undefined), ...tables.cautions.filter((c) => c.standing)];
-    const details: { id: string; category: CautionRow['category']; text: string; source: string }[] = rows.map((c) => ({ id: c.id, category: c.category, text: c.text, source: c.source }));
-    if (ox.storage) details.push({ id: `${ox.id}-storage`, category: 'hazard', text: ox.storage.text, source: ox.storage.source });
+    // a row whose note or source says its content is recalled from memory is marked so (the signed sheet prints it)
+    const memorySource = (id: string) => tables.sources.find((x) => x.id === id)?.access === 'memory';
+    const recalled = (note: string | undefined, source: string) => memorySource(source) || /from memory/i.test(note ?? '');
+    const details: DoseResult['cautionDetails'][number][] = rows.map((c) => ({ id: c.id, category: c.category, text: c.text, source: c.source, recalledFromMemory: recalled(c.note, c.source) }));
+    if (ox.storage) details.push({ id: `${ox.id}-storage`, category: 'hazard', text: ox.storage.text, source: ox.storage.source, recalledFromMemory: recalled(undefined, ox.storage.source) });
     cautionsByOxidant.set(ox.id, { texts: details.map((d) => d.text), details });
   }
   return {
@@ -397,7 +400,7 @@ export interface DoseResult {
   readonly sideEffects: SideEffects;
   readonly flags: readonly Flag[];
   readonly cautions: readonly string[];
-  readonly cautionDetails: readonly { readonly id: string; readonly category: CautionRow['category']; readonly text: string; readonly source: string }[];
+  readonly cautionDetails: readonly { readonly id: string; readonly category: CautionRow['category']; readonly text: string; readonly source: string; readonly recalledFromMemory: boolean }[];
   readonly conditions: { readonly pH: number; readonly temperatureC: number; readonly temperatureF: number; readonly medium: Medium; readonly mediumReason: string; readonly ionicStrengthMolPerL: number; readonly ionicStrengthFrom: string };
   readonly units: {
     readonly preferred: 'SI' | 'US';

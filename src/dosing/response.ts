@@ -176,7 +176,15 @@ export const DoseResultSchema = z.object({
   }),
   flags: z.array(Flag),
   cautions: z.array(z.string()),
-  cautionDetails: z.array(z.object({ id: z.string(), category: z.enum(['standing', 'hazard', 'incompatibility', 'ppe', 'exposure-limit', 'overdose']), text: z.string(), source: z.string() })),
+  cautionDetails: z.array(
+    z.object({
+      id: z.string(),
+      category: z.enum(['standing', 'hazard', 'incompatibility', 'ppe', 'exposure-limit', 'overdose']),
+      text: z.string(),
+      source: z.string(),
+      recalledFromMemory: z.boolean().describe('The row (or its source) states its content is recalled from memory and is to be verified'),
+    }),
+  ),
   conditions: z.object({
     pH: z.number(),
     temperatureC: z.number(),

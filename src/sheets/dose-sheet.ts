@@ -21,7 +21,7 @@ import {
   type SheetDocument,
   type TableCell,
 } from './model.js';
-import { safetyBoxFromCautions, sourceLabeller } from './safety.js';
+import { MEMORY_MARK, safetyBoxFromCautions, sourceLabeller } from './safety.js';
 
 export interface DoseSheetInput {
   readonly id: string;
@@ -342,7 +342,8 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
     kind: 'table',
     ...(input.traceability ? { caption: 'Sources' } : {}),
     columns: [{ header: 'Id', width: 1.3 }, { header: 'Citation', width: 3.4 }],
-    rows: r.sources.map((x) => [x.id, autoRich(input.traceability ? x.citation : citationHead(x.citation))]),
+    // the short citation keeps the mark of a source recalled from memory
+    rows: r.sources.map((x) => [x.id, autoRich(input.traceability ? x.citation : x.citation.includes(MEMORY_MARK) ? `${citationHead(x.citation)} ${MEMORY_MARK}` : citationHead(x.citation))]),
   });
 
   const sections: Section[] = [

@@ -12,6 +12,8 @@ export interface CautionLike {
   readonly category: CautionCategory;
   readonly text: string;
   readonly source: string;
+  /** The row (or its source) says its content is recalled from memory. */
+  readonly recalledFromMemory?: boolean | undefined;
 }
 
 export interface SourceLike {
@@ -36,6 +38,9 @@ export function shortCitation(citation: string): string {
   const first = citation.split('. ')[0] ?? citation;
   return first.length > 80 ? first.slice(0, 77) + '…' : first;
 }
+
+/** What a citation of a source whose values are recalled from memory ends with (see citation() in src/dosing). */
+export const MEMORY_MARK = '[values recalled from memory; verify]';
 
 /** A function from a source id (or free text such as "common practice") to a printable label. */
 export function sourceLabeller(sources: readonly SourceLike[]): (id: string | null | undefined) => string {
@@ -66,7 +71,12 @@ export function safetyBoxFromCautions(input: {
   const ppe = of('ppe');
   const overdoseSigns = of('overdose');
   const used = input.cautions.filter((c) => c.category !== 'standing');
-  const sources = [...new Set(used.map((c) => label(c.source)))].filter((s) => s.length > 0);
+  // a source, or a caution row, whose values are recalled from memory says so on the signed sheet
+  const memorySources = new Set((input.sources ?? []).filter((x) => x.citation.includes(MEMORY_MARK)).map((x) => x.id));
+  const recalled = (c: CautionLike) => memorySources.has(c.source) || c.recalledFromMemory === true;
+  const sources = [
+    ...new Set(used.map((c) => { const l = label(c.source); return l && recalled(c) ? `${l} (recalled from memory; verify)` : l; })),
+  ].filter((s) => s.length > 0);
   return {
     heading: `Safety: ${input.productName.charAt(0).toLowerCase() + input.productName.slice(1)}`,
     product: autoRich(input.productDescription ?? `${input.productName}. Read the product's safety data sheet before handling.`),

@@ -148,6 +148,10 @@ describe('POST /api/v1/sheets → a signed PDF that independent tools accept', (
       expect(t, `page ${p}`).toContain('supports, and does not replace, the judgement of a licensed operator or engineer');
       expect(t, `page ${p}`).toContain(`Page ${p} of ${pages}`);
     }
+    // values recalled from memory say so on the signed sheet: in the sources table and under the safety box
+    const flat = text.replace(/\s+/g, ' ');
+    expect(flat).toContain('[values recalled from memory; verify]');
+    expect(flat).toMatch(/Sources: .*\(recalled from memory; verify\)/);
   });
 
   it('GET verification → {valid, hashMatches, signatureValid, chainValid} all true; GET metadata names the request', async () => {
