@@ -52,6 +52,8 @@ export interface ContactInput {
   readonly availableFrom: ContactResult['availableFrom'];
   /** Dissolved oxygen of the sample, mg/L, when measured. */
   readonly dissolvedOxygenMgPerL?: number | undefined;
+  /** Where dissolvedOxygenMgPerL comes from, when not the sample as measured. */
+  readonly dissolvedOxygenFrom?: string | undefined;
 }
 
 const num = (s: string | null): number | null => (s === null ? null : Number(s));
@@ -115,7 +117,7 @@ export function checkContact(input: ContactInput, deps: ContactDeps, flags: Flag
         halfLifeMin: r.halfLifeMin,
         pO2Atm: r.pO2Atm,
         dissolvedOxygenMgPerL: doMgPerL,
-        dissolvedOxygenFrom: measured !== undefined ? 'sample' : 'saturation in air at the water temperature (tables/oxygen-saturation.json)',
+        dissolvedOxygenFrom: measured !== undefined ? (input.dissolvedOxygenFrom ?? 'sample') : 'saturation in air at the water temperature (tables/oxygen-saturation.json)',
         targetMgPerL: target,
         targetFrom: c.targetSource ?? 'default 0.3 mg/L',
         notes: r.notes,

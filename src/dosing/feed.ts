@@ -373,7 +373,11 @@ export function computeFeed(input: FeedInput): FeedResult {
     }
     if (ox.id === 'chlorine-gas') notes.push('Chlorinators are rated in lb/d (or kg/h) of Cl2: set the rotameter to the mass rate.');
   } else if (ox.form === 'generated' && input.product?.strength === undefined) {
-    notes.push(`${ox.name} is generated on site: the mass rate is the generator output needed; give product.strength (the generator solution, g/L) for a solution rate.`);
+    notes.push(
+      ox.id === 'ozone'
+        ? 'Ozone is generated on site and transferred to the water as a gas: the mass rate is the ozone the contactor must transfer; the generator output is that divided by the transfer efficiency.'
+        : `${ox.name} is generated on site: the mass rate is the generator output needed; give product.strength (the generator solution, g/L) for a solution rate.`,
+    );
   } else {
     const res = resolveStrength(ox, input.product, flags);
     if (res) {

@@ -676,7 +676,18 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
       temperatureC,
       availableMinutes,
       availableFrom,
-      dissolvedOxygenMgPerL: doMeasured ? toBaseDec('concentration', doMeasured, '/sample/dissolvedOxygen').toNumber() : undefined,
+      // With oxygen as the oxidant the rate law runs on the water after aeration, not the raw water:
+      // the measured DO plus the dose when a DO residual is targeted, else air saturation at the
+      // water temperature (what an aerator approaches).
+      dissolvedOxygenMgPerL:
+        ox.id === 'oxygen'
+          ? doMeasured && req.targetResidual
+            ? toBaseDec('concentration', doMeasured, '/sample/dissolvedOxygen').toNumber() + total.doseMgPerL.toNumber()
+            : undefined
+          : doMeasured
+            ? toBaseDec('concentration', doMeasured, '/sample/dissolvedOxygen').toNumber()
+            : undefined,
+      ...(ox.id === 'oxygen' && doMeasured && req.targetResidual ? { dissolvedOxygenFrom: 'the sample plus the oxygen dose with its target residual (the water after aeration)' } : {}),
     },
     context.contactDeps,
     flags,

@@ -174,7 +174,8 @@ export function sideEffects(input: SideEffectInput): SideEffects {
     // the rule-of-thumb fraction is over the whole dose. The larger is reported, so that a sample
     // heavy in iron or manganese is not estimated below what its own reactions form.
     const reacting = input.demands.filter((d) => /(^|\s)\d*ClO2-(\s|$)/.test(d.ratio.equation.split(/->|=/)[1] ?? ''));
-    const byReactions = reacting.reduce((a, d) => a + d.demandMgPerL.toNumber(), 0) * perClO2;
+    // plus the usual share of what the background demand (organic matter) consumes
+    const byReactions = (reacting.reduce((a, d) => a + d.demandMgPerL.toNumber(), 0) + fraction * input.backgroundMgPerL.toNumber()) * perClO2;
     const chlorite = Math.max(byFraction, byReactions);
     const us = limitOf(input.limits, 'us-mcl-chlorite');
     const who = limitOf(input.limits, 'who-chlorite');
@@ -184,7 +185,7 @@ export function sideEffects(input: SideEffectInput): SideEffects {
       limit: us ? { id: us.id, value: us.valueText, citation: us.citation } : null,
       text:
         byReactions > byFraction
-          ? `The balanced reactions with ${reacting.map((d) => d.entry.name.charAt(0).toLowerCase() + d.entry.name.slice(1)).join(' and ')} reduce ${roundSigNumber(byReactions / perClO2)} mg/L of the chlorine dioxide to chlorite (ClO2 + e- → ClO2-), more than the usual ${(fraction * 100).toFixed(0)} % of the dose (${ox.chloriteFraction.text}); the larger is reported`
+          ? `The balanced reactions with ${reacting.map((d) => d.entry.name.charAt(0).toLowerCase() + d.entry.name.slice(1)).join(' and ')} reduce all the chlorine dioxide they consume to chlorite (ClO2 + e- → ClO2-)${input.backgroundMgPerL.isZero() ? '' : `, and ${(fraction * 100).toFixed(0)} % of the background demand's share is added`}: ${roundSigNumber(byReactions)} mg/L, more than the usual ${(fraction * 100).toFixed(0)} % of the dose (${ox.chloriteFraction.text}); the larger is reported`
           : `About ${(fraction * 100).toFixed(0)} % of the chlorine dioxide dose ends as chlorite (${ox.chloriteFraction.text})${byReactions > 0 ? `; the balanced reactions alone form ${roundSigNumber(byReactions)} mg/L` : ''}`,
       source: ox.chloriteFraction.source,
     });

@@ -234,7 +234,7 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
         { header: 'E° cell (25 °C)', unit: 'V', align: 'right' },
         { header: 'ΔG', unit: 'kJ/mol', align: 'right' },
         { header: 'Feasible' },
-        { header: 'Limit pH', align: 'right' },
+        { header: 'Feasible at pH', align: 'right' },
       ],
       rows: r.feasibility.map((fe) => [
         nameOf(fe.contaminant),
@@ -242,7 +242,10 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
         mV(fe.standardCellPotentialV),
         (Math.round(fe.deltaGkJPerMol * 10) / 10).toFixed(1).replace('-', '−'),
         fe.feasible ? 'yes' : 'no',
-        fe.feasibilityLimitPH === null ? '–' : (Math.round(fe.feasibilityLimitPH * 100) / 100).toFixed(2),
+        // the side of the limit where E > 0, so the figure is not read as an upper limit
+        fe.feasibilityLimitPH === null
+          ? fe.feasibleSide === 'everywhere' ? '0–14' : fe.feasibleSide === 'nowhere' ? 'none' : '–'
+          : `${fe.feasibleSide === 'below' ? '<' : '>'} ${(Math.round(fe.feasibilityLimitPH * 100) / 100).toFixed(2)}`,
       ]),
       notes: [
         autoRich(

@@ -126,9 +126,16 @@ describe('worked example 3 — chlorine dioxide, with the chlorite it forms', ()
     const byReactions = expected - 0.2;
     expect(byReactions).toBeGreaterThan(0.7 * expected);
     expect(c.estimate!.value).toBeCloseTo(byReactions, 6);
-    expect(c.text).toMatch(/balanced reactions with iron\(II\) and manganese\(II\) reduce 0\.970 mg\/L/);
-    // with little iron the rule-of-thumb fraction is the larger: 0.2 mg/L Fe and 0.3 mg/L background
-    const low = dose({ oxidant: 'chlorine-dioxide', flow: { value: 2000, unit: 'm3/d' }, sample: { pH: 7.2, temperatureC: 15, iron: { value: 0.2, unit: 'mg/L' } }, backgroundDemand: { value: 0.3, unit: 'mg/L' } });
+    expect(c.text).toMatch(/balanced reactions with iron\(II\) and manganese\(II\) reduce all the chlorine dioxide they consume to chlorite.*: 0\.970 mg\/L/);
+    // a background demand adds its usual share: Fe 0.1, Mn 0.3, background 0.4, residual 0.1 mg/L →
+    // reactions 0.1 × 67.448/55.845 + 0.3 × 2 × 67.448/54.938 = 0.8574, + 0.7 × 0.4 = 1.1374 mg/L, over the US MCL 1.0
+    const bg = dose({ oxidant: 'chlorine-dioxide', flow: { value: 2000, unit: 'm3/d' }, sample: { pH: 7.2, temperatureC: 15, iron: { value: 0.1, unit: 'mg/L' }, manganese: { value: 0.3, unit: 'mg/L' } }, backgroundDemand: { value: 0.4, unit: 'mg/L' }, targetResidual: { value: 0.1, unit: 'mg/L' } });
+    const expectedBg = (0.1 * ClO2) / M.Fe + (0.3 * 2 * ClO2) / M.Mn + 0.7 * 0.4; // ClO2- and ClO2 differ by an electron's mass
+    expect(bg.sideEffects.byproducts.find((b) => b.id === 'chlorite')!.estimate!.value).toBeCloseTo(expectedBg, 4);
+    expect(codes(bg)).toContain('CHLORITE_ABOVE_MCL');
+    // with little iron and a residual the rule-of-thumb fraction is the larger: 0.2 mg/L Fe (0.2416 mg/L ClO2) and
+    // a 0.5 mg/L residual give 0.7 × 0.7416 = 0.519 mg/L against 0.2416 from the reaction
+    const low = dose({ oxidant: 'chlorine-dioxide', flow: { value: 2000, unit: 'm3/d' }, sample: { pH: 7.2, temperatureC: 15, iron: { value: 0.2, unit: 'mg/L' } }, targetResidual: { value: 0.5, unit: 'mg/L' } });
     expect(low.sideEffects.byproducts.find((b) => b.id === 'chlorite')!.estimate!.value).toBeCloseTo(0.7 * low.dose.value, 10);
     expect(r.flags.find((f) => f.code === 'CHLORITE_ABOVE_WHO')?.severity).toBe('warning');
     expect(codes(r)).not.toContain('CHLORITE_ABOVE_MCL');
@@ -273,6 +280,24 @@ describe('feasibility at the sample conditions', () => {
     const f = r.feasibility.find((x) => x.contaminant === 'arsenite')!;
     expect(f.contaminantCouple.potentialV).toBeCloseTo(expected, 4);
     expect(f.feasible).toBe(true);
+  });
+  it('ozone: the feed note speaks of the ozone the contactor transfers, not of a generator solution', () => {
+    const r = dose({ oxidant: 'ozone', flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 7.2, temperatureC: 12, iron: { value: 1, unit: 'mg/L' } } });
+    const notes = r.feed!.notes.join(' ');
+    expect(notes).toMatch(/ozone the contactor must transfer/);
+    expect(notes).not.toMatch(/generator solution/);
+  });
+  it('aeration: the iron oxygenation time runs on the water after aeration, not the raw water\'s 0.5 mg/L of DO (Stumm & Lee 1961)', () => {
+    const body = { oxidant: 'oxygen', flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 7.2, temperatureC: 12, iron: { value: 2, unit: 'mg/L' }, dissolvedOxygen: { value: 0.5, unit: 'mg/L' } } };
+    const detailOf = (r: DoseResult) => r.contact.entries.find((e) => e.contaminant === 'iron')!.detail as { dissolvedOxygenMgPerL: number; dissolvedOxygenFrom: string };
+    // no DO residual targeted: air saturation at 12 °C, the table's value
+    const saturated = detailOf(dose(body));
+    expect(saturated.dissolvedOxygenFrom).toMatch(/saturation in air/);
+    expect(saturated.dissolvedOxygenMgPerL).toBeGreaterThan(10);
+    // a 2 mg/L DO residual targeted: 0.5 measured + the dose (demand 2 × 0.1432 + 2 residual)
+    const r = dose({ ...body, targetResidual: { value: 2, unit: 'mg/L' } });
+    expect(detailOf(r).dissolvedOxygenMgPerL).toBeCloseTo(0.5 + r.dose.value, 9);
+    expect(detailOf(r).dissolvedOxygenFrom).toMatch(/sample plus the oxygen dose/);
   });
   it('chlorine gas: the chloride the dose forms is two per Cl2 (Cl2 + H2O = HOCl + H+ + Cl-, then HOCl + H+ + 2e- → Cl- + H2O), not one', () => {
     const r = dose({ oxidant: 'chlorine-gas', flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 6.5, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } } });

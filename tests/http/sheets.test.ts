@@ -151,6 +151,8 @@ describe('POST /api/v1/sheets → a signed PDF that independent tools accept', (
     // values recalled from memory say so on the signed sheet: in the sources table and under the safety box
     const flat = text.replace(/\s+/g, ' ');
     expect(flat).toContain('[values recalled from memory; verify]');
+    // the feasibility table says on which side of its limit pH a reaction runs
+    expect(flat).toContain('Feasible at pH');
     expect(flat).toMatch(/Sources: .*\(recalled from memory; verify\)/);
   });
 
