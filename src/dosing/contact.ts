@@ -5,6 +5,7 @@
  * of tables/kinetics-typical.json, marked "typical range from the literature".
  */
 import type { Dec as DecT } from '../core/decimal.js';
+import { lowerName } from '../core/text.js';
 import type { KineticsRow } from '../reference/kinetics-schema.js';
 import type { ContaminantRow, OxidantRow } from '../reference/dosing-schemas.js';
 import { contactTimeCheck, ironOxygenation, type ContactTimeStatus } from '../water/kinetics.js';
@@ -81,7 +82,7 @@ export function checkContact(input: ContactInput, deps: ContactDeps, flags: Flag
         entries.push({ contaminant: c.row.id, basis: 'typical range from the literature', requiredMinutes: null, requiredRange: null, availableMinutes: input.availableMinutes, status: 'outside-range', tooSlow: below, remedy: below ? r0.remedy : null, message, kineticsRow: r0.id, source: r0.source, detail: null });
         flags.push({ code: below ? 'CONTACT_PH_TOO_LOW' : 'CONTACT_PH_OUTSIDE_RANGE', severity: below ? 'warning' : 'info', message: `${c.row.name} with ${input.oxidant.name}: ${message}`, source: r0.source });
       } else {
-        entries.push({ contaminant: c.row.id, basis: 'no data', requiredMinutes: null, requiredRange: null, availableMinutes: input.availableMinutes, status: 'unknown', tooSlow: false, remedy: null, message: `No reaction time is tabled for ${input.oxidant.name} with ${c.row.name.toLowerCase()}; confirm with a jar test.`, kineticsRow: null, source: null, detail: null });
+        entries.push({ contaminant: c.row.id, basis: 'no data', requiredMinutes: null, requiredRange: null, availableMinutes: input.availableMinutes, status: 'unknown', tooSlow: false, remedy: null, message: `No reaction time is tabled for ${input.oxidant.name} with ${lowerName(c.row.name)}; confirm with a jar test.`, kineticsRow: null, source: null, detail: null });
       }
       continue;
     }

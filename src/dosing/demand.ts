@@ -4,6 +4,7 @@
  * plant measured — never a default factor).
  */
 import { Dec, type Dec as DecT } from '../core/decimal.js';
+import { lowerName } from '../core/text.js';
 import { DomainError } from '../core/errors.js';
 import { toBaseDec } from '../core/quantity.js';
 import type { ContaminantRow, OxidantRow } from '../reference/dosing-schemas.js';
@@ -114,7 +115,7 @@ export function contaminantDemands(input: {
       flags.push({
         code: 'OXIDANT_UNUSUAL_FOR_CONTAMINANT',
         severity: 'warning',
-        message: `${ox.name} is not a usual oxidant for ${ct.name.toLowerCase()} in drinking water${ct.practiceNote ? `: ${ct.practiceNote}` : ''} The stoichiometric demand is shown; confirm with a jar test.`,
+        message: `${ox.name} is not a usual oxidant for ${lowerName(ct.name)} in drinking water${ct.practiceNote ? `: ${ct.practiceNote}` : ''} The stoichiometric demand is shown; confirm with a jar test.`,
         source: ct.practiceSource ?? ct.source,
       });
     }

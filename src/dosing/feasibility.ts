@@ -13,6 +13,7 @@
  * Activity coefficients by Davies from the ionic strength estimated from TDS (Langelier); without TDS, γ = 1.
  */
 import type { Dec as DecT } from '../core/decimal.js';
+import { lowerName } from '../core/text.js';
 import { DomainError, isDomainError } from '../core/errors.js';
 import { parseEquation, speciesKey } from '../chemistry/formula/index.js';
 import { halfReaction, type HalfReaction, type Medium } from '../chemistry/balance/index.js';
@@ -338,14 +339,14 @@ function pushFlags(e: FeasibilityEntry, input: FeasibilityInput, flags: Flag[]):
     flags.push({
       code: 'REACTION_NOT_FEASIBLE',
       severity: 'danger',
-      message: `${ox.name} cannot oxidise ${ct.name.toLowerCase()} at pH ${input.pH} and ${input.temperatureC} °C: the cell potential is ${e.cellPotentialV.toFixed(3)} V (≤ 0)${e.feasibilityLimitPH !== null ? `; it becomes feasible ${e.feasibleSide === 'above' ? 'above' : 'below'} pH ${e.feasibilityLimitPH.toFixed(2)}` : ''}. Change the oxidant or the pH.`,
+      message: `${ox.name} cannot oxidise ${lowerName(ct.name)} at pH ${input.pH} and ${input.temperatureC} °C: the cell potential is ${e.cellPotentialV.toFixed(3)} V (≤ 0)${e.feasibilityLimitPH !== null ? `; it becomes feasible ${e.feasibleSide === 'above' ? 'above' : 'below'} pH ${e.feasibilityLimitPH.toFixed(2)}` : ''}. Change the oxidant or the pH.`,
       source: e.oxidantCouple.derivation[0]?.source ?? ox.source,
     });
   } else if (e.marginV < 0.1) {
     flags.push({
       code: 'REACTION_MARGIN_SMALL',
       severity: 'warning',
-      message: `${ox.name} with ${ct.name.toLowerCase()}: the cell potential is only ${e.cellPotentialV.toFixed(3)} V at pH ${input.pH}; the reaction may stop short of completion${e.feasibilityLimitPH !== null ? ` (limit pH ${e.feasibilityLimitPH.toFixed(2)})` : ''}.`,
+      message: `${ox.name} with ${lowerName(ct.name)}: the cell potential is only ${e.cellPotentialV.toFixed(3)} V at pH ${input.pH}; the reaction may stop short of completion${e.feasibilityLimitPH !== null ? ` (limit pH ${e.feasibilityLimitPH.toFixed(2)})` : ''}.`,
       source: e.contaminantCouple.derivation[0]?.source ?? ox.source,
     });
   }

@@ -9,6 +9,7 @@
  * 3.785411784 kg ÷ 0.45359237 kg/lb = 8.345404… lb per (mg/L · million gallons) (NIST SP 811).
  */
 import { Dec, type Dec as DecT } from '../core/decimal.js';
+import { lowerName } from '../core/text.js';
 import { DomainError } from '../core/errors.js';
 import { UNIT_FACTORS, toBaseDec, fromBaseDec, type Quantity } from '../core/quantity.js';
 import type { OxidantRow } from '../reference/dosing-schemas.js';
@@ -198,7 +199,7 @@ function densityOutOfTable(ox: OxidantRow, series: readonly DensityPoint[], valu
   const basis = ox.strength.basis === 'product' ? ox.productFormula : `available chlorine as ${ox.doseBasis}`;
   const range = series.length === 1 ? `${lo} % w/w ${basis} only (${series[0]!.label})` : `${lo} to ${hi} % w/w ${basis} only (${series[0]!.label} to ${series[series.length - 1]!.label})`;
   return new DomainError('DENSITY_NOT_TABLED', {
-    detail: `${value} % w/w ${ox.name.toLowerCase()} needs its density to give g/L, and the table holds densities for ${range}; a density is not extrapolated outside them. Give product.density (kg/L, from the certificate of analysis or a hydrometer reading), or the strength in % w/v or g/L.`,
+    detail: `${value} % w/w ${lowerName(ox.name)} needs its density to give g/L, and the table holds densities for ${range}; a density is not extrapolated outside them. Give product.density (kg/L, from the certificate of analysis or a hydrometer reading), or the strength in % w/v or g/L.`,
     fields: [
       { pointer: '/product/strength', message: `${value} % w/w is outside the ${series.length === 1 ? lo : `${lo} to ${hi}`} % w/w the table holds densities for: the density is not extrapolated` },
       { pointer: '/product/density', message: 'needed for this strength in % w/w (kg/L)' },

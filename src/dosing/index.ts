@@ -7,6 +7,7 @@
  * number. Pure: tables come in as arguments, nothing is read from disk.
  */
 import { Dec, ROUNDING_RULE, type Dec as DecT } from '../core/decimal.js';
+import { lowerName } from '../core/text.js';
 import { DomainError } from '../core/errors.js';
 import { toBaseDec, temperatureToC, cToF, UNIT_FACTORS } from '../core/quantity.js';
 import { molarMass, parseEquation, speciesKey } from '../chemistry/formula/index.js';
@@ -628,8 +629,8 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
         if (!(e instanceof DomainError)) throw e;
         // a site value that reads as the other form of its couple is the caller's to settle, not a gap in the tables
         if (e.code === 'SITE_VALUE_MEDIUM_UNCLEAR') throw e;
-        notes.push(`Feasibility of ${ox.name} with ${ct.name.toLowerCase()} not evaluated: ${e.detail}`);
-        flags.push({ code: 'FEASIBILITY_NOT_EVALUATED', severity: 'info', message: `Feasibility of ${ox.name} with ${ct.name.toLowerCase()} could not be evaluated: ${e.detail}`, source: ox.source });
+        notes.push(`Feasibility of ${ox.name} with ${lowerName(ct.name)} not evaluated: ${e.detail}`);
+        flags.push({ code: 'FEASIBILITY_NOT_EVALUATED', severity: 'info', message: `Feasibility of ${ox.name} with ${lowerName(ct.name)} could not be evaluated: ${e.detail}`, source: ox.source });
       }
     }
   }

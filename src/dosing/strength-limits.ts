@@ -27,6 +27,7 @@
  * (1000 × density − c) for c g/L.
  */
 import { Dec, type Dec as DecT } from '../core/decimal.js';
+import { lowerName } from '../core/text.js';
 import type { FieldProblem } from '../core/errors.js';
 import { toBaseDec, type Quantity } from '../core/quantity.js';
 import { type GradeLimit, type OxidantRow, type SolubilityLimit, type StrengthLimit } from '../reference/dosing-schemas.js';
@@ -229,7 +230,7 @@ export function strengthLimitFlags(ox: OxidantRow, product: ProductStrengthInput
       {
         code: 'STRENGTH_ABOVE_TRADE_GRADE',
         severity: 'warning',
-        message: `The product strength, ${givenOnScale} ${l.strengthOf}, is above ${l.strongest.label}, the strongest grade tables/oxidants.json holds for ${ox.name.toLowerCase()} (source ${l.strongest.source}${memoText(l.strongest.fromMemory)}); it is refused above ${l.refuseAbove.value} ${l.refuseAbove.unit} (common practice). Check the strength on the certificate of analysis or measure it: the solution rate is computed for the strength given.`,
+        message: `The product strength, ${givenOnScale} ${l.strengthOf}, is above ${l.strongest.label}, the strongest grade tables/oxidants.json holds for ${lowerName(ox.name)} (source ${l.strongest.source}${memoText(l.strongest.fromMemory)}); it is refused above ${l.refuseAbove.value} ${l.refuseAbove.unit} (common practice). Check the strength on the certificate of analysis or measure it: the solution rate is computed for the strength given.`,
         source: l.strongest.source,
       },
     ];

@@ -269,7 +269,9 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
             e.requiredMinutes !== null
               ? round1(e.requiredMinutes)
               : e.requiredRange
-                ? `${round1(e.requiredRange.minMinutes)}–${e.requiredRange.maxMinutes === null ? '' : round1(e.requiredRange.maxMinutes)}`
+                ? e.requiredRange.maxMinutes === null
+                  ? `≥ ${round1(e.requiredRange.minMinutes)}`
+                  : `${round1(e.requiredRange.minMinutes)}–${round1(e.requiredRange.maxMinutes)}`
                 : '–',
             e.availableMinutes === null ? '–' : round1(e.availableMinutes),
             e.status,

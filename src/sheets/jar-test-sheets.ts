@@ -194,7 +194,7 @@ export function jarTestPlanDocument(plan: JarTestPlan, ctx: JarSheetContext): Sh
   return buildSheetDocument({
     id: ctx.id,
     kind: 'jar-test-plan',
-    title: `Jar test plan: ${ctx.productName.toLowerCase()}`,
+    title: `Jar test plan: ${ctx.productName.charAt(0).toLowerCase() + ctx.productName.slice(1)}`,
     subtitle: [ctx.plantName, ctx.sampleLabel, ctx.sampledAt ? `sampled ${displayTime(ctx.sampledAt)}` : undefined].filter(Boolean).join('; ') || 'Bench sheet',
     pageSize: ctx.pageSize ?? 'A4',
     issuedAt: ctx.issuedAt,
@@ -339,7 +339,7 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
   return buildSheetDocument({
     id: ctx.id,
     kind: 'jar-test-evaluation',
-    title: `Jar test evaluation: ${ctx.productName.toLowerCase()}`,
+    title: `Jar test evaluation: ${ctx.productName.charAt(0).toLowerCase() + ctx.productName.slice(1)}`,
     subtitle: [ctx.plantName, ctx.sampleLabel, ctx.sampledAt ? `sampled ${displayTime(ctx.sampledAt)}` : undefined].filter(Boolean).join('; ') || 'Evaluation',
     pageSize: ctx.pageSize ?? 'A4',
     issuedAt: ctx.issuedAt,

@@ -198,6 +198,12 @@ describe('flags', () => {
     // and the zero dose says why, rather than that no contaminant was given
     expect(r.flags.find((f) => f.code === 'DOSE_ZERO')?.message).toMatch(/not ones Potassium permanganate.* is counted against/);
   });
+  it('names inside a sentence keep their oxidation state in capitals: "manganese(II)", not "manganese(ii)"', () => {
+    const r = dose({ ...base, oxidant: 'hydrogen-peroxide', sample: { pH: 7.2, temperatureC: 15, manganese: { value: 0.3, unit: 'mg/L' } } });
+    const f = r.flags.find((x) => x.code === 'OXIDANT_UNUSUAL_FOR_CONTAMINANT')!;
+    expect(f.message).toContain('manganese(II)');
+    expect(r.flags.map((x) => x.message).join(' ')).not.toMatch(/\((ii|iii)\)/);
+  });
   it('ammonia with chlorine: a warning that chloramines form before breakpoint, the ratio counted and the practical range (common practice, White\'s Handbook)', () => {
     // 3 Cl2 per 2 N: 3 × 70.906 / (2 × 14.007) = 7.59 mg Cl2 per mg N, the stoichiometric minimum
     const r = dose({ ...base, oxidant: 'sodium-hypochlorite', sample: { pH: 7.5, temperatureC: 15, ammoniaN: { value: 0.5, unit: 'mg/L' }, manganese: { value: 0.1, unit: 'mg/L' } } });
