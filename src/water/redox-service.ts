@@ -585,13 +585,15 @@ export interface CellInputText {
 const CELL_MEMO_SIZE = 512;
 const cellMemos = new WeakMap<RedoxDeps, Map<string, ReturnType<typeof evaluateCellUncached>>>();
 
-export function evaluateCellText(input: CellInputText, deps: RedoxDeps): ReturnType<typeof evaluateCellUncached> {
+export function evaluateCellText(input: CellInputText, deps: RedoxDeps, requestText?: string): ReturnType<typeof evaluateCellUncached> {
   let memo = cellMemos.get(deps);
   if (!memo) {
     memo = new Map();
     cellMemos.set(deps, memo);
   }
-  const key = JSON.stringify(input);
+  // the request as received is a key as good as the parsed one re-serialised (the same text parses
+  // to the same input), and saves writing it again; texts that differ only in spacing miss
+  const key = requestText !== undefined ? `t${requestText}` : `j${JSON.stringify(input)}`;
   const hit = memo.get(key);
   if (hit) {
     memo.delete(key);

@@ -155,6 +155,16 @@ describe('errors name the fields the request has', () => {
     expect(cell.errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/oxidant']);
   });
 
+  it('the cell route keeps Fastify\'s JSON rules with its own parser: a prototype-poisoning body is refused, and texts differing only in spacing get the same answer', async () => {
+    const poisoned = await app.inject({ method: 'POST', url: '/api/v1/cells/evaluate', headers: { 'content-type': 'application/json' }, payload: '{"__proto__":{"pH":7}}' });
+    expect(poisoned.statusCode).toBe(400);
+    expect(poisoned.json().code).toBe('BODY_NOT_JSON');
+    const compact = await app.inject({ method: 'POST', url: '/api/v1/cells/evaluate', headers: { 'content-type': 'application/json' }, payload: JSON.stringify(MN_CELL) });
+    const spaced = await app.inject({ method: 'POST', url: '/api/v1/cells/evaluate', headers: { 'content-type': 'application/json' }, payload: JSON.stringify(MN_CELL, null, 2) });
+    expect(spaced.statusCode).toBe(200);
+    expect(spaced.body).toBe(compact.body);
+  });
+
   it('a body that is not JSON is a 415 problem with its own code', async () => {
     const r = await app.inject({ method: 'POST', url: '/api/v1/cells/evaluate', headers: { 'content-type': 'application/xml' }, payload: '<x/>' });
     expect(r.statusCode).toBe(415);

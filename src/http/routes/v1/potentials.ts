@@ -18,8 +18,19 @@ const PotentialRowOut = z.object({
   note: z.string().nullable(),
 });
 
+/** The JSON text of a request body as received (kept by this plugin's JSON parser). */
+const REQUEST_TEXT = Symbol('requestText');
+
 export async function potentialRoutes(app: FastifyInstance): Promise<void> {
   const deps = () => app.services.redox;
+  // Fastify's own JSON parser (same prototype-poisoning rules), keeping the text it parsed so the
+  // cell memo can key on it instead of serialising the parsed body again.
+  const parseJson = app.getDefaultJsonParser('error', 'error');
+  app.removeContentTypeParser('application/json');
+  app.addContentTypeParser('application/json', { parseAs: 'string' }, (req, body, done) => {
+    (req as unknown as Record<symbol, unknown>)[REQUEST_TEXT] = body;
+    parseJson(req, body as string, done);
+  });
 
   defineRoute(app, {
     method: 'POST',
@@ -38,7 +49,7 @@ export async function potentialRoutes(app: FastifyInstance): Promise<void> {
     tags: ['chemistry'],
     body: CellBody,
     response: { 200: CellResponse },
-    handler: async (req) => evaluateCellText(req.body, deps()),
+    handler: async (req) => evaluateCellText(req.body, deps(), (req as unknown as Record<symbol, string | undefined>)[REQUEST_TEXT]),
   });
 
   defineRoute(app, {
