@@ -72,12 +72,12 @@ function processFlags(demands: readonly DemandWork[], ox: OxidantRow, pH: number
   }
   const sulfide = find('sulfide');
   if (sulfide && ox.id === 'oxygen') {
+    // the H2S/HS- equilibrium the sulfide row names (its id is checked against the tables at load)
+    const eq = sulfide.contaminantRow.speciation?.equilibrium;
     let share = '';
-    try {
-      const pKa = context.pKaAt('crc-h2s', temperatureC);
-      share = `; at pH ${pH} and ${temperatureC} °C about ${roundSigNumber(100 / (1 + Math.pow(10, pH - pKa)), 2)} % of the sulfide is H2S (pKa ${pKa.toFixed(2)}, crc-h2s), the rest HS-, which does not strip`;
-    } catch {
-      // no H2S row: the share is not given
+    if (eq !== undefined) {
+      const pKa = context.pKaAt(eq, temperatureC);
+      share = `; at pH ${pH} and ${temperatureC} °C about ${roundSigNumber(100 / (1 + Math.pow(10, pH - pKa)), 2)} % of the sulfide is H2S (pKa ${pKa.toFixed(2)}, ${eq}), the rest HS-, which does not strip`;
     }
     flags.push({
       code: 'AERATION_SULFIDE_SLOW',
