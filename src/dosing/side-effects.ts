@@ -195,6 +195,27 @@ export function sideEffects(input: SideEffectInput): SideEffects {
       flags.push({ code: 'CHLORITE_ABOVE_WHO', severity: 'warning', message: `Estimated chlorite ${roundSigNumber(chlorite)} mg/L exceeds the WHO provisional guideline value ${who.valueText} mg/L (${who.edition ?? who.citation}). Local regulations govern.`, source: who.source });
     }
   }
+  if (ox.chlorate && input.doseMgPerL.greaterThan(0)) {
+    // No estimate: the chlorate a dose carries depends on the stock's age and storage or on the
+    // generator's operation, which the request does not state. The limits are named instead.
+    const who = limitOf(input.limits, 'who-chlorate');
+    const eu = limitOf(input.limits, 'eu-chlorate');
+    const euAlso = eu?.note?.replace(/\s*Value from memory; verify\.$/, '').replace(/\.$/, '') ?? '';
+    const limitsText = [who ? `WHO provisional guideline value ${who.valueText} mg/L` : null, eu ? `EU parametric value ${eu.valueText} mg/L${euAlso ? `, or ${euAlso}` : ''} (${eu.citation})` : null].filter(Boolean).join('; ');
+    byproducts.push({
+      id: 'chlorate',
+      estimate: null,
+      limit: who ? { id: who.id, value: who.valueText, citation: who.citation } : null,
+      text: ox.chlorate.text,
+      source: ox.chlorate.source,
+    });
+    flags.push({
+      code: 'CHLORATE_CHECK',
+      severity: 'info',
+      message: `Chlorate: ${ox.chlorate.text}${limitsText ? ` Limits: ${limitsText}.` : ''} Local regulations govern.`,
+      source: ox.chlorate.source,
+    });
+  }
   if (ox.id === 'ozone') {
     const us = limitOf(input.limits, 'us-mcl-bromate');
     if (input.bromideMgPerL !== null && input.bromideMgPerL > BROMIDE_SCREENING_MG_PER_L) {

@@ -242,6 +242,23 @@ describe('flags', () => {
     const r = dose({ ...base, oxidant: 'sodium-hypochlorite', sample: { pH: 7.2, temperatureC: 15, toc: { value: 3.5, unit: 'mg/L' } } });
     expect(r.flags.find((x) => x.code === 'DBP_CAUTION')?.message).toMatch(/common practice/);
   });
+  it('hypochlorite and chlorine dioxide name chlorate and its limits (WHO 0.7 mg/L provisional; EU 2020/2184 0.25 mg/L, 0.70 with ClO2; both from memory); chlorine gas, ozone and permanganate do not', () => {
+    for (const oxidant of ['sodium-hypochlorite', 'calcium-hypochlorite', 'chlorine-dioxide']) {
+      const r = dose({ ...base, oxidant, sample: { pH: 7.2, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } } });
+      const f = r.flags.find((x) => x.code === 'CHLORATE_CHECK')!;
+      expect(f.severity).toBe('info');
+      expect(f.message).toMatch(/0\.7 mg\/L/);
+      expect(f.message).toMatch(/0\.25 mg\/L/);
+      expect(f.message).toMatch(/2020\/2184/);
+      expect(f.message).toMatch(/Local regulations govern/);
+      const b = r.sideEffects.byproducts.find((x) => x.id === 'chlorate')!;
+      expect(b.estimate).toBeNull();
+      expect(b.limit?.value).toBe('0.7');
+    }
+    for (const oxidant of ['chlorine-gas', 'ozone', 'potassium-permanganate']) {
+      expect(dose({ ...base, oxidant, sample: { pH: 7.2, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } } }).flags.map((x) => x.code)).not.toContain('CHLORATE_CHECK');
+    }
+  });
   it('manganese with free chlorine at pH 7.2 is feasible but too slow for 36 min (typical range from the literature)', () => {
     const r = dose({ ...base, flow: { value: 4000, unit: 'm3/d' }, contactVolume: { value: 100, unit: 'm3' }, oxidant: 'sodium-hypochlorite', sample: { pH: 7.2, temperatureC: 15, manganese: { value: 0.2, unit: 'mg/L' } } });
     expect(r.feasibility[0]!.feasible).toBe(true);
