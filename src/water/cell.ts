@@ -20,6 +20,7 @@ import {
   speciationLog10Activities,
   type ActivityMap,
   type CompiledHalf,
+  type LinkedActivityMap,
   type Conditions,
   type NernstResult,
   type SpeciationGroup,
@@ -43,6 +44,8 @@ export interface CellInput {
   readonly kw?: number;
   /** pH-dependent forms with a known total (their activities follow the pH in the root finder). */
   readonly speciation?: readonly SpeciationGroup[];
+  /** Terms converted from a given partner species (log10 a = c0 + k·pH); the partner is held, they follow the pH. */
+  readonly linked?: LinkedActivityMap;
   readonly constants: PhysicalConstants;
   /** For the equilibrium residual in mol/L and mg/L. */
   readonly reductantResidual?: {

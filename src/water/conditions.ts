@@ -9,6 +9,8 @@
  *   H2O, pure liquids, solids (phase 's' or in `solids`)   a = 1   origin 'unit-by-convention'
  *   gases   a = partial pressure in atm if given, else 1 atm      origin 'given' / 'unit-by-convention'
  *   others  a from `activities` (keyed by speciesKey), else 1      origin 'given' / 'unit-by-convention'
+ *   linked  a term not given itself whose activity follows from a given species through a
+ *           non-redox equilibrium (HOCl given, OCl- in the half): log10 a = c0 + k·pH   origin 'converted'
  * The pH governs H+ and OH- (an entry for them in `activities` is not used).
  * The slope RT ln10/F is computed from R and F at the actual temperature.
  */
@@ -21,7 +23,7 @@ import { checkConstants, checkPH, checkTemperatureC, nernstSlopeV, type Physical
 /** speciesKey → activity (dimensionless), or partial pressure in atm for gases. */
 export type ActivityMap = ReadonlyMap<string, number> | Readonly<Record<string, number>>;
 
-export type ActivityOrigin = 'pH' | 'Kw' | 'given' | 'speciation' | 'unit-by-convention';
+export type ActivityOrigin = 'pH' | 'Kw' | 'given' | 'speciation' | 'converted' | 'unit-by-convention';
 export type UnitReason = 'water' | 'solid' | 'pure-liquid' | 'gas-at-1-atm' | 'not-given';
 
 export interface ActivityUsed {
@@ -53,6 +55,26 @@ export interface SpeciationGroup {
   readonly activityCoefficients?: readonly number[];
 }
 
+/**
+ * The activity of a term that the caller did not give, converted from one given for a partner
+ * species through a non-redox equilibrium of tabled log K (HOCl = H+ + OCl-, O2(g) = O2):
+ *
+ *   log10 a(pH) = log10ActivityAtPH0 + perPH·pH
+ *
+ * The given species is held fixed and the converted one follows the pH (the root finder
+ * included): for HOCl given and OCl- in the half, log10 a(OCl-) = log10 a(HOCl) − pKa + pH,
+ * i.e. log10ActivityAtPH0 = log10 a(HOCl) − pKa and perPH = 1. For a gas, a is its partial
+ * pressure in atm. A term's own value in `activities`, `partialPressuresAtm` or a speciation
+ * group takes precedence over its linked one.
+ */
+export interface LinkedActivity {
+  readonly log10ActivityAtPH0: number;
+  readonly perPH: number;
+}
+
+/** speciesKey → its linked activity. */
+export type LinkedActivityMap = ReadonlyMap<string, LinkedActivity>;
+
 export interface NernstInput {
   readonly half: HalfReaction;
   /** E° at the temperature (already temperature-corrected by the caller), V. */
@@ -67,6 +89,8 @@ export interface NernstInput {
   /** Kw at the temperature (needed when OH- takes part). */
   readonly kw?: number;
   readonly speciation?: readonly SpeciationGroup[];
+  /** Terms converted from a given partner species; they follow the pH (see LinkedActivity). */
+  readonly linked?: LinkedActivityMap;
   readonly constants: PhysicalConstants;
 }
 
@@ -204,6 +228,7 @@ export interface Conditions {
   readonly partialPressuresAtm?: ActivityMap;
   readonly kw?: number;
   readonly speciation?: readonly SpeciationGroup[];
+  readonly linked?: LinkedActivityMap;
   readonly constants: PhysicalConstants;
 }
 
@@ -220,6 +245,15 @@ export function checkConditions(c: Conditions): void {
           fields: [{ pointer: `/${name}/${pointerToken(k)}`, message: 'must be a positive number' }],
         });
       }
+    }
+  }
+  for (const [k, l] of c.linked ?? []) {
+    if (!Number.isFinite(l.log10ActivityAtPH0) || !Number.isFinite(l.perPH)) {
+      throw new DomainError('ACTIVITY_INVALID', {
+        detail: `The linked activity of ${k} must have a finite log10 activity at pH 0 and a finite slope per pH; got ${String(l.log10ActivityAtPH0)} and ${String(l.perPH)}.`,
+        params: { species: k },
+        fields: [{ pointer: `/linked/${pointerToken(k)}`, message: 'must be finite numbers' }],
+      });
     }
   }
   if (c.kw !== undefined && (!Number.isFinite(c.kw) || c.kw <= 0)) {
@@ -285,7 +319,8 @@ export function speciationLog10Activities(groups: readonly SpeciationGroup[] | u
 /**
  * log10 Q of a compiled half as a function of pH, prepared once for the root finder:
  * log10 Q(pH) = fixed + perPH·pH + Σ ν·log10 a(speciated form at pH). Everything that does not
- * depend on the pH (given activities, pressures, log Kw) is summed once.
+ * depend on the pH (given activities, pressures, log Kw, the constant part of a linked activity)
+ * is summed once; a linked activity's slope adds to perPH.
  */
 export function prepareLog10Q(ch: CompiledHalf, c: Conditions, pointer = '/half'): (pH: number) => number {
   let fixed = 0;
@@ -308,7 +343,9 @@ export function prepareLog10Q(ch: CompiledHalf, c: Conditions, pointer = '/half'
       case 'water': case 'solid': case 'pure-liquid': break;
       case 'gas': {
         const p = lookup(c.partialPressuresAtm, t.key) ?? lookup(c.activities, t.key);
-        if (p !== undefined) fixed += t.signed * Math.log10(p);
+        if (p !== undefined) { fixed += t.signed * Math.log10(p); break; }
+        const l = c.linked?.get(t.key);
+        if (l !== undefined) { fixed += t.signed * l.log10ActivityAtPH0; perPH += t.signed * l.perPH; }
         break;
       }
       case 'dissolved': {
@@ -321,7 +358,10 @@ export function prepareLog10Q(ch: CompiledHalf, c: Conditions, pointer = '/half'
           break;
         }
         const a = lookup(c.activities, t.key);
-        if (a !== undefined) fixed += t.signed * Math.log10(a);
+        if (a !== undefined) { fixed += t.signed * Math.log10(a); break; }
+        // converted from a given partner: the partner is held, this term follows the pH
+        const l = c.linked?.get(t.key);
+        if (l !== undefined) { fixed += t.signed * l.log10ActivityAtPH0; perPH += t.signed * l.perPH; }
         break;
       }
     }
@@ -379,16 +419,20 @@ export function evaluateLog10Q(
       case 'pure-liquid': logA = 0; origin = 'unit-by-convention'; reason = 'pure-liquid'; break;
       case 'gas': {
         const p = lookup(c.partialPressuresAtm, t.key) ?? lookup(c.activities, t.key);
-        if (p === undefined) { logA = 0; origin = 'unit-by-convention'; reason = 'gas-at-1-atm'; }
-        else { logA = Math.log10(p); origin = 'given'; }
+        const l = p === undefined ? c.linked?.get(t.key) : undefined;
+        if (p !== undefined) { logA = Math.log10(p); origin = 'given'; }
+        else if (l !== undefined) { logA = l.log10ActivityAtPH0 + l.perPH * pH; origin = 'converted'; }
+        else { logA = 0; origin = 'unit-by-convention'; reason = 'gas-at-1-atm'; }
         break;
       }
       case 'dissolved': {
         const s = spec.get(t.key);
         if (s !== undefined) { logA = s; origin = 'speciation'; break; }
         const a = lookup(c.activities, t.key);
-        if (a === undefined) { logA = 0; origin = 'unit-by-convention'; reason = 'not-given'; if (report) notGiven.push(t.text); }
-        else { logA = Math.log10(a); origin = 'given'; }
+        const l = a === undefined ? c.linked?.get(t.key) : undefined;
+        if (a !== undefined) { logA = Math.log10(a); origin = 'given'; }
+        else if (l !== undefined) { logA = l.log10ActivityAtPH0 + l.perPH * pH; origin = 'converted'; }
+        else { logA = 0; origin = 'unit-by-convention'; reason = 'not-given'; if (report) notGiven.push(t.text); }
         break;
       }
     }

@@ -61,6 +61,8 @@ export {
   type ActivityMap,
   type ActivityOrigin,
   type ActivityUsed,
+  type LinkedActivity,
+  type LinkedActivityMap,
   type NernstInput,
   type NernstResult,
   type SpeciationGroup,

@@ -16,6 +16,7 @@ import { balanceRedox, halfReaction, mediumForPH, type HalfReaction, type Medium
 import { standardPotential, type PotentialResult, type DerivationStep, type SiteValue } from '../chemistry/thermo/derive.js';
 import type { Ledger } from '../chemistry/thermo/ledger.js';
 import { nernst, type ActivityUsed, type NernstResult } from './conditions.js';
+import { linkGivenSpecies, linkNote, type GivenSpecies, type Link, type LinkResult } from './linked.js';
 import { evaluateCell } from './cell.js';
 import { DAVIES_EQUATION, daviesGamma, ionicStrength } from './activity.js';
 import type { PhysicalConstants } from './constants.js';
@@ -306,22 +307,49 @@ function gammaOneNote(
 }
 
 /**
- * ΔE of a half (as a reduction, E = E° − (s/n) log10 Q) if the activity of each term given
- * for a charged species (`charges`: key → charge) were multiplied by its γ: −(s/n) Σ ν log10 γ.
+ * The charge of the given species behind a term's activity and how that activity moves per
+ * decade of the given one's: the term itself (1) when given, the partner it was converted from
+ * (−ν_S/ν_T) when converted; null otherwise.
  */
-function gammaShiftV(half: NernstResult, charges: ReadonlyMap<string, number>, log10Gamma: (charge: number) => number): number {
+function givenBehind(a: ActivityUsed, charges: ReadonlyMap<string, number>, links: ReadonlyMap<string, Link>): { z: number; factor: number } | null {
+  if (a.origin === 'given') {
+    const z = charges.get(a.key);
+    return z === undefined ? null : { z, factor: 1 };
+  }
+  const l = a.origin === 'converted' ? links.get(a.key) : undefined;
+  const z = l ? charges.get(l.from.key) : undefined;
+  return l && z !== undefined ? { z, factor: l.perLog10Given } : null;
+}
+
+/**
+ * ΔE of a half (as a reduction, E = E° − (s/n) log10 Q) if the activity of each term given
+ * for a charged species (`charges`: key → charge) were multiplied by its γ: −(s/n) Σ ν log10 γ;
+ * a term converted from a charged given species moves with that species' γ.
+ */
+function gammaShiftV(half: NernstResult, charges: ReadonlyMap<string, number>, log10Gamma: (charge: number) => number, links: ReadonlyMap<string, Link> = new Map()): number {
   let sum = 0;
   for (const a of half.activities) {
-    const z = charges.get(a.key);
-    if (a.origin !== 'given' || z === undefined || z === 0) continue;
-    sum += (a.side === 'product' ? a.coefficient : -a.coefficient) * log10Gamma(z);
+    const g = givenBehind(a, charges, links);
+    if (g === null || g.z === 0) continue;
+    sum += (a.side === 'product' ? a.coefficient : -a.coefficient) * g.factor * log10Gamma(g.z);
   }
   return -(half.slopeV / half.electrons) * sum;
 }
 
-/** Whether a given value entered a half as the activity of a charged dissolved species. */
-function givenCharged(halves: readonly NernstResult[], charges: ReadonlyMap<string, number>): boolean {
-  return halves.some((h) => h.activities.some((a: ActivityUsed) => a.origin === 'given' && (charges.get(a.key) ?? 0) !== 0));
+/** Whether a given value entered a half as the activity of a charged dissolved species (itself or converted). */
+function givenCharged(halves: readonly NernstResult[], charges: ReadonlyMap<string, number>, links: ReadonlyMap<string, Link> = new Map()): boolean {
+  return halves.some((h) => h.activities.some((a: ActivityUsed) => (givenBehind(a, charges, links)?.z ?? 0) !== 0));
+}
+
+/**
+ * The notes of the given species converted into a term of a half (linked.ts), and of those
+ * that could not be; `given` without the species that were converted, for notInEitherHalf.
+ */
+function linkNotes(link: LinkResult, given: ReadonlyMap<string, string>, pH: number, inWhat: string): { notes: string[]; unlinked: Map<string, string> } {
+  return {
+    notes: [...[...link.links.values()].map((l) => linkNote(l, pH, inWhat)), ...link.notes],
+    unlinked: new Map([...given].filter(([k]) => !link.usedGiven.has(k))),
+  };
 }
 
 /**
@@ -426,8 +454,13 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   // every species given once, under one spelling, across activities and partialPressuresAtm
   const seen = new Map<string, GivenAt>();
   const charges = new Map<string, number>();
-  const activities = keyedActivities(input.activities, '/activities', deps, seen, (s) => charges.set(speciesKey(s), s.charge));
+  const speciesOf = new Map<string, Species>(); // of every species given, for the links to partners
+  const activities = keyedActivities(input.activities, '/activities', deps, seen, (s) => {
+    charges.set(speciesKey(s), s.charge);
+    speciesOf.set(speciesKey(s), s);
+  });
   const pressures = keyedActivities(input.partialPressuresAtm, '/partialPressuresAtm', deps, seen, (s, at) => {
+    speciesOf.set(speciesKey(s), s);
     if (s.phase !== 'g') {
       throw new DomainError('ACTIVITY_INVALID', {
         detail: `${at.text} is given as a partial pressure, which is for a gas: write the gas with (g), e.g. "O2(g)", or give the dissolved species in activities.`,
@@ -461,7 +494,16 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   // the notes speak of what was given; an H+ or OH- activity that set the pH is spoken of by ph.note
   const givenActivities = textsOf(seen);
   if (ph.key !== undefined) givenActivities.delete(ph.key);
+  let link: LinkResult | null = null;
   if (atConditions) {
+    // a value given for the non-redox partner of a term (HOCl for OCl-, O2(g) for O2): the term follows from it
+    const givenSpecies: GivenSpecies[] = [];
+    for (const [key, text] of givenActivities) {
+      const v = activities.get(key) ?? pressures.get(key);
+      const sp = speciesOf.get(key);
+      if (v !== undefined && v > 0 && sp !== undefined) givenSpecies.push({ key, text, species: sp, log10Activity: Math.log10(v) });
+    }
+    link = linkGivenSpecies([{ half, name: 'couple' }], givenSpecies, { temperatureC, ledger: deps.ledger, solids: tabledSolids(deps.ledger) });
     n = nernst({
       half,
       standardPotentialV: e0T,
@@ -472,20 +514,23 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
       kw: deps.kwAt(temperatureC),
       constants: deps.constants,
       solids: tabledSolids(deps.ledger),
+      linked: link.linked,
     });
   }
   const tc = p.tabledCheck;
   const unitNote = n ? unitActivityNote(n.notGiven, 'Nernst') : null;
-  const unusedNotes = n ? [...givenForSolids([n], givenActivities), ...notInEitherHalf([n], givenActivities, 'activity')] : [];
+  const links = link?.links ?? new Map<string, Link>();
+  const linked = link && n ? linkNotes(link, givenActivities, ph.pH ?? 0, 'the half-reaction') : null;
+  const unusedNotes = n && linked ? [...givenForSolids([n], givenActivities), ...notInEitherHalf([n], linked.unlinked, 'activity'), ...linked.notes] : [];
   const nh = n;
   const gammaNote =
-    nh && givenCharged([nh], charges)
+    nh && givenCharged([nh], charges, links)
       ? gammaOneNote(
           'The values in activities are used as activities: if they are concentrations in mol/L, the activity coefficients are taken as 1 (this route takes no ionic strength).',
           temperatureC,
           nh.slopeV,
           deps,
-          (lg) => sign * gammaShiftV(nh, charges, lg),
+          (lg) => sign * gammaShiftV(nh, charges, lg, links),
           'E of this couple',
           "POST /api/v1/cells/evaluate converts concentrations to activities at the water's ionic strength (ionicStrength, tdsMgPerL or conductanceUSPerCm).",
         )
@@ -518,7 +563,12 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
           activities: n.activities.map((a) => ({
             species: a.text,
             activity: a.activity,
-            origin: a.key === ph.key ? 'given (sets the pH)' : a.origin + (a.reason ? ` (${a.reason})` : ''),
+            origin:
+              a.key === ph.key
+                ? 'given (sets the pH)'
+                : a.origin === 'converted'
+                  ? `converted (from ${links.get(a.key)?.from.text ?? 'a given partner'})`
+                  : a.origin + (a.reason ? ` (${a.reason})` : ''),
           })),
           unitActivity: [...n.notGiven],
         }
@@ -646,6 +696,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
   const pressures = new Map<string, number>();
   const seen = new Map<string, GivenAt>(); // species key → the text the caller wrote and where, once per species
   const charges = new Map<string, number>(); // of the dissolved species given, for the activity-coefficient note
+  const givenSpecies: GivenSpecies[] = []; // each with its log10 activity (or pressure), for the links to partners
   for (const [text, q] of Object.entries(input.concentrations ?? {})) {
     const pointer = `/concentrations/${pointerToken(text)}`;
     const s = parseAt(text, pointer, deps);
@@ -662,6 +713,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     }
     if (q.unit === 'atm') {
       pressures.set(key, q.value);
+      if (q.value > 0) givenSpecies.push({ key, text, species: s, log10Activity: Math.log10(q.value) });
       continue;
     }
     if (q.value <= 0) {
@@ -681,9 +733,20 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     }
     const gamma = s.charge === 0 ? 1 : daviesGamma(s.charge, I, A);
     activities.set(key, molPerL * gamma);
+    givenSpecies.push({ key, text, species: s, log10Activity: Math.log10(molPerL * gamma) });
     if (key !== PH_KEYS[0] && key !== PH_KEYS[1]) charges.set(key, s.charge);
   }
   const given = textsOf(seen);
+  // a value given for the non-redox partner of a term (HOCl for OCl-, O2(g) for O2, O2 for O2(g)):
+  // the term's activity follows from it, at the pH and along the feasibility search
+  const link = linkGivenSpecies(
+    [
+      { half: oxHalf, name: 'oxidant couple' },
+      { half: redHalf, name: 'reductant couple' },
+    ],
+    givenSpecies,
+    { temperatureC: T, ledger: deps.ledger, solids: tabledSolids(deps.ledger) },
+  );
 
   const molarMassRed = (() => {
     try {
@@ -705,6 +768,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     kw: deps.kwAt(T),
     constants: deps.constants,
     solids: tabledSolids(deps.ledger),
+    linked: link.linked,
     reductantResidual: { activityCoefficient: gammaRed, ...(molarMassRed !== undefined ? { molarMassGPerMol: molarMassRed } : {}) },
   });
   const halfOut = (h: HalfReaction, p: PotentialResult, n: NernstResult) => ({
@@ -724,7 +788,9 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
   });
   const res = cell.reductantResidual;
   notes.push(...givenForSolids([cell.oxidant, cell.reductant], given));
-  notes.push(...notInEitherHalf([cell.oxidant, cell.reductant], given, 'concentration'));
+  const linked = linkNotes(link, given, input.pH, 'either half-reaction');
+  notes.push(...notInEitherHalf([cell.oxidant, cell.reductant], linked.unlinked, 'concentration'));
+  notes.push(...linked.notes);
   for (const [half, where] of [[cell.oxidant, 'Oxidant couple'], [cell.reductant, 'Reductant couple']] as const) {
     const note = unitActivityNote(half.notGiven, where);
     if (note) notes.push(note);
@@ -732,14 +798,14 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
   // the halves' caveats on E° at the water's temperature; the rest (how a base-medium E° is carried,
   // tabled rows that disagree) is on couples/potential, to keep this most-called answer lean
   notes.push(...halfNotes([['Oxidant couple', pOx.temperatureNotes], ['Reductant couple', pRed.temperatureNotes]]));
-  if (iBasis === 'none' && givenCharged([cell.oxidant, cell.reductant], charges)) {
+  if (iBasis === 'none' && givenCharged([cell.oxidant, cell.reductant], charges, link.links)) {
     notes.push(
       gammaOneNote(
         'No ionicStrength, tdsMgPerL or conductanceUSPerCm given: activity coefficients taken as 1 (activities equal to the concentrations).',
         T,
         cell.slopeV,
         deps,
-        (lg) => gammaShiftV(cell.oxidant, charges, lg) - gammaShiftV(cell.reductant, charges, lg),
+        (lg) => gammaShiftV(cell.oxidant, charges, lg, link.links) - gammaShiftV(cell.reductant, charges, lg, link.links),
         "this cell's E",
         "Give one of those fields for activities at the water's ionic strength.",
       ),

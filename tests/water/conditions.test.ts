@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
-import { nernst } from '../../src/water/conditions.js';
+import { compileHalf, evaluateLog10Q, nernst, prepareLog10Q } from '../../src/water/conditions.js';
 import { nernstSlopeV } from '../../src/water/constants.js';
 import { kwAt } from '../../src/water/speciation.js';
 import { DomainError } from '../../src/core/errors.js';
@@ -121,5 +121,55 @@ describe('nernst: activities and their origins', () => {
     const map = nernst({ ...base, half: fe3fe2, standardPotentialV: 0.771, activities: new Map([[key('Fe3+'), 2e-5]]) });
     expect(map.potentialV).toBe(rec.potentialV);
     expect(rec.notGiven).toEqual(['Fe2+']);
+  });
+});
+
+describe('nernst: linked activities (a term converted from a given partner, log10 a = c0 + k·pH)', () => {
+  // OCl- + 2H+ + 2e- → Cl- + H2O, and OCl- converted from a(HOCl) = 1e-5 through HOCl = H+ + OCl-:
+  // log10 a(OCl-) = log10 a(HOCl) − pKa + pH, pKa = 7.537 at 25 °C (Morris 1966, tables/equilibria.json morris-hocl)
+  const oclAcid = explicitHalf([[1, 'OCl-'], [2, 'H+'], [2, 'e-']], [[1, 'Cl-'], [1, 'H2O']]);
+  const pKa = 7.537;
+  const linked = new Map([[key('OCl-'), { log10ActivityAtPH0: -5 - pKa, perPH: 1 }]]);
+  const cl = { [key('Cl-')]: 1e-3 };
+
+  it('a linked term is reported as converted, with the activity c0 + k·pH (hand arithmetic: 10^(−5 − 7.537 + 8) at pH 8)', () => {
+    const r = nernst({ ...base, pH: 8, half: oclAcid, standardPotentialV: 1.715, activities: cl, linked });
+    const ocl = r.activities.find((a) => a.text === 'OCl-');
+    expect(ocl).toMatchObject({ origin: 'converted' });
+    expect(ocl?.log10Activity).toBeCloseTo(-5 - pKa + 8, 12);
+    expect(r.notGiven).toEqual([]);
+    const given = nernst({ ...base, pH: 8, half: oclAcid, standardPotentialV: 1.715, activities: { ...cl, [key('OCl-')]: Math.pow(10, -5 - pKa + 8) } });
+    expect(r.potentialV).toBeCloseTo(given.potentialV, 12);
+  });
+
+  it("the term's own value wins over its linked one", () => {
+    const r = nernst({ ...base, pH: 8, half: oclAcid, standardPotentialV: 1.715, activities: { ...cl, [key('OCl-')]: 2e-6 }, linked });
+    const ocl = r.activities.find((a) => a.text === 'OCl-');
+    expect(ocl?.origin).toBe('given');
+    expect(ocl?.log10Activity).toBeCloseTo(Math.log10(2e-6), 12);
+  });
+
+  it('a linked gas takes the place of its pressure (O2(g) from dissolved O2 by Henry, phreeqc log K_H = −2.8983)', () => {
+    const r = nernst({ ...base, half: o2Acid, standardPotentialV: 1.229, linked: new Map([[key('O2(g)'), { log10ActivityAtPH0: Math.log10(2.5e-4) + 2.8983, perPH: 0 }]]) });
+    expect(r.activities.find((a) => a.text === 'O2(g)')).toMatchObject({ origin: 'converted' });
+    const p = nernst({ ...base, half: o2Acid, standardPotentialV: 1.229, partialPressuresAtm: { [key('O2(g)')]: 2.5e-4 * Math.pow(10, 2.8983) } });
+    expect(r.potentialV).toBeCloseTo(p.potentialV, 12);
+  });
+
+  it('the root finder\'s log Q (fixed part + per-pH part) equals the reported one at every pH (property)', () => {
+    const ch = compileHalf(oclAcid);
+    const c = { temperatureC: 25, constants: CODATA_2018, activities: cl, linked };
+    const q = prepareLog10Q(ch, c);
+    fc.assert(
+      fc.property(fc.double({ min: 0, max: 14, noNaN: true }), (pH) => {
+        expect(q(pH)).toBeCloseTo(evaluateLog10Q(ch, pH, c, new Map(), false).log10Q, 9);
+      }),
+    );
+  });
+
+  it('a linked activity that is not finite is refused', () => {
+    const e = err(() => nernst({ ...base, half: oclAcid, standardPotentialV: 1.715, linked: new Map([[key('OCl-'), { log10ActivityAtPH0: Number.NaN, perPH: 1 }]]) }));
+    expect(e.code).toBe('ACTIVITY_INVALID');
+    expect(e.fields[0]?.pointer).toBe(`/linked/${key('OCl-')}`);
   });
 });
