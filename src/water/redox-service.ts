@@ -115,6 +115,38 @@ function parseAt(text: string, pointer: string, deps: RedoxDeps): Species {
   }
 }
 
+/**
+ * Gases the potential tables write as gases (O2(g), O3(g), Cl2(g), H2(g), N2(g)): a couple written
+ * with the bare formula ("O2" to "H2O") means the gas, as in the handbook tables (O2/H2O 1.229 V),
+ * not the dissolved species at 1 mol/L, a state no water reaches. "(aq)" names the dissolved
+ * species; concentrations keep their own reading (a bare "O2" in mg/L is dissolved oxygen, and
+ * sets the gas through Henry's law, see linked.ts).
+ */
+const HANDBOOK_GASES = new WeakMap<Ledger, ReadonlySet<string>>();
+function handbookGasKeys(ledger: Ledger): ReadonlySet<string> {
+  let set = HANDBOOK_GASES.get(ledger);
+  if (!set) {
+    set = new Set(ledger.rows.filter((r) => r.table === 'potentials').flatMap((r) => [...r.vector.keys()].filter((k) => ledger.species.get(k)?.phase === 'g')));
+    HANDBOOK_GASES.set(ledger, set);
+  }
+  return set;
+}
+
+/** A couple's species read as the handbook tables write it; the note says when a bare formula was read as the gas. */
+function asHandbookGas(s: Species, text: string, deps: RedoxDeps, notes: string[]): Species {
+  if (s.phase !== null || s.charge !== 0) return s;
+  let gas: Species;
+  try {
+    gas = parseFormula(`${s.text}(g)`);
+  } catch {
+    return s;
+  }
+  if (!handbookGasKeys(deps.ledger).has(speciesKey(gas))) return s;
+  const note = `${text} is read as ${gas.text}, the gas, as the handbook tables write it (activity = partial pressure in atm; 1 atm unless given); write ${s.text}(aq) for the dissolved species.`;
+  if (!notes.includes(note)) notes.push(note);
+  return gas;
+}
+
 function withPointer<T>(pointer: string, f: () => T): T {
   try {
     return f();
@@ -448,8 +480,9 @@ export interface CoupleInput {
 }
 
 export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
-  const ox = parseAt(input.from, '/from', deps);
-  const red = parseAt(input.to, '/to', deps);
+  const gasNotes: string[] = [];
+  const ox = asHandbookGas(parseAt(input.from, '/from', deps), input.from, deps, gasNotes);
+  const red = asHandbookGas(parseAt(input.to, '/to', deps), input.to, deps, gasNotes);
   const temperatureC = input.temperatureC ?? 25;
   // every species given once, under one spelling, across activities and partialPressuresAtm
   const seen = new Map<string, GivenAt>();
@@ -593,6 +626,7 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
       : null,
     alternatives: p.alternatives.map((a) => ({ standardPotentialV: a.standardPotentialV, rows: a.rows.map((r) => r.rowId), differs: a.differs })),
     notes: [
+      ...gasNotes,
       ...(reversed
         ? [
             `Written from ${input.from} to ${input.to}, the couple is an oxidation: E° and E are those of the reaction as written, the negatives of the reduction's (${half.equation}, E° = ${p.standardPotentialV.toFixed(4)} V). A site value (standardPotentialV) is the E° of the reduction.`,
@@ -657,8 +691,10 @@ export function evaluateCellText(input: CellInputText, deps: RedoxDeps, requestT
 }
 
 export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
-  const ox = { from: parseAt(input.oxidant.from, '/oxidant/from', deps), to: parseAt(input.oxidant.to, '/oxidant/to', deps) };
-  const red = { from: parseAt(input.reductant.from, '/reductant/from', deps), to: parseAt(input.reductant.to, '/reductant/to', deps) };
+  const gasNotes: string[] = [];
+  const gasOf = (text: string, pointer: string) => asHandbookGas(parseAt(text, pointer, deps), text, deps, gasNotes);
+  const ox = { from: gasOf(input.oxidant.from, '/oxidant/from'), to: gasOf(input.oxidant.to, '/oxidant/to') };
+  const red = { from: gasOf(input.reductant.from, '/reductant/from'), to: gasOf(input.reductant.to, '/reductant/to') };
   const medium = chooseMedium(input.medium, input.pH);
   const overall = redoxFor(ox, red, medium);
   const oxHalf = overall.reduction;
@@ -841,6 +877,6 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
       oxidant: halfOut(oxHalf, pOx, cell.oxidant),
       reductant: halfOut(redHalf, pRed, cell.reductant),
     },
-    notes: [...notes, ...(cell.reductantResidualReason ? [cell.reductantResidualReason] : [])],
+    notes: [...gasNotes, ...notes, ...(cell.reductantResidualReason ? [cell.reductantResidualReason] : [])],
   };
 }

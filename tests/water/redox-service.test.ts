@@ -104,18 +104,18 @@ describe('cells: dissolved O2 and O2(g) (review example 2)', () => {
   const at = (oxFrom: string, concentrations: Conc) =>
     cell({ oxidant: { from: oxFrom, to: 'H2O' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH: 7.5, temperatureC: 25, concentrations: { ...fe, ...concentrations } });
 
-  it('a dissolved-O2 half with O2(g) at 0.21 atm equals the same half with a(O2) = K_H·p (2.654e-4 mol/L)', () => {
+  it('a dissolved-O2 half (written O2(aq); a bare O2 in a couple is the gas) with O2(g) at 0.21 atm equals the same half with a(O2) = K_H·p (2.654e-4 mol/L)', () => {
     // hand: a(O2) = 0.21 atm · 10^−2.8983 mol/(L·atm) = 2.654e-4 mol/L (neutral: γ = 1)
     const aO2 = 0.21 * Math.pow(10, LOG_KH_O2_25);
     expect(aO2).toBeCloseTo(2.654e-4, 7);
-    const fromGas = at('O2', { 'O2(g)': { value: 0.21, unit: 'atm' } });
-    const given = at('O2', { O2: { value: aO2, unit: 'mol/L' } });
+    const fromGas = at('O2(aq)', { 'O2(g)': { value: 0.21, unit: 'atm' } });
+    const given = at('O2(aq)', { O2: { value: aO2, unit: 'mol/L' } });
     expect(Math.abs(fromGas.cellPotentialV - given.cellPotentialV)).toBeLessThan(1e-6);
     expectSameLimit(fromGas.feasibilityLimitPH, given.feasibilityLimitPH);
     expect(fromGas.halfReactions.oxidant.unitActivity).toEqual([]);
-    const note = fromGas.notes.find((n) => n.startsWith('O2(g) is not in either half-reaction; O2 of the oxidant couple is converted'));
+    const note = fromGas.notes.find((n) => n.startsWith('O2(g) is not in either half-reaction; O2(aq) of the oxidant couple is converted'));
     expect(note).toContain('phreeqc-o2-henry (phreeqc-dat)');
-    expect(note).toContain('a(O2) = 2.654e-4');
+    expect(note).toContain('a(O2(aq)) = 2.654e-4');
     expect(fromGas.notes.some((n) => n.includes('was not used'))).toBe(false);
   });
 
@@ -182,5 +182,30 @@ describe('couples: the same conversion on POST /api/v1/couples/potential', () =>
     expect(r.notes).toContain('FeOH^2+ is not in the half-reaction; the activity given for it was not used.');
     expect(r.notes.some((n) => n.includes('FeOH^2+ + H+ -> Fe3+ + H2O (no electrons move), but the tables give no log K'))).toBe(true);
     expect(r.nernst?.unitActivity).toEqual(['Fe3+']);
+  });
+});
+
+describe('a bare O2, O3 or Cl2 in a couple is the gas, as the handbook tables write it', () => {
+  // CRC Handbook (97th ed.), electrochemical series: O2(g) + 4H+ + 4e- = 2H2O, E° = 1.229 V;
+  // Cl2(g) + 2e- = 2Cl-, 1.35827 V; O3(g) + 2H+ + 2e- = O2(g) + H2O, 2.076 V (values from memory of the table)
+  it('O2/H2O at pH 7 and 25 °C: 1.229 − 0.05916 × 7 = 0.8149 V, the textbook figure, with a note; O2(aq) is the dissolved species', () => {
+    const r = couplePotential({ from: 'O2', to: 'H2O', pH: 7 }, deps);
+    expect(r.standardPotentialV).toBeCloseTo(1.229, 3);
+    expect(r.potentialV).toBeCloseTo(1.229 - 0.0591597 * 7, 3);
+    expect(r.notes.some((n) => n.startsWith('O2 is read as O2(g), the gas'))).toBe(true);
+    const aq = couplePotential({ from: 'O2(aq)', to: 'H2O', pH: 7 }, deps);
+    expect(aq.halfReaction).toMatch(/O2\(aq\)/);
+    expect(Math.abs(aq.standardPotentialV - r.standardPotentialV)).toBeGreaterThan(0.02); // 1 mol/L dissolved O2 is another state
+  });
+  it('Cl2/Cl- is 1.358 V and O3/O2 2.076 V written bare, the same as with (g)', () => {
+    expect(couplePotential({ from: 'Cl2', to: 'Cl-' }, deps).standardPotentialV).toBeCloseTo(couplePotential({ from: 'Cl2(g)', to: 'Cl-' }, deps).standardPotentialV, 12);
+    expect(couplePotential({ from: 'Cl2', to: 'Cl-' }, deps).standardPotentialV).toBeCloseTo(1.358, 3);
+    expect(couplePotential({ from: 'O3', to: 'O2', pH: 0 }, deps).standardPotentialV).toBeCloseTo(2.076, 3);
+  });
+  it('in a cell, a bare O2 with dissolved oxygen in mg/L: the gas half, its pressure set from the mg/L through Henry\'s law', () => {
+    const r = cell({ oxidant: { from: 'O2', to: 'H2O' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH: 7.5, temperatureC: 25, concentrations: { O2: { value: 8, unit: 'mg/L' }, 'Fe2+': { value: 0.5, unit: 'mg/L' } } });
+    const g = cell({ oxidant: { from: 'O2(g)', to: 'H2O' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH: 7.5, temperatureC: 25, concentrations: { O2: { value: 8, unit: 'mg/L' }, 'Fe2+': { value: 0.5, unit: 'mg/L' } } });
+    expect(r.cellPotentialV).toBeCloseTo(g.cellPotentialV, 12);
+    expect(r.halfReactions.oxidant.equation).toMatch(/O2\(g\)/);
   });
 });
