@@ -100,6 +100,8 @@ export interface ElectronCount {
   readonly undetermined: readonly { readonly species: string; readonly elements: readonly string[] }[];
   /** Species where the common-oxyanion convention fixed an element. */
   readonly conventions: readonly { readonly species: string; readonly elements: readonly string[] }[];
+  /** Mixed-valence species whose fractional average state was split into whole states (Fe3O4: Fe(II) + 2 Fe(III)). */
+  readonly mixedValence: readonly { readonly species: string; readonly elements: readonly string[] }[];
 }
 
 /** Total movement between two distributions of atoms over oxidation states: [upward, downward]. */
@@ -120,11 +122,34 @@ function movement(from: readonly [Rational, Rational][], to: readonly [Rational,
   return [up, down];
 }
 
+/**
+ * The ways to give `count` atoms whole oxidation states averaging `average` (a mixed-valence
+ * compound: Fe3O4 averages +8/3 over Fe(II) + 2 Fe(III)), states within 2 of the average; none
+ * for more than 8 atoms (then the average is kept).
+ */
+function wholeStateSplits(average: Rational, count: number): number[][] {
+  if (count < 2 || count > 8) return [];
+  const lo = Math.floor(average.toNumber()) - 2;
+  const hi = Math.ceil(average.toNumber()) + 2;
+  const target = average.mul(Rational.of(count));
+  const out: number[][] = [];
+  const walk = (from: number, left: number, acc: number[]): void => {
+    if (left === 0) {
+      if (Rational.of(acc.reduce((a, b) => a + b, 0)).equals(target)) out.push([...acc]);
+      return;
+    }
+    for (let v = from; v <= hi; v++) walk(v, left - 1, [...acc, v]);
+  };
+  walk(lo, count, []);
+  return out;
+}
+
 /** Electrons transferred by a balanced reaction written without electrons, from the oxidation states of its species. */
 export function electronsTransferred(terms: readonly Term[]): ElectronCount {
   const undetermined: { species: string; elements: string[] }[] = [];
   const conventions: { species: string; elements: string[] }[] = [];
   const atoms = new Map<string, { from: [Rational, Rational][]; to: [Rational, Rational][] }>();
+  const fractional = new Map<string, FractionalEntry[]>();
   for (const t of terms) {
     const ox = oxidationStates(t.species);
     if (ox.byOxyanionRule.length > 0) conventions.push({ species: t.species.text, elements: [...ox.byOxyanionRule] });
@@ -139,17 +164,74 @@ export function electronsTransferred(terms: readonly Term[]): ElectronCount {
         entry = { from: [], to: [] };
         atoms.set(e, entry);
       }
-      (t.side === 'reactant' ? entry.from : entry.to).push([state, n]);
+      const list = t.side === 'reactant' ? entry.from : entry.to;
+      if (!state.isInteger()) {
+        const per = (t.species.composition as Record<string, number>)[e] ?? 0;
+        const fl = fractional.get(e) ?? [];
+        fl.push({ side: t.side === 'reactant' ? 'from' : 'to', index: list.length, species: t.species.text, perUnit: per, units: Rational.of(t.coefficient), average: state });
+        fractional.set(e, fl);
+      }
+      list.push([state, n]);
     }
   }
-  if (undetermined.length > 0) return { electrons: null, changes: null, undetermined, conventions };
+  if (undetermined.length > 0) return { electrons: null, changes: null, undetermined, conventions, mixedValence: [] };
   let total = Rational.ZERO;
   const changes: { element: string; oxidised: string; reduced: string }[] = [];
-  for (const [element, { from, to }] of [...atoms].sort((a, b) => (a[0] < b[0] ? -1 : 1))) {
-    const [up, down] = movement(from, to);
+  const mixedValence: { species: string; elements: string[] }[] = [];
+  for (const [element, entry] of [...atoms].sort((a, b) => (a[0] < b[0] ? -1 : 1))) {
+    let [up, down] = movement(entry.from, entry.to);
+    if (!up.isInteger() && fractional.has(element)) {
+      // An average state that is not whole belongs to a mixed-valence compound (Fe3O4, Pb3O4,
+      // Mn3O4): its atoms carry whole states. Of the ways to split it, the one that moves the
+      // fewest electrons is the reading of the reaction (Fe3O4 + 8H+ → Fe2+ + 2Fe3+ + 4H2O: none).
+      const best = bestSplit(entry, fractional.get(element)!);
+      if (best) {
+        [up, down] = best.movement;
+        for (const sp of best.species) mixedValence.push({ species: sp, elements: [element] });
+      }
+    }
     if (up.isZero() && down.isZero()) continue;
     total = total.add(up);
     changes.push({ element, oxidised: up.toString(), reduced: down.toString() });
   }
-  return { electrons: total.isInteger() ? Number(total.num) : null, changes, undetermined, conventions };
+  return { electrons: total.isInteger() ? Number(total.num) : null, changes, undetermined, conventions, mixedValence };
+}
+
+type AtomList = [Rational, Rational][];
+interface FractionalEntry {
+  readonly side: 'from' | 'to';
+  readonly index: number;
+  readonly species: string;
+  /** Atoms of the element per formula unit and formula units (the term's coefficient). */
+  readonly perUnit: number;
+  readonly units: Rational;
+  readonly average: Rational;
+}
+
+function bestSplit(entry: { from: AtomList; to: AtomList }, fractionalEntries: readonly FractionalEntry[]): { movement: [Rational, Rational]; species: string[] } | null {
+  const options = fractionalEntries.map((f) => wholeStateSplits(f.average, f.perUnit));
+  if (options.some((o) => o.length === 0)) return null;
+  let combos = 1;
+  for (const o of options) combos *= o.length;
+  if (combos > 5000) return null;
+  let best: [Rational, Rational] | null = null;
+  const pick = (i: number, chosen: number[][]): void => {
+    if (i === options.length) {
+      const from = entry.from.slice();
+      const to = entry.to.slice();
+      const removed = { from: new Set<number>(), to: new Set<number>() };
+      chosen.forEach((split, j) => {
+        const f = fractionalEntries[j]!;
+        removed[f.side].add(f.index);
+        const list = f.side === 'from' ? from : to;
+        for (const st of split) list.push([Rational.of(st), f.units]);
+      });
+      const m = movement(from.filter((_, k) => !removed.from.has(k)), to.filter((_, k) => !removed.to.has(k)));
+      if (m[0].isInteger() && (best === null || m[0].compare(best[0]) < 0)) best = m;
+      return;
+    }
+    for (const split of options[i]!) pick(i + 1, [...chosen, split]);
+  };
+  pick(0, []);
+  return best ? { movement: best, species: [...new Set(fractionalEntries.map((f) => f.species))] } : null;
 }

@@ -56,6 +56,12 @@ function electronNote(count: ReturnType<typeof electronsTransferred>): string | 
   if (count.conventions.length > 0 && count.electrons !== 0) {
     parts.push(`Oxidation states by the common-oxyanion convention: ${count.conventions.map((c) => `${c.elements.join(', ')} in ${c.species}`).join('; ')}.`);
   }
+  if (count.mixedValence.length > 0 && count.electrons !== null) {
+    parts.push(
+      `Mixed valence: the average oxidation state of ${count.mixedValence.map((m) => `${m.elements.join(', ')} in ${m.species}`).join('; ')} is not whole, so its atoms were given whole states, ` +
+        'split the way that moves the fewest electrons (Fe3O4 as Fe(II) + 2 Fe(III)).',
+    );
+  }
   if (count.electrons === null) parts.push('The oxidation-state changes do not add up to a whole number of electrons.');
   return parts.length ? parts.join(' ') : null;
 }

@@ -75,6 +75,15 @@ describe('electrons transferred by a balanced reaction', () => {
     [['H2O2'], ['H2O', 'O2']],
     // the 10-species exercise: each K4Fe(CN)6 gives 61 e- (Fe 1, C 6 × 2, N 6 × 8); 10 of them = 122 MnO4- × 5
     [['K4Fe(CN)6', 'NaMnO4', 'H2SO4'], ['KHSO4', 'NaHSO4', 'Fe2(SO4)3', 'MnSO4', 'HNO3', 'CO2', 'H2O'], 610],
+    // mixed valence (textbook: magnetite is Fe(II)Fe(III)2O4, minium Pb(II)2Pb(IV)O4, hausmannite Mn(II)Mn(III)2O4):
+    // Fe3O4 + 8H+ → Fe2+ + 2Fe3+ + 4H2O moves no electrons
+    [['Fe3O4', 'H+'], ['Fe2+', 'Fe3+', 'H2O'], 0],
+    // Pb3O4 + 8HCl → 3PbCl2 + Cl2 + 4H2O: one Pb(IV) → Pb(II), 2 e-
+    [['Pb3O4', 'HCl'], ['PbCl2', 'Cl2', 'H2O'], 2],
+    // Pb3O4 + 4HNO3 → PbO2 + 2Pb(NO3)2 + 2H2O: no electrons (the Pb(IV) stays as PbO2)
+    [['Pb3O4', 'HNO3'], ['PbO2', 'Pb(NO3)2', 'H2O'], 0],
+    // 4Fe3O4 + O2 → 6Fe2O3: 4 e- (whole without splitting)
+    [['Fe3O4', 'O2'], ['Fe2O3'], 4],
     // not redox
     [['CaCO3', 'HCl'], ['CaCl2', 'CO2', 'H2O'], 0],
     [['CuSO4·5H2O'], ['CuSO4', 'H2O'], 0],
