@@ -93,6 +93,20 @@ function humanKey(key: string): string {
     .join(': ');
 }
 
+type Fig = { rounded: string; unit: string };
+
+/**
+ * Two figures of one quantity in the units the result prefers (`result.units.preferred`, the
+ * request's `options.units` or the plant profile's preferredUnits) first and the other in
+ * brackets: "20.9 kg/d (46.2 lb/d)" for SI, "46.2 lb/d (20.9 kg/d)" for US. A figure the result
+ * does not carry in the other system is printed alone.
+ */
+function inPreferred(us: boolean, si: Fig | null | undefined, usFig: Fig | null | undefined, suffix = ''): string {
+  const [a, b] = us ? [usFig, si] : [si, usFig];
+  if (!a) return b ? `${b.rounded} ${b.unit}${suffix}` : '–';
+  return `${a.rounded} ${a.unit}${suffix}${b ? ` (${b.rounded} ${b.unit})` : ''}`;
+}
+
 function mV(v: number): string {
   return (Math.round(v * 1000) / 1000).toFixed(3).replace('-', '−');
 }
@@ -103,12 +117,21 @@ function basisRuns(basis: string): Rich {
   return m ? [t('as '), f(m[1]!)] : basis;
 }
 
+/** The sample temperature, in the preferred units first: "14 °C (57.2 °F)" or "57.2 °F (14 °C)". */
+function temperatureText(result: DoseResult): string {
+  const c = `${round1(result.conditions.temperatureC)} °C`;
+  const f = `${round1(result.conditions.temperatureF)} °F`;
+  return result.units.preferred === 'US' ? `${f} (${c})` : `${c} (${f})`;
+}
+
 function readingsTable(req: DoseRequest, result: DoseResult): Block {
   const s = req.sample as Record<string, unknown> & DoseRequest['sample'];
   const rows: TableCell[][] = [];
   rows.push(['pH', String(s.pH), '–', '–']);
   const tC = result.conditions.temperatureC;
-  if (s.temperature) rows.push(['Temperature', String(s.temperature.value), s.temperature.unit, `${round1(tC)} °C, ${round1(result.conditions.temperatureF)} °F`]);
+  const us = result.units.preferred === 'US';
+  const both = us ? `${round1(result.conditions.temperatureF)} °F, ${round1(tC)} °C` : `${round1(tC)} °C, ${round1(result.conditions.temperatureF)} °F`;
+  if (s.temperature) rows.push(['Temperature', String(s.temperature.value), s.temperature.unit, both]);
   else rows.push(['Temperature', String(s.temperatureC ?? tC), '°C', `${round1(result.conditions.temperatureF)} °F`]);
   for (const [field, labels] of Object.entries(READING_LABELS)) {
     const v = s[field] as { value: number; unit: string } | undefined;
@@ -144,16 +167,20 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
   const plantName = r.plant?.name ?? input.plantName ?? 'Plant not named';
   const sampleLabel = input.sampleLabel ?? 'Water sample';
   const doseText = `${r.dose.rounded} ${r.dose.unit}`;
+  // the units the sheet leads with: the request's options.units (or the plant profile's preferredUnits)
+  const us = r.units.preferred === 'US';
 
   // 1 result
   const resultRows: KeyValueRow[] = [
     { label: 'Total dose', value: [{ text: doseText, style: 'bold' }, t(' '), ...toArray(basisRuns(r.dose.basis))], source: 'the sum of the terms in section 3' },
   ];
   if (r.feed) {
-    resultRows.push({ label: 'Feed, mass', value: autoRich(`${reportedText(r.feed.massRate)} ${r.feed.massRate.basis} (${reportedText(r.feed.massRateUS)})`) });
+    resultRows.push({ label: 'Feed, mass', value: autoRich(inPreferred(us, r.feed.massRate, r.feed.massRateUS, ` ${r.feed.massRate.basis}`)) });
     if (r.feed.solutionRate) {
-      const us = r.feed.solutionRateGalPerD ? `, ${reportedText(r.feed.solutionRateGalPerD)}` : '';
-      resultRows.push({ label: 'Feed, solution', value: autoRich(`${reportedText(r.feed.solutionRate)}${us}${r.feed.strength ? ` of ${r.feed.strength.text}` : ''}`) });
+      const rate = us
+        ? inPreferred(true, r.feed.solutionRate, r.feed.solutionRateGalPerD)
+        : `${reportedText(r.feed.solutionRate)}${r.feed.solutionRateGalPerD ? `, ${reportedText(r.feed.solutionRateGalPerD)}` : ''}`;
+      resultRows.push({ label: 'Feed, solution', value: autoRich(`${rate}${r.feed.strength ? ` of ${r.feed.strength.text}` : ''}`) });
     }
     if (r.feed.pump) resultRows.push({ label: 'Pump setting', value: `${r.feed.pump.settingPercent.rounded} % of ${reportedText(r.feed.pump.ratedCapacity)}${r.feed.pump.id ? ` (${r.feed.pump.id})` : ''}` });
   }
@@ -216,7 +243,7 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
       kind: 'equation',
       equation: first.oxidantCouple.halfReaction,
       label: `E = ${mV(first.oxidantCouple.potentialV)} V`,
-      caption: `Oxidant couple: E° ${mV(first.oxidantCouple.standardPotentialV)} V (${first.oxidantCouple.usedValue}), at ${round1(r.conditions.temperatureC)} °C and pH ${r.conditions.pH}.`,
+      caption: `Oxidant couple: E° ${mV(first.oxidantCouple.standardPotentialV)} V (${first.oxidantCouple.usedValue}), at ${temperatureText(r)} and pH ${r.conditions.pH}.`,
     });
     for (const fe of r.feasibility) {
       feasBlocks.push({
@@ -249,7 +276,7 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
       ]),
       notes: [
         autoRich(
-          `Nernst at pH ${r.conditions.pH} and ${round1(r.conditions.temperatureC)} °C; ${r.conditions.mediumReason}. Ionic strength ${r.conditions.ionicStrengthMolPerL.toPrecision(2)} mol/L: ${r.conditions.ionicStrengthFrom}. Potentials to 1 mV. ` +
+          `Nernst at pH ${r.conditions.pH} and ${temperatureText(r)}; ${r.conditions.mediumReason}. Ionic strength ${r.conditions.ionicStrengthMolPerL.toPrecision(2)} mol/L: ${r.conditions.ionicStrengthFrom}. Potentials to 1 mV. ` +
             `E° cell is for the reactions as written (with ${r.conditions.medium === 'base' ? 'OH-' : 'H+'} in this medium), so it changes where the medium changes at pH 7; compare E, not E°, between samples.`,
         ),
       ],
@@ -307,21 +334,35 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
   const feedBlocks: Block[] = [];
   if (r.feed) {
     const fd = r.feed;
-    const rows: KeyValueRow[] = [
-      { label: 'Mass rate', value: autoRich(`${reportedText(fd.massRate)} ${fd.massRate.basis}`), source: 'dose × flow' },
-      { label: 'Mass rate, US', value: `${reportedText(fd.massRateUS)}; pounds formula with 8.34: ${reportedText(fd.poundsFormula.conventionalLbPerD)}`, source: autoRich(fd.poundsFormula.note) },
+    const rows: KeyValueRow[] = us
+      ? [
+          { label: 'Mass rate', value: autoRich(inPreferred(true, fd.massRate, fd.massRateUS, ` ${fd.massRateUS.basis}`)), source: 'dose × flow' },
+          { label: 'Pounds formula', value: `with 8.34: ${reportedText(fd.poundsFormula.conventionalLbPerD)}`, source: autoRich(fd.poundsFormula.note) },
+        ]
+      : [
+          { label: 'Mass rate', value: autoRich(`${reportedText(fd.massRate)} ${fd.massRate.basis}`), source: 'dose × flow' },
+          { label: 'Mass rate, US', value: `${reportedText(fd.massRateUS)}; pounds formula with 8.34: ${reportedText(fd.poundsFormula.conventionalLbPerD)}`, source: autoRich(fd.poundsFormula.note) },
+        ];
+    rows.push(
       { label: 'Compound fed', value: autoRich(`${reportedText(fd.compoundMassRate)} ${fd.compoundMassRate.formula}`), source: autoRich(fd.compoundMassRate.derivation) },
-    ];
+    );
     if (fd.productMassRate) rows.push({ label: 'Product as supplied', value: autoRich(`${reportedText(fd.productMassRate)} ${fd.productMassRate.what}`) });
     if (fd.strength) rows.push({ label: 'Strength', value: autoRich(fd.strength.text) });
-    if (fd.solutionRate) rows.push({ label: 'Solution rate', value: qtys(fd.solutionRate, fd.solutionRateMLPerMin, fd.solutionRateGalPerD) });
+    if (fd.solutionRate) rows.push({ label: 'Solution rate', value: us ? qtys(fd.solutionRateGalPerD, fd.solutionRate, fd.solutionRateMLPerMin) : qtys(fd.solutionRate, fd.solutionRateMLPerMin, fd.solutionRateGalPerD) });
     if (fd.pump) rows.push({ label: 'Pump', value: `${fd.pump.id ?? 'pump'}: ${fd.pump.settingPercent.rounded} % of ${reportedText(fd.pump.ratedCapacity)}` });
-    if (fd.dailyUse.volume || fd.dailyUse.mass) rows.push({ label: 'Daily use', value: qtys(fd.dailyUse.volume, fd.dailyUse.volumeUS, fd.dailyUse.mass, fd.dailyUse.massUS) });
+    if (fd.dailyUse.volume || fd.dailyUse.mass) {
+      rows.push({
+        label: 'Daily use',
+        value: us
+          ? autoRich([fd.dailyUse.volume || fd.dailyUse.volumeUS ? inPreferred(true, fd.dailyUse.volume, fd.dailyUse.volumeUS) : null, fd.dailyUse.mass || fd.dailyUse.massUS ? inPreferred(true, fd.dailyUse.mass, fd.dailyUse.massUS) : null].filter(Boolean).join('  ·  '))
+          : qtys(fd.dailyUse.volume, fd.dailyUse.volumeUS, fd.dailyUse.mass, fd.dailyUse.massUS),
+      });
+    }
     if (fd.daysOfSupply) rows.push({ label: 'Stock lasts', value: qty(fd.daysOfSupply) });
     if (fd.batch) {
       rows.push({
         label: 'Batch',
-        value: `${reportedText(fd.batch.productKg)} (${reportedText(fd.batch.productLb)}) in ${reportedText(fd.batch.volume)}; ${fd.batch.gramsPer100gWater.rounded} g per 100 g water${fd.batch.solubilityGPer100gWater ? ` (solubility ${fd.batch.solubilityGPer100gWater.rounded} at ${fd.batch.temperatureC} °C)` : ''}${fd.batch.lastsDays ? `; lasts ${reportedText(fd.batch.lastsDays)}` : ''}`,
+        value: `${inPreferred(us, fd.batch.productKg, fd.batch.productLb)} in ${reportedText(fd.batch.volume)}; ${fd.batch.gramsPer100gWater.rounded} g per 100 g water${fd.batch.solubilityGPer100gWater ? ` (solubility ${fd.batch.solubilityGPer100gWater.rounded} at ${fd.batch.temperatureC} °C)` : ''}${fd.batch.lastsDays ? `; lasts ${reportedText(fd.batch.lastsDays)}` : ''}`,
       });
     }
     if (fd.generator) rows.push({ label: 'Generator output', value: `${reportedText(fd.generator.output)} (${reportedText(fd.generator.outputGPerH)}); ${fd.generator.note}` });
@@ -369,8 +410,8 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
     { label: 'Sample', value: input.samplingPoint ? `${sampleLabel}, ${input.samplingPoint}` : sampleLabel },
     { label: 'Sampled at', value: displayTime(input.sampledAt) },
     { label: 'Oxidant', value: [t(`${ox.name} (`), f(ox.productFormula), t(')')] },
-    { label: 'Flow', value: flow ? `${flow.si.rounded} m³/d (${flow.us.rounded} MGD)` : 'not given' },
-    { label: 'pH / temperature', value: `${r.conditions.pH} / ${round1(r.conditions.temperatureC)} °C (${round1(r.conditions.temperatureF)} °F)` },
+    { label: 'Flow', value: flow ? (us ? `${flow.us.rounded} MGD (${flow.si.rounded} m³/d)` : `${flow.si.rounded} m³/d (${flow.us.rounded} MGD)`) : 'not given' },
+    { label: 'pH / temperature', value: `${r.conditions.pH} / ${temperatureText(r)}` },
     { label: 'Dose basis', value: [t('mg/L '), ...(toArray(basisRuns(r.dose.basis)))] },
     ...(input.supersedes ? [{ label: 'Supersedes', value: input.supersedes }] : []),
   ];

@@ -5,6 +5,7 @@
  */
 import { roundSig } from '../core/decimal.js';
 import { residualPlotData, type JarTestEvaluation, type JarTestPlan, type ResidualPlotData } from '../jar-tests/index.js';
+import { inWords, isNegligible } from './wording.js';
 import {
   autoRich,
   buildSheetDocument,
@@ -46,6 +47,14 @@ export interface JarSheetContext {
 
 const n3 = (x: number | null | undefined): string => (x === null || x === undefined || !Number.isFinite(x) ? '–' : roundSig(x, 3).replace(/^-/, '−'));
 const nGiven = (x: number): string => String(x);
+/**
+ * A figure of the fit (an intercept, a demand, a standard error) as printed: "0" when it is
+ * rounding noise against `scale`, the size of the figures it goes with (an exact fit gives
+ * standard errors of 1e-16, not 0), so no e-notation noise reaches the sheet.
+ */
+const nFit = (x: number | null | undefined, scale: number): string => (x !== null && x !== undefined && isNegligible(x, scale) ? '0' : n3(x));
+/** "0, exact fit" for a standard error that is rounding noise against `scale`, else the rounded figure. */
+const seText = (se: number, scale: number): string => (isNegligible(se, scale) ? '0, exact fit' : n3(se));
 const SEVERITY = { error: 'danger', warning: 'warning', info: 'info' } as const;
 
 function problems(list: readonly { code: string; severity: 'error' | 'warning' | 'info'; message: string; jar?: number }[]): FlagItem[] {
@@ -216,13 +225,14 @@ export function chartFromPlotData(data: ResidualPlotData): ChartBlock {
   const fit = data.lines.find((l) => l.kind === 'fit');
   const dl = data.lines.find((l) => l.kind === 'detection-limit');
   const guides = [
-    ...(dl ? [{ axis: 'y' as const, value: dl.from.y, label: dl.label }] : []),
-    ...data.markers.map((m) => ({ axis: 'x' as const, value: m.x, label: m.label })),
+    // the plot's labels are the API's text: "± 9e-17" of an exact fit is printed as "± 0"
+    ...(dl ? [{ axis: 'y' as const, value: dl.from.y, label: inWords(dl.label) }] : []),
+    ...data.markers.map((m) => ({ axis: 'x' as const, value: m.x, label: inWords(m.label) })),
   ];
   let fitBlock: ChartBlock['fit'];
   if (fit && fit.to.x !== fit.from.x) {
     const slope = (fit.to.y - fit.from.y) / (fit.to.x - fit.from.x);
-    fitBlock = { label: fit.label, slope, intercept: fit.from.y - slope * fit.from.x, xFrom: fit.from.x, xTo: fit.to.x };
+    fitBlock = { label: inWords(fit.label), slope, intercept: fit.from.y - slope * fit.from.x, xFrom: fit.from.x, xTo: fit.to.x };
   }
   const axis = (a: ResidualPlotData['xAxis']) => ({
     label: autoRich(a.label),
@@ -244,6 +254,32 @@ export function chartFromPlotData(data: ResidualPlotData): ChartBlock {
   };
 }
 
+/** The section of the evaluation sheet that lists the evaluation's problems (the Result row points to it). */
+const PROBLEMS_HEADING = 'Problems and notes';
+const PROBLEMS_SECTION = 4;
+
+/** Why no dose is recommended, in words, by the evaluation's problem code. */
+const WHY_NONE: Readonly<Record<string, string>> = {
+  NO_JAR_MET_TARGETS: 'no jar met every target',
+  NO_RECOMMENDATION: 'no dose can be recommended from these results',
+};
+
+/** A target's analyte as the operator says it ("residualOxidant" → "Residual oxidant (as KMnO₄)"). */
+function analyteRuns(analyte: JarTestEvaluation['targets'][number]['analyte'], basis: string): TableCell {
+  switch (analyte) {
+    case 'iron':
+      return 'Iron, dissolved (as Fe)';
+    case 'manganese':
+      return 'Manganese, dissolved (as Mn)';
+    case 'residualOxidant':
+      return [t('Residual oxidant (as '), f(basis), t(')')];
+    case 'residualOxidantMax':
+      return [t('Residual oxidant, largest allowed (as '), f(basis), t(')')];
+    default:
+      return autoRich(String(analyte).replace(/([a-z])([A-Z])/g, '$1 $2').toLowerCase());
+  }
+}
+
 /** The evaluation sheet: result, residual plot (vector), fit, jar results, targets. */
 export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetContext, plot: ResidualPlotData = residualPlotData(ev)): SheetDocument {
   const b = ev.basis;
@@ -251,19 +287,32 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
   const rec = ev.recommendedDose;
   // Why there is none: the evaluation's own error (no jar met the targets, or readings in doubt)
   const why = ev.problems.find((p) => p.code === 'NO_JAR_MET_TARGETS') ?? ev.problems.find((p) => p.code === 'NO_RECOMMENDATION');
+  // the size of the mg/L figures of the test: a standard error far below it is rounding noise
+  const doseScale = Math.max(ev.estimateMgPerL, ...ev.jars.map((j) => Math.abs(j.doseMgPerL)), ...ev.jars.flatMap((j) => j.results.map((r) => Math.abs(r.residualOxidantMgPerL ?? 0))));
+  const apExact = ap !== null && isNegligible(ap.stdError, Math.max(Math.abs(ap.doseMgPerL), doseScale));
   const resultRows: KeyValueRow[] = [
     {
       label: 'Recommended plant dose',
-      value: rec ? [{ text: `${n3(rec.doseMgPerL)} mg/L`, style: 'bold' }, t(' as '), f(b)] : [{ text: 'none', style: 'bold' }, t(why ? ` (${why.code}): see the flags` : ': no usable fit or jar meeting the targets')],
+      value: rec
+        ? [{ text: `${n3(rec.doseMgPerL)} mg/L`, style: 'bold' }, t(' as '), f(b)]
+        : [{ text: 'none', style: 'bold' }, t(`: ${why ? (WHY_NONE[why.code] ?? 'no dose can be recommended from these results') : 'no usable fit or jar meeting the targets'}; see section ${PROBLEMS_SECTION}, ${PROBLEMS_HEADING}`)],
       ...(rec ? { source: autoRich(rec.reason) } : why ? { source: autoRich(why.message) } : {}),
     },
     {
       label: 'Apparent demand',
-      value: ap ? `${n3(ap.doseMgPerL)} mg/L (SE ${n3(ap.stdError)}; 95 % interval ${n3(ap.ci95[0])} to ${n3(ap.ci95[1])})` : 'not found',
+      value: ap
+        ? apExact
+          ? `${n3(ap.doseMgPerL)} mg/L (SE 0, exact fit: every jar of the fit lies on the line)`
+          : `${n3(ap.doseMgPerL)} mg/L (SE ${n3(ap.stdError)}; 95 % interval ${n3(ap.ci95[0])} to ${n3(ap.ci95[1])})`
+        : 'not found',
       ...(ap ? { source: ap.method } : {}),
     },
     { label: 'Stoichiometric estimate', value: `${n3(ev.estimateMgPerL)} mg/L` },
-    { label: 'Background demand', value: ev.backgroundDemand ? `${n3(ev.backgroundDemand.doseMgPerL)} mg/L (SE ${n3(ev.backgroundDemand.stdError)})` : 'not found', source: 'apparent demand − stoichiometric estimate' },
+    {
+      label: 'Background demand',
+      value: ev.backgroundDemand ? `${nFit(ev.backgroundDemand.doseMgPerL, doseScale)} mg/L (SE ${seText(ev.backgroundDemand.stdError, doseScale)})` : 'not found',
+      source: 'apparent demand − stoichiometric estimate',
+    },
   ];
   for (const low of ev.lowestDoseMeetingTargets) {
     resultRows.push({
@@ -274,14 +323,26 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
   }
 
   const fit = ev.fit;
+  // slope: mg/L of residual per mg/L dosed, so of the order of 1
+  const slopeScale = Math.max(Math.abs(fit.slope), 1);
+  const sign = (x: number, scale: number): string => (x < 0 && !isNegligible(x, scale) ? '−' : '+');
   const fitRows: KeyValueRow[] = [
-    { label: 'Line', value: `residual = ${n3(fit.slope)} × dose ${fit.intercept < 0 ? '−' : '+'} ${n3(Math.abs(fit.intercept))}, at ${fit.contactTimeMin} min (${fit.contactTimeChoice === 'caller' ? 'chosen' : 'longest contact time'})` },
-    { label: 'Slope', value: `${n3(fit.slope)} (SE ${n3(fit.slopeStdError)})` },
-    { label: 'Intercept', value: `${n3(fit.intercept)} mg/L (SE ${n3(fit.interceptStdError)})` },
-    { label: 'r²', value: `${n3(fit.r2)}; residual SE ${n3(fit.residualStdError)} mg/L; ${fit.degreesOfFreedom} degrees of freedom` },
+    {
+      label: 'Line',
+      value: `residual = ${nFit(fit.slope, slopeScale)} × dose ${sign(fit.intercept, doseScale)} ${nFit(Math.abs(fit.intercept), doseScale)}, at ${fit.contactTimeMin} min (${fit.contactTimeChoice === 'caller' ? 'chosen' : 'longest contact time'})`,
+    },
+    { label: 'Slope', value: `${nFit(fit.slope, slopeScale)} (SE ${seText(fit.slopeStdError, slopeScale)})` },
+    { label: 'Intercept', value: `${nFit(fit.intercept, doseScale).replace(/^-/, '−')} mg/L (SE ${seText(fit.interceptStdError, doseScale)})` },
+    {
+      label: 'r²',
+      value: `${n3(fit.r2)}; residual SE ${isNegligible(fit.residualStdError, doseScale) ? '0 mg/L (exact fit)' : `${n3(fit.residualStdError)} mg/L`}; ${fit.degreesOfFreedom} degrees of freedom`,
+    },
     { label: 'Jars in the fit', value: `${fit.jarsUsed.join(', ') || 'none'} (n = ${fit.n})` },
     ...fit.jarsExcluded.map((x) => ({ label: `Jar ${x.jar} left out`, value: autoRich(x.reason) })),
-    { label: 'Demand line', value: `consumed = ${n3(fit.demandLine.slope)} × dose ${fit.demandLine.intercept < 0 ? '−' : '+'} ${n3(Math.abs(fit.demandLine.intercept))} (r² ${n3(fit.demandLine.r2)})` },
+    {
+      label: 'Demand line',
+      value: `consumed = ${nFit(fit.demandLine.slope, slopeScale)} × dose ${sign(fit.demandLine.intercept, doseScale)} ${nFit(Math.abs(fit.demandLine.intercept), doseScale)} (r² ${n3(fit.demandLine.r2)})`,
+    },
   ];
 
   const resultRowsTable: TableCell[][] = [];
@@ -327,15 +388,21 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
           kind: 'table',
           caption: 'Targets',
           columns: [{ header: 'Analyte' }, { header: 'Limit', unit: 'mg/L' }, { header: 'Rule' }, { header: 'From' }],
-          rows: ev.targets.map((tg) => [tg.name ?? tg.analyte, n3(tg.limitMgPerL), tg.comparison, tg.origin === 'caller' ? 'the request' : `default limit${tg.source ? `, ${tg.source}` : ''}`]),
+          rows: ev.targets.map((tg) => [
+            analyteRuns(tg.analyte, b),
+            n3(tg.limitMgPerL),
+            tg.comparison,
+            tg.origin === 'caller' ? 'the request' : autoRich(`default limit${tg.name ? `: ${tg.name}` : ''}${tg.source ? ` (${tg.source})` : ''}`),
+          ]),
         },
       ],
     },
     {
-      heading: 'Problems and notes',
+      heading: PROBLEMS_HEADING,
       blocks: [{ kind: 'flags', items: problems(ev.problems), emptyText: 'No problems found.' }, ...ev.notes.map((n) => ({ kind: 'paragraph' as const, text: autoRich(n) }))],
     },
   ];
+  if (sections[PROBLEMS_SECTION - 1]?.heading !== PROBLEMS_HEADING) throw new Error(`the evaluation sheet's section ${PROBLEMS_SECTION} must be "${PROBLEMS_HEADING}"`);
   return buildSheetDocument({
     id: ctx.id,
     kind: 'jar-test-evaluation',

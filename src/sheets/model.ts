@@ -11,6 +11,7 @@
  */
 import { createHash } from 'node:crypto';
 import { DomainError } from '../core/errors.js';
+import { inWords } from './wording.js';
 
 export type SheetKind = 'dose' | 'jar-test-plan' | 'jar-test-evaluation';
 export type PageSize = 'A4' | 'LETTER';
@@ -311,7 +312,8 @@ export function looksLikeFormula(word: string): boolean {
 /**
  * Runs from free text (flag messages, notes, table texts from the tables), with every
  * word that is a chemical formula marked as one: "2 % w/w as KMnO4" → "…as KMnO₄".
- * Surrounding brackets and punctuation stay plain; "m3" becomes "m³".
+ * Surrounding brackets and punctuation stay plain; "m3" becomes "m³". Field paths of the API
+ * ("give product.purity") are put in words first (`inWords`, wording.ts).
  */
 export function autoRich(text: string, style?: RunStyle): TextRun[] {
   // the same notes, flags and table texts recur on every sheet: marked once per process
@@ -327,7 +329,8 @@ export function autoRich(text: string, style?: RunStyle): TextRun[] {
 
 const autoRichCache = new Map<string, readonly TextRun[]>();
 
-function autoRichUncached(text: string, style?: RunStyle): TextRun[] {
+function autoRichUncached(source: string, style?: RunStyle): TextRun[] {
+  const text = inWords(source);
   const runs: TextRun[] = [];
   let plain = '';
   const base = (s: string): void => {

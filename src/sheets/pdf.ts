@@ -68,6 +68,12 @@ const SUB_SHIFT = 0.2;
 const SUP_SHIFT = 0.38;
 const MARGIN_X = 50;
 const BLOCK_GAP = 9;
+/** Space under a section heading (its rule and the gap below it). */
+const HEADING_GAP = 9;
+/** Rows, lines or items of the last block kept on the page of the signature block. */
+const KEEP_WITH_SIGNATURE = 2;
+/** A paragraph up to this share of the page's text height is kept on one page. */
+const KEEP_PARAGRAPH_SHARE = 0.4;
 
 const PAGE_SIZES = { A4: [595.28, 841.89], LETTER: [612, 792] } as const;
 
@@ -419,6 +425,21 @@ type Token =
   | { kind: 'space'; width: number; font: FontKey }
   | { kind: 'break' };
 
+const NBSP = '\u00a0';
+
+/**
+ * A date-time as the sheets print it (displayTime: "2026-12-01 23:30 UTC",
+ * "2025-03-14 08:30 (UTC+01:00)") is one word for line breaking: its spaces are no-break
+ * spaces, drawn as ordinary spaces.
+ */
+const DATE_TIME = /(?:\b(sampled|issued|signed|prepared|at|on|since|until) )?\b(\d{4}-\d{2}-\d{2}) (\d{2}:\d{2})(?: (UTC\b|\(UTC[+\-−]\d{2}:\d{2}\)))?/g;
+
+/** The spaces of a date-time, and the one after the word that introduces it ("sampled …"), made no-break. */
+function keepDateTimes(text: string): string {
+  if (!/\d{4}-\d{2}-\d{2} \d{2}:\d{2}/.test(text)) return text;
+  return text.replace(DATE_TIME, (_m, word: string | undefined, date: string, time: string, zone: string | undefined) => [word, date, time, zone].filter(Boolean).join(NBSP));
+}
+
 function tokenise(runs: readonly IRun[], size: number): Token[] {
   const tokens: Token[] = [];
   let word: Frag[] = [];
@@ -427,7 +448,7 @@ function tokenise(runs: readonly IRun[], size: number): Token[] {
     word = [];
   };
   for (const run of runs) {
-    const parts = run.text.split(/( |\n)/);
+    const parts = (run.script === 'base' ? keepDateTimes(run.text) : run.text).split(/( |\n)/);
     for (const part of parts) {
       if (part === '') continue;
       if (part === ' ') {
@@ -437,7 +458,8 @@ function tokenise(runs: readonly IRun[], size: number): Token[] {
         endWord();
         tokens.push({ kind: 'break' });
       } else {
-        word.push(fragOf(run, part, size));
+        // a no-break space joins the parts of a word and is drawn (and extracted) as a space
+        word.push(fragOf(run, part.includes(NBSP) ? part.replace(/\u00a0/g, ' ') : part, size));
       }
     }
   }
@@ -847,8 +869,52 @@ class SheetRenderer {
     this.y = this.contTop;
   }
 
+  /**
+   * Room for `height` below the current position, else a new page. A section heading not yet
+   * drawn (drawSection) needs its room too and is drawn here, so it goes to the page of the
+   * first part of its first block.
+   */
   private ensure(height: number): void {
-    if (this.y + height > this.bottom) this.addPage();
+    const pending = this.pendingHeading ? this.pendingHeading.height + HEADING_GAP : 0;
+    if (this.y + pending + height > this.bottom && this.y > this.contTop) this.addPage();
+    this.flushHeading();
+  }
+
+  /** The heading of the section being started, drawn with the first part of its first block. */
+  private pendingHeading: Laid | null = null;
+
+  private flushHeading(): void {
+    const head = this.pendingHeading;
+    if (!head) return;
+    this.pendingHeading = null;
+    this.drawLaid(head, this.left, this.y);
+    this.y += head.height + 2;
+    this.hline(this.left, this.right, this.y, '#b7c9d8', 0.8);
+    this.y += HEADING_GAP - 2;
+  }
+
+  /**
+   * While the last block before the signature block is drawn: the height that follows it up to
+   * the end of the signature block (the gaps and the block), else 0. The end of that block (its
+   * last KEEP_WITH_SIGNATURE rows, lines or items) is kept on one page with the signature block,
+   * so the signature block never stands alone on the last page.
+   */
+  private tail = 0;
+
+  /**
+   * Room for a part of a block that is drawn whole (`height`); when the tail is kept and this
+   * part starts the end of the last block, room for it, the rest of the block (`after`) and
+   * the tail, provided all of that fits on one page.
+   */
+  private ensureKeep(height: number, after = 0, startsEnd = true): void {
+    const need = height + after + this.tail;
+    if (this.tail > 0 && startsEnd && need <= this.bottom - this.contTop) this.ensure(need);
+    else this.ensure(height);
+  }
+
+  /** Index of the first part of a block of `count` parts that is kept with the signature block. */
+  private tailStart(count: number): number {
+    return this.tail > 0 ? Math.max(0, count - KEEP_WITH_SIGNATURE) : Number.POSITIVE_INFINITY;
   }
 
   private get remaining(): number {
@@ -865,14 +931,18 @@ class SheetRenderer {
     this.drawFirstHeader();
 
     const position = sheet.safetyPosition ?? 'after-first-section';
-    if (position === 'start') this.drawSafety(sheet.safety);
+    // what is drawn last before the signature block keeps its end on the signature's page
+    const signature = this.prepareSignature(sheet.signature);
+    const n = sheet.sections.length;
+    const safetyLast = position === 'end' || (position === 'after-first-section' && n <= 1) || n === 0;
+    if (position === 'start') this.drawSafety(sheet.safety, n === 0 ? signature.h + 4 : 0);
     sheet.sections.forEach((section, i) => {
-      this.drawSection(section.heading, i + 1, section.blocks);
-      if (i === 0 && position === 'after-first-section') this.drawSafety(sheet.safety);
+      this.drawSection(section.heading, i + 1, section.blocks, i === n - 1 && !safetyLast ? signature.h + 4 : 0);
+      if (i === 0 && position === 'after-first-section') this.drawSafety(sheet.safety, safetyLast ? signature.h + 4 : 0);
     });
-    if (sheet.sections.length === 0 && position === 'after-first-section') this.drawSafety(sheet.safety);
-    if (position === 'end') this.drawSafety(sheet.safety);
-    this.drawSignature(sheet.signature);
+    if (n === 0 && position === 'after-first-section') this.drawSafety(sheet.safety, signature.h + 4);
+    if (position === 'end') this.drawSafety(sheet.safety, signature.h + 4);
+    this.drawSignature(signature);
 
     const range = this.doc.bufferedPageRange();
     for (let i = 0; i < range.count; i++) {
@@ -957,15 +1027,35 @@ class SheetRenderer {
     const cols = 4;
     const gap = 14;
     const colW = (this.contentW - gap * (cols - 1)) / cols;
-    const items = sheet.meta;
-    for (let r = 0; r < items.length; r += cols) {
-      const row = items.slice(r, r + cols);
-      const laid = row.map((m) => layout(m.value, colW, { size: 9, colour: INK, leading: 1.28 }));
+    // an item whose longest word (a sheet id) is wider than a column spans the columns it needs,
+    // so that an id is never broken inside; items wrap at their spaces
+    const metaStyle = { size: 9, colour: INK, leading: 1.28 };
+    const spanW = (span: number): number => span * colW + (span - 1) * gap;
+    const placed = sheet.meta.map((m) => {
+      const word = prepare(m.value, metaStyle).minWord;
+      let span = 1;
+      while (span < cols && spanW(span) + 0.01 < word) span++;
+      return { m, span };
+    });
+    const rows: (typeof placed)[] = [];
+    let used = cols;
+    for (const item of placed) {
+      if (used + item.span > cols) {
+        rows.push([]);
+        used = 0;
+      }
+      rows[rows.length - 1]!.push(item);
+      used += item.span;
+    }
+    for (const row of rows) {
+      const laid = row.map(({ m, span }) => layout(m.value, spanW(span), metaStyle));
       const h = 10 + Math.max(...laid.map((l) => l.height));
-      row.forEach((m, i) => {
-        const x = this.left + i * (colW + gap);
+      let col = 0;
+      row.forEach(({ m, span }, i) => {
+        const x = this.left + col * (colW + gap);
         this.textAt(m.label.toUpperCase(), x, this.y + 6.5, 'bold', 6.4, MUTED);
         this.drawLaid(laid[i]!, x, this.y + 9);
+        col += span;
       });
       this.y += h + 7;
     }
@@ -1007,19 +1097,21 @@ class SheetRenderer {
 
   // -- sections and blocks -------------------------------------------------------
 
-  private drawSection(heading: string, number: number, blocks: readonly Block[]): void {
+  /** A section; `signatureH` (last section only): the signature block that follows it. */
+  private drawSection(heading: string, number: number, blocks: readonly Block[], signatureH = 0): void {
     const head = layout(`${number}  ${heading}`, this.contentW, { size: 11, font: 'bold', colour: ACCENT, leading: 1.2 });
-    // keep the heading with the start of its first block
+    // keep the heading with the start of its first block: room for a first part here, and the
+    // heading is drawn by the block's first ensure(), on the page where that part goes
     const first = this.estimateFirstLine(blocks[0]);
     this.ensure(head.height + 8 + (first > this.bottom - this.contTop - 40 ? 64 : first));
-    this.drawLaid(head, this.left, this.y);
-    this.y += head.height + 2;
-    this.hline(this.left, this.right, this.y, '#b7c9d8', 0.8);
-    this.y += 7;
-    for (const block of blocks) {
+    this.pendingHeading = head;
+    blocks.forEach((block, i) => {
+      this.tail = signatureH > 0 && i === blocks.length - 1 ? BLOCK_GAP + 4 + signatureH : 0;
       this.drawBlock(block);
+      this.tail = 0;
       this.y += BLOCK_GAP;
-    }
+    });
+    this.flushHeading();
     this.y += 4;
   }
 
@@ -1043,7 +1135,7 @@ class SheetRenderer {
   private drawBlock(block: Block): void {
     switch (block.kind) {
       case 'paragraph':
-        this.drawFlowing(layout(block.text, this.contentW, { size: BODY }), this.left);
+        this.drawParagraph(layout(block.text, this.contentW, { size: BODY }), this.left);
         return;
       case 'keyValue':
         this.drawKeyValue(block);
@@ -1066,13 +1158,33 @@ class SheetRenderer {
     }
   }
 
-  /** Draw laid-out lines, continuing on a new page when the page is full. */
-  private drawFlowing(laid: Laid, x: number): void {
-    for (const line of laid.lines) {
-      this.ensure(laid.lineHeight);
+  /**
+   * A paragraph (a numbered instruction, a note under a table): on one page when it is short
+   * enough, else flowing with at least two lines at the foot and at the head of a page.
+   */
+  private drawParagraph(laid: Laid, x: number, after = 0): void {
+    const n = laid.lines.length;
+    if (laid.height <= KEEP_PARAGRAPH_SHARE * (this.bottom - this.contTop)) {
+      this.ensureKeep(laid.height, after, this.tail > 0);
+      for (const line of laid.lines) {
+        this.drawLine(line, x, this.y, laid.size);
+        this.y += laid.lineHeight;
+      }
+      return;
+    }
+    const end = this.tailStart(n);
+    laid.lines.forEach((line, i) => {
+      // two lines at the start, the last two together (no orphan, no widow)
+      const group = i === 0 ? Math.min(2, n) : i === n - 2 ? 2 : 1;
+      this.ensureKeep(group * laid.lineHeight, (i === end ? (n - i - group) * laid.lineHeight : 0) + after, i === end);
       this.drawLine(line, x, this.y, laid.size);
       this.y += laid.lineHeight;
-    }
+    });
+  }
+
+  /** Draw laid-out lines, continuing on a new page when the page is full. */
+  private drawFlowing(laid: Laid, x: number): void {
+    this.drawParagraph(laid, x);
   }
 
   private drawKeyValue(block: KeyValueBlock): void {
@@ -1081,6 +1193,7 @@ class SheetRenderer {
     const pairW = (this.contentW - gap * (cols - 1)) / cols;
     const labelW = cols === 1 ? Math.min(190, pairW * 0.36) : pairW * 0.48;
     const valueW = pairW - labelW - 8;
+    const lines: { row: readonly KeyValueBlock['rows'][number][]; cells: { label: Laid; value: Laid; source: Laid | null; h: number }[]; h: number }[] = [];
     for (let r = 0; r < block.rows.length; r += cols) {
       const row = block.rows.slice(r, r + cols);
       const cells = row.map((kv) => {
@@ -1090,8 +1203,11 @@ class SheetRenderer {
         const h = Math.max(label.height, value.height + (source ? source.height + 1 : 0));
         return { label, value, source, h };
       });
-      const h = Math.max(...cells.map((c) => c.h)) + 6;
-      this.ensure(h);
+      lines.push({ row, cells, h: Math.max(...cells.map((c) => c.h)) + 6 });
+    }
+    const end = this.tailStart(lines.length);
+    lines.forEach(({ row, cells, h }, li) => {
+      this.ensureKeep(h, li === end ? lines.slice(li + 1).reduce((s, l) => s + l.h, 0) : 0, li === end);
       cells.forEach((c, i) => {
         const x = this.left + i * (pairW + gap);
         this.drawLaid(c.label, x, this.y + 3);
@@ -1103,7 +1219,7 @@ class SheetRenderer {
         const x = this.left + i * (pairW + gap);
         this.hline(x, x + pairW, this.y, RULE, 0.4);
       }
-    }
+    });
   }
 
   private drawTable(block: TableBlock): void {
@@ -1183,15 +1299,22 @@ class SheetRenderer {
       return { cells, h };
     });
 
+    const notesLaid = (block.notes ?? []).map((note) => layout(note, this.contentW, { size: 7, colour: MUTED, leading: 1.3 }));
+    const notesH = notesLaid.length > 0 ? 3 + notesLaid.reduce((s, l) => s + l.height, 0) : 0;
+    // the last rows (and the notes) of the last block before the signature stay with it
+    const end = this.tailStart(rowsLaid.length);
+    const restFrom = (r: number): number => rowsLaid.slice(r).reduce((s, row) => s + row.h, 0) + notesH;
     const firstRowH = rowsLaid[0]?.h ?? 0;
-    this.ensure((caption ? caption.height + 4 : 0) + headerH + firstRowH);
+    const startH = (caption ? caption.height + 4 : 0) + headerH + firstRowH;
+    this.ensureKeep(startH, end === 0 ? restFrom(1) : 0, end === 0);
     if (caption) {
       this.drawLaid(caption, this.left, this.y);
       this.y += caption.height + 4;
     }
     drawHeader();
     rowsLaid.forEach((row, r) => {
-      if (this.y + row.h > this.bottom) {
+      const keep = r === end && r > 0 && restFrom(r) + this.tail <= this.bottom - this.contTop - headerH - 20;
+      if (this.y + row.h > this.bottom || (keep && this.y + restFrom(r) + this.tail > this.bottom)) {
         this.addPage();
         const cont = layout('Table continued', this.contentW, { size: 7.2, colour: MUTED });
         if (caption) {
@@ -1217,11 +1340,9 @@ class SheetRenderer {
       this.hline(this.left, this.right, this.y + row.h, last ? RULE_STRONG : RULE, last ? 0.7 : 0.4);
       this.y += row.h;
     });
-    if (block.notes && block.notes.length > 0) {
+    if (notesLaid.length > 0) {
       this.y += 3;
-      for (const note of block.notes) {
-        this.drawFlowing(layout(note, this.contentW, { size: 7, colour: MUTED, leading: 1.3 }), this.left);
-      }
+      notesLaid.forEach((laid, i) => this.drawParagraph(laid, this.left, notesLaid.slice(i + 1).reduce((s, l) => s + l.height, 0)));
     }
   }
 
@@ -1236,7 +1357,7 @@ class SheetRenderer {
     const eq = layout([{ text: block.equation, formula: true }], this.contentW - indent - labelW, { size: 10, leading: 1.45 });
     const caption = block.caption ? layout(block.caption, this.contentW - indent, { size: 7.6, colour: MUTED }) : null;
     const h = eq.height + (caption ? caption.height + 1 : 0) + 4;
-    this.ensure(h);
+    this.ensureKeep(h);
     this.rect(this.left, this.y, 2, eq.height + 2, '#b7c9d8');
     this.drawLaid(eq, this.left + indent, this.y + 1);
     if (block.label) {
@@ -1255,7 +1376,8 @@ class SheetRenderer {
     const pad = 6;
     const laid = layout(block.text, this.contentW - 2 * pad - 4, { size: 8.3 });
     const h = laid.height + 2 * pad - 2;
-    if (h <= this.bottom - this.contTop) this.ensure(h);
+    if (h <= this.bottom - this.contTop) this.ensureKeep(h);
+    else this.flushHeading();
     this.rect(this.left, this.y, this.contentW, h, tone.tint);
     this.rect(this.left, this.y, 2.5, h, tone.fg);
     this.drawLaid(laid, this.left + pad + 4, this.y + pad - 1);
@@ -1271,13 +1393,18 @@ class SheetRenderer {
     const pad = 5;
     const textX = this.left + pad + pillW + 8;
     const textW = this.right - pad - textX;
-    block.items.forEach((item, idx) => {
-      const sev = SEVERITY[item.severity];
+    const items = block.items.map((item) => {
       const message = layout(item.message, textW, { size: 8.5 });
       const tail = [item.code, item.source ? `Source: ${item.source}` : undefined].filter((s): s is string => !!s).join('  ·  ');
       const tailLaid = tail ? layout(tail, textW, { size: 6.8, colour: MUTED, leading: 1.25 }) : null;
       const h = Math.max(14, message.height + (tailLaid ? tailLaid.height + 1 : 0)) + 2 * pad - 2;
-      this.ensure(h);
+      return { message, tailLaid, h };
+    });
+    const end = this.tailStart(items.length);
+    block.items.forEach((item, idx) => {
+      const sev = SEVERITY[item.severity];
+      const { message, tailLaid, h } = items[idx]!;
+      this.ensureKeep(h, idx === end ? items.slice(idx + 1).reduce((s, it) => s + it.h + 3, 0) : 0, idx === end);
       this.rect(this.left, this.y, this.contentW, h, sev.tint);
       this.rect(this.left, this.y, 2.5, h, sev.fg);
       // pill
@@ -1318,7 +1445,7 @@ class SheetRenderer {
     const legendRows = placed.length ? placed[placed.length - 1]!.row + 1 : 0;
     const legendH = 4 + legendRows * 11;
     const total = (title ? title.height + 6 : 0) + plotH + 26 + legendH + (caption ? caption.height + 4 : 0);
-    this.ensure(total);
+    this.ensureKeep(total);
 
     if (title) {
       this.drawLaid(title, this.left, this.y);
@@ -1462,7 +1589,8 @@ class SheetRenderer {
     this.fill = '';
   }
 
-  private drawSafety(box: SafetyBox): void {
+  /** The safety box; `signatureH` when the signature block follows it (kept on the same page). */
+  private drawSafety(box: SafetyBox, signatureH = 0): void {
     const pad = 8;
     const gap = 14;
     const innerW = this.contentW - 2 * pad;
@@ -1486,7 +1614,9 @@ class SheetRenderer {
       : null;
     const stripH = 6 + heading.height + product.height + 4;
     const h = stripH + pad + rowH[0]! + 6 + rowH[1]! + (sources ? sources.height + 4 : 0) + pad - 2;
-    this.ensure(h + 4);
+    this.tail = signatureH > 0 ? BLOCK_GAP + 6 + signatureH : 0;
+    this.ensureKeep(h + 4);
+    this.tail = 0;
     const top = this.y;
     this.rect(this.left, top, this.contentW, stripH, SAFETY_TINT);
     // warning sign drawn as a vector triangle with "!"
@@ -1519,7 +1649,8 @@ class SheetRenderer {
     this.y = top + h + BLOCK_GAP + 6;
   }
 
-  private drawSignature(sig: SignatureBlock): void {
+  /** The signature block laid out (its height is known before the content above it is drawn). */
+  private prepareSignature(sig: SignatureBlock) {
     const pad = 9;
     const gap = 18;
     const colW = (this.contentW - 2 * pad - gap) / 2;
@@ -1548,6 +1679,11 @@ class SheetRenderer {
       : col('Signature', [{ text: 'This copy is not signed.', size: 8.5, colour: MUTED }]);
     const headH = 16;
     const h = headH + (statement ? statement.height + 6 : 0) + Math.max(prepared.h, signed.h) + 2 * pad - 4;
+    return { pad, gap, colW, statement, prepared, signed, headH, h };
+  }
+
+  private drawSignature(layoutOf: ReturnType<SheetRenderer['prepareSignature']>): void {
+    const { pad, gap, colW, statement, prepared, signed, headH, h } = layoutOf;
     this.ensure(h + 4);
     const top = this.y;
     this.signaturePage = this.doc.bufferedPageRange().count - 1;
