@@ -274,7 +274,9 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
   }
 
   const fit = ev.fit;
-  const fitRows: KeyValueRow[] = [
+  const fitRows: KeyValueRow[] = fit === null
+    ? [{ label: 'Line', value: 'none: too few jars kept a measurable residual to fit one (see the problems); the recommendation rests on the jars that met the targets' }]
+    : [
     { label: 'Line', value: `residual = ${n3(fit.slope)} × dose ${fit.intercept < 0 ? '−' : '+'} ${n3(Math.abs(fit.intercept))}, at ${fit.contactTimeMin} min (${fit.contactTimeChoice === 'caller' ? 'chosen' : 'longest contact time'})` },
     { label: 'Slope', value: `${n3(fit.slope)} (SE ${n3(fit.slopeStdError)})` },
     { label: 'Intercept', value: `${n3(fit.intercept)} mg/L (SE ${n3(fit.interceptStdError)})` },

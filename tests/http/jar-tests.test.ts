@@ -591,11 +591,37 @@ describe('POST /api/v1/jar-tests/evaluations', () => {
     expect(op.json().code).toBe('AUTH_FORBIDDEN');
   });
 
-  it('too few jars with a residual: 422 naming /jars', async () => {
-    const r = await post('/api/v1/jar-tests/evaluations', { ...body, jars: jars.slice(0, 5) }, asAdmin);
+  it('too few jars with a residual and no iron or manganese to judge by: 422 naming /jars', async () => {
+    const residualsOnly = jars.slice(0, 5).map((j) => ({ dose: j.dose, results: j.results.map((x) => ({ contactTimeMin: x.contactTimeMin, residualOxidant: x.residualOxidant })) }));
+    const r = await post('/api/v1/jar-tests/evaluations', { ...body, jars: residualsOnly, targets: {} }, asAdmin);
     expect(r.statusCode).toBe(422);
     expect(r.json().code).toBe('JAR_TEST_TOO_FEW_POINTS');
     expect(r.json().errors[0].pointer).toBe('/jars');
+  });
+
+  it('a permanganate test dosed to leave no residual is evaluated on its iron and manganese: no line, the lowest jar meeting the targets, a signed sheet and a plot', async () => {
+    // invented: every jar used all its permanganate (residual 0, as intended); from 2.0 mg/L the
+    // filtered iron and manganese meet 0.3 and 0.05 mg/L (US secondary levels, 40 CFR 143.3)
+    const pinkFree = [1, 1.5, 2, 2.5].map((d) => ({
+      dose: mgL(d),
+      results: [{ contactTimeMin: 20, residualOxidant: mgL(0), iron: mgL(d >= 2 ? 0.05 : 0.4), manganese: mgL(d >= 2 ? 0.02 : 0.12) }],
+    }));
+    const r = await post('/api/v1/jar-tests/evaluations', { ...body, jars: pinkFree, plantContactTimeMin: 20 }, asAdmin);
+    expect(r.statusCode, r.body).toBe(201);
+    const ev = r.json();
+    expect(ev.fit).toBeNull();
+    expect(ev.apparentDemand).toBeNull();
+    expect(ev.recommendedDose.value).toBeCloseTo(2, 9); // lowest jar meeting both targets, no margin for permanganate
+    expect(ev.recommendedDose.from).toBe('lowest-dose-meeting-targets');
+    const p = ev.problems.find((x: { code: string }) => x.code === 'RESIDUAL_LINE_NOT_FITTED');
+    expect(p.severity).toBe('info');
+    expect(p.message).toMatch(/pink/);
+    const pdf = await app.inject({ url: ev.pdfUrl });
+    expect(pdf.statusCode).toBe(200);
+    expect(pdfText(pdfFile(pdf.rawPayload, 'jar-eval-no-line'))).toMatch(/too few jars kept a measurable residual/);
+    const svg = await app.inject({ url: ev.plotUrl });
+    expect(svg.statusCode).toBe(200);
+    expect(svg.body).toMatch(/<svg[\s>]/);
   });
 
   it('two results at one contact time: 400 pointing into the request body', async () => {
