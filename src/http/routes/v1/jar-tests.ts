@@ -577,6 +577,35 @@ export function evaluationInput(services: Services, body: JarEvaluationBodyT, es
   };
 }
 
+/**
+ * The daily dose route's checks at the recommended dose: the residual against the MRDL and guideline
+ * values, chlorite, bromate, disinfection by-products, chlorate, alkalinity and pH. The dose is
+ * recomputed for the same oxidant and sample with the expected residual as its target and the rest
+ * of the recommendation above the stoichiometric estimate as background demand, so that it adds up
+ * to the recommended dose; the flags come back as the evaluation's problems (danger as error).
+ */
+const CHECKS_AT_RECOMMENDATION = new Set([
+  'RESIDUAL_ABOVE_MRDL', 'RESIDUAL_ABOVE_GUIDELINE', 'CHLORITE_ABOVE_MCL', 'CHLORITE_ABOVE_WHO', 'BROMATE_RISK', 'BROMIDE_NOT_GIVEN',
+  'DBP_CAUTION', 'CHLORATE_CHECK', 'ALKALINITY_EXHAUSTED', 'PH_DROP_LARGE', 'BREAKPOINT_CHLORAMINES',
+]);
+export function checksAtRecommendation(services: Services, body: JarEvaluationBodyT, evaluation: JarTestEvaluation, estimateMgPerL: number): JarTestEvaluation['problems'] {
+  const rec = evaluation.recommendedDose;
+  if (rec === null) return [];
+  const residual = rec.expectedResidualMgPerL ?? 0;
+  const background = Math.max(0, rec.doseMgPerL - estimateMgPerL - residual);
+  let result;
+  try {
+    result = computeDose({ oxidant: body.oxidant, sample: body.sample, backgroundDemand: { value: background, unit: 'mg/L' }, targetResidual: { value: residual, unit: 'mg/L' } }, services.dosing);
+  } catch (e) {
+    const why = e instanceof DomainError ? e.detail : String(e);
+    return [{ code: 'DOSE_CHECKS_NOT_RUN', severity: 'warning', message: `The daily dose checks (residual limits, by-products, alkalinity) could not be run at the recommended ${roundSig(rec.doseMgPerL, 3)} mg/L: ${why} Check the recommendation with POST /api/v1/doses.` }];
+  }
+  const at = `At the recommended ${roundSig(rec.doseMgPerL, 3)} mg/L${rec.expectedResidualMgPerL !== null ? ` (expected residual ${roundSig(residual, 3)} mg/L)` : ''}, as POST /api/v1/doses judges it: `;
+  return result.flags
+    .filter((f) => CHECKS_AT_RECOMMENDATION.has(f.code))
+    .map((f) => ({ code: f.code, severity: f.severity === 'danger' ? ('error' as const) : f.severity, message: `${at}${f.message}` }));
+}
+
 const urls = (id: string) => ({
   plotUrl: `${BASE}/evaluations/${id}/plot.svg`,
   pdfUrl: `${BASE}/evaluations/${id}/pdf`,
@@ -707,7 +736,8 @@ export async function issueJarTestEvaluation(services: Services, user: User, bod
   }
   const { estimate, oxidant: ox } = jarEstimate(services, body.oxidant, body.sample);
   const input = evaluationInput(services, body, estimate.value, ox.doseBasis);
-  const evaluation = mapped(() => evaluateJarTest(input), evaluationPointer);
+  const evaluated = mapped(() => evaluateJarTest(input), evaluationPointer);
+  const evaluation: JarTestEvaluation = { ...evaluated, problems: [...evaluated.problems, ...checksAtRecommendation(services, body, evaluated, estimate.value)] };
   const plot = residualPlotData(evaluation);
   const now = new Date();
   const id = newSheetId('jar-test-evaluation', now);
