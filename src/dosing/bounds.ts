@@ -165,6 +165,37 @@ export function readingFlags(sample: SampleLike): Flag[] {
   return flags;
 }
 
+/** Background demand above this (mg/L) is unusual for drinking water: a warning, not a refusal (common practice). */
+export const DEMAND_WARN_MG_PER_L = 20;
+/** A target residual above this (mg/L) is unusual after contact: routine residuals are a few mg/L at most (common practice). */
+export const RESIDUAL_WARN_MG_PER_L = 10;
+
+/**
+ * Warnings for a background demand or target residual that is possible but unusual (above the
+ * refusal bounds the request is refused instead). Oxygen's residual is the dissolved oxygen left,
+ * judged against saturation elsewhere, so it has no band here.
+ */
+export function demandResidualFlags(input: { readonly backgroundMgPerL: number; readonly residualMgPerL: number; readonly oxidantId: string; readonly basis: string }): Flag[] {
+  const flags: Flag[] = [];
+  if (input.backgroundMgPerL > DEMAND_WARN_MG_PER_L) {
+    flags.push({
+      code: 'BACKGROUND_DEMAND_UNUSUALLY_HIGH',
+      severity: 'warning',
+      message: `A background demand of ${fmt(input.backgroundMgPerL)} mg/L as ${input.basis} is above ${DEMAND_WARN_MG_PER_L} mg/L, unusual for a drinking-water source (common practice): check the demand test, its unit and its dilution; the dose scales with it.`,
+      source: 'operator-practice',
+    });
+  }
+  if (input.oxidantId !== 'oxygen' && input.residualMgPerL > RESIDUAL_WARN_MG_PER_L) {
+    flags.push({
+      code: 'TARGET_RESIDUAL_UNUSUALLY_HIGH',
+      severity: 'warning',
+      message: `A target residual of ${fmt(input.residualMgPerL)} mg/L as ${input.basis} is above ${RESIDUAL_WARN_MG_PER_L} mg/L; residuals after contact are a few mg/L at most (common practice): check the value and its unit.`,
+      source: 'operator-practice',
+    });
+  }
+  return flags;
+}
+
 // ---------------------------------------------------------------- plant quantities
 
 /** Flow, m3/d: from 1 L/d (below any treatment flow) to 10 million m3/d (about 2 600 MGD, about twice the largest plants; common practice). */

@@ -58,6 +58,8 @@ export interface FeedInput {
   readonly batch?: { readonly volume: Quantity; readonly temperatureC?: number | undefined } | undefined;
   /** Water temperature, used for the solubility check when the batch has no temperature. */
   readonly temperatureC: number;
+  /** The product (strength, density, purity) came from this plant profile, not the request. */
+  readonly productFromPlant?: string | undefined;
 }
 
 export interface StrengthUsed {
@@ -66,7 +68,7 @@ export interface StrengthUsed {
   readonly asFormula: string;
   readonly gramsPerL: Reported;
   readonly massFraction: Reported | null;
-  readonly density: { readonly value: number; readonly unit: 'kg/L'; readonly from: 'request' | 'table' | 'water (assumed)'; readonly note: string } | null;
+  readonly density: { readonly value: number; readonly unit: 'kg/L'; readonly from: 'request' | 'plant profile' | 'table' | 'water (assumed)'; readonly note: string } | null;
   readonly text: string;
 }
 
@@ -163,7 +165,7 @@ export function densitySeries(ox: OxidantRow): DensityPoint[] {
  * Density at a strength by straight-line interpolation between the two tabled rows around it
  * (a tabled strength gives its row's density); null outside the rows: never extrapolated.
  */
-export function interpolateDensity(series: readonly DensityPoint[], by: 'massPercent' | 'gramsPerL', x: DecT): { density: DecT; text: string; note: string; source: string } | null {
+export function interpolateDensity(series: readonly DensityPoint[], by: 'massPercent' | 'gramsPerL', x: DecT): { density: DecT; text: string; note: string; source: string; exact: boolean } | null {
   if (series.length === 0) return null;
   const first = series[0]!;
   const last = series[series.length - 1]!;
@@ -174,7 +176,7 @@ export function interpolateDensity(series: readonly DensityPoint[], by: 'massPer
   for (let i = 0; i < series.length; i++) {
     const b = series[i]!;
     if (x.equals(b[by])) {
-      return { density: b.density, text: `the tabled density of ${at(b)} (tables/oxidants.json, source ${b.source}${memo([b])}), was used`, note: `tabled density of ${b.label} (${b.density.toString()} kg/L)`, source: b.source };
+      return { density: b.density, text: `the tabled density of ${at(b)} (tables/oxidants.json, source ${b.source}${memo([b])}), was used`, note: `tabled density of ${b.label} (${b.density.toString()} kg/L)`, source: b.source, exact: true };
     }
     if (i > 0 && x.lessThan(b[by])) {
       const a = series[i - 1]!;
@@ -186,6 +188,7 @@ export function interpolateDensity(series: readonly DensityPoint[], by: 'massPer
         text: `${d} kg/L was interpolated linearly by strength (${scale}) between the tabled ${at(a)}, and ${at(b)} (tables/oxidants.json, ${sources}${memo([a, b])}),`,
         note: `${d} kg/L interpolated by strength between ${a.label} (${a.density.toString()} kg/L) and ${b.label} (${b.density.toString()} kg/L)`,
         source: a.source,
+        exact: false,
       };
     }
   }
@@ -208,8 +211,50 @@ function densityOutOfTable(ox: OxidantRow, series: readonly DensityPoint[], valu
   });
 }
 
+/** How far (fraction) a given density may sit from the tabled one at the same strength before it is questioned (common practice). */
+export const DENSITY_TOLERANCE = 0.05;
+/** A figure in a sentence: 4 significant digits, no trailing zeros (1.13, 150, 0.9). */
+const plain = (x: number): string => String(Number(x.toPrecision(4)));
+
+/**
+ * A given density against physics and the table: every solution of these products is denser than
+ * water, and within the tabled strengths the tabled density is known; a value far from it is more
+ * likely a misread certificate (or the density of another grade) than the stock's. Warnings only:
+ * the given value is used.
+ */
+function densityCheck(ox: OxidantRow, strength: { value: number; unit: string }, density: DecT, who: string, flags: Flag[]): void {
+  const rho = density.toNumber();
+  if (rho < 0.99) {
+    flags.push({
+      code: 'DENSITY_BELOW_WATER',
+      severity: 'warning',
+      message: `${who}, ${plain(rho)} kg/L, is below that of water: a solution of ${lowerName(ox.name)} is denser than water. Check the value and its unit (kg/L; a specific gravity reads the same).`,
+      source: 'operator-practice',
+    });
+    return;
+  }
+  const series = densitySeries(ox);
+  if (series.length === 0) return;
+  const v = new Dec(strength.value);
+  const hit =
+    strength.unit === '% w/w'
+      ? interpolateDensity(series, 'massPercent', v)
+      : interpolateDensity(series, 'gramsPerL', strength.unit === '% w/v' ? v.times(TEN) : v);
+  if (!hit) return;
+  const tabled = hit.density.toNumber();
+  const off = (rho - tabled) / tabled;
+  if (Math.abs(off) > DENSITY_TOLERANCE) {
+    flags.push({
+      code: 'DENSITY_UNLIKE_TABLE',
+      severity: 'warning',
+      message: `${who}, ${plain(rho)} kg/L, is ${String(Number((Math.abs(off) * 100).toPrecision(3)))} % ${off > 0 ? 'above' : 'below'} the ${plain(tabled)} kg/L the table gives for ${strength.value} ${strength.unit} (${hit.note}); more than ${DENSITY_TOLERANCE * 100} % apart (common practice) is more often a misread certificate than the stock. The given value was used: check it.`,
+      source: hit.source,
+    });
+  }
+}
+
 /** Resolve the strength of the fed solution to g/L of its strength formula, saying where the density came from. */
-export function resolveStrength(ox: OxidantRow, product: ProductInput | undefined, flags: Flag[]): { gPerL: DecT; density: DecT | null; used: StrengthUsed } | null {
+export function resolveStrength(ox: OxidantRow, product: ProductInput | undefined, flags: Flag[], productFromPlant?: string): { gPerL: DecT; density: DecT | null; used: StrengthUsed } | null {
   const asFormula = ox.strength.basis === 'product' ? ox.productFormula : ox.doseBasis;
   const nominal = nominalDefault(ox);
   let strength: { value: number; unit: string } | null = product?.strength ?? null;
@@ -226,12 +271,13 @@ export function resolveStrength(ox: OxidantRow, product: ProductInput | undefine
   }
   if (!strength) return null;
   let density: DecT | null = null;
-  let densityFrom: 'request' | 'table' | 'water (assumed)' | null = null;
+  let densityFrom: 'request' | 'plant profile' | 'table' | 'water (assumed)' | null = null;
   let densityNote = '';
   if (product?.density) {
     density = toBaseDec('density', product.density, '/product/density');
-    densityFrom = 'request';
-    densityNote = 'density given with the request';
+    densityFrom = productFromPlant !== undefined ? 'plant profile' : 'request';
+    densityNote = productFromPlant !== undefined ? `density from the plant profile "${productFromPlant}"` : 'density given with the request';
+    densityCheck(ox, strength, density, densityFrom === 'plant profile' ? `The density in the plant profile "${productFromPlant}"` : 'The density given', flags);
   } else {
     const same = ox.strength.nominal.find((n) => n.densityKgPerL !== undefined && n.unit === strength!.unit && Number(n.value) === strength!.value);
     if (same?.densityKgPerL) {
@@ -274,16 +320,26 @@ export function resolveStrength(ox: OxidantRow, product: ProductInput | undefine
     } else {
       // % w/v or g/L: the solution rate needs no density; within the tabled rows the product mass can still be given
       const gL = strength.unit === '% w/v' ? new Dec(strength.value).times(TEN) : new Dec(strength.value);
-      const hit = interpolateDensity(densitySeries(ox), 'gramsPerL', gL);
+      const series = densitySeries(ox);
+      const hit = interpolateDensity(series, 'gramsPerL', gL);
       if (hit) {
         density = hit.density;
         densityFrom = 'table';
         densityNote = hit.note;
         flags.push({
-          code: 'DENSITY_INTERPOLATED',
+          code: hit.exact ? 'DENSITY_DEFAULT_USED' : 'DENSITY_INTERPOLATED',
           severity: 'info',
           message: `No density was given; ${hit.text} for ${strength.value} ${strength.unit} (${roundSigNumber(gL.toNumber(), 4)} g/L), used only for the mass of solution fed and the % w/w. Give product.density from the certificate of analysis to refine.`,
           source: hit.source,
+        });
+      } else if (series.length > 0) {
+        const lo = plain(series[0]!.gramsPerL.toNumber());
+        const hi = plain(series[series.length - 1]!.gramsPerL.toNumber());
+        flags.push({
+          code: 'DENSITY_UNKNOWN',
+          severity: 'info',
+          message: `${strength.value} ${strength.unit} (${plain(gL.toNumber())} g/L) is outside the ${lo} to ${hi} g/L the table holds densities for, and a density is not extrapolated: the solution rate needs none and is given, but the mass of solution fed, the % w/w and a stock in kg are not. Give product.density (kg/L) for them.`,
+          source: series[0]!.source,
         });
       }
     }
@@ -380,7 +436,7 @@ export function computeFeed(input: FeedInput): FeedResult {
         : `${ox.name} is generated on site: the mass rate is the generator output needed; give product.strength (the generator solution, g/L) for a solution rate.`,
     );
   } else {
-    const res = resolveStrength(ox, input.product, flags);
+    const res = resolveStrength(ox, input.product, flags, input.productFromPlant);
     if (res) {
       strength = res.used;
       // L/h = (kg/d × 1000 g/kg) ÷ (g/L) ÷ 24 h/d
@@ -446,9 +502,14 @@ export function computeFeed(input: FeedInput): FeedResult {
       flags.push({
         code: 'STRENGTH_NEEDED',
         severity: 'info',
-        message: 'Give product.strength (% w/w with density, % w/v or g/L) for a solution rate and pump setting.',
+        message: `Give product.strength (% w/w with density, % w/v or g/L) for a solution rate and pump setting${isSolid ? '; the mass of solid product to feed (a dry or tablet feeder, or to make up a batch) is given without it' : ''}.`,
         source: 'input',
       });
+      if (isSolid) {
+        const purity = purityFraction(ox, input.product, flags);
+        productMassKgPerD = strengthKgPerD.toNumber() / purity;
+        productWhat = `${ox.name} as supplied (solid at ${roundSigNumber(purity * 100, 4)} % ${ox.purity?.basis === 'basis' ? `as ${basis}` : ox.productFormula}), fed dry or made up into solution`;
+      }
     }
   }
   const basisKg = basisKgPerD.toNumber();

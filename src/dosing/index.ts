@@ -34,6 +34,7 @@ import { mergePlantIntoRequest, type PlantMergeOxidant, type PlantProfile, type 
 import { checkDoseRequest, type DoseRequest } from './request.js';
 import { checkStrengthLimits, defaultStrengthLimits, oxidantFedAsGas, strengthLimitFlags, type StrengthLimit } from './strength-limits.js';
 import { REPORT_SIG_FIGS, reported, type Flag, type Reported } from './types.js';
+import { demandResidualFlags } from './bounds.js';
 
 export type { DoseRequest } from './request.js';
 export { DoseRequestSchema, parseDoseRequest, checkDoseRequest, OXIDANT_IDS, CONTAMINANT_FIELDS } from './request.js';
@@ -500,6 +501,25 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
       fields: [{ pointer: '/product/strength', message: `${name} ${how}; a product strength (${req.product.strength.value} ${req.product.strength.unit}) does not apply: remove product` }],
     });
   }
+  if (req.pump && oxidantFedAsGas(ox)) {
+    const how = ox.form === 'gas' ? 'is fed as a gas' : 'is generated on site and transferred to the water as a gas';
+    const name = ox.name.replace(/\s*\([^)]*\)$/, '');
+    throw namePlantFields(
+      new DomainError('VALIDATION_FAILED', {
+        detail: `${name} ${how}: it has no solution rate, so a metering pump does not apply. Remove pump; the feeder is set by the mass rate (feed.massRate${ox.form === 'generated' ? ', and the generator output in feed.generator' : ''}).`,
+        fields: [{ pointer: '/pump/ratedCapacity', message: `${name} ${how}; a metering pump does not apply: remove pump` }],
+      }),
+    );
+  }
+  if (req.product?.purity && ox.form !== 'solid') {
+    // the strength of a solution already states its active content: a purity on top would be a second, silent factor
+    throw namePlantFields(
+      new DomainError('VALIDATION_FAILED', {
+        detail: `${ox.name} is supplied as a solution: its strength (${req.product.strength.value} ${req.product.strength.unit}) already states the active content, so a purity does not apply. Remove product.purity, and give the measured strength of the stock instead.`,
+        fields: [{ pointer: '/product/purity', message: 'purity applies to solid products (potassium permanganate, calcium hypochlorite); a solution is given by its strength' }],
+      }),
+    );
+  }
   const per = context.perOxidant.get(ox.id)!;
   const flags: Flag[] = [];
   const notes: string[] = [];
@@ -543,6 +563,7 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
     flags.push({ code: 'NO_TARGET_RESIDUAL', severity: 'info', message: `No target residual was given, so the dose only meets the demand; give targetResidual (mg/L as ${ox.doseBasis}) if a residual must remain after contact.`, source: 'input' });
   }
   const total = totalDose({ oxidant: ox, demands, background: bg, residualMgPerL: residual, residualReason, residualSource });
+  flags.push(...demandResidualFlags({ backgroundMgPerL: total.backgroundMgPerL.toNumber(), residualMgPerL: residual.toNumber(), oxidantId: ox.id, basis: ox.doseBasis }));
   if (total.doseMgPerL.isZero()) {
     const skipped = flags.some((f) => f.code === 'AMMONIA_BREAKPOINT_NOT_APPLICABLE' || f.code === 'CONTAMINANT_NOT_APPLICABLE');
     flags.push({
@@ -589,6 +610,7 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
       stock: req.stock,
       batch: req.batch,
       temperatureC,
+      productFromPlant: fromPlant.includes('product') ? plantInfo?.id : undefined,
     });
     flags.push(...feed.flags);
   } else {
@@ -683,12 +705,14 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
       dissolvedOxygenMgPerL:
         ox.id === 'oxygen'
           ? doMeasured && req.targetResidual
-            ? toBaseDec('concentration', doMeasured, '/sample/dissolvedOxygen').toNumber() + total.doseMgPerL.toNumber()
+            ? toBaseDec('concentration', doMeasured, '/sample/dissolvedOxygen').toNumber() + residual.toNumber() + total.backgroundMgPerL.toNumber()
             : undefined
           : doMeasured
             ? toBaseDec('concentration', doMeasured, '/sample/dissolvedOxygen').toNumber()
             : undefined,
-      ...(ox.id === 'oxygen' && doMeasured && req.targetResidual ? { dissolvedOxygenFrom: 'the sample plus the oxygen dose with its target residual (the water after aeration)' } : {}),
+      ...(ox.id === 'oxygen' && doMeasured && req.targetResidual
+        ? { dissolvedOxygenFrom: "the sample's DO plus the oxygen dose less what the contaminants consume (the DO left after the reactions, the cautious figure for the rate)" }
+        : {}),
     },
     context.contactDeps,
     flags,
@@ -722,6 +746,21 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
     flags,
   });
 
+  // the oxygen the raw water already holds, against what the reactions and the residual need
+  if (ox.id === 'oxygen' && doMeasured && total.doseMgPerL.greaterThan(0)) {
+    const have = toBaseDec('concentration', doMeasured, '/sample/dissolvedOxygen').toNumber();
+    const need = total.doseMgPerL.toNumber();
+    const r3 = (x: number) => roundSigNumber(x, 3);
+    flags.push({
+      code: 'DISSOLVED_OXYGEN_IN_SAMPLE',
+      severity: 'info',
+      message:
+        have >= need
+          ? `The sample already holds ${r3(have)} mg/L dissolved oxygen, at least the ${r3(need)} mg/L the reactions${residual.greaterThan(0) ? ' and the residual' : ''} need: the dose above is the oxygen they use, not what aeration must add. Aeration may still be wanted to strip CO2 or H2S or to speed the reaction.`
+          : `The sample already holds ${r3(have)} mg/L dissolved oxygen of the ${r3(need)} mg/L the reactions${residual.greaterThan(0) ? ' and the residual' : ''} need: aeration must add about ${r3(need - have)} mg/L beyond what the water holds.`,
+      source: 'input',
+    });
+  }
   // aeration cannot exceed saturation
   if (ox.id === 'oxygen' && total.doseMgPerL.greaterThan(0)) {
     const sat = context.o2SaturationAt(temperatureC);

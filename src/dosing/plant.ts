@@ -8,7 +8,7 @@ import { z } from 'zod';
 import { DomainError } from '../core/errors.js';
 import { toBaseDec } from '../core/quantity.js';
 import { quantityBoundProblems } from './bounds.js';
-import { FED_AS_GAS_IDS, GAS_FEEDER_TEXT, strengthLimitProblem, type StrengthLimit } from './strength-limits.js';
+import { FED_AS_GAS_IDS, GAS_FEEDER_TEXT, SOLID_PRODUCT_IDS, strengthLimitProblem, type StrengthLimit } from './strength-limits.js';
 import {
   ConcentrationSchema,
   DensitySchema,
@@ -93,6 +93,9 @@ export function parsePlantProfile(input: unknown, strengthLimits?: readonly Stre
       return;
     }
     const before = fields.length;
+    if (prod.purity && !SOLID_PRODUCT_IDS.has(prod.oxidant)) {
+      fields.push({ pointer: `/products/${i}/purity`, message: `${prod.oxidant} is supplied as a solution: its strength states the active content, so a purity does not apply (it is for solid products: ${[...SOLID_PRODUCT_IDS].join(', ')}). Remove purity` });
+    }
     if (prod.strength.unit !== 'g/L' && prod.strength.value > 100) fields.push({ pointer: `/products/${i}/strength/value`, message: `a strength in ${prod.strength.unit} must be at most 100` });
     fields.push(
       ...quantityBoundProblems(

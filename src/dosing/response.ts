@@ -83,7 +83,7 @@ export const DoseResultSchema = z.object({
           asFormula: z.string(),
           gramsPerL: Reported,
           massFraction: Reported.nullable(),
-          density: z.object({ value: z.number(), unit: z.literal('kg/L'), from: z.enum(['request', 'table', 'water (assumed)']), note: z.string() }).nullable(),
+          density: z.object({ value: z.number(), unit: z.literal('kg/L'), from: z.enum(['request', 'plant profile', 'table', 'water (assumed)']), note: z.string() }).nullable(),
           text: z.string(),
         })
         .nullable(),

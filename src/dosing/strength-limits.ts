@@ -38,6 +38,8 @@ import type { Flag } from './types.js';
 
 /** Oxidants fed to the water as a gas: no product strength, density or solution rate, no metering pump. */
 export const FED_AS_GAS_IDS: ReadonlySet<string> = new Set(['chlorine-gas', 'ozone', 'oxygen']);
+/** Supplied as a solid (a purity applies); checked against tables/oxidants.json (form "solid") at start-up like FED_AS_GAS_IDS. */
+export const SOLID_PRODUCT_IDS: ReadonlySet<string> = new Set(['potassium-permanganate', 'calcium-hypochlorite']);
 
 /** How an operator says an oxidant fed as a gas is metered (for the plant-profile refusals). */
 export const GAS_FEEDER_TEXT: Readonly<Record<string, string>> = {
@@ -272,6 +274,8 @@ export function checkStrengthLimits(t: { readonly oxidants: readonly OxidantRow[
   for (const ox of t.oxidants) {
     const gas = oxidantFedAsGas(ox);
     if (gas !== FED_AS_GAS_IDS.has(ox.id)) problems.push(`tables/oxidants.json row ${ox.id} is ${gas ? '' : 'not '}fed as a gas, but src/dosing/strength-limits.ts FED_AS_GAS_IDS says ${gas ? 'not' : 'so'}`);
+    const solid = ox.form === 'solid';
+    if (solid !== SOLID_PRODUCT_IDS.has(ox.id)) problems.push(`tables/oxidants.json row ${ox.id} is ${solid ? '' : 'not '}a solid product, but src/dosing/strength-limits.ts SOLID_PRODUCT_IDS says ${solid ? 'not' : 'so'}`);
     if (!gas && !LIMIT_OF.has(ox.id)) problems.push(`tables/oxidants.json row ${ox.id} is fed as a solution but has no row in ${here} (give its solubility, its strongest grade, or kind "none" with why)`);
   }
   for (const l of limits) {

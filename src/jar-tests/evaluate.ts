@@ -149,7 +149,12 @@ export interface JarTestEvaluation {
   readonly contactTimesMin: readonly number[];
   readonly jars: readonly EvaluatedJar[];
   readonly demandCurves: readonly DemandCurve[];
-  readonly fit: ResidualFit;
+  /**
+   * The residual line, or null when too few jars kept a measurable residual to fit one (a
+   * permanganate test dosed to leave none, say): the recommendation then rests on the jars that
+   * met the iron and manganese targets, and a problem says why there is no line.
+   */
+  readonly fit: ResidualFit | null;
   /** Dose at which the fitted residual is zero, −intercept/slope, with its standard error and 95 % interval. */
   readonly apparentDemand: { readonly doseMgPerL: number; readonly stdError: number; readonly ci95: readonly [number, number]; readonly method: string } | null;
   /** apparent − stoichiometric estimate. */
@@ -344,70 +349,94 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
 
   // ---- the fit
   const residualTimes = times.filter((t) => jars.some((j) => j.results.some((r) => r.contactTimeMin === t && r.residualOxidantMgPerL !== null)));
-  let fitTime: number;
-  let choice: 'caller' | 'longest';
-  if (input.fitContactTimeMin !== undefined) {
-    if (!residualTimes.includes(input.fitContactTimeMin)) {
-      throw new DomainError('JAR_TEST_INVALID', {
-        detail: `No residual readings at ${fmt(input.fitContactTimeMin)} min; residuals were read at ${residualTimes.join(', ') || 'no'} min.`,
-        fields: [{ pointer: '/fitContactTimeMin', message: `must be one of the contact times with residual readings: ${residualTimes.join(', ') || 'none'}` }],
-      });
-    }
-    fitTime = input.fitContactTimeMin;
-    choice = 'caller';
-  } else {
-    if (residualTimes.length === 0) {
-      throw new DomainError('JAR_TEST_TOO_FEW_POINTS', {
+  if (input.fitContactTimeMin !== undefined && !residualTimes.includes(input.fitContactTimeMin)) {
+    throw new DomainError('JAR_TEST_INVALID', {
+      detail: `No residual readings at ${fmt(input.fitContactTimeMin)} min; residuals were read at ${residualTimes.join(', ') || 'no'} min.`,
+      fields: [{ pointer: '/fitContactTimeMin', message: `must be one of the contact times with residual readings: ${residualTimes.join(', ') || 'none'}` }],
+    });
+  }
+  // Without a line the jars can still answer the question that matters (which dose met the iron
+  // and manganese targets); with no such target there is nothing to evaluate and the request is
+  // refused as before.
+  const contaminantTargetsGiven = targets.some((t) => t.analyte === 'iron' || t.analyte === 'manganese');
+  const tooFew = (error: DomainError): null => {
+    if (!contaminantTargetsGiven) throw error;
+    const permanganate = isPermanganateBasis(basis);
+    problems.push({
+      code: 'RESIDUAL_LINE_NOT_FITTED',
+      severity: permanganate ? 'info' : 'warning',
+      message:
+        `${error.detail.replace(/ Repeat the test with more jars above the expected demand, or fit another contact time\.$/, '').replace(/; measure the residual in each jar at each contact time\.$/, '.')} ` +
+        'No demand line, apparent demand or background demand is reported; the recommendation rests on the jars that met the iron and manganese targets' +
+        (permanganate
+          ? ', as it should for permanganate, which is dosed to leave no residual (pink water).'
+          : '. For a demand line, repeat with some jars above the demand and read the residual in each.'),
+    });
+    return null;
+  };
+  let fit: ResidualFit | null = null;
+  let f: LinearFit | null = null;
+  let fitTime: number | null = null;
+  if (residualTimes.length === 0) {
+    tooFew(
+      new DomainError('JAR_TEST_TOO_FEW_POINTS', {
         detail: 'No residual oxidant was read in any jar, so there is no demand line; measure the residual in each jar at each contact time.',
         params: { n: 0, detectionLimitMgPerL: dl },
         fields: input.jars.map((_, i) => ({ pointer: `/jars/${i}/results`, message: 'no residualOxidantMgPerL' })),
-      });
+      }),
+    );
+  } else {
+    const choice: 'caller' | 'longest' = input.fitContactTimeMin !== undefined ? 'caller' : 'longest';
+    const time = input.fitContactTimeMin ?? residualTimes[residualTimes.length - 1]!;
+    const used: { jar: number; x: number; y: number; consumed: number }[] = [];
+    const excluded: { jar: number; reason: string }[] = [];
+    for (const j of jars) {
+      const r = j.results.find((x) => x.contactTimeMin === time);
+      if (r === undefined) excluded.push({ jar: j.jar, reason: `no result at ${fmt(time)} min` });
+      else if (r.residualOxidantMgPerL === null) excluded.push({ jar: j.jar, reason: 'no residual reading' });
+      else if (r.residualOxidantMgPerL <= dl) excluded.push({ jar: j.jar, reason: `residual ${fmt(r.residualOxidantMgPerL)} mg/L at or below the detection limit ${fmt(dl)} mg/L` });
+      else used.push({ jar: j.jar, x: j.doseMgPerL, y: r.residualOxidantMgPerL, consumed: r.consumedMgPerL! });
     }
-    fitTime = residualTimes[residualTimes.length - 1]!;
-    choice = 'longest';
+    const distinctDoses = new Set(used.map((u) => u.x)).size;
+    if (used.length < 3 || distinctDoses < 2) {
+      const which = used.length > 0 ? ` (jar ${used.map((u) => u.jar).join(', ')})` : '';
+      tooFew(
+        new DomainError('JAR_TEST_TOO_FEW_POINTS', {
+          detail:
+            `Only ${used.length} jar(s)${which} kept a residual above the detection limit ${fmt(dl)} mg/L at ${fmt(time)} min` +
+            `${used.length >= 3 ? ', all at one dose' : ''}; the demand line needs at least 3 jars at 2 or more doses. Repeat the test with more jars above the expected demand, or fit another contact time.`,
+          params: { n: used.length, distinctDoses, detectionLimitMgPerL: dl, contactTimeMin: time, jarsUsed: used.map((u) => u.jar) },
+          fields: [{ pointer: '/jars', message: `${used.length} jar(s) with a measurable residual at ${fmt(time)} min; at least 3 needed` }],
+        }),
+      );
+    } else {
+      fitTime = time;
+      notes.push(`Residual line fitted at ${fmt(time)} min (${choice === 'caller' ? 'chosen by the caller' : 'the longest contact time with residual readings'}).`);
+      f = olsFit(used.map((u) => u.x), used.map((u) => u.y));
+      const dline = olsFit(used.map((u) => u.x), used.map((u) => u.consumed));
+      fit = {
+        contactTimeMin: time,
+        contactTimeChoice: choice,
+        jarsUsed: used.map((u) => u.jar),
+        jarsExcluded: excluded,
+        n: f.n,
+        slope: f.slope,
+        intercept: f.intercept,
+        r2: f.r2,
+        slopeStdError: f.slopeStdError,
+        interceptStdError: f.interceptStdError,
+        residualStdError: f.residualStdError,
+        degreesOfFreedom: f.degreesOfFreedom,
+        demandLine: { slope: dline.slope, intercept: dline.intercept, r2: dline.r2 },
+      };
+    }
   }
-  notes.push(`Residual line fitted at ${fmt(fitTime)} min (${choice === 'caller' ? 'chosen by the caller' : 'the longest contact time with residual readings'}).`);
-  const used: { jar: number; x: number; y: number; consumed: number }[] = [];
-  const excluded: { jar: number; reason: string }[] = [];
-  for (const j of jars) {
-    const r = j.results.find((x) => x.contactTimeMin === fitTime);
-    if (r === undefined) excluded.push({ jar: j.jar, reason: `no result at ${fmt(fitTime)} min` });
-    else if (r.residualOxidantMgPerL === null) excluded.push({ jar: j.jar, reason: 'no residual reading' });
-    else if (r.residualOxidantMgPerL <= dl) excluded.push({ jar: j.jar, reason: `residual ${fmt(r.residualOxidantMgPerL)} mg/L at or below the detection limit ${fmt(dl)} mg/L` });
-    else used.push({ jar: j.jar, x: j.doseMgPerL, y: r.residualOxidantMgPerL, consumed: r.consumedMgPerL! });
-  }
-  const distinctDoses = new Set(used.map((u) => u.x)).size;
-  if (used.length < 3 || distinctDoses < 2) {
-    const which = used.length > 0 ? ` (jar ${used.map((u) => u.jar).join(', ')})` : '';
-    throw new DomainError('JAR_TEST_TOO_FEW_POINTS', {
-      detail:
-        `Only ${used.length} jar(s)${which} kept a residual above the detection limit ${fmt(dl)} mg/L at ${fmt(fitTime)} min` +
-        `${used.length >= 3 ? ', all at one dose' : ''}; the demand line needs at least 3 jars at 2 or more doses. Repeat the test with more jars above the expected demand, or fit another contact time.`,
-      params: { n: used.length, distinctDoses, detectionLimitMgPerL: dl, contactTimeMin: fitTime, jarsUsed: used.map((u) => u.jar) },
-      fields: [{ pointer: '/jars', message: `${used.length} jar(s) with a measurable residual at ${fmt(fitTime)} min; at least 3 needed` }],
-    });
-  }
-  const f: LinearFit = olsFit(used.map((u) => u.x), used.map((u) => u.y));
-  const dline = olsFit(used.map((u) => u.x), used.map((u) => u.consumed));
-  const fit: ResidualFit = {
-    contactTimeMin: fitTime,
-    contactTimeChoice: choice,
-    jarsUsed: used.map((u) => u.jar),
-    jarsExcluded: excluded,
-    n: f.n,
-    slope: f.slope,
-    intercept: f.intercept,
-    r2: f.r2,
-    slopeStdError: f.slopeStdError,
-    interceptStdError: f.interceptStdError,
-    residualStdError: f.residualStdError,
-    degreesOfFreedom: f.degreesOfFreedom,
-    demandLine: { slope: dline.slope, intercept: dline.intercept, r2: dline.r2 },
-  };
 
   let apparentDemand: JarTestEvaluation['apparentDemand'] = null;
   let backgroundDemand: JarTestEvaluation['backgroundDemand'] = null;
-  if (!(f.slope > 0)) {
+  if (f === null || fitTime === null) {
+    // no line: nothing to judge it by
+  } else if (!(f.slope > 0)) {
     problems.push({
       code: 'FIT_SLOPE_NOT_POSITIVE',
       severity: 'error',
@@ -454,7 +483,7 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       });
     }
   }
-  if (Number.isFinite(f.r2) && f.r2 < 0.9) {
+  if (f !== null && Number.isFinite(f.r2) && f.r2 < 0.9) {
     problems.push({
       code: 'FIT_POOR',
       severity: 'warning',
@@ -539,9 +568,9 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
   const marginText = margin.kind === 'relative' ? `+${fmt(margin.fraction * 100)} %` : `+${fmt(margin.mgPerL)} mg/L`;
   // The residual expected at the recommended dose comes from the line at the contact time the
   // recommendation is for; where that time has no line of its own, none is predicted.
-  const benchLine = benchTime === fitTime ? f : residualLineAt(jars, benchTime, dl);
+  const benchLine = f !== null && benchTime === fitTime ? f : residualLineAt(jars, benchTime, dl);
   const benchLineNote = () => {
-    if (benchTime === fitTime) return;
+    if (fitTime === null || benchTime === fitTime) return;
     notes.push(
       benchLine
         ? `Expected residuals at the recommended dose are read from the residual line at ${fmt(benchTime)} min, the contact time of the recommendation (the demand line above is at ${fmt(fitTime)} min).`
@@ -589,7 +618,7 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
         `${apparentDemand !== null ? `The apparent demand (${fmt(apparentDemand.doseMgPerL, 3)} mg/L) is where the oxidant is used up, not where ${contaminantTargets.map((t) => t.analyte).join(' and ')} meet their targets. ` : ''}` +
         'Repeat with doses above the highest jar or a longer contact time, and check pH, filtration of the samples and the form of the metal (complexed or colloidal iron and manganese may need another treatment).',
     });
-  } else if (apparentDemand !== null && apparentDemand.doseMgPerL >= 0) {
+  } else if (apparentDemand !== null && apparentDemand.doseMgPerL >= 0 && f !== null && fitTime !== null) {
     predict = lineAt(f);
     const base = apparentDemand.doseMgPerL + residualTarget;
     const m = withMargin(base);

@@ -109,7 +109,7 @@ export function niceTicks(min: number, max: number, target = 5): { min: number; 
 export function residualPlotData(evaluation: JarTestEvaluation): ResidualPlotData {
   const basis = evaluation.basis;
   const fit = evaluation.fit;
-  const used = new Set(fit.jarsUsed);
+  const used = new Set(fit?.jarsUsed ?? []);
   const series: PlotSeries[] = evaluation.demandCurves
     .filter((c) => c.points.length > 0)
     .map((c, i) => ({
@@ -120,7 +120,7 @@ export function residualPlotData(evaluation: JarTestEvaluation): ResidualPlotDat
       marker: SHAPES[i % SHAPES.length]!,
       points: [...c.points]
         .sort((a, b) => a.doseMgPerL - b.doseMgPerL)
-        .map((p) => ({ x: p.doseMgPerL, y: p.residualMgPerL, jar: p.jar, belowDetection: p.belowDetection, usedInFit: c.contactTimeMin === fit.contactTimeMin && used.has(p.jar) })),
+        .map((p) => ({ x: p.doseMgPerL, y: p.residualMgPerL, jar: p.jar, belowDetection: p.belowDetection, usedInFit: fit !== null && c.contactTimeMin === fit.contactTimeMin && used.has(p.jar) })),
     }));
 
   const apparent = evaluation.apparentDemand;
@@ -130,18 +130,21 @@ export function residualPlotData(evaluation: JarTestEvaluation): ResidualPlotDat
   const yt = niceTicks(0, Math.max(...ys, 0) * 1.1 || 1);
 
   const lines: PlotLine[] = [];
-  const m = fit.slope;
-  const b = fit.intercept;
-  const yAt = (x: number) => m * x + b;
-  const xAt = (y: number) => (y - b) / m;
-  const fitDoses = evaluation.jars.filter((j) => used.has(j.jar)).map((j) => j.doseMgPerL);
-  let x1 = m > 0 ? Math.max(0, xAt(0)) : Math.min(...fitDoses);
-  let x2 = m > 0 ? xt.max : Math.max(...fitDoses);
-  if (m > 0 && yAt(x2) > yt.max) x2 = xAt(yt.max);
-  if (m < 0 && yAt(x1) > yt.max) x1 = xAt(yt.max);
-  if (m < 0 && yAt(x2) < 0) x2 = xAt(0);
-  const fitLabel = `fit at ${fmt(fit.contactTimeMin)} min: residual = ${fmt(m, 3)} × dose ${b < 0 ? '−' : '+'} ${fmt(Math.abs(b), 3)} (r² = ${Number.isFinite(fit.r2) ? roundSig(fit.r2, 3) : 'n/a'}, n = ${fit.n})`;
-  lines.push({ id: 'fit', label: fitLabel, kind: 'fit', color: FIT_COLOR, dash: null, from: { x: x1, y: yAt(x1) }, to: { x: x2, y: yAt(x2) } });
+  let fitLabel = 'no residual line: too few jars kept a measurable residual';
+  if (fit !== null) {
+    const m = fit.slope;
+    const b = fit.intercept;
+    const yAt = (x: number) => m * x + b;
+    const xAt = (y: number) => (y - b) / m;
+    const fitDoses = evaluation.jars.filter((j) => used.has(j.jar)).map((j) => j.doseMgPerL);
+    let x1 = m > 0 ? Math.max(0, xAt(0)) : Math.min(...fitDoses);
+    let x2 = m > 0 ? xt.max : Math.max(...fitDoses);
+    if (m > 0 && yAt(x2) > yt.max) x2 = xAt(yt.max);
+    if (m < 0 && yAt(x1) > yt.max) x1 = xAt(yt.max);
+    if (m < 0 && yAt(x2) < 0) x2 = xAt(0);
+    fitLabel = `fit at ${fmt(fit.contactTimeMin)} min: residual = ${fmt(m, 3)} × dose ${b < 0 ? '−' : '+'} ${fmt(Math.abs(b), 3)} (r² = ${Number.isFinite(fit.r2) ? roundSig(fit.r2, 3) : 'n/a'}, n = ${fit.n})`;
+    lines.push({ id: 'fit', label: fitLabel, kind: 'fit', color: FIT_COLOR, dash: null, from: { x: x1, y: yAt(x1) }, to: { x: x2, y: yAt(x2) } });
+  }
   lines.push({
     id: 'detection-limit',
     label: `detection limit ${fmt(evaluation.detectionLimitMgPerL)} mg/L`,
@@ -166,7 +169,7 @@ export function residualPlotData(evaluation: JarTestEvaluation): ResidualPlotDat
 
   const legend: ResidualPlotData['legend'] = [
     ...series.map((s) => ({ label: `residual at ${s.label}`, color: s.color, marker: s.marker, kind: 'series' as const })),
-    { label: `fitted line (${fmt(fit.contactTimeMin)} min)`, color: FIT_COLOR, dash: null, kind: 'line' as const },
+    ...(fit !== null ? [{ label: `fitted line (${fmt(fit.contactTimeMin)} min)`, color: FIT_COLOR, dash: null, kind: 'line' as const }] : []),
     { label: 'detection limit', color: DL_COLOR, dash: [2, 3], kind: 'line' as const },
     ...(markers.length > 0 ? [{ label: 'zero-residual crossing', color: CROSS_COLOR, kind: 'marker' as const }] : []),
   ];

@@ -324,9 +324,11 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
 
   const fit = ev.fit;
   // slope: mg/L of residual per mg/L dosed, so of the order of 1
-  const slopeScale = Math.max(Math.abs(fit.slope), 1);
+  const slopeScale = Math.max(Math.abs(fit?.slope ?? 1), 1);
   const sign = (x: number, scale: number): string => (x < 0 && !isNegligible(x, scale) ? '−' : '+');
-  const fitRows: KeyValueRow[] = [
+  const fitRows: KeyValueRow[] = fit === null
+    ? [{ label: 'Line', value: 'none: too few jars kept a measurable residual to fit one (see the problems); the recommendation rests on the jars that met the targets' }]
+    : [
     {
       label: 'Line',
       value: `residual = ${nFit(fit.slope, slopeScale)} × dose ${sign(fit.intercept, doseScale)} ${nFit(Math.abs(fit.intercept), doseScale)}, at ${fit.contactTimeMin} min (${fit.contactTimeChoice === 'caller' ? 'chosen' : 'longest contact time'})`,

@@ -317,10 +317,24 @@ describe('feasibility at the sample conditions', () => {
     const saturated = detailOf(dose(body));
     expect(saturated.dissolvedOxygenFrom).toMatch(/saturation in air/);
     expect(saturated.dissolvedOxygenMgPerL).toBeGreaterThan(10);
-    // a 2 mg/L DO residual targeted: 0.5 measured + the dose (demand 2 × 0.1432 + 2 residual)
+    // a 2 mg/L DO residual targeted: 0.5 measured + the dose (demand 2 × 0.1432 + 2 residual) − what the iron
+    // consumes (2 × 0.1432) = 0.5 + 2: the DO left after the reaction, the cautious figure for the rate
     const r = dose({ ...body, targetResidual: { value: 2, unit: 'mg/L' } });
-    expect(detailOf(r).dissolvedOxygenMgPerL).toBeCloseTo(0.5 + r.dose.value, 9);
-    expect(detailOf(r).dissolvedOxygenFrom).toMatch(/sample plus the oxygen dose/);
+    expect(detailOf(r).dissolvedOxygenMgPerL).toBeCloseTo(0.5 + 2, 9);
+    expect(detailOf(r).dissolvedOxygenFrom).toMatch(/DO left after the reactions/);
+    // the raw water's DO is set against the need: 0.5 of 2.286 mg/L, so about 1.79 mg/L to add
+    expect(r.flags.find((f) => f.code === 'DISSOLVED_OXYGEN_IN_SAMPLE')!.message).toMatch(/must add about 1\.79 mg\/L/);
+    const rich = dose({ ...body, sample: { ...body.sample, dissolvedOxygen: { value: 8, unit: 'mg/L' } }, targetResidual: { value: 2, unit: 'mg/L' } });
+    expect(rich.flags.find((f) => f.code === 'DISSOLVED_OXYGEN_IN_SAMPLE')!.message).toMatch(/already holds 8\.00 mg\/L dissolved oxygen, at least the 2\.29 mg\/L/);
+  });
+  it('unusual background demand (> 20 mg/L) and target residual (> 10 mg/L) are warnings (common practice); oxygen has no residual band', () => {
+    const base = { flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 7.2, temperatureC: 10, iron: { value: 0.5, unit: 'mg/L' } } };
+    const high = dose({ ...base, oxidant: 'sodium-hypochlorite', backgroundDemand: { value: 500, unit: 'mg/L' }, targetResidual: { value: 12, unit: 'mg/L' } });
+    expect(high.flags.map((f) => f.code)).toEqual(expect.arrayContaining(['BACKGROUND_DEMAND_UNUSUALLY_HIGH', 'TARGET_RESIDUAL_UNUSUALLY_HIGH']));
+    const usual = dose({ ...base, oxidant: 'sodium-hypochlorite', backgroundDemand: { value: 3, unit: 'mg/L' }, targetResidual: { value: 1, unit: 'mg/L' } });
+    expect(usual.flags.map((f) => f.code)).not.toEqual(expect.arrayContaining(['BACKGROUND_DEMAND_UNUSUALLY_HIGH']));
+    expect(usual.flags.map((f) => f.code)).not.toContain('TARGET_RESIDUAL_UNUSUALLY_HIGH');
+    expect(dose({ ...base, oxidant: 'oxygen', targetResidual: { value: 11, unit: 'mg/L' } }).flags.map((f) => f.code)).not.toContain('TARGET_RESIDUAL_UNUSUALLY_HIGH');
   });
   it('chlorine gas: the chloride the dose forms is two per Cl2 (Cl2 + H2O = HOCl + H+ + Cl-, then HOCl + H+ + 2e- → Cl- + H2O), not one', () => {
     const r = dose({ oxidant: 'chlorine-gas', flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 6.5, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } } });

@@ -254,3 +254,44 @@ describe('feed figures stay numbers', () => {
     expect(r.notes.join(' ')).toMatch(/longer than can be stated/);
   });
 });
+
+describe('densities: questioned when unlike the table or below water, said when unknown, named when tabled', () => {
+  it('12.5 % w/w hypochlorite at 0.9 kg/L is below water: warned, the given value is used', () => {
+    const r = feed('sodium-hypochlorite', 2, 1000, { product: { strength: { value: 12.5, unit: '% w/w' }, density: { value: 0.9, unit: 'kg/L' } } });
+    expect(r.flags.find((f) => f.code === 'DENSITY_BELOW_WATER')!.severity).toBe('warning');
+    expect(r.strength!.density!.value).toBe(0.9);
+  });
+  it('35 % w/w peroxide given 1.00 kg/L: 11.5 % below the tabled 1.13 kg/L (CRC row) is questioned; 1.12 kg/L is not', () => {
+    // |1.00 − 1.13| / 1.13 = 0.115 > 0.05 (common practice tolerance); |1.12 − 1.13| / 1.13 = 0.009
+    const far = feed('hydrogen-peroxide', 1, 1000, { product: { strength: { value: 35, unit: '% w/w' }, density: { value: 1.0, unit: 'kg/L' } } });
+    const f = far.flags.find((x) => x.code === 'DENSITY_UNLIKE_TABLE')!;
+    expect(f.message).toMatch(/11\.5 % below the 1\.13 kg\/L/);
+    const near = feed('hydrogen-peroxide', 1, 1000, { product: { strength: { value: 35, unit: '% w/w' }, density: { value: 1.12, unit: 'kg/L' } } });
+    expect(near.flags.map((x) => x.code)).not.toContain('DENSITY_UNLIKE_TABLE');
+  });
+  it('4 trade % hypochlorite (40 g/L, below the 50 to 150 g/L rows): solution rate given, mass figures not, and a flag says why', () => {
+    const r = feed('sodium-hypochlorite', 2, 1000, { product: { strength: { value: 4, unit: '% w/v' } } });
+    expect(r.solutionRate).not.toBeNull();
+    expect(r.strength!.density).toBeNull();
+    expect(r.flags.find((f) => f.code === 'DENSITY_UNKNOWN')!.message).toMatch(/outside the 50 to 150 g\/L/);
+  });
+  it('125 g/L hypochlorite matches the 12.5 trade % row: the tabled density is used and named as such (not interpolated)', () => {
+    const r = feed('sodium-hypochlorite', 2, 1000, { product: { strength: { value: 125, unit: 'g/L' } } });
+    expect(r.flags.map((f) => f.code)).toContain('DENSITY_DEFAULT_USED');
+    expect(r.flags.map((f) => f.code)).not.toContain('DENSITY_INTERPOLATED');
+    expect(r.strength!.density!.value).toBe(1.17);
+  });
+  it('a density from a plant profile is said to come from it', () => {
+    const r = feed('sodium-hypochlorite', 2, 1000, { product: { strength: { value: 12.5, unit: '% w/v' }, density: { value: 1.17, unit: 'kg/L' } }, productFromPlant: 'demo-groundwater' });
+    expect(r.strength!.density).toMatchObject({ from: 'plant profile', note: 'density from the plant profile "demo-groundwater"' });
+  });
+});
+
+describe('a solid product without a solution strength: the mass of product to feed', () => {
+  it('calcium hypochlorite, 2 mg/L as Cl2 at 1000 m3/d, default 65 % available chlorine (AWWA B300, from memory): 2 kg/d as Cl2 ÷ 0.65 = 3.077 kg/d of granules', () => {
+    const r = feed('calcium-hypochlorite', 2, 1000);
+    expect(r.productMassRate!.value).toBeCloseTo(2 / 0.65, 9);
+    expect(r.flags.map((f) => f.code)).toEqual(expect.arrayContaining(['STRENGTH_NEEDED', 'PURITY_DEFAULT_USED']));
+    expect(r.solutionRate).toBeNull();
+  });
+});

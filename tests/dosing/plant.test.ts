@@ -213,6 +213,26 @@ describe('plant products and bounds', () => {
     expect(e.fields[0]!.message).toMatch(/rated in L\/h does not apply/);
   });
 
+  it('a purity for a solution product is PLANT_INVALID naming /products/0/purity; for permanganate (a solid) it is kept', () => {
+    const e = refusal(() => parsePlantProfile({ ...profile([], {}), products: [{ oxidant: 'sodium-hypochlorite', strength: { value: 12.5, unit: '% w/v' }, purity: { value: 90, unit: '%' } }] }));
+    expect(e.fields.map((f) => f.pointer)).toEqual(['/products/0/purity']);
+    expect(e.fields[0]!.message).toMatch(/supplied as a solution/);
+    const ok = parsePlantProfile({ ...profile([], {}), products: [{ oxidant: 'potassium-permanganate', strength: { value: 2, unit: '% w/w' }, purity: { value: 97, unit: '%' } }] });
+    expect(ok.products[0]!.purity?.value).toBe(97);
+  });
+
+  it('a dose request refuses a metering pump for a gas (400 at /pump/ratedCapacity) and a purity for a solution (400 at /product/purity)', () => {
+    const base = { flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 7.2, temperatureC: 12, iron: { value: 1, unit: 'mg/L' } } };
+    for (const oxidant of ['chlorine-gas', 'ozone', 'oxygen']) {
+      const e = refusal(() => computeDose(parseDoseRequest({ ...base, oxidant, pump: { ratedCapacity: { value: 10, unit: 'L/h' } } }), context));
+      expect(e.fields.map((f) => f.pointer)).toEqual(['/pump/ratedCapacity']);
+    }
+    for (const oxidant of ['sodium-hypochlorite', 'sodium-permanganate', 'hydrogen-peroxide']) {
+      const e = refusal(() => computeDose(parseDoseRequest({ ...base, oxidant, product: { strength: { value: 10, unit: '% w/w' }, purity: { value: 90, unit: '%' } } }), context));
+      expect(e.fields.map((f) => f.pointer)).toEqual(['/product/purity']);
+    }
+  });
+
   it('a pump for chlorine dioxide (generated, fed as a solution) is still accepted', () => {
     const p = parsePlantProfile({ ...profile([], {}), pumps: [{ id: 'p1', oxidant: 'chlorine-dioxide', ratedCapacity: { value: 10, unit: 'L/h' } }] });
     expect(p.pumps.map((x) => x.oxidant)).toEqual(['chlorine-dioxide']);

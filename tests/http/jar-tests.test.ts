@@ -591,11 +591,37 @@ describe('POST /api/v1/jar-tests/evaluations', () => {
     expect(op.json().code).toBe('AUTH_FORBIDDEN');
   });
 
-  it('too few jars with a residual: 422 naming /jars', async () => {
-    const r = await post('/api/v1/jar-tests/evaluations', { ...body, jars: jars.slice(0, 5) }, asAdmin);
+  it('too few jars with a residual and no iron or manganese to judge by: 422 naming /jars', async () => {
+    const residualsOnly = jars.slice(0, 5).map((j) => ({ dose: j.dose, results: j.results.map((x) => ({ contactTimeMin: x.contactTimeMin, residualOxidant: x.residualOxidant })) }));
+    const r = await post('/api/v1/jar-tests/evaluations', { ...body, jars: residualsOnly, targets: {} }, asAdmin);
     expect(r.statusCode).toBe(422);
     expect(r.json().code).toBe('JAR_TEST_TOO_FEW_POINTS');
     expect(r.json().errors[0].pointer).toBe('/jars');
+  });
+
+  it('a permanganate test dosed to leave no residual is evaluated on its iron and manganese: no line, the lowest jar meeting the targets, a signed sheet and a plot', async () => {
+    // invented: every jar used all its permanganate (residual 0, as intended); from 2.0 mg/L the
+    // filtered iron and manganese meet 0.3 and 0.05 mg/L (US secondary levels, 40 CFR 143.3)
+    const pinkFree = [1, 1.5, 2, 2.5].map((d) => ({
+      dose: mgL(d),
+      results: [{ contactTimeMin: 20, residualOxidant: mgL(0), iron: mgL(d >= 2 ? 0.05 : 0.4), manganese: mgL(d >= 2 ? 0.02 : 0.12) }],
+    }));
+    const r = await post('/api/v1/jar-tests/evaluations', { ...body, jars: pinkFree, plantContactTimeMin: 20 }, asAdmin);
+    expect(r.statusCode, r.body).toBe(201);
+    const ev = r.json();
+    expect(ev.fit).toBeNull();
+    expect(ev.apparentDemand).toBeNull();
+    expect(ev.recommendedDose.value).toBeCloseTo(2, 9); // lowest jar meeting both targets, no margin for permanganate
+    expect(ev.recommendedDose.from).toBe('lowest-dose-meeting-targets');
+    const p = ev.problems.find((x: { code: string }) => x.code === 'RESIDUAL_LINE_NOT_FITTED');
+    expect(p.severity).toBe('info');
+    expect(p.message).toMatch(/pink/);
+    const pdf = await app.inject({ url: ev.pdfUrl });
+    expect(pdf.statusCode).toBe(200);
+    expect(pdfText(pdfFile(pdf.rawPayload, 'jar-eval-no-line'))).toMatch(/too few jars kept a measurable residual/);
+    const svg = await app.inject({ url: ev.plotUrl });
+    expect(svg.statusCode).toBe(200);
+    expect(svg.body).toMatch(/<svg[\s>]/);
   });
 
   it('two results at one contact time: 400 pointing into the request body', async () => {
@@ -608,5 +634,48 @@ describe('POST /api/v1/jar-tests/evaluations', () => {
   it('unknown evaluation id: 404; malformed id: 400', async () => {
     expect((await app.inject({ url: '/api/v1/jar-tests/evaluations/JT-20260101-0000000000' })).statusCode).toBe(404);
     expect((await app.inject({ url: '/api/v1/jar-tests/evaluations/not-an-id/plot.svg' })).statusCode).toBe(400);
+  });
+});
+
+// ---------------------------------------------------------------------------------------------
+describe('POST /api/v1/jar-tests/evaluations: the daily dose checks at the recommended dose', () => {
+  // Invented jars whose residual is dose − demand (noise-free) and whose iron and manganese meet the
+  // US secondary levels (0.3 / 0.05 mg/L, 40 CFR 143.3) from `meetsFrom` mg/L on.
+  const ladder = (doses: number[], demand: number, meetsFrom: number) =>
+    doses.map((d) => ({
+      dose: mgL(d),
+      results: [{ contactTimeMin: 20, residualOxidant: mgL(Math.max(0, Number((d - demand).toFixed(10)))), iron: mgL(d >= meetsFrom ? 0.05 : 0.5), manganese: mgL(d >= meetsFrom ? 0.02 : 0.2) }],
+    }));
+  const evaluate = async (body: Record<string, unknown>) => {
+    const r = await post('/api/v1/jar-tests/evaluations', { jarVolume: { value: 2, unit: 'L' }, plantContactTimeMin: 20, ...body }, asAdmin);
+    expect(r.statusCode, r.body).toBe(201);
+    return r.json() as { recommendedDose: { value: number; expectedResidual: { value: number } | null } | null; problems: { code: string; severity: string; message: string }[] };
+  };
+  const problem = (ev: Awaited<ReturnType<typeof evaluate>>, code: string) => ev.problems.find((p) => p.code === code);
+
+  it('chlorine dioxide: the chlorite the recommended dose forms is judged against the MCL, as the dose route does', async () => {
+    // recommended 2.5 mg/L + 10 % = 2.75 mg/L ClO2; chlorite ≥ 70 % of it × 67.45/67.45 ≈ 1.9 mg/L > 1.0 mg/L (40 CFR 141.64)
+    const ev = await evaluate({ oxidant: 'chlorine-dioxide', sample: { pH: 7.2, temperatureC: 15, iron: mgL(1), manganese: mgL(0.3) }, jars: ladder([1.5, 2, 2.5, 3, 3.5], 2.0, 2.5) });
+    expect(ev.recommendedDose!.value).toBeCloseTo(2.75, 9);
+    const p = problem(ev, 'CHLORITE_ABOVE_MCL')!;
+    expect(p.severity).toBe('error');
+    expect(p.message).toMatch(/^At the recommended 2\.75 mg\/L/);
+    expect(p.message).toMatch(/141\.64/);
+  });
+
+  it('hypochlorite: an expected residual above the MRDL (4.0 mg/L as Cl2, 40 CFR 141.65) and TOC above 2 mg/L come back as problems', async () => {
+    // demand 1.0, Fe/Mn met from 5.0 → recommended 5.5 mg/L, expected residual 4.5 mg/L
+    const ev = await evaluate({ oxidant: 'sodium-hypochlorite', sample: { pH: 7.2, temperatureC: 15, iron: mgL(1), toc: mgL(4) }, jars: ladder([3, 4, 5, 6], 1.0, 5.0) });
+    expect(ev.recommendedDose!.value).toBeCloseTo(5.5, 9);
+    expect(ev.recommendedDose!.expectedResidual!.value).toBeCloseTo(4.5, 9);
+    expect(problem(ev, 'RESIDUAL_ABOVE_MRDL')!.severity).toBe('error');
+    expect(problem(ev, 'DBP_CAUTION')!.severity).toBe('warning');
+  });
+
+  it('ozone with bromide: the bromate risk is named; permanganate at a pink-free dose raises none of these', async () => {
+    const oz = await evaluate({ oxidant: 'ozone', sample: { pH: 7.2, temperatureC: 15, iron: mgL(1), bromide: mgL(0.2) }, jars: ladder([0.5, 1, 1.5, 2], 0.4, 1.0) });
+    expect(problem(oz, 'BROMATE_RISK')!.message).toMatch(/bromate/);
+    const pmn = await evaluate({ oxidant: 'potassium-permanganate', sample: { pH: 7.2, temperatureC: 15, iron: mgL(1) }, jars: ladder([0.5, 1, 1.5], 2, 1.0) });
+    expect(pmn.problems.filter((p) => p.message.startsWith('At the recommended'))).toEqual([]);
   });
 });

@@ -87,20 +87,39 @@ describe('evaluateJarTest: bad input and too few points (edge cases first)', () 
     expect(e.detail).toContain('at least 3');
   });
 
-  it('no residual read at all → JAR_TEST_TOO_FEW_POINTS (n = 0)', () => {
-    const jars = [1, 2, 3].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, ironMgPerL: 0.1 }] }));
-    expect(fails(() => evaluateJarTest({ ...MODEL, jars })).params).toMatchObject({ n: 0 });
+  it('no residual read at all and nothing else to judge by → JAR_TEST_TOO_FEW_POINTS (n = 0)', () => {
+    const jars = [1, 2, 3].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, turbidityNTU: 0.4 }] }));
+    expect(fails(() => evaluateJarTest({ ...MODEL, jars, targets: {} })).params).toMatchObject({ n: 0 });
   });
 
   it('three replicates at one dose cannot make a line', () => {
     const jars = [2, 2, 2].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 0.3 }] }));
-    expect(fails(() => evaluateJarTest({ ...MODEL, jars })).params).toMatchObject({ n: 3, distinctDoses: 1 });
+    expect(fails(() => evaluateJarTest({ ...MODEL, jars, targets: {} })).params).toMatchObject({ n: 3, distinctDoses: 1 });
+  });
+
+  it('no line but iron and manganese targets: the lowest jar meeting them is recommended, with no demand figures (permanganate: info; hypochlorite: warning)', () => {
+    // invented jars: iron and manganese (filtered) meet 0.3 / 0.05 mg/L from 2.0 mg/L; every residual 0
+    const jars = [1, 1.5, 2, 2.5].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 20, residualOxidantMgPerL: 0, ironMgPerL: d >= 2 ? 0.05 : 0.4, manganeseMgPerL: d >= 2 ? 0.02 : 0.12 }] }));
+    const pmn = evaluateJarTest({ ...PMN, jars });
+    expect(pmn.fit).toBeNull();
+    expect(pmn.apparentDemand).toBeNull();
+    expect(pmn.backgroundDemand).toBeNull();
+    expect(pmn.recommendedDose).toMatchObject({ basis: 'lowest-dose-meeting-targets', baseDoseMgPerL: 2, doseMgPerL: 2, expectedResidualMgPerL: null });
+    expect(pmn.problems.find((p) => p.code === 'RESIDUAL_LINE_NOT_FITTED')?.severity).toBe('info');
+    const hypo = evaluateJarTest({ ...MODEL, jars });
+    expect(hypo.recommendedDose?.doseMgPerL).toBeCloseTo(2.2, 12); // 2.0 + 10 % (common practice margin)
+    expect(hypo.problems.find((p) => p.code === 'RESIDUAL_LINE_NOT_FITTED')?.severity).toBe('warning');
+    // and with no jar meeting them, no dose (the error says why), still no line
+    const failing = jars.map((j) => ({ ...j, results: j.results.map((r) => ({ ...r, manganeseMgPerL: 0.2 })) }));
+    const none = evaluateJarTest({ ...PMN, jars: failing });
+    expect(none.recommendedDose).toBeNull();
+    expect(none.problems.map((p) => p.code)).toEqual(expect.arrayContaining(['RESIDUAL_LINE_NOT_FITTED', 'NO_JAR_MET_TARGETS']));
   });
 
   it('a residual that falls with dose is a problem (no demand), not a crash, and no dose is recommended from it', () => {
     const jars = [2, 2.5, 3].map((d, i) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 0.9 - 0.2 * i, ironMgPerL: 0.1, manganeseMgPerL: 0.02 }] }));
     const r = evaluateJarTest({ ...MODEL, jars });
-    expect(r.fit.slope).toBeLessThan(0);
+    expect(r.fit!.slope).toBeLessThan(0);
     expect(r.apparentDemand).toBeNull();
     expect(r.backgroundDemand).toBeNull();
     expect(r.problems.map((p) => p.code)).toContain('FIT_SLOPE_NOT_POSITIVE');
@@ -119,15 +138,15 @@ describe('evaluateJarTest: worked example from the stated model', () => {
 
   it('fits the longest contact time over the jars that kept a residual', () => {
     // at 30 min residuals 0, 0, 0.2, 0.7, 1.2, 1.7: jars 3–6 are above 0.05 mg/L
-    expect(r.fit.contactTimeMin).toBe(30);
-    expect(r.fit.contactTimeChoice).toBe('longest');
-    expect(r.fit.jarsUsed).toEqual([3, 4, 5, 6]);
-    expect(r.fit.jarsExcluded.map((x) => x.jar)).toEqual([1, 2]);
-    expect(r.fit.n).toBe(4);
+    expect(r.fit!.contactTimeMin).toBe(30);
+    expect(r.fit!.contactTimeChoice).toBe('longest');
+    expect(r.fit!.jarsUsed).toEqual([3, 4, 5, 6]);
+    expect(r.fit!.jarsExcluded.map((x) => x.jar)).toEqual([1, 2]);
+    expect(r.fit!.n).toBe(4);
     // exact line residual = dose − 1.8
-    expect(r.fit.slope).toBeCloseTo(1, 10);
-    expect(r.fit.intercept).toBeCloseTo(-1.8, 10);
-    expect(r.fit.r2).toBeCloseTo(1, 10);
+    expect(r.fit!.slope).toBeCloseTo(1, 10);
+    expect(r.fit!.intercept).toBeCloseTo(-1.8, 10);
+    expect(r.fit!.r2).toBeCloseTo(1, 10);
     expect(r.notes.join(' ')).toContain('longest');
   });
 
@@ -144,8 +163,8 @@ describe('evaluateJarTest: worked example from the stated model', () => {
     expect(r.demandCurves.map((c) => c.contactTimeMin)).toEqual([5, 15, 30]);
     expect(r.demandCurves[2]!.points.map((p) => p.consumedMgPerL)).toEqual(DOSES.map((d) => expect.closeTo(Math.min(d, 1.8), 10)));
     // consumed = x − y, so its line has slope 1 − m and intercept −b: here 0 and 1.8
-    expect(r.fit.demandLine.slope).toBeCloseTo(0, 10);
-    expect(r.fit.demandLine.intercept).toBeCloseTo(1.8, 10);
+    expect(r.fit!.demandLine.slope).toBeCloseTo(0, 10);
+    expect(r.fit!.demandLine.intercept).toBeCloseTo(1.8, 10);
   });
 
   it('the lowest dose meeting every target at each contact time', () => {
@@ -390,15 +409,15 @@ describe('evaluateJarTest: recovers a known demand from noisy synthetic results'
   it('one seeded run: D recovered within 3 standard errors and 0.05 mg/L; background ≈ 0.3 mg/L', () => {
     const e = run(2024);
     const a = e.apparentDemand!;
-    expect(e.fit.jarsUsed).toEqual([4, 5, 6, 7, 8]); // 2.0 … 3.6 mg/L kept a residual
+    expect(e.fit!.jarsUsed).toEqual([4, 5, 6, 7, 8]); // 2.0 … 3.6 mg/L kept a residual
     expect(Math.abs(a.doseMgPerL - D)).toBeLessThan(3 * a.stdError);
     expect(Math.abs(a.doseMgPerL - D)).toBeLessThan(0.05);
     expect(a.ci95[0]).toBeLessThan(D);
     expect(a.ci95[1]).toBeGreaterThan(D);
     // the interval is ± t(0.975, n − 2) × se
     expect(a.ci95[1] - a.doseMgPerL).toBeCloseTo(studentTQuantile(0.975, 3) * a.stdError, 12);
-    expect(Math.abs(e.fit.slope - 1)).toBeLessThan(3 * e.fit.slopeStdError);
-    expect(e.fit.r2).toBeGreaterThan(0.99);
+    expect(Math.abs(e.fit!.slope - 1)).toBeLessThan(3 * e.fit!.slopeStdError);
+    expect(e.fit!.r2).toBeGreaterThan(0.99);
     expect(Math.abs(e.backgroundDemand!.doseMgPerL - 0.3)).toBeLessThan(0.05);
     expect(e.notes.join(' ')).toContain('0.05 mg/L');
   });
@@ -432,8 +451,8 @@ describe('evaluateJarTest: recovers a known demand from noisy synthetic results'
           jars: ds.map((d, i) => ({ doseMgPerL: d, results: [{ contactTimeMin: 15, residualOxidantMgPerL: ys[i]! }] })),
         });
         const a = e.apparentDemand!;
-        expect(e.fit.n).toBe(8);
-        const bound = studentTQuantile(0.9995, e.fit.degreesOfFreedom) * a.stdError + 1e-9;
+        expect(e.fit!.n).toBe(8);
+        const bound = studentTQuantile(0.9995, e.fit!.degreesOfFreedom) * a.stdError + 1e-9;
         expect(Math.abs(a.doseMgPerL - demand)).toBeLessThanOrEqual(bound);
         expect(Math.abs(e.backgroundDemand!.doseMgPerL)).toBeLessThanOrEqual(bound);
       }),

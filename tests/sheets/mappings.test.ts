@@ -150,8 +150,8 @@ describe('jar tests → bench sheet and evaluation sheet', () => {
   it('the chart block is the plot data of the evaluation: the fitted line keeps slope and intercept', () => {
     const ev = evaluation();
     const chart = chartFromPlotData(residualPlotData(ev));
-    expect(chart.fit!.slope).toBeCloseTo(ev.fit.slope, 9);
-    expect(chart.fit!.intercept).toBeCloseTo(ev.fit.intercept, 9);
+    expect(chart.fit!.slope).toBeCloseTo(ev.fit!.slope, 9);
+    expect(chart.fit!.intercept).toBeCloseTo(ev.fit!.intercept, 9);
     expect(chart.series.flatMap((s) => s.points)).toHaveLength(DOSES.length);
   });
 

@@ -96,8 +96,8 @@ describe('jar-test evaluation sheet', () => {
   it('a perfect line (residual = dose − 1.1 mg/L, invented): standard errors print as 0, no e-notation anywhere', async () => {
     const ev = evaluate((d) => Number((d - 1.1).toFixed(2)), { ironMgPerL: 0.3, manganeseMgPerL: 0.05, residualOxidantMgPerL: 0.2 });
     // the premise: floating point leaves noise where the exact standard error is 0
-    expect(ev.fit.slopeStdError).toBeGreaterThan(0);
-    expect(ev.fit.slopeStdError).toBeLessThan(1e-12);
+    expect(ev.fit!.slopeStdError).toBeGreaterThan(0);
+    expect(ev.fit!.slopeStdError).toBeLessThan(1e-12);
     const text = pdfText(pdfFile(await renderSheet(jarTestEvaluationDocument(ev, ctx)), 'eval-exact'));
     expect(text).not.toMatch(E_NOTATION);
     expect(text).toContain('1.10 mg/L (SE 0, exact fit');

@@ -326,7 +326,7 @@ export const EvaluationResultOut = z.object({
     degreesOfFreedom: z.number().int(),
     demandLine: z.object({ slope: z.number(), intercept: z.number(), r2: NullableNumber }),
     what: z.string(),
-  }),
+  }).nullable().describe('The residual line; null when too few jars kept a measurable residual to fit one (problem RESIDUAL_LINE_NOT_FITTED; the recommendation then rests on the jars that met the iron and manganese targets)'),
   detectionLimit: QuantityOut,
   contactTimesMin: z.array(z.number()),
   targets: z.array(

@@ -577,6 +577,35 @@ export function evaluationInput(services: Services, body: JarEvaluationBodyT, es
   };
 }
 
+/**
+ * The daily dose route's checks at the recommended dose: the residual against the MRDL and guideline
+ * values, chlorite, bromate, disinfection by-products, chlorate, alkalinity and pH. The dose is
+ * recomputed for the same oxidant and sample with the expected residual as its target and the rest
+ * of the recommendation above the stoichiometric estimate as background demand, so that it adds up
+ * to the recommended dose; the flags come back as the evaluation's problems (danger as error).
+ */
+const CHECKS_AT_RECOMMENDATION = new Set([
+  'RESIDUAL_ABOVE_MRDL', 'RESIDUAL_ABOVE_GUIDELINE', 'CHLORITE_ABOVE_MCL', 'CHLORITE_ABOVE_WHO', 'BROMATE_RISK', 'BROMIDE_NOT_GIVEN',
+  'DBP_CAUTION', 'CHLORATE_CHECK', 'ALKALINITY_EXHAUSTED', 'PH_DROP_LARGE', 'BREAKPOINT_CHLORAMINES',
+]);
+export function checksAtRecommendation(services: Services, body: JarEvaluationBodyT, evaluation: JarTestEvaluation, estimateMgPerL: number): JarTestEvaluation['problems'] {
+  const rec = evaluation.recommendedDose;
+  if (rec === null) return [];
+  const residual = rec.expectedResidualMgPerL ?? 0;
+  const background = Math.max(0, rec.doseMgPerL - estimateMgPerL - residual);
+  let result;
+  try {
+    result = computeDose({ oxidant: body.oxidant, sample: body.sample, backgroundDemand: { value: background, unit: 'mg/L' }, targetResidual: { value: residual, unit: 'mg/L' } }, services.dosing);
+  } catch (e) {
+    const why = e instanceof DomainError ? e.detail : String(e);
+    return [{ code: 'DOSE_CHECKS_NOT_RUN', severity: 'warning', message: `The daily dose checks (residual limits, by-products, alkalinity) could not be run at the recommended ${roundSig(rec.doseMgPerL, 3)} mg/L: ${why} Check the recommendation with POST /api/v1/doses.` }];
+  }
+  const at = `At the recommended ${roundSig(rec.doseMgPerL, 3)} mg/L${rec.expectedResidualMgPerL !== null ? ` (expected residual ${roundSig(residual, 3)} mg/L)` : ''}, as POST /api/v1/doses judges it: `;
+  return result.flags
+    .filter((f) => CHECKS_AT_RECOMMENDATION.has(f.code))
+    .map((f) => ({ code: f.code, severity: f.severity === 'danger' ? ('error' as const) : f.severity, message: `${at}${f.message}` }));
+}
+
 const urls = (id: string) => ({
   plotUrl: `${BASE}/evaluations/${id}/plot.svg`,
   pdfUrl: `${BASE}/evaluations/${id}/pdf`,
@@ -624,23 +653,23 @@ export function evaluationView(id: string, stored: StoredEvaluation) {
           reason: rec.reason,
         }
       : null,
-    fit: {
-      slope: ev.fit.slope,
-      intercept: ev.fit.intercept,
-      r2: num(ev.fit.r2),
+    fit: ((fit) => fit === null ? null : {
+      slope: fit.slope,
+      intercept: fit.intercept,
+      r2: num(fit.r2),
       interceptUnit: MG_PER_L,
-      n: ev.fit.n,
-      contactTimeMin: ev.fit.contactTimeMin,
-      contactTimeChoice: ev.fit.contactTimeChoice,
-      jarsUsed: [...ev.fit.jarsUsed],
-      jarsExcluded: ev.fit.jarsExcluded.map((x) => ({ ...x })),
-      slopeStdError: num(ev.fit.slopeStdError),
-      interceptStdError: num(ev.fit.interceptStdError),
-      residualStdError: num(ev.fit.residualStdError),
-      degreesOfFreedom: ev.fit.degreesOfFreedom,
-      demandLine: { slope: ev.fit.demandLine.slope, intercept: ev.fit.demandLine.intercept, r2: num(ev.fit.demandLine.r2) },
-      what: `least-squares line of residual oxidant (mg/L ${basis}) against applied dose over the jars that kept a residual above the detection limit at ${ev.fit.contactTimeMin} min; the apparent demand is where it crosses zero residual (−intercept/slope)`,
-    },
+      n: fit.n,
+      contactTimeMin: fit.contactTimeMin,
+      contactTimeChoice: fit.contactTimeChoice,
+      jarsUsed: [...fit.jarsUsed],
+      jarsExcluded: fit.jarsExcluded.map((x) => ({ ...x })),
+      slopeStdError: num(fit.slopeStdError),
+      interceptStdError: num(fit.interceptStdError),
+      residualStdError: num(fit.residualStdError),
+      degreesOfFreedom: fit.degreesOfFreedom,
+      demandLine: { slope: fit.demandLine.slope, intercept: fit.demandLine.intercept, r2: num(fit.demandLine.r2) },
+      what: `least-squares line of residual oxidant (mg/L ${basis}) against applied dose over the jars that kept a residual above the detection limit at ${fit.contactTimeMin} min; the apparent demand is where it crosses zero residual (−intercept/slope)`,
+    })(ev.fit),
     detectionLimit: { value: ev.detectionLimitMgPerL, unit: MG_PER_L },
     contactTimesMin: [...ev.contactTimesMin],
     targets: ev.targets.map((t) => ({
@@ -707,7 +736,8 @@ export async function issueJarTestEvaluation(services: Services, user: User, bod
   }
   const { estimate, oxidant: ox } = jarEstimate(services, body.oxidant, body.sample);
   const input = evaluationInput(services, body, estimate.value, ox.doseBasis);
-  const evaluation = mapped(() => evaluateJarTest(input), evaluationPointer);
+  const evaluated = mapped(() => evaluateJarTest(input), evaluationPointer);
+  const evaluation: JarTestEvaluation = { ...evaluated, problems: [...evaluated.problems, ...checksAtRecommendation(services, body, evaluated, estimate.value)] };
   const plot = residualPlotData(evaluation);
   const now = new Date();
   const id = newSheetId('jar-test-evaluation', now);
