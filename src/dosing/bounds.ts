@@ -252,7 +252,7 @@ export function quantityBoundProblems(q: BoundedQuantities, at: Partial<Record<k
     if (flow.lessThan(FLOW_MIN_M3_PER_D) || flow.greaterThan(FLOW_MAX_M3_PER_D)) {
       out.push({
         pointer: `${p('flow')}/value`,
-        message: `flow ${q.flow.value} ${q.flow.unit} is ${fmtDec(flow)} m3/d, outside ${n(FLOW_MIN_M3_PER_D)} to ${n(FLOW_MAX_M3_PER_D)} m3/d (1 L/d to about 2 600 MGD: from below any treatment flow to twice the largest plants; common practice): check the value and its unit`,
+        message: `flow ${q.flow.value} ${q.flow.unit}${q.flow.unit === 'm3/d' ? '' : ` is ${fmtDec(flow)} m3/d,`} outside ${n(FLOW_MIN_M3_PER_D)} to ${n(FLOW_MAX_M3_PER_D)} m3/d (1 L/d to about 2 600 MGD: from below any treatment flow to twice the largest plants; common practice): check the value and its unit`,
       });
       flow = null;
     }

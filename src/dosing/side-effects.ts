@@ -90,12 +90,19 @@ export function sideEffects(input: SideEffectInput): SideEffects {
     const h = d.ratio.hPlusPerMolElement.toNumber();
     terms.push({ what: d.entry.contaminant, meqPerL: molPerL * h * 1000, how: `${d.ratio.hPlusPerMolElement.toString()} H+ per ${el} in ${d.ratio.equation}` });
   }
-  // residual and background: hydrolysis of the product and the HOCl/OCl- split
-  const unconsumed = input.residualMgPerL.toNumber() + input.backgroundMgPerL.toNumber();
+  // residual and background: hydrolysis of the product and the HOCl/OCl- split; and the chlorine a
+  // practical breakpoint ratio adds beyond the balanced reaction's (its own reactions, to nitrate
+  // and trichloramine, are not known), counted the same way
+  const practicalExcess = input.demands.reduce(
+    (a, d) => (d.entry.ratioKind === 'practical' ? a + (d.entry.ratio - d.entry.stoichiometricRatio) * d.concentrationMgPerL.toNumber() : a),
+    0,
+  );
+  const unconsumed = input.residualMgPerL.toNumber() + input.backgroundMgPerL.toNumber() + Math.max(0, practicalExcess);
   if (unconsumed !== 0) {
     const molActive = (unconsumed / deps.basisMolarMass(ox).toNumber() / 1000) * deps.activePerBasis(ox);
     const hyd = deps.hydrolysisHPerMol(ox);
-    if (hyd !== 0) terms.push({ what: 'hydrolysis', meqPerL: molActive * hyd * 1000, how: `${ox.hydrolysis?.equation ?? ''}: ${hyd} H+ per ${ox.activeSpecies} for the residual and background demand` });
+    const forWhat = practicalExcess > 0 ? 'the residual, the background demand and the practical breakpoint excess' : 'the residual and background demand';
+    if (hyd !== 0) terms.push({ what: 'hydrolysis', meqPerL: molActive * hyd * 1000, how: `${ox.hydrolysis?.equation ?? ''}: ${hyd} H+ per ${ox.activeSpecies} for ${forWhat}` });
     const f = deps.hoclFraction(ox, input.pH, input.temperatureC);
     if (f !== null) {
       // Cl2 gives HOCl, which dissociates by (1 − f); OCl- fed takes up H+ for the fraction f that is HOCl
@@ -177,6 +184,8 @@ export function sideEffects(input: SideEffectInput): SideEffects {
     // plus the usual share of what the background demand (organic matter) consumes
     const byReactions = (reacting.reduce((a, d) => a + d.demandMgPerL.toNumber(), 0) + fraction * input.backgroundMgPerL.toNumber()) * perClO2;
     const chlorite = Math.max(byFraction, byReactions);
+    const pct = (fraction * 100).toFixed(0);
+    const fractionWhat = input.chloriteFraction !== null ? `the ${pct} % of the dose given in options.chloriteFraction` : `the usual ${pct} % of the dose (${ox.chloriteFraction.text})`;
     const us = limitOf(input.limits, 'us-mcl-chlorite');
     const who = limitOf(input.limits, 'who-chlorite');
     byproducts.push({
@@ -185,8 +194,8 @@ export function sideEffects(input: SideEffectInput): SideEffects {
       limit: us ? { id: us.id, value: us.valueText, citation: us.citation } : null,
       text:
         byReactions > byFraction
-          ? `The balanced reactions with ${reacting.map((d) => d.entry.name.charAt(0).toLowerCase() + d.entry.name.slice(1)).join(' and ')} reduce all the chlorine dioxide they consume to chlorite (ClO2 + e- → ClO2-)${input.backgroundMgPerL.isZero() ? '' : `, and ${(fraction * 100).toFixed(0)} % of the background demand's share is added`}: ${roundSigNumber(byReactions)} mg/L, more than the usual ${(fraction * 100).toFixed(0)} % of the dose (${ox.chloriteFraction.text}); the larger is reported`
-          : `About ${(fraction * 100).toFixed(0)} % of the chlorine dioxide dose ends as chlorite (${ox.chloriteFraction.text})${byReactions > 0 ? `; the balanced reactions alone form ${roundSigNumber(byReactions)} mg/L` : ''}`,
+          ? `The balanced reactions with ${reacting.map((d) => d.entry.name.charAt(0).toLowerCase() + d.entry.name.slice(1)).join(' and ')} reduce all the chlorine dioxide they consume to chlorite (ClO2 + e- → ClO2-)${input.backgroundMgPerL.isZero() ? '' : `, and ${pct} % of the background demand's share is added`}: ${roundSigNumber(byReactions)} mg/L, more than ${fractionWhat}; the larger is reported`
+          : `${input.chloriteFraction !== null ? `${pct} % of the chlorine dioxide dose (options.chloriteFraction) is taken to end as chlorite` : `About ${pct} % of the chlorine dioxide dose ends as chlorite (${ox.chloriteFraction.text})`}${byReactions > 0 ? `; the balanced reactions alone form ${roundSigNumber(byReactions)} mg/L` : ''}`,
       source: ox.chloriteFraction.source,
     });
     if (us && chlorite > Number(us.valueText)) {

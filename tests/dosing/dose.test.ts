@@ -217,6 +217,17 @@ describe('flags', () => {
     expect(practical.flags.find((x) => x.code === 'BREAKPOINT_CHLORAMINES')!.message).toContain('the practical 10 mg Cl2 per mg N counted here is common practice');
     expect(practical.flags.find((x) => x.code === 'BREAKPOINT_CHLORAMINES')!.message).not.toContain('manganese)');
   });
+  it('chlorine gas at the practical breakpoint ratio: the chlorine beyond the stoichiometric 7.59 hydrolyses too, and its acid is counted', () => {
+    // extra Cl2 = (10 − 7.59) × 0.5 mg N/L = 1.205 mg/L → 1.205 / 70.906 = 0.0170 mmol/L → ≥ 0.0170 meq/L H+ from
+    // Cl2 + H2O = HOCl + H+ + Cl- → ≥ 0.0170 × 50.04 = 0.85 mg/L as CaCO3 more than with the stoichiometric ratio
+    const body = { flow: { value: 1000, unit: 'm3/d' }, oxidant: 'chlorine-gas', targetResidual: { value: 1, unit: 'mg/L' }, sample: { pH: 7.2, temperatureC: 12, ammoniaN: { value: 0.5, unit: 'mg/L' }, alkalinity: { value: 100, unit: 'mg/L' } } };
+    const st = dose({ ...body, options: { ammoniaRatio: 'theoretical' } });
+    const pr = dose({ ...body, options: { ammoniaRatio: 'practical' } });
+    const extraCl2 = pr.dose.value - st.dose.value;
+    const hydrolysisOnly = (extraCl2 / 70.906) * 50.04;
+    expect(pr.sideEffects.alkalinityConsumed.value - st.sideEffects.alkalinityConsumed.value).toBeGreaterThanOrEqual(hydrolysisOnly - 1e-9);
+    expect(pr.sideEffects.alkalinityTerms.find((t) => t.what === 'hydrolysis')!.how).toMatch(/practical breakpoint excess/);
+  });
   it('sulfide with oxygen: a warning that oxidation is slow and aeration strips only H2S, with its share at the pH (pKa from the tables)', () => {
     // un-ionised share 1/(1 + 10^(pH − pKa)); the tables' H2S pKa is 7.05 (CRC), so 53 % at pH 7.0 and 3.4 % at pH 8.5
     const at = (pH: number) => dose({ ...base, oxidant: 'oxygen', sample: { pH, temperatureC: 15, sulfide: { value: 2, unit: 'mg/L' } } }).flags.find((x) => x.code === 'AERATION_SULFIDE_SLOW')!;
