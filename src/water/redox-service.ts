@@ -281,6 +281,29 @@ function noteGiven(seen: Map<string, GivenAt>, key: string, at: GivenAt): void {
  * Values by species key; `seen` collects key → the text the caller wrote and its pointer, shared
  * between the maps of one request so that a species given twice is refused (sameSpecies).
  */
+/**
+ * What a water can hold (common practice): activities and concentrations from 1e-40 to 10 mol/L
+ * (pure water is 55 mol/L, the strongest brines about 6; below 1e-40 no species is present in any
+ * sample volume), partial pressures from 1e-40 to 100 atm (beyond any contactor or pressure vessel
+ * of water treatment). Outside these a value is a unit slip and is refused, never computed on.
+ */
+export const AMOUNT_BOUNDS = { molPerL: { min: 1e-40, max: 10 }, atm: { min: 1e-40, max: 100 } } as const;
+
+function checkAmount(value: number, kind: 'molPerL' | 'atm', text: string, pointer: string, given?: string): void {
+  if (!(value > 0) || !Number.isFinite(value)) return; // zero, negative and non-finite values are refused where they are read, with their own message
+  const b = AMOUNT_BOUNDS[kind];
+  if (value >= b.min && value <= b.max) return;
+  const unit = kind === 'atm' ? 'atm' : 'mol/L';
+  const why =
+    kind === 'atm'
+      ? `a partial pressure from ${b.min} to ${b.max} atm (100 atm is beyond any contactor or pressure vessel of water treatment; air holds O2(g) at about 0.21 atm)`
+      : `an activity or concentration from ${b.min} to ${b.max} mol/L (pure water is 55 mol/L and the strongest brines about 6)`;
+  throw new DomainError('QUANTITY_OUT_OF_RANGE', {
+    detail: `${text}: ${given ?? `${value} ${unit}`} is outside what a water can hold; give ${why} (common practice). Check the value and its unit.`,
+    fields: [{ pointer, message: `${given ?? `${value} ${unit}`} is outside ${b.min} to ${b.max} ${unit}` }],
+  });
+}
+
 function keyedActivities(
   map: Readonly<Record<string, number>> | undefined,
   pointer: string,
@@ -293,6 +316,7 @@ function keyedActivities(
     const at = { text, pointer: `${pointer}/${pointerToken(text)}` };
     const s = parseAt(text, at.pointer, deps);
     check?.(s, at);
+    checkAmount(a, pointer === '/partialPressuresAtm' ? 'atm' : 'molPerL', text, at.pointer);
     const key = speciesKey(s);
     noteGiven(seen, key, at);
     out.set(key, a);
@@ -748,6 +772,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
       });
     }
     if (q.unit === 'atm') {
+      checkAmount(q.value, 'atm', text, `${pointer}/value`);
       pressures.set(key, q.value);
       if (q.value > 0) givenSpecies.push({ key, text, species: s, log10Activity: Math.log10(q.value) });
       continue;
@@ -767,6 +792,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
       const mg = Number(UNIT_FACTORS.concentration[q.unit]) * q.value;
       molPerL = mg / 1000 / withPointer(pointer, () => deps.molarMassOf(text)).toNumber();
     }
+    checkAmount(molPerL, 'molPerL', text, `${pointer}/value`, q.unit === 'mol/L' ? undefined : `${q.value} ${q.unit} (${molPerL.toPrecision(3)} mol/L)`);
     const gamma = s.charge === 0 ? 1 : daviesGamma(s.charge, I, A);
     activities.set(key, molPerL * gamma);
     givenSpecies.push({ key, text, species: s, log10Activity: Math.log10(molPerL * gamma) });

@@ -209,3 +209,29 @@ describe('a bare O2, O3 or Cl2 in a couple is the gas, as the handbook tables wr
     expect(r.halfReactions.oxidant.equation).toMatch(/O2\(g\)/);
   });
 });
+
+describe('amounts no water can hold are refused (common practice bounds: 1e-40 to 10 mol/L, up to 100 atm)', () => {
+  const refusal = (f: () => unknown) => {
+    try {
+      f();
+    } catch (e) {
+      return e as { code: string; fields: { pointer: string }[] };
+    }
+    throw new Error('expected a refusal');
+  };
+  it('a cell concentration of 1e9 mg/L HOCl (about 19 000 mol/L) or 5000 atm of O2(g)', () => {
+    const base = { oxidant: { from: 'HOCl', to: 'Cl-' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH: 7, temperatureC: 15 } as const;
+    const e = refusal(() => cell({ ...base, concentrations: { HOCl: { value: 1e9, unit: 'mg/L' } } }));
+    expect(e.code).toBe('QUANTITY_OUT_OF_RANGE');
+    expect(e.fields[0]!.pointer).toBe('/concentrations/HOCl/value');
+    const g = refusal(() => cell({ ...base, oxidant: { from: 'O2(g)', to: 'H2O' }, concentrations: { 'O2(g)': { value: 5000, unit: 'atm' } } }));
+    expect(g.fields[0]!.pointer).toBe('/concentrations/O2(g)/value');
+    // a real water is accepted: 2 mg/L HOCl, 0.21 atm O2(g)
+    expect(() => cell({ ...base, concentrations: { HOCl: { value: 2, unit: 'mg/L' } } })).not.toThrow();
+  });
+  it('a couple activity of 1e308 (E would be 37 V)', () => {
+    const e = refusal(() => couplePotential({ from: 'Fe3+', to: 'Fe2+', activities: { 'Fe3+': 1e308, 'Fe2+': 1e-3 } }, deps));
+    expect(e.code).toBe('QUANTITY_OUT_OF_RANGE');
+    expect(e.fields[0]!.pointer).toBe('/activities/Fe3+');
+  });
+});
