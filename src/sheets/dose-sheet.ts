@@ -276,7 +276,7 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
       ]),
       notes: [
         autoRich(
-          `Nernst at pH ${r.conditions.pH} and ${temperatureText(r)}; ${r.conditions.mediumReason}. Ionic strength ${r.conditions.ionicStrengthMolPerL.toPrecision(2)} mol/L: ${r.conditions.ionicStrengthFrom}. Potentials to 1 mV. ` +
+          `Nernst at pH ${r.conditions.pH} and ${temperatureText(r)}; ${r.conditions.mediumReason}. ${r.conditions.ionicStrengthMolPerL > 0 ? `Ionic strength ${r.conditions.ionicStrengthMolPerL.toPrecision(2)} mol/L: ${r.conditions.ionicStrengthFrom}` : 'Ionic strength not known (no TDS given): activity coefficients taken as 1'}. Potentials to 1 mV. ` +
             `E° cell is for the reactions as written (with ${r.conditions.medium === 'base' ? 'OH-' : 'H+'} in this medium), so it changes where the medium changes at pH 7; compare E, not E°, between samples.`,
         ),
       ],
