@@ -8,6 +8,7 @@
  *   invalid       - the input is malformed or out of range (HTTP 400)
  *   unprocessable - well-formed input whose chemistry cannot be done (HTTP 422)
  *   not-found     - a referenced thing does not exist (HTTP 404)
+ *   method-not-allowed - the path exists but not with this method (HTTP 405, with an Allow header)
  *   conflict      - the request clashes with stored state (HTTP 409)
  *   unauthenticated / forbidden - access (HTTP 401 / 403)
  *   too-large / unsupported-media / rate-limited - HTTP 413 / 415 / 429
@@ -18,6 +19,7 @@ export type ErrorKind =
   | 'invalid'
   | 'unprocessable'
   | 'not-found'
+  | 'method-not-allowed'
   | 'conflict'
   | 'unauthenticated'
   | 'forbidden'
@@ -39,6 +41,7 @@ export const ERROR_CATALOGUE = {
   BODY_TOO_LARGE: { kind: 'too-large', title: 'The request body is too large' },
   MEDIA_TYPE_UNSUPPORTED: { kind: 'unsupported-media', title: 'The request body is not JSON' },
   ROUTE_NOT_FOUND: { kind: 'not-found', title: 'No such route' },
+  METHOD_NOT_ALLOWED: { kind: 'method-not-allowed', title: 'The path does not take this method' },
   RATE_LIMITED: { kind: 'rate-limited', title: 'Too many requests' },
   NOT_ACCEPTABLE: { kind: 'invalid', title: 'The requested representation is not available' },
 

@@ -233,18 +233,20 @@ export function parseDoseRequest(input: unknown, strengthLimits?: readonly Stren
 }
 
 /**
- * Checks that depend on more than one field. Throws QUANTITY_OUT_OF_RANGE / DOSE_INPUT_MISSING
- * with pointers relative to the request. Called by computeDose too, so a caller that validated
- * with JSON Schema only still gets them.
+ * Checks that depend on more than one field. Pointers are relative to the request. The checks are
+ * independent of each other, so every problem is reported at once: a missing temperature does not
+ * hide an out-of-range strength or an implausible iron reading. The code is that of the gravest
+ * kind found, in this order: DOSE_INPUT_MISSING (a required input is absent), QUANTITY_OUT_OF_RANGE
+ * (a quantity beyond what the service takes), READING_IMPLAUSIBLE (a reading no raw water holds);
+ * the fields of the others ride along in the same problem. Called by computeDose too, so a caller
+ * that validated with JSON Schema only still gets them.
  */
 export function checkDoseRequest(req: DoseRequest, strengthLimits?: readonly StrengthLimit[]): void {
+  const missing: FieldProblem[] = [];
   const fields: FieldProblem[] = [];
   const s = req.sample;
   if (s.temperatureC === undefined && s.temperature === undefined) {
-    throw new DomainError('DOSE_INPUT_MISSING', {
-      detail: 'The sample temperature is needed: give sample.temperatureC (0 to 100 °C) or sample.temperature {value, unit: °C | °F | K}.',
-      fields: [{ pointer: '/sample/temperatureC', message: 'temperature is required (0 to 100 °C, or sample.temperature in °F or K)' }],
-    });
+    missing.push({ pointer: '/sample/temperatureC', message: 'temperature is required (0 to 100 °C, or sample.temperature in °F or K)' });
   }
   if (s.temperatureC !== undefined && s.temperature !== undefined) {
     fields.push({ pointer: '/sample/temperature', message: 'give either temperatureC or temperature, not both' });
@@ -267,16 +269,30 @@ export function checkDoseRequest(req: DoseRequest, strengthLimits?: readonly Str
     strengthLimit = strengthLimitProblem(req.oxidant, req.product, '/product', strengthLimits);
     if (strengthLimit) fields.push({ pointer: strengthLimit.pointer, message: strengthLimit.message });
   }
-  if (fields.length > 0) {
-    throw new DomainError('QUANTITY_OUT_OF_RANGE', { detail: fields.map((f) => `${f.pointer}: ${f.message}`).join('; ') + '.', fields, ...(strengthLimit ? { params: { strengthLimit: strengthLimit.params } } : {}) });
-  }
   // readings a raw water cannot hold (a unit slip or a miscopied reading): refused, naming the field, the value, the bound and why
   const implausible = readingBoundProblems(s);
+  const implausibleFields = implausible.map((f) => ({ pointer: f.pointer, message: f.message }));
+  const params: Record<string, unknown> = {
+    ...(strengthLimit ? { strengthLimit: strengthLimit.params } : {}),
+    ...(implausible.length > 0 ? { readings: implausible.map((f) => ({ field: f.field, mgPerL: f.mgPerL, refusedAboveMgPerL: f.boundMgPerL })) } : {}),
+  };
+  const list = (fs: readonly FieldProblem[]) => fs.map((f) => `${f.pointer}: ${f.message}`).join('; ');
+  const alsoOf = (fs: readonly FieldProblem[]) => (fs.length > 0 ? ` Also: ${list(fs)}.` : '');
+  if (missing.length > 0) {
+    throw new DomainError('DOSE_INPUT_MISSING', {
+      detail: 'The sample temperature is needed: give sample.temperatureC (0 to 100 °C) or sample.temperature {value, unit: °C | °F | K}.' + alsoOf([...fields, ...implausibleFields]),
+      fields: [...missing, ...fields, ...implausibleFields],
+      params,
+    });
+  }
+  if (fields.length > 0) {
+    throw new DomainError('QUANTITY_OUT_OF_RANGE', { detail: list(fields) + '.' + alsoOf(implausibleFields), fields: [...fields, ...implausibleFields], params });
+  }
   if (implausible.length > 0) {
     throw new DomainError('READING_IMPLAUSIBLE', {
-      detail: `${implausible.length === 1 ? 'A reading is' : `${implausible.length} readings are`} beyond what a raw drinking-water source holds: ${implausible.map((f) => `${f.pointer}: ${f.message}`).join('; ')}.`,
-      fields: implausible.map((f) => ({ pointer: f.pointer, message: f.message })),
-      params: { readings: implausible.map((f) => ({ field: f.field, mgPerL: f.mgPerL, refusedAboveMgPerL: f.boundMgPerL })) },
+      detail: `${implausible.length === 1 ? 'A reading is' : `${implausible.length} readings are`} beyond what a raw drinking-water source holds: ${list(implausibleFields)}.`,
+      fields: implausibleFields,
+      params,
     });
   }
 }

@@ -9,6 +9,8 @@ import swaggerUi from '@fastify/swagger-ui';
 import rateLimit from '@fastify/rate-limit';
 import { isDomainError } from '../core/errors.js';
 import {
+  bodyNotObjectMessage,
+  explainFieldValues,
   fieldProblemsFromAjv,
   fieldProblemsFromZod,
   problem,
@@ -65,6 +67,11 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   // fails validation as "expected object" (Fastify parses text/plain by default).
   app.removeContentTypeParser('text/plain');
 
+  // Every route's method and URL pattern, so that a path that exists answers 405 with an Allow
+  // header for a method it does not take (RFC 9110 §15.5.6), and only a path no route has is a 404.
+  const routeTable = new RouteTable();
+  app.addHook('onRoute', (route) => routeTable.add(route.method, route.url));
+
   const services = options.services ?? (await createServices(options));
   app.decorate('services', services);
   app.addHook('onClose', async () => {
@@ -73,11 +80,29 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
 
   app.setErrorHandler((err: FastifyError, req, reply) => {
     if (isDomainError(err)) {
-      return sendProblem(reply, problemFromDomainError(err, req.url));
+      const p = problemFromDomainError(err, req.url);
+      // a field the domain refused, restated from the value sent (no such date, a number too large)
+      if (p.errors) {
+        const explained = explainFieldValues(p.errors, req.body, req.query);
+        if (explained.changed) {
+          p.errors = explained.fields;
+          p.detail = explained.fields.map((f) => `${f.pointer || '(root)'}: ${f.message}`).join('; ') + '.';
+        }
+      }
+      return sendProblem(reply, p);
     }
     if (err.validation) {
       const where = err.validationContext ?? 'body';
       const data = where === 'body' ? req.body : where === 'querystring' ? req.query : where === 'params' ? req.params : undefined;
+      const bodySchema = (req.routeOptions.schema as { body?: { type?: unknown } } | undefined)?.body;
+      if (where === 'body' && bodySchema?.type === 'object' && (data === undefined || data === null || typeof data !== 'object' || Array.isArray(data))) {
+        // no body at all, or JSON that is no object: say so, not '"" is required' at the root
+        const message = bodyNotObjectMessage(data);
+        const detail = data === undefined
+          ? 'The request has no body: this route takes a JSON object (content-type application/json); see /docs for its fields.'
+          : `The request body must be a JSON object with the fields of this route; ${message.replace(/^the request body must be a JSON object \{…\}; /, '')} (see /docs).`;
+        return sendProblem(reply, { ...problem('VALIDATION_FAILED', detail, { errors: [{ pointer: '', message }] }), instance: req.url });
+      }
       let fields = fieldProblemsFromAjv(err.validation as AjvLikeError[], data);
       const zodSchemas = (req.routeOptions.config as { zod?: Record<string, { safeParse: (x: unknown) => { success: boolean; error?: { issues: unknown[] } } } | undefined> } | undefined)?.zod;
       const zs = zodSchemas?.[where];
@@ -88,6 +113,7 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
           if (zf.length) fields = zf;
         }
       }
+      fields = explainFieldValues(fields, data).fields;
       const label = where === 'querystring' ? 'query' : where === 'params' ? 'path' : 'request';
       const p = validationProblem(fields, label);
       p.instance = req.url;
@@ -99,7 +125,15 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
     if (err.code === 'FST_ERR_CTP_INVALID_MEDIA_TYPE') {
       return sendProblem(reply, { ...problem('MEDIA_TYPE_UNSUPPORTED', `The body was sent as ${String(req.headers['content-type'] ?? 'no content type')}; send it as application/json.`), instance: req.url });
     }
-    if (err.code === 'FST_ERR_CTP_EMPTY_JSON_BODY' || err.code === 'FST_ERR_CTP_INVALID_JSON_BODY' || err instanceof SyntaxError || err.statusCode === 400) {
+    if (err.code === 'FST_ERR_CTP_EMPTY_JSON_BODY') {
+      return sendProblem(reply, {
+        ...problem('BODY_NOT_JSON', 'The request body is empty although its content-type is application/json: send the JSON object this route takes (see /docs).', {
+          errors: [{ pointer: '', message: bodyNotObjectMessage(undefined) }],
+        }),
+        instance: req.url,
+      });
+    }
+    if (err.code === 'FST_ERR_CTP_INVALID_JSON_BODY' || err instanceof SyntaxError || err.statusCode === 400) {
       return sendProblem(reply, problem('BODY_NOT_JSON', `The request body could not be read as JSON: ${err.message}`));
     }
     if (err.statusCode === 429) {
@@ -113,7 +147,17 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   });
 
   app.setNotFoundHandler((req, reply) => {
-    sendProblem(reply, { ...problem('ROUTE_NOT_FOUND', `No route ${req.method} ${req.url.split('?')[0]}; see /docs for the routes.`), instance: req.url });
+    const path = req.url.split('?')[0] ?? '/';
+    const allowed = routeTable.methodsOf(path);
+    if (allowed.length > 0 && !allowed.includes(req.method.toUpperCase())) {
+      const list = allowed.join(', ');
+      reply.header('allow', list);
+      return sendProblem(reply, {
+        ...problem('METHOD_NOT_ALLOWED', `${path} does not take ${req.method}; it takes ${list} (see the Allow header and /docs).`, { params: { method: req.method, allow: allowed } }),
+        instance: req.url,
+      });
+    }
+    return sendProblem(reply, { ...problem('ROUTE_NOT_FOUND', `No route ${req.method} ${path}; see /docs for the routes.`), instance: req.url });
   });
 
   await app.register(rateLimit, {
@@ -155,4 +199,68 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
   await app.register(v1Routes, { prefix: '/api/v1' });
   if (options.configure) await options.configure(app);
   return app;
+}
+
+/** Methods in the order an Allow header lists them (then any other, alphabetically). */
+const METHOD_ORDER = ['GET', 'HEAD', 'POST', 'PUT', 'PATCH', 'DELETE', 'OPTIONS'];
+
+function escapeRegExp(text: string): string {
+  return text.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
+}
+
+/**
+ * A route's URL pattern as a regular expression over the request path, as the router reads it:
+ * ":name" (with an optional "(regex)") is one segment or part of one, "*" is the rest of the path,
+ * "::" a literal colon; a trailing slash is ignored (ignoreTrailingSlash).
+ */
+export function urlPatternRegExp(url: string): RegExp {
+  let re = '';
+  for (let i = 0; i < url.length; ) {
+    const c = url[i]!;
+    if (c === ':' && url[i + 1] === ':') {
+      re += ':';
+      i += 2;
+    } else if (c === ':') {
+      const m = /^:[A-Za-z0-9_$]+(\((?:\\.|[^)])*\))?/.exec(url.slice(i));
+      re += '[^/]+?';
+      i += m ? m[0].length : 1;
+    } else if (c === '*') {
+      re += '.*';
+      i += 1;
+    } else {
+      re += escapeRegExp(c);
+      i += 1;
+    }
+  }
+  return new RegExp(`^${re.replace(/\/+$/, '')}/?$`);
+}
+
+/** The routes an app has, by URL pattern, with their methods (filled by an onRoute hook). */
+export class RouteTable {
+  private readonly routes = new Map<string, { pattern: RegExp; methods: Set<string> }>();
+
+  add(method: string | readonly string[], url: string): void {
+    let entry = this.routes.get(url);
+    if (!entry) {
+      entry = { pattern: urlPatternRegExp(url), methods: new Set() };
+      this.routes.set(url, entry);
+    }
+    for (const m of typeof method === 'string' ? [method] : method) entry.methods.add(m.toUpperCase());
+  }
+
+  /** Every method some route takes on this path, in Allow-header order; empty when no route matches the path. */
+  methodsOf(path: string): string[] {
+    let decoded = path;
+    try {
+      decoded = decodeURI(path);
+    } catch {
+      // a malformed escape: match the path as sent
+    }
+    const found = new Set<string>();
+    for (const { pattern, methods } of this.routes.values()) {
+      if (pattern.test(path) || pattern.test(decoded)) for (const m of methods) found.add(m);
+    }
+    const rank = (m: string) => (METHOD_ORDER.includes(m) ? METHOD_ORDER.indexOf(m) : METHOD_ORDER.length);
+    return [...found].sort((a, b) => rank(a) - rank(b) || a.localeCompare(b));
+  }
 }

@@ -3,6 +3,7 @@
  */
 import type { FastifyReply } from 'fastify';
 import { DomainError, ERROR_CATALOGUE, type ErrorCode, type ErrorKind, type FieldProblem } from '../core/errors.js';
+import { calendarProblem } from './schemas/common.js';
 
 export const PROBLEM_CONTENT_TYPE = 'application/problem+json';
 
@@ -11,6 +12,7 @@ const STATUS_OF_KIND: Record<ErrorKind, number> = {
   unauthenticated: 401,
   forbidden: 403,
   'not-found': 404,
+  'method-not-allowed': 405,
   conflict: 409,
   'too-large': 413,
   'unsupported-media': 415,
@@ -91,11 +93,12 @@ export interface AjvLikeError {
 
 function describeValue(v: unknown): string {
   if (v === undefined) return 'nothing';
+  if (typeof v === 'number' && !Number.isFinite(v)) return Number.isNaN(v) ? 'not a number' : `a number beyond ${v > 0 ? '+' : '−'}1.8e308`;
   const s = JSON.stringify(v);
   return s.length > 40 ? s.slice(0, 37) + '...' : s;
 }
 
-function valueAt(root: unknown, pointer: string): unknown {
+export function valueAt(root: unknown, pointer: string): unknown {
   if (pointer === '') return root;
   let cur: unknown = root;
   for (const raw of pointer.split('/').slice(1)) {
@@ -233,4 +236,47 @@ export function fieldProblemsFromZod(issues: readonly ZodLikeIssue[], data: unkn
     push(iss.path, iss.message);
   }
   return out;
+}
+
+/**
+ * What a JSON number beyond the double range (1e400, which JSON.parse reads as Infinity) means to
+ * the caller: the figure is too large, not a missing number.
+ */
+export const NON_FINITE_MESSAGE = 'the number is too large: it is beyond ±1.8e308, the largest a JSON number can hold here (not a finite number); check the reading and its unit';
+
+/** The message for a request (or body) that is missing or is not the JSON object the route takes. */
+export function bodyNotObjectMessage(body: unknown): string {
+  if (body === undefined) return 'the request body is missing: this route takes a JSON object, sent with content-type application/json';
+  const what = body === null ? 'null' : Array.isArray(body) ? 'an array' : typeof body === 'string' ? 'a string' : typeof body;
+  return `the request body must be a JSON object {…}; got ${what}`;
+}
+
+/**
+ * Field problems restated from the value the caller sent, whichever check found them (ajv, zod or
+ * the domain): a number beyond the double range is "too large", and a date or date-time written in
+ * the right form but naming no real day ("2026-02-30T07:30:00Z") says there is no such date instead
+ * of "not ISO 8601". `data` are the inputs to look the pointer up in (body, then query).
+ */
+export function explainFieldValues(fields: readonly FieldProblem[], ...data: unknown[]): { fields: FieldProblem[]; changed: boolean } {
+  let changed = false;
+  const out = fields.map((f) => {
+    for (const root of data) {
+      const v = valueAt(root, f.pointer);
+      if (typeof v === 'number' && !Number.isFinite(v)) {
+        changed = true;
+        return { pointer: f.pointer, message: NON_FINITE_MESSAGE };
+      }
+      if (typeof v === 'string') {
+        const why = calendarProblem(v, /YYYY-MM-DD/.test(f.message) ? 'date-or-date-time' : 'date-time');
+        if (why && !f.message.startsWith(why)) {
+          changed = true;
+          return { pointer: f.pointer, message: `${why}; got ${describeValue(v)}` };
+        }
+        if (why) return f;
+      }
+      if (v !== undefined) return f;
+    }
+    return f;
+  });
+  return { fields: out, changed };
 }

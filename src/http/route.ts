@@ -71,6 +71,50 @@ function isPlainNull(b: unknown): boolean {
   return b !== null && typeof b === 'object' && Object.keys(b).length === 1 && (b as Record<string, unknown>)['type'] === 'null';
 }
 
+// ---------------------------------------------------------------------------------------------
+// Normalised inputs: the compiled validator checks the spellings a schema accepts (all of them in
+// the OpenAPI enum), and the handler receives the one form zod's transform gives. Only the fields
+// whose schema is marked here are touched; the rest of the body is never re-parsed.
+
+const NORMALISERS = new WeakMap<z.ZodType, (value: unknown) => unknown>();
+
+/** Marks a schema whose accepted input is rewritten (after validation) by `normalise` before the handler sees it. */
+export function normalisedInput<S extends z.ZodType>(schema: S, normalise: (value: unknown) => unknown): S {
+  NORMALISERS.set(schema, normalise);
+  return schema;
+}
+
+interface NormalisedField {
+  readonly path: readonly string[];
+  readonly normalise: (value: unknown) => unknown;
+}
+
+/** The fields of an object schema (nested objects included) whose schema is a normalised input. */
+export function normalisedFields(schema: z.ZodType | undefined, path: readonly string[] = [], depth = 0): NormalisedField[] {
+  if (!schema || depth > 8) return [];
+  const own = NORMALISERS.get(schema);
+  if (own) return [{ path, normalise: own }];
+  const def = (schema as unknown as { _zod: { def: { type: string; innerType?: z.ZodType; shape?: Record<string, z.ZodType> } } })._zod.def;
+  if ((def.type === 'optional' || def.type === 'nullable' || def.type === 'default' || def.type === 'prefault') && def.innerType) return normalisedFields(def.innerType, path, depth + 1);
+  if (def.type === 'object' && def.shape) {
+    return Object.entries(def.shape).flatMap(([key, s]) => normalisedFields(s, [...path, key], depth + 1));
+  }
+  return [];
+}
+
+function applyNormalisers(target: unknown, fields: readonly NormalisedField[]): void {
+  for (const f of fields) {
+    let cur: unknown = target;
+    for (const key of f.path.slice(0, -1)) {
+      cur = cur !== null && typeof cur === 'object' ? (cur as Record<string, unknown>)[key] : undefined;
+    }
+    const last = f.path[f.path.length - 1];
+    if (last === undefined || cur === null || typeof cur !== 'object' || !Object.prototype.hasOwnProperty.call(cur, last)) continue;
+    const obj = cur as Record<string, unknown>;
+    obj[last] = f.normalise(obj[last]);
+  }
+}
+
 export interface RouteSpec<
   B extends z.ZodType | undefined,
   Q extends z.ZodType | undefined,
@@ -165,6 +209,15 @@ export function defineRoute<
   // Access checks run when the request arrives, before its body is read or validated: a request
   // without a valid token is 401 (and one with the wrong role 403) whatever its body says.
   if (spec.preHandler) opts.onRequest = spec.preHandler;
+  // After validation, before the handler: accepted spellings become the one form (e.g. "Letter" → "LETTER").
+  const bodyFields = normalisedFields(spec.body);
+  const queryFields = normalisedFields(spec.querystring);
+  if (bodyFields.length > 0 || queryFields.length > 0) {
+    opts.preHandler = async (req: FastifyRequest) => {
+      if (bodyFields.length > 0) applyNormalisers(req.body, bodyFields);
+      if (queryFields.length > 0) applyNormalisers(req.query, queryFields);
+    };
+  }
   app.route({
     method: spec.method,
     url: spec.url,
