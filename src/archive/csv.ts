@@ -4,7 +4,8 @@
  * Format: RFC 4180 — a header line, CRLF after every record, a field quoted with " when it holds a
  * comma, a double quote, CR or LF, and a double quote inside a field doubled. UTF-8, no byte-order
  * mark (pass `bom: true` for spreadsheet programs that need one). Headers carry their units
- * ("dose_mg_per_L", "flow_m3_per_d", "feed_kg_per_d"); times are UTC ISO 8601. Numbers are written
+ * ("dose_mg_per_L", "flow_m3_per_d", "feed_kg_per_d"); times are UTC ISO 8601 (sampled_at_utc, created_at_utc), and
+ * the sample's local time as its request wrote it (sampled_at_local, utc_offset "UTC+01:00"). Numbers are written
  * in full (String(number)), not rounded; the dose and feed as the sheet prints them (rounded) are
  * in the last columns, "dose_mg_per_L_as_printed" and "feed_kg_per_d_as_printed".
  *
@@ -13,11 +14,18 @@
  *
  * One row per sheet, superseded sheets included and marked: status "superseded" and the id of the
  * sheet that corrects it in superseded_by.
+ *
+ * Each row's record hash is recomputed as it is exported (with the stored pdf_sha256 standing in for
+ * the PDF bytes, see sheets.ts "Reading"): the `integrity` column says "record hash matches" or
+ * "altered", and an altered record has status "altered" (never "current" or "superseded"), with
+ * verification_url naming where to check it. The local time of the sample as written, with its UTC
+ * offset and its local day (the day the from/to filter compares), follows the UTC time's columns.
  */
 import { DomainError } from '../core/errors.js';
 import { fromBaseDec, isUnitOf, temperatureToC, toBase, type Quantity, type QuantityKind } from '../core/quantity.js';
 import type { ArchiveContext } from './context.js';
-import { SUMMARY_COLUMNS, sheetFilter, toSummary, type SheetQuery, type SheetSummary, type SummaryRow } from './sheets.js';
+import { localSampleTime } from './ids.js';
+import { READ_COLUMNS, readSheet, sheetFilter, type ReadRow, type SheetQuery, type SheetSummary } from './sheets.js';
 
 export type CsvValue = string | number | boolean | null | undefined;
 
@@ -44,11 +52,24 @@ export const BASE_CSV_COLUMNS: readonly CsvColumn[] = [
   { header: 'sampled_at_utc', value: (s) => s.summary.sampledAt },
   { header: 'created_at_utc', value: (s) => s.summary.createdAt },
   { header: 'signer_name', value: (s) => s.summary.signer.name },
-  { header: 'status', value: (s) => (s.summary.supersededBy === null ? 'current' : 'superseded') },
+  { header: 'status', value: (s) => s.summary.status },
   { header: 'superseded_by', value: (s) => s.summary.supersededBy },
   { header: 'supersedes', value: (s) => s.summary.supersedes },
   { header: 'pdf_sha256', value: (s) => s.summary.pdfSha256 },
+  // added after the first columns, so that their places stay as they were
+  { header: 'sampled_at_local', value: (s) => local(s).local },
+  // "UTC+01:00": a bare "+01:00" would be defused as a formula (and read as a time by spreadsheets)
+  { header: 'utc_offset', value: (s) => `UTC${local(s).offset}` },
+  { header: 'sample_day_local', value: (s) => local(s).day },
+  { header: 'integrity', value: (s) => (s.summary.status === 'altered' ? 'altered' : 'record hash matches') },
+  { header: 'verification_url', value: (s) => `/api/v1/sheets/${s.summary.id}/verification` },
+  { header: 'correction_reason', value: (s) => s.summary.correctionReason },
 ];
+
+/** The sample's local time as its request wrote it (sampledAt with its offset), else the UTC time. */
+function local(s: CsvSheet) {
+  return localSampleTime(at(s.request, ['sampledAt']), s.summary.sampledAt);
+}
 
 // ---------------------------------------------------------------------------------------------
 // Reading figures out of stored JSON
@@ -144,7 +165,73 @@ export const DOSE_CSV_COLUMNS: readonly CsvColumn[] = [
   // the figures as the signed sheet prints them (rounded there for presentation), beside the full values above
   { header: 'dose_mg_per_L_as_printed', value: printedIn(['result', 'dose'], 'mg/L') },
   { header: 'feed_kg_per_d_as_printed', value: printedIn(['result', 'feed', 'massRate'], 'kg/d') },
+  // added later, at the end so that the columns above keep their places
+  {
+    // the residual the dose was computed for (from the request or the plant profile), on the dose basis
+    header: 'target_residual_mg_per_L',
+    value: (s) => {
+      const terms = at(s.result, ['terms']);
+      const residual = Array.isArray(terms) ? terms.find((t) => at(t, ['term']) === 'residual') : undefined;
+      return basedIn('concentration', at(residual, ['value'])) ?? quantityIn('concentration', ['request', 'targetResidual'])(s);
+    },
+  },
+  {
+    header: 'contact_time_available_min',
+    value: (s) => numberAt('result', 'contact', 'availableMinutes')(s) ?? quantityIn('time', ['request', 'contactTime'])(s),
+  },
+  { header: 'contact_time_from', value: textAt('result', 'contact', 'availableFrom') },
+  {
+    // the product strength as given (request or plant profile), with its unit: "12.5 % w/v"
+    header: 'product_strength_given',
+    value: (s) => {
+      const q = asQuantity(at(s.result, ['feed', 'strength', 'given'])) ?? asQuantity(at(s.request, ['product', 'strength']));
+      return q ? `${q.value} ${q.unit}` : null;
+    },
+  },
+  {
+    header: 'product_strength_g_per_L',
+    value: (s) => {
+      const mgPerL = basedIn('concentration', at(s.result, ['feed', 'strength', 'gramsPerL']));
+      return mgPerL === null ? null : fromBaseDec('concentration', mgPerL, 'g/L').toNumber();
+    },
+  },
+  {
+    header: 'product_strength_pct_w_w',
+    value: (s) => {
+      const q = asQuantity(at(s.result, ['feed', 'strength', 'massFraction']));
+      return q && unitWithoutBasis(q.unit) === '% w/w' ? q.value : null;
+    },
+  },
+  {
+    header: 'product_strength_basis',
+    value: (s) => {
+      const formula = textAt('result', 'feed', 'strength', 'asFormula')(s);
+      return formula === null ? null : `as ${formula}`;
+    },
+  },
+  { header: 'alkalinity_mg_per_L_as_CaCO3', value: quantityIn('concentration', ['request', 'sample', 'alkalinity']) },
+  { header: 'alkalinity_consumed_mg_per_L_as_CaCO3', value: (s) => basedIn('concentration', at(s.result, ['sideEffects', 'alkalinityConsumed']), 'as CaCO3') },
+  { header: 'alkalinity_after_mg_per_L_as_CaCO3', value: (s) => basedIn('concentration', at(s.result, ['sideEffects', 'pH', 'alkalinityAfter']), 'as CaCO3') },
+  { header: 'pH_after_dosing', value: numberAt('result', 'sideEffects', 'pH', 'after') },
 ];
+
+/** "mg/L as KMnO4" → "mg/L" (a stored quantity may carry its basis in the unit). */
+function unitWithoutBasis(unit: string): string {
+  const i = unit.indexOf(' as ');
+  return i < 0 ? unit : unit.slice(0, i);
+}
+
+/**
+ * A stored quantity whose unit may carry a basis ("mg/L as CaCO3"), in the kind's base unit; null
+ * when absent, of another kind, or (when `basis` is given) on another basis.
+ */
+function basedIn(kind: Exclude<QuantityKind, 'temperature'>, v: unknown, basis?: string): number | null {
+  const q = asQuantity(v);
+  if (!q) return null;
+  const unit = unitWithoutBasis(q.unit);
+  if (basis !== undefined && unit !== q.unit && q.unit.slice(unit.length + 1) !== basis) return null;
+  return isUnitOf(kind, unit) ? toBase(kind, { value: q.value, unit }) : null;
+}
 
 /** The rounded text stored with a quantity ({value, unit, rounded}), when it is in `unit`. */
 function printedIn(path: readonly ['request' | 'result', ...string[]], unit: string): (s: CsvSheet) => string | null {
@@ -190,11 +277,9 @@ export function exportCsv(ctx: ArchiveContext, options: ExportCsvOptions = {}): 
   }
   const { where, params } = sheetFilter(options);
   const out: string[] = [options.bom ? '\uFEFF' : '', csvLine(columns.map((c) => c.header))];
-  const rows = ctx.db
-    .prepare(`SELECT ${SUMMARY_COLUMNS}, s.request_json, s.result_json FROM sheets s ${where} ORDER BY s.sampled_at, s.seq`)
-    .all(...params) as (SummaryRow & { request_json: string; result_json: string })[];
+  const rows = ctx.db.prepare(`SELECT ${READ_COLUMNS} FROM sheets s ${where} ORDER BY s.sampled_at, s.seq`).all(...params) as ReadRow[];
   for (const r of rows) {
-    const sheet: CsvSheet = { summary: toSummary(r), request: JSON.parse(r.request_json), result: JSON.parse(r.result_json) };
+    const sheet: CsvSheet = readSheet(r, null);
     out.push(csvLine(columns.map((c) => c.value(sheet))));
   }
   return out.join('');

@@ -165,3 +165,30 @@ export function rangeBound(text: string, which: 'from' | 'to', pointer: string):
   }
   return { op: which === 'from' ? '>=' : '<=', iso };
 }
+
+/** The local time of a sample as its issuer wrote it. */
+export interface LocalSampleTime {
+  /** The date and time as written, without the zone ("2026-12-01T00:30:00"). */
+  readonly local: string;
+  /** The UTC offset as written, "±hh:mm" ("Z" written as "+00:00"). */
+  readonly offset: string;
+  /** The sample's local day, YYYY-MM-DD: the day the from/to filter of a listing or export compares. */
+  readonly day: string;
+  /** False when no local time was written and the UTC time stands in (offset "+00:00"), as in the filter. */
+  readonly written: boolean;
+}
+
+/**
+ * The local time of a sample from the sampledAt its request wrote (with its own offset); the
+ * stored UTC `sampled_at` stands in when the request wrote none. The day follows the rule of the
+ * from/to filter (sheets.ts, LOCAL_SAMPLE_DAY): the first ten characters of a written
+ * "YYYY-MM-DDT…", else the UTC day.
+ */
+export function localSampleTime(written: unknown, sampledAtUtc: string): LocalSampleTime {
+  if (typeof written === 'string' && normalizeTimestamp(written) !== null) {
+    const m = DATETIME_RE.exec(written)!;
+    const zone = m[8]!;
+    return { local: written.slice(0, written.length - zone.length), offset: zone === 'Z' ? '+00:00' : zone, day: written.slice(0, 10), written: true };
+  }
+  return { local: sampledAtUtc.replace(/Z$/, ''), offset: '+00:00', day: sampledAtUtc.slice(0, 10), written: false };
+}

@@ -7,8 +7,10 @@ export {
   isSheetKind,
   isValidPlantId,
   isValidSheetId,
+  localSampleTime,
   newSheetId,
   normalizeTimestamp,
+  type LocalSampleTime,
   SHEET_ID_RE,
   type SheetKind,
 } from './ids.js';
@@ -16,8 +18,15 @@ export { ROLES, TOKEN_PREFIX, isRole, newToken, type BootstrapOutcome, type Role
 export { type PlantVersion, type SavedPlant } from './plants.js';
 export { SIGNER_KEY_FILE, type AddSignerInput, type SignerSummary, type StoredSigner } from './signers.js';
 export {
+  CORRECTION_REASON_LENGTH,
   HASHED_COLUMNS,
   RECORD_FORMAT,
+  checkIntegrity,
+  isIntact,
+  type IntegrityCheck,
+  type SheetDose,
+  type SheetIntegrity,
+  type SheetStatus,
   recordHash,
   recordHashText,
   sheetContentSha256,

@@ -29,6 +29,22 @@
  * content_sha256 (see sheetContentSha256) covers what the sheet says (id, kind, plant, sample time,
  * request, result, supersedes); it is known before the PDF is rendered, so the PDF footer can print it.
  *
+ * ## Reading: the integrity of every record served
+ * Every read (getSheet, listSheets, the CSV export) recomputes the record hash of each row it
+ * returns and reports it in `integrity` (see SheetIntegrity). getSheet also hashes the PDF bytes
+ * against pdf_sha256 (`checked: "record hash and PDF hash"`); the list and the export do not read the
+ * PDF bytes and recompute the record hash with the stored pdf_sha256 in place of the bytes' digest
+ * (`checked: "record hash"`): every column but the PDF bytes is covered. A row that fails is given
+ * `status: "altered"`, never "current" or "superseded". The chain link and the PDF signature are
+ * checked by verifySheet / verifyArchive only (verify.ts).
+ *
+ * ## The reason for a correction
+ * A correction's reason is the request's own `correctionReason` member (POST /api/v1/sheets, or any
+ * issuer that stores its request body). It is therefore inside request_json, so content_sha256 and
+ * record_hash both cover it, and it needs no column (and no new record_format): records without it
+ * hash exactly as before. appendSheet refuses a `correctionReason` that is not text of 3–500
+ * characters, or one given without `supersedes`; SheetSummary.correctionReason reads it back.
+ *
  * ## Appending
  * One BEGIN IMMEDIATE transaction reads the last (seq, record_hash), checks supersedes, and inserts.
  * The write lock is taken at BEGIN, so two appends (in one process or several) cannot read the same
@@ -36,6 +52,7 @@
  * The PDF is hashed before the transaction, so the lock is held for microseconds.
  */
 import { DomainError } from '../core/errors.js';
+import { roundSig } from '../core/decimal.js';
 import { ZERO_HASH, canonicalJson, sha256Hex } from './canonical.js';
 import type { ArchiveContext } from './context.js';
 import { dayOf, isSheetKind, rangeBound, requirePlantId, requireSheetId, requireTimestamp, SHEET_KINDS, type SheetKind } from './ids.js';
@@ -193,6 +210,36 @@ export interface AppendSheetInput extends SheetContent {
   readonly contentSha256?: string;
 }
 
+/** What was checked when a record was read (see "Reading" above). */
+export type IntegrityCheck = 'record hash' | 'record hash and PDF hash';
+
+/** The integrity of a record as found on the read that returned it. */
+export interface SheetIntegrity {
+  /** The stored columns hash to record_hash (recomputed on this read). */
+  readonly recordHashMatches: boolean;
+  /** The PDF bytes hash to pdf_sha256; null when this read did not hash the bytes (lists, the CSV). */
+  readonly pdfHashMatches: boolean | null;
+  readonly checked: IntegrityCheck;
+  /** What failed, in words (empty when nothing did). */
+  readonly problems: readonly string[];
+}
+
+/**
+ * "altered" when the record fails its integrity check on this read (whatever its place in a
+ * correction), else "superseded" when a later sheet corrects it, else "current".
+ */
+export type SheetStatus = 'current' | 'superseded' | 'altered';
+
+/** The dose a sheet prints: a dose sheet's dose, a jar-test evaluation's recommended dose. */
+export interface SheetDose {
+  readonly value: number;
+  readonly unit: string;
+  readonly basis: string;
+  /** As printed (3 significant figures). */
+  readonly rounded: string;
+  readonly what: 'dose' | 'recommended dose';
+}
+
 export interface SheetSummary {
   readonly seq: number;
   readonly id: string;
@@ -212,6 +259,15 @@ export interface SheetSummary {
   readonly prevHash: string;
   readonly recordHash: string;
   readonly recordFormat: number;
+  /** The record hash (and, on getSheet, the PDF hash) recomputed on this read. */
+  readonly integrity: SheetIntegrity;
+  readonly status: SheetStatus;
+  /** The request's correctionReason (see "The reason for a correction"), or null. */
+  readonly correctionReason: string | null;
+  /** The oxidant product id the sheet is for, or null. */
+  readonly oxidant: string | null;
+  /** The dose the sheet prints (null for a jar-test plan, or a result without one). */
+  readonly dose: SheetDose | null;
 }
 
 export interface SheetRecord<Req = unknown, Res = unknown> extends SheetSummary {
@@ -220,14 +276,103 @@ export interface SheetRecord<Req = unknown, Res = unknown> extends SheetSummary 
 }
 
 export type SummaryRow = Omit<SheetRow, 'pdf' | 'request_json' | 'result_json'> & { pdf_bytes: number; superseded_by: string | null };
+/** A summary row with the stored request and result texts (all that the record hash needs but the PDF bytes). */
+export type ReadRow = SummaryRow & { request_json: string; result_json: string };
 
 export const SUMMARY_COLUMNS = `s.seq, s.id, s.record_format, s.kind, s.plant_id, s.plant_version, s.sampled_at, s.created_at, s.created_by,
   s.signer_id, s.signer_name, s.signer_role, s.signer_subject, length(s.pdf) AS pdf_bytes, s.pdf_sha256, s.content_sha256,
   s.supersedes, s.prev_hash, s.record_hash,
   (SELECT n.id FROM sheets n WHERE n.supersedes = s.id) AS superseded_by`;
+/** SUMMARY_COLUMNS and the request and result texts. */
+export const READ_COLUMNS = `${SUMMARY_COLUMNS}, s.request_json, s.result_json`;
 
-export function toSummary(row: SummaryRow): SheetSummary {
-  return {
+/**
+ * Recompute a stored row's record hash. `pdfDigest` is the SHA-256 of its PDF bytes, or null when
+ * the bytes were not read: the stored pdf_sha256 then stands in for it (every column but the
+ * bytes is covered).
+ */
+export function checkIntegrity(row: Omit<SheetRow, 'pdf'>, pdfDigest: string | null): SheetIntegrity {
+  const problems: string[] = [];
+  const pdfHashMatches = pdfDigest === null ? null : pdfDigest === row.pdf_sha256;
+  if (pdfHashMatches === false) problems.push(`the stored PDF hashes to ${pdfDigest}, not to the recorded ${row.pdf_sha256}`);
+  let recordHashMatches = false;
+  if (row.record_format !== RECORD_FORMAT) problems.push(`record_format ${row.record_format} is not one this build can check (${RECORD_FORMAT})`);
+  else {
+    recordHashMatches = recordHash(row, pdfDigest ?? row.pdf_sha256) === row.record_hash;
+    if (!recordHashMatches) problems.push('the stored record does not hash to its record_hash (a column was changed)');
+  }
+  return { recordHashMatches, pdfHashMatches, checked: pdfDigest === null ? 'record hash' : 'record hash and PDF hash', problems };
+}
+
+/** True when the read found the record as it was archived (as far as `checked` goes). */
+export function isIntact(integrity: SheetIntegrity): boolean {
+  return integrity.recordHashMatches && integrity.pdfHashMatches !== false;
+}
+
+function member(value: unknown, ...path: string[]): unknown {
+  let v = value;
+  for (const k of path) {
+    if (typeof v !== 'object' || v === null || Array.isArray(v)) return undefined;
+    v = (v as Record<string, unknown>)[k];
+  }
+  return v;
+}
+const textOrNull = (v: unknown): string | null => (typeof v === 'string' ? v : null);
+const finite = (v: unknown): v is number => typeof v === 'number' && Number.isFinite(v);
+
+/** The oxidant of a stored sheet: the request's `oxidant` id, else the result's `oxidant.id`. */
+export function sheetOxidant(request: unknown, result: unknown): string | null {
+  return textOrNull(member(request, 'oxidant')) ?? textOrNull(member(result, 'oxidant', 'id'));
+}
+
+/**
+ * The dose a stored sheet prints. A dose sheet: the result's `dose` {value, unit, basis, rounded}
+ * (POST /api/v1/doses). A jar-test evaluation: its recommended dose (result
+ * `evaluation.recommendedDose.doseMgPerL`, in mg/L on the result's `oxidant.basis`), rounded to 3
+ * significant figures as the sheets print it; null when it recommends none. Null otherwise.
+ */
+export function sheetDose(kind: string, result: unknown): SheetDose | null {
+  if (kind === 'dose') {
+    const d = member(result, 'dose');
+    const value = member(d, 'value');
+    const unit = member(d, 'unit');
+    const basis = member(d, 'basis');
+    if (!finite(value) || typeof unit !== 'string' || typeof basis !== 'string') return null;
+    const rounded = member(d, 'rounded');
+    return { value, unit, basis, rounded: typeof rounded === 'string' ? rounded : roundSig(value, 3), what: 'dose' };
+  }
+  if (kind === 'jar-test-evaluation') {
+    const value = member(result, 'evaluation', 'recommendedDose', 'doseMgPerL');
+    const basis = member(result, 'oxidant', 'basis');
+    if (!finite(value) || typeof basis !== 'string') return null;
+    return { value, unit: 'mg/L', basis, rounded: roundSig(value, 3), what: 'recommended dose' };
+  }
+  return null;
+}
+
+/** JSON.parse that answers undefined for text that is not JSON (a damaged row must still be reported, not crash the read). */
+function parseStored(text: string): unknown {
+  try {
+    return JSON.parse(text);
+  } catch {
+    return undefined;
+  }
+}
+
+export interface ReadSheet {
+  readonly summary: SheetSummary;
+  readonly request: unknown;
+  readonly result: unknown;
+}
+
+/** A stored row as served: summary (with the integrity found on this read), request and result. */
+export function readSheet(row: ReadRow, pdfDigest: string | null): ReadSheet {
+  const request = parseStored(row.request_json);
+  const result = parseStored(row.result_json);
+  const integrity = checkIntegrity(row, pdfDigest);
+  const status: SheetStatus = !isIntact(integrity) ? 'altered' : row.superseded_by !== null ? 'superseded' : 'current';
+  const reason = member(request, 'correctionReason');
+  const summary: SheetSummary = {
     seq: row.seq,
     id: row.id,
     kind: row.kind,
@@ -245,7 +390,18 @@ export function toSummary(row: SummaryRow): SheetSummary {
     prevHash: row.prev_hash,
     recordHash: row.record_hash,
     recordFormat: row.record_format,
+    integrity,
+    status,
+    correctionReason: typeof reason === 'string' ? reason : null,
+    oxidant: sheetOxidant(request, result),
+    dose: sheetDose(row.kind, result),
   };
+  return { summary, request, result };
+}
+
+/** The summary of a stored row (see readSheet). */
+export function toSummary(row: ReadRow, pdfDigest: string | null = null): SheetSummary {
+  return readSheet(row, pdfDigest).summary;
 }
 
 function invalid(pointer: string, detail: string, message = detail): DomainError {
@@ -258,6 +414,23 @@ function notFound(id: string): DomainError {
     params: { id },
     fields: [{ pointer: '/id', message: 'no such sheet' }],
   });
+}
+
+/** Shortest and longest correction reason (characters). */
+export const CORRECTION_REASON_LENGTH = { min: 3, max: 500 } as const;
+
+/** A request's correctionReason: absent, or text of 3–500 characters on a correction (supersedes given). */
+function requireCorrectionReason(request: unknown, supersedes: string | null): void {
+  const reason = member(request, 'correctionReason');
+  if (reason === undefined) return;
+  const pointer = '/request/correctionReason';
+  const { min, max } = CORRECTION_REASON_LENGTH;
+  if (typeof reason !== 'string' || reason.trim().length < min || reason.length > max) {
+    throw invalid(pointer, `correctionReason is text of ${min} to ${max} characters saying why the sheet is corrected.`, `${min} to ${max} characters`);
+  }
+  if (supersedes === null) {
+    throw invalid(pointer, 'correctionReason is given only with supersedes: it says why the sheet named there is corrected.', 'only with supersedes');
+  }
 }
 
 /**
@@ -278,6 +451,7 @@ export function appendSheet(ctx: ArchiveContext, input: AppendSheetInput): Sheet
   const sampledAt = requireTimestamp(input.sampledAt, '/sampledAt');
   const supersedes = input.supersedes ?? null;
   if (supersedes !== null) requireSheetId(supersedes, '/supersedes');
+  requireCorrectionReason(input.request, supersedes);
   if (!(input.pdf instanceof Uint8Array) || input.pdf.length < 5 || Buffer.from(input.pdf.subarray(0, 5)).toString('latin1') !== '%PDF-') {
     throw new DomainError('INTERNAL', { detail: 'The sheet to archive has no PDF (the bytes do not start with "%PDF-").' });
   }
@@ -294,9 +468,10 @@ export function appendSheet(ctx: ArchiveContext, input: AppendSheetInput): Sheet
 
   return ctx.db
     .transaction((): SheetSummary => {
-      const existing = ctx.statement(`SELECT ${SUMMARY_COLUMNS} FROM sheets s WHERE s.id = ?`).get(id) as SummaryRow | undefined;
+      const existing = ctx.statement(`SELECT ${READ_COLUMNS}, s.pdf FROM sheets s WHERE s.id = ?`).get(id) as (ReadRow & { pdf: Buffer }) | undefined;
       if (existing) {
-        if (existing.content_sha256 === contentSha256 && existing.pdf_sha256 === pdfSha256) return toSummary(existing);
+        // a retry (rare): the stored record as getSheet reads it, its PDF bytes hashed too
+        if (existing.content_sha256 === contentSha256 && existing.pdf_sha256 === pdfSha256) return toSummary(existing, sha256Hex(existing.pdf));
         throw new DomainError('ID_INVALID', {
           detail: `Sheet id ${id} is already in the archive with other content; make a new id for a new sheet.`,
           params: { id },
@@ -389,19 +564,21 @@ export function appendSheet(ctx: ArchiveContext, input: AppendSheetInput): Sheet
              @supersedes, @prev_hash, @record_hash)`,
         )
         .run({ ...row, pdf, record_hash: hash });
-      return toSummary({ ...row, record_hash: hash, pdf_bytes: pdf.length, superseded_by: null });
+      return toSummary({ ...row, record_hash: hash, pdf_bytes: pdf.length, superseded_by: null }, pdfSha256);
     })
     .immediate();
 }
 
-/** One sheet's metadata with its request and result; throws ID_INVALID or SHEET_NOT_FOUND. */
+/**
+ * One sheet's metadata with its request and result; throws ID_INVALID or SHEET_NOT_FOUND. The
+ * record hash and the PDF hash are recomputed (`integrity`, `status`).
+ */
 export function getSheet<Req = unknown, Res = unknown>(ctx: ArchiveContext, id: string): SheetRecord<Req, Res> {
   requireSheetId(id, '/id');
-  const row = ctx.statement(`SELECT ${SUMMARY_COLUMNS}, s.request_json, s.result_json FROM sheets s WHERE s.id = ?`).get(id) as
-    | (SummaryRow & { request_json: string; result_json: string })
-    | undefined;
+  const row = ctx.statement(`SELECT ${READ_COLUMNS}, s.pdf FROM sheets s WHERE s.id = ?`).get(id) as (ReadRow & { pdf: Buffer }) | undefined;
   if (!row) throw notFound(id);
-  return { ...toSummary(row), request: JSON.parse(row.request_json) as Req, result: JSON.parse(row.result_json) as Res };
+  const read = readSheet(row, sha256Hex(row.pdf));
+  return { ...read.summary, request: read.request as Req, result: read.result as Res };
 }
 
 /** The stored PDF bytes of one sheet; throws ID_INVALID or SHEET_NOT_FOUND. */
@@ -479,7 +656,7 @@ export function sheetFilter(query: SheetQuery): { where: string; params: unknown
   return { where: clauses.length ? `WHERE ${clauses.join(' AND ')}` : '', params };
 }
 
-/** Sheets by sample time (then seq), without the PDF bytes. */
+/** Sheets by sample time (then seq), without the PDF bytes; each record hash recomputed (`integrity`, checked: "record hash"). */
 export function listSheets(ctx: ArchiveContext, query: SheetQuery = {}): SheetSummary[] {
   const { where, params } = sheetFilter(query);
   let limit = '';
@@ -487,8 +664,8 @@ export function listSheets(ctx: ArchiveContext, query: SheetQuery = {}): SheetSu
     if (!Number.isSafeInteger(query.limit) || query.limit < 1 || query.limit > 10_000) throw invalid('/limit', 'limit is a whole number from 1 to 10000.');
     limit = ` LIMIT ${query.limit}`;
   }
-  const rows = ctx.statement(`SELECT ${SUMMARY_COLUMNS} FROM sheets s ${where} ORDER BY s.sampled_at, s.seq${limit}`).all(...params) as SummaryRow[];
-  return rows.map(toSummary);
+  const rows = ctx.statement(`SELECT ${READ_COLUMNS} FROM sheets s ${where} ORDER BY s.sampled_at, s.seq${limit}`).all(...params) as ReadRow[];
+  return rows.map((r) => toSummary(r));
 }
 
 /** Number of sheets and the head of the chain (write these down to detect a truncated tail later). */

@@ -12,7 +12,21 @@ import type { SheetBody } from './schemas/sheets.js';
 import type { Services } from './services.js';
 
 export async function issueDoseSheet(services: Services, user: User, body: z.output<typeof SheetBody>) {
-  const { sampledAt, supersedes, samplingPoint, sampleLabel, pageSize, ...doseRequest } = body;
+  const { sampledAt, supersedes, correctionReason, samplingPoint, sampleLabel, pageSize, ...doseRequest } = body;
+  // The reason is stored in the request (request_json, so inside both hashes; see src/archive/sheets.ts).
+  if (correctionReason !== undefined && supersedes === undefined) {
+    throw new DomainError('VALIDATION_FAILED', {
+      detail: 'correctionReason says why a sheet is corrected; give it together with supersedes (the id of the sheet this one corrects), or leave it out.',
+      fields: [{ pointer: '/correctionReason', message: 'only with supersedes' }],
+    });
+  }
+  const warnings: string[] = [];
+  if (supersedes !== undefined && correctionReason === undefined) {
+    warnings.push(
+      `This sheet corrects ${supersedes} without a correctionReason: the record will not say why the sheet was corrected, which a supervisor or regulator reviewing it will expect. ` +
+        'A reason cannot be added to an archived sheet later; to record one, issue a further correction of this sheet with supersedes and correctionReason.',
+    );
+  }
   // archive.getSheet throws SHEET_NOT_FOUND (404, pointer /id); a correction naming an unknown
   // sheet is a bad request field instead (400, /supersedes). The append re-checks both rules.
   if (supersedes !== undefined) {
@@ -46,6 +60,8 @@ export async function issueDoseSheet(services: Services, user: User, body: z.out
     ...(samplingPoint ? { samplingPoint } : {}),
     ...(sampleLabel ? { sampleLabel } : {}),
     ...(supersedes ? { supersedes } : {}),
+    // correctionReason is not printed: DoseSheetInput (src/sheets/dose-sheet.ts) has no place for it yet.
+    // The content hash printed in the footer covers it (it is in the stored request).
     ...(pageSize ? { pageSize } : {}),
   });
   const { pdf } = await renderSignedSheet(doc, signer, { signingTime: now, contentSha256 });
@@ -62,5 +78,7 @@ export async function issueDoseSheet(services: Services, user: User, body: z.out
     signer: { name: saved.signer.name, role: saved.signer.role, subject: saved.signer.subject },
     supersedes: saved.supersedes,
     dose: result.dose,
+    correctionReason: saved.correctionReason,
+    warnings,
   };
 }

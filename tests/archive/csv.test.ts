@@ -209,6 +209,105 @@ describe('exportCsv', () => {
     expect(rows[1]![1]).toBe('jar-test-evaluation');
   });
 
+  it('gives the sample time as written with its UTC offset and its local day, the day the from/to filter compares', () => {
+    const { archive, author } = fresh();
+    const mk = (written: string) =>
+      archive.appendSheet(doseSheetInput(author, { plantId: 'demo-plant', plantVersion: 1, sampledAt: written, request: { oxidant: 'ozone', sampledAt: written } })).id;
+    const feb28Utc = mk('2026-03-01T00:30:00+01:00'); // 2026-02-28T23:30Z, local day 1 March
+    const mar31 = mk('2026-03-31T19:30:00-05:00'); // 2026-04-01T00:30Z, local day 31 March
+    const zulu = mk('2026-03-15T06:00:00Z');
+    const rows = parseCsv(archive.exportCsv({ plantId: 'demo-plant', from: '2026-03-01', to: '2026-03-31' }));
+    const h = rows[0]!;
+    const pick = (r: string[]) => ['sheet_id', 'sampled_at_utc', 'sampled_at_local', 'utc_offset', 'sample_day_local'].map((c) => r[h.indexOf(c)]);
+    expect(rows.slice(1).map(pick)).toEqual([
+      [feb28Utc, '2026-02-28T23:30:00.000Z', '2026-03-01T00:30:00', 'UTC+01:00', '2026-03-01'],
+      [zulu, '2026-03-15T06:00:00.000Z', '2026-03-15T06:00:00', 'UTC+00:00', '2026-03-15'],
+      [mar31, '2026-04-01T00:30:00.000Z', '2026-03-31T19:30:00', 'UTC-05:00', '2026-03-31'],
+    ]);
+    // the new columns follow the first eleven, which keep their places
+    expect(h.slice(0, 14)).toEqual([...BASE_CSV_COLUMNS.slice(0, 11).map((c) => c.header), 'sampled_at_local', 'utc_offset', 'sample_day_local']);
+  });
+
+  it('without a written sample time the UTC time stands in, offset UTC+00:00 (as the from/to filter reads it)', () => {
+    const { archive, author } = fresh();
+    archive.appendSheet(doseSheetInput(author, { plantId: 'demo-plant', plantVersion: 1, sampledAt: '2026-03-02T23:30:00+00:00' }));
+    const rows = parseCsv(archive.exportCsv({ plantId: 'demo-plant' }));
+    const get = (name: string) => rows[1]![rows[0]!.indexOf(name)];
+    expect([get('sampled_at_local'), get('utc_offset'), get('sample_day_local')]).toEqual(['2026-03-02T23:30:00.000', 'UTC+00:00', '2026-03-02']);
+  });
+
+  it('carries target residual, contact time, product strength and alkalinity from the stored result (shape of POST /api/v1/doses)', () => {
+    const { archive, author } = fresh();
+    // the figures as POST /api/v1/doses answers them for 12.5 % w/v hypochlorite at 2 MGD, 30 min, 1 mg/L residual
+    archive.appendSheet(
+      doseSheetInput(author, {
+        plantId: 'demo-plant',
+        plantVersion: 1,
+        request: {
+          oxidant: 'sodium-hypochlorite',
+          targetResidual: { value: 1, unit: 'mg/L' },
+          contactTime: { value: 0.5, unit: 'h' },
+          product: { strength: { value: 12.5, unit: '% w/v' } },
+          sample: { pH: 7.5, temperatureC: 15, alkalinity: { value: 0.12, unit: 'g/L' } },
+        },
+        result: {
+          dose: { value: 1.3173963649386695, unit: 'mg/L', rounded: '1.32', basis: 'as Cl2' },
+          terms: [
+            { term: 'contaminant', id: 'iron', value: { value: 0.3173963649386695, unit: 'mg/L as Cl2', rounded: '0.317' } },
+            { term: 'residual', id: 'residual', value: { value: 1, unit: 'mg/L as Cl2', rounded: '1.00' } },
+          ],
+          contact: { availableMinutes: 30, availableFrom: 'given', entries: [] },
+          feed: {
+            strength: {
+              given: { value: 12.5, unit: '% w/v' },
+              asFormula: 'Cl2',
+              gramsPerL: { value: 125, unit: 'g/L as Cl2', rounded: '125' },
+              massFraction: { value: 10.683760683760683, unit: '% w/w as Cl2', rounded: '10.7' },
+            },
+          },
+          sideEffects: {
+            alkalinityConsumed: { value: 0.48963635683030016, unit: 'mg/L as CaCO3', rounded: '0.490', basis: 'as CaCO3' },
+            pH: { before: 7.5, after: 7.43, alkalinityAfter: { value: 119.51, unit: 'mg/L as CaCO3', rounded: '120' } },
+          },
+        },
+      }),
+    );
+    const rows = parseCsv(archive.exportCsv({ plantId: 'demo-plant' }));
+    const get = (name: string) => rows[1]![rows[0]!.indexOf(name)];
+    expect(get('target_residual_mg_per_L')).toBe('1');
+    expect(get('contact_time_available_min')).toBe('30');
+    expect(get('contact_time_from')).toBe('given');
+    expect(get('product_strength_given')).toBe('12.5 % w/v');
+    expect(get('product_strength_g_per_L')).toBe('125');
+    expect(get('product_strength_pct_w_w')).toBe('10.683760683760683');
+    expect(get('product_strength_basis')).toBe('as Cl2');
+    expect(get('alkalinity_mg_per_L_as_CaCO3')).toBe('120'); // 0.12 g/L = 120 mg/L
+    expect(get('alkalinity_consumed_mg_per_L_as_CaCO3')).toBe('0.48963635683030016');
+    expect(get('alkalinity_after_mg_per_L_as_CaCO3')).toBe('119.51');
+    expect(get('pH_after_dosing')).toBe('7.43');
+    // the columns that were there keep their places: the new ones come after feed_kg_per_d_as_printed
+    const h = rows[0]!;
+    expect(h.indexOf('target_residual_mg_per_L')).toBe(h.indexOf('feed_kg_per_d_as_printed') + 1);
+  });
+
+  it('takes the target residual and contact time from the request when the result has none; a figure on another basis is left empty', () => {
+    const { archive, author } = fresh();
+    archive.appendSheet(
+      doseSheetInput(author, {
+        plantId: 'demo-plant',
+        plantVersion: 1,
+        request: { oxidant: 'ozone', targetResidual: { value: 200, unit: 'ug/L' }, contactTime: { value: 0.25, unit: 'h' }, sample: { pH: 7 } },
+        result: { dose: { value: 1, unit: 'mg/L', basis: 'as O3' }, sideEffects: { alkalinityConsumed: { value: 3, unit: 'mg/L as HCO3' } } },
+      }),
+    );
+    const rows = parseCsv(archive.exportCsv({ plantId: 'demo-plant' }));
+    const get = (name: string) => rows[1]![rows[0]!.indexOf(name)];
+    expect(get('target_residual_mg_per_L')).toBe('0.2');
+    expect(get('contact_time_available_min')).toBe('15');
+    expect(get('alkalinity_consumed_mg_per_L_as_CaCO3')).toBe('');
+    expect(get('product_strength_given')).toBe('');
+  });
+
   it('an export of nothing is just the header line', () => {
     const { archive } = fresh();
     const text = archive.exportCsv({ plantId: 'demo-plant', from: '2026-01-01', to: '2026-01-31' });

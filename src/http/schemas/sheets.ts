@@ -1,5 +1,5 @@
 import { z } from 'zod';
-import { SHEET_ID_RE } from '../../archive/index.js';
+import { CORRECTION_REASON_LENGTH, SHEET_ID_RE } from '../../archive/index.js';
 import { DoseBody } from './dosing.js';
 
 export const SheetId = z
@@ -19,9 +19,26 @@ export const DateOrTime = z
   })
   .describe('YYYY-MM-DD (the sample’s own day, as written with its offset in sampledAt) or an ISO 8601 date-time (an instant)');
 
+/**
+ * Why a sheet is corrected: 3–500 characters, not starting or ending with white space, no control
+ * characters but tab and line breaks. One pattern (the compiled validator checks it; zod gives the message).
+ */
+export const CorrectionReason = z
+  .string()
+  .min(CORRECTION_REASON_LENGTH.min, { error: `a correction reason has at least ${CORRECTION_REASON_LENGTH.min} characters` })
+  .max(CORRECTION_REASON_LENGTH.max, { error: `a correction reason has at most ${CORRECTION_REASON_LENGTH.max} characters` })
+  .regex(/^[^\s\u0000-\u001F\u007F](?:[^\u0000-\u0008\u000B\u000C\u000E-\u001F\u007F]*[^\s\u0000-\u001F\u007F])?$/, {
+    error: 'a correction reason does not start or end with white space and has no control characters (tab and line breaks are allowed)',
+  })
+  .describe(
+    `Why the sheet named in supersedes is corrected (${CORRECTION_REASON_LENGTH.min}–${CORRECTION_REASON_LENGTH.max} characters), e.g. "iron reading re-run: lab reported 1.5 mg/L, not 0.15". ` +
+      'Only with supersedes. Stored with the record, inside its hashed content; a correction without one is accepted with a warning.',
+  );
+
 export const SheetBody = DoseBody.extend({
   sampledAt: IsoDateTime,
   supersedes: SheetId.optional().describe('Id of the sheet this one corrects'),
+  correctionReason: CorrectionReason.optional(),
   samplingPoint: z.string().min(1).max(200).optional(),
   sampleLabel: z.string().min(1).max(200).optional(),
   pageSize: z.enum(['A4', 'LETTER']).optional(),
@@ -39,5 +56,33 @@ export const Created = z.object({
   signer: z.object({ name: z.string(), role: z.string(), subject: z.string() }),
   supersedes: z.string().nullable(),
   dose: z.object({ value: z.number(), unit: z.string(), basis: z.string(), rounded: z.string() }),
+  correctionReason: z.string().nullable().describe('The reason given for the correction, as stored; null when none was given'),
+  warnings: z.array(z.string()).describe('What the sheet was accepted with but should not have been, e.g. a correction without a reason'),
 });
+
+/** What a read of a record found (every GET recomputes it). */
+export const Integrity = z
+  .object({
+    recordHashMatches: z.boolean().describe('The stored record hashes to its recordHash (recomputed on this read)'),
+    pdfHashMatches: z.boolean().nullable().describe('The stored PDF bytes hash to sha256; null when this read did not hash them (the list)'),
+    checked: z.enum(['record hash', 'record hash and PDF hash']),
+    problems: z.array(z.string()),
+    message: z.string(),
+    verificationUrl: z.string().describe('The full check: PDF signature and the link in the chain too'),
+  })
+  .describe('The integrity of the record as found on this read');
+
+export const SheetStatus = z
+  .enum(['current', 'superseded', 'altered'])
+  .describe('altered: the record failed its integrity check on this read (its figures are not what was signed); superseded: a later sheet corrects it');
+
+export const PrintedDose = z
+  .object({
+    value: z.number(),
+    unit: z.string(),
+    basis: z.string(),
+    rounded: z.string().describe('As printed on the sheet'),
+    what: z.enum(['dose', 'recommended dose']).describe('dose: a dose sheet\'s dose; recommended dose: a jar-test evaluation\'s'),
+  })
+  .nullable();
 

@@ -1,10 +1,10 @@
 import type { FastifyInstance } from 'fastify';
 import { z } from 'zod';
 import { DomainError } from '../../../core/errors.js';
-import { isValidSheetId, SHEET_ID_RE } from '../../../archive/index.js';
+import { isIntact, isValidSheetId, type SheetSummary } from '../../../archive/index.js';
 import { issueDoseSheet } from '../../issue-sheet.js';
 import { verifySignedPdf } from '../../../sheets/verify.js';
-import { Created, DateOrTime, SheetBody, SheetId } from '../../schemas/sheets.js';
+import { Created, DateOrTime, Integrity, PrintedDose, SheetBody, SheetId, SheetStatus } from '../../schemas/sheets.js';
 import { defineRoute } from '../../route.js';
 import { requireRole } from '../../auth.js';
 import { findPlant } from './dosing.js';
@@ -29,14 +29,60 @@ const Summary = z.object({
   recordHash: z.string(),
   pdfUrl: z.string(),
   verificationUrl: z.string(),
+  status: SheetStatus,
+  integrity: Integrity,
+  oxidant: z.string().nullable().describe('Oxidant product id'),
+  dose: PrintedDose.describe('The dose the sheet prints ({value, unit, basis} with the printed text); a jar-test evaluation’s recommended dose; null when there is none'),
+  correctionReason: z.string().nullable().describe('Why this sheet corrects the one in supersedes, as given; null when none was given'),
 });
 
-type SummaryIn = { id: string; pdfSha256: string } & Omit<z.infer<typeof Summary>, 'sha256' | 'pdfUrl' | 'verificationUrl'>;
+const verificationUrlOf = (id: string) => `/api/v1/sheets/${id}/verification`;
 
-function summaryOut(s: SummaryIn) {
-  const { pdfSha256, ...rest } = s;
-  return { ...rest, sha256: pdfSha256, pdfUrl: `/api/v1/sheets/${s.id}/pdf`, verificationUrl: `/api/v1/sheets/${s.id}/verification` };
+/** The integrity found on this read, with a sentence for whoever reads the record and where to check it fully. */
+function integrityOut(s: SheetSummary) {
+  const url = verificationUrlOf(s.id);
+  const i = s.integrity;
+  const message = isIntact(i)
+    ? (i.checked === 'record hash'
+        ? `The record hash was recomputed on this read and matches (the PDF bytes were not hashed here; GET /api/v1/sheets/${s.id} hashes them). `
+        : 'The record hash and the PDF hash were recomputed on this read and match. ') +
+      `The PDF signature and the record's link in the chain are checked at ${url}.`
+    : `ALTERED: this record was changed after it was archived (${i.problems.join('; ')}). Its figures are not what was signed; do not use them. ` +
+      `Check it at ${url} and the whole archive at /api/v1/archive/verification; the signed PDF is evidence of what was issued.`;
+  return { recordHashMatches: i.recordHashMatches, pdfHashMatches: i.pdfHashMatches, checked: i.checked, problems: [...i.problems], message, verificationUrl: url };
 }
+
+function summaryOut(s: SheetSummary) {
+  return {
+    id: s.id,
+    seq: s.seq,
+    kind: s.kind,
+    plantId: s.plantId,
+    plantVersion: s.plantVersion,
+    sampledAt: s.sampledAt,
+    createdAt: s.createdAt,
+    createdBy: s.createdBy,
+    signer: s.signer,
+    sha256: s.pdfSha256,
+    pdfBytes: s.pdfBytes,
+    contentSha256: s.contentSha256,
+    supersedes: s.supersedes,
+    supersededBy: s.supersededBy,
+    prevHash: s.prevHash,
+    recordHash: s.recordHash,
+    pdfUrl: `/api/v1/sheets/${s.id}/pdf`,
+    verificationUrl: verificationUrlOf(s.id),
+    status: s.status,
+    integrity: integrityOut(s),
+    oxidant: s.oxidant,
+    dose: s.dose,
+    correctionReason: s.correctionReason,
+  } satisfies z.input<typeof Summary>;
+}
+
+/** Header beside every read of one record: "record hash matches" or "altered". */
+const INTEGRITY_HEADER = 'x-sheet-integrity';
+const integrityHeader = (s: SheetSummary) => (s.status === 'altered' ? 'altered' : 'record hash matches');
 
 function requireSheet(services: Services, id: string) {
   if (!isValidSheetId(id)) throw new DomainError('ID_INVALID', { detail: `"${id}" is not a sheet id.`, fields: [{ pointer: '/id', message: 'not a sheet id' }] });
@@ -86,7 +132,7 @@ export async function sheetRoutes(app: FastifyInstance): Promise<void> {
   defineRoute(app, {
     method: 'GET',
     url: '/sheets',
-    summary: 'List archived sheets by plant and sample date',
+    summary: 'List archived sheets by plant and sample date, with each one’s oxidant, printed dose, status and the integrity of its record as found on this read',
     tags: ['sheets'],
     querystring: Query,
     response: {
@@ -124,12 +170,13 @@ export async function sheetRoutes(app: FastifyInstance): Promise<void> {
   defineRoute(app, {
     method: 'GET',
     url: '/sheets/:id',
-    summary: 'A sheet’s archive record (metadata, hashes, chain link), with the request and result it was made from',
+    summary: 'A sheet’s archive record (metadata, hashes, chain link), with the request and result it was made from; its record hash and PDF hash are recomputed on every read (integrity, status)',
     tags: ['sheets'],
     params: z.object({ id: SheetId }),
     response: { 200: Summary.extend({ request: z.unknown(), result: z.unknown() }) },
-    handler: async (req) => {
+    handler: async (req, reply) => {
       const s = requireSheet(app.services, req.params.id);
+      reply.header(INTEGRITY_HEADER, integrityHeader(s));
       return { ...summaryOut(s), request: s.request, result: s.result };
     },
   });
@@ -142,8 +189,10 @@ export async function sheetRoutes(app: FastifyInstance): Promise<void> {
     params: z.object({ id: SheetId }),
     produces: ['application/pdf'],
     handler: async (req, reply) => {
-      requireSheet(app.services, req.params.id);
+      const s = requireSheet(app.services, req.params.id);
       const pdf = app.services.archive.getSheetPdf(req.params.id);
+      // the bytes as stored (evidence, even when altered); the header says what the read found
+      reply.header(INTEGRITY_HEADER, integrityHeader(s));
       reply.header('content-type', 'application/pdf').header('content-disposition', `inline; filename="${req.params.id}.pdf"`);
       return pdf;
     },
