@@ -32,6 +32,7 @@ export const CHECK_CODES = {
   NON_MONOTONIC_LADDER: 'NON_MONOTONIC_LADDER',
   NOT_BRACKETING: 'NOT_BRACKETING',
   NO_ESTIMATE: 'NO_ESTIMATE',
+  CONTROL_JAR: 'CONTROL_JAR',
   STOCK_ABOVE_SOLUBILITY: 'STOCK_ABOVE_SOLUBILITY',
   NO_CONTACT_TIMES: 'NO_CONTACT_TIMES',
   DUPLICATE_CONTACT_TIME: 'DUPLICATE_CONTACT_TIME',
@@ -274,19 +275,30 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
     });
   }
 
+  const controls = effective.flatMap((d, i) => (d === 0 ? [i + 1] : []));
+  if (controls.length > 0) {
+    planProblems.push({
+      code: CHECK_CODES.CONTROL_JAR,
+      severity: 'info',
+      message: `Jar ${controls.join(', ')} ${controls.length === 1 ? 'gets' : 'get'} no oxidant: a control (blank) that shows what the raw water does without oxidant. It is not a dose below the demand; the bracketing is judged on the dosed jars.`,
+    });
+  }
   let expected: number | null = null;
   if (input.estimateMgPerL === undefined) {
     planProblems.push({ code: CHECK_CODES.NO_ESTIMATE, severity: 'info', message: 'No stoichiometric estimate was given, so bracketing was not checked; give the sample readings or estimateMgPerL.' });
   } else {
     expected = input.estimateMgPerL + (input.backgroundMgPerL ?? 0);
-    const below = known.some((d) => d < expected!);
-    const above = known.some((d) => d > expected!);
+    // a control jar (dose 0) is a blank, not a bracket below the demand: judge on the dosed jars
+    const dosed = known.filter((d) => d > 0);
+    const below = dosed.some((d) => d < expected!);
+    const above = dosed.some((d) => d > expected!);
     if (!below || !above) {
       const side = !below && !above ? 'below or above' : !below ? 'below' : 'above';
+      const controlText = controls.length === 0 ? '' : `; jar ${controls.join(', ')} at 0 mg/L ${controls.length === 1 ? 'is a control' : 'are controls'}, not ${controls.length === 1 ? 'a dose' : 'doses'} below it`;
       planProblems.push({
         code: CHECK_CODES.NOT_BRACKETING,
         severity: 'error',
-        message: `No jar is ${side} the expected demand ${fmt(expected)} mg/L (${dosesLabel} ${known.map((d) => fmt(d, 3)).join(', ')} mg/L); add a jar ${side} it so the ladder brackets the demand.`,
+        message: `No ${controls.length > 0 ? 'dosed ' : ''}jar is ${side} the expected demand ${fmt(expected)} mg/L (${dosesLabel} ${dosed.map((d) => fmt(d, 3)).join(', ') || 'none'} mg/L${controlText}); add a dosed jar ${side} it so the ladder brackets the demand.`,
       });
     }
   }

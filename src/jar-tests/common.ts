@@ -222,6 +222,28 @@ export function pinkWaterThreshold(basis: string | undefined): { readonly mgPerL
   return { mgPerL: JAR_TEST_DEFAULTS.permanganateVisibleMgPerL.value, basis: JAR_TEST_DEFAULTS.permanganateVisibleMgPerL.basis };
 }
 
+/**
+ * The default detection limit of the residual reading, stated on the oxidant's own residual method
+ * (the method the plan's schedule names): permanganate is read by its colour or its absorbance at
+ * 525 nm, not by DPD. The value is a rule of thumb in every case; the caller gives the limit of the
+ * method and cell really used.
+ */
+export function defaultDetectionLimit(basis: string | undefined, residualMethod: string): StatedDefault<number> {
+  const value = JAR_TEST_DEFAULTS.detectionLimitMgPerL.value;
+  if (isPermanganateBasis(basis)) {
+    return {
+      value,
+      basis:
+        `common practice: the lower working limit of the permanganate residual reading (${residualMethod}), taken as about the ${JAR_TEST_DEFAULTS.permanganateVisibleMgPerL.value} mg/L as KMnO4 ` +
+        'from which permanganate colours water pink (a commonly quoted visibility threshold, from memory; verify); give the limit of the reading used (an absorbance in a short cell reads less well than the eye against white in a tall jar)',
+    };
+  }
+  if (/\bDPD\b/.test(residualMethod)) {
+    return { value, basis: `common practice: the lower working limit of a field colorimeter reading of the residual by ${residualMethod}` };
+  }
+  return { value, basis: `common practice: a usual lower working limit for a residual-oxidant reading by ${residualMethod}; give the limit of the method used` };
+}
+
 /** A stock strength (g/L) that gives at least `aliquotMl` for `doseMgPerL` in `jarVolumeL`: D·V/a, rounded down to 2 significant figures. */
 export function strengthForAliquot(doseMgPerL: number, jarVolumeL: number, aliquotMl: number): number {
   return new Dec(doseMgPerL).times(jarVolumeL).dividedBy(aliquotMl).toSignificantDigits(2, Dec.ROUND_DOWN).toNumber();
@@ -240,9 +262,38 @@ export function checkJarVolume(c: FieldCheck, V: number, maxL?: number): void {
   }
 }
 
-/** Format a number for a message: up to 4 significant figures, no trailing zeros. */
-export function fmt(x: number, sig = 4): string {
+/**
+ * A figure at or below this fraction of the size of the figures it goes with is rounding noise of
+ * floating-point arithmetic (an exact fit's standard error of 9e-17 beside a demand of 1.1 mg/L).
+ * The same rule as the PDF sheets (src/sheets/wording.ts), which the domain cannot import.
+ */
+export const NEGLIGIBLE_RELATIVE = 1e-9;
+
+/** Whether `x` is rounding noise against `scale`: zero, or at most NEGLIGIBLE_RELATIVE of |scale|. A non-finite x is not negligible. */
+export function isNegligible(x: number, scale: number): boolean {
+  if (!Number.isFinite(x)) return false;
+  if (x === 0) return true;
+  const s = Number.isFinite(scale) ? Math.abs(scale) : 0;
+  return Math.abs(x) <= NEGLIGIBLE_RELATIVE * s;
+}
+
+/**
+ * Format a number for a message: up to 4 significant figures, no trailing zeros, never in
+ * e-notation. With `scale` (the size of the figures it goes with, e.g. the test's mg/L), a value
+ * that is rounding noise against it (isNegligible) prints as 0.
+ */
+export function fmt(x: number, sig = 4, scale?: number): string {
   if (!Number.isFinite(x)) return String(x);
   if (x === 0) return '0';
-  return new Dec(x).toSignificantDigits(sig, Dec.ROUND_HALF_EVEN).toString();
+  if (scale !== undefined && isNegligible(x, scale)) return '0';
+  return new Dec(x).toSignificantDigits(sig, Dec.ROUND_HALF_EVEN).toFixed();
+}
+
+/** The size of a jar test's mg/L figures (estimate, doses, residuals): what a standard error or an intercept is judged against. */
+export function mgPerLScale(estimateMgPerL: number, jars: readonly { readonly doseMgPerL: number; readonly results: readonly { readonly residualOxidantMgPerL?: number | null }[] }[]): number {
+  return Math.max(
+    Math.abs(estimateMgPerL),
+    ...jars.map((j) => Math.abs(j.doseMgPerL)),
+    ...jars.flatMap((j) => j.results.map((r) => Math.abs(r.residualOxidantMgPerL ?? 0))),
+  );
 }

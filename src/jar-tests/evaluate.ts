@@ -6,7 +6,20 @@
  */
 import { DomainError } from '../core/errors.js';
 import { roundSig } from '../core/decimal.js';
-import { FieldCheck, JAR_TEST_DEFAULTS as D, checkJarVolume, fmt, isPermanganateBasis, pinkWaterThreshold, type DoseMargin, type JarProblem } from './common.js';
+import {
+  FieldCheck,
+  JAR_TEST_DEFAULTS as D,
+  checkJarVolume,
+  defaultDetectionLimit,
+  fmt,
+  isNegligible,
+  isPermanganateBasis,
+  mgPerLScale,
+  pinkWaterThreshold,
+  type DoseMargin,
+  type JarProblem,
+} from './common.js';
+import { defaultResidualMethod } from './product.js';
 import { inversePrediction, olsFit, studentTQuantile, type LinearFit } from './stats.js';
 
 export interface JarResultInput {
@@ -54,8 +67,10 @@ export interface EvaluateJarTestInput {
   readonly targets?: JarTargets;
   /** Default Fe and Mn targets when the caller gives none: the US secondary levels from the limits table. */
   readonly limits?: { readonly iron?: LimitTarget; readonly manganese?: LimitTarget };
-  /** Default 0.05 mg/L (common practice for DPD). */
+  /** Default 0.05 mg/L (common practice), stated on the residual method (see defaultDetectionLimit). */
   readonly detectionLimitMgPerL?: number;
+  /** How the residual was read; default the usual method for the basis (defaultResidualMethod), which the plan's schedule names. */
+  readonly residualMethod?: string;
   /** Contact time whose residuals are fitted; default the longest with residual readings. */
   readonly fitContactTimeMin?: number;
   /** Contact time the plant provides; the recommendation uses the longest bench time not beyond it. */
@@ -291,8 +306,12 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
   const basis = input.basis ?? 'oxidant';
   const problems: JarProblem[] = [];
   const notes: string[] = [];
-  const dl = input.detectionLimitMgPerL ?? D.detectionLimitMgPerL.value;
-  if (input.detectionLimitMgPerL === undefined) notes.push(`Detection limit ${dl} mg/L (${D.detectionLimitMgPerL.basis}).`);
+  const dlDefault = defaultDetectionLimit(basis, input.residualMethod ?? defaultResidualMethod(basis));
+  const dl = input.detectionLimitMgPerL ?? dlDefault.value;
+  if (input.detectionLimitMgPerL === undefined) notes.push(`Detection limit ${dl} mg/L (${dlDefault.basis}).`);
+  // the size of the test's mg/L figures: a standard error or an intercept far below it is rounding noise and prints as 0
+  const scale = mgPerLScale(input.estimateMgPerL, input.jars);
+  const slopeScale = (slope: number) => Math.max(Math.abs(slope), 1);
   const targets = resolveTargets(input, notes);
 
   const times = [...new Set(input.jars.flatMap((j) => j.results.map((r) => r.contactTimeMin)))].sort((a, b) => a - b);
@@ -440,7 +459,7 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
     problems.push({
       code: 'FIT_SLOPE_NOT_POSITIVE',
       severity: 'error',
-      message: `The residual at ${fmt(fitTime)} min does not rise with dose (slope ${fmt(f.slope, 3)}), so the line never crosses zero residual and gives no demand. Check the stock strength and the residual readings, or widen the ladder.`,
+      message: `The residual at ${fmt(fitTime)} min does not rise with dose (slope ${fmt(f.slope, 3, 1)}), so the line never crosses zero residual and gives no demand. Check the stock strength and the residual readings, or widen the ladder.`,
     });
   } else {
     const inv = inversePrediction(f, 0);
@@ -453,17 +472,17 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       method: `−intercept/slope of the residual line; standard error (s/|slope|)·√(1/n + (x0 − x̄)²/Sxx); 95 % interval ± t(0.975, ${f.degreesOfFreedom}) = ±${fmt(t, 4)} × se`,
     };
     backgroundDemand = { doseMgPerL: inv.x - input.estimateMgPerL, stdError: inv.stdError };
-    if (inv.x < 0) {
+    if (inv.x < 0 && !isNegligible(inv.x, scale)) {
       problems.push({
         code: 'APPARENT_DEMAND_NEGATIVE',
         severity: 'error',
-        message: `The fitted line crosses zero residual at ${fmt(inv.x, 3)} mg/L, below zero: the residuals exceed the doses. Check the stock strength and the residual method.`,
+        message: `The fitted line crosses zero residual at ${fmt(inv.x, 3, scale)} mg/L, below zero: the residuals exceed the doses. Check the stock strength and the residual method.`,
       });
     } else if (inv.x < input.estimateMgPerL) {
       problems.push({
         code: 'APPARENT_BELOW_ESTIMATE',
         severity: 'warning',
-        message: `The apparent demand ${fmt(inv.x, 3)} mg/L is below the stoichiometric estimate ${fmt(input.estimateMgPerL, 3)} mg/L: oxidation may be incomplete at ${fmt(fitTime)} min, or the sample readings are high. Check dissolved Fe and Mn in the jars.`,
+        message: `The apparent demand ${fmt(inv.x, 3, scale)} mg/L is below the stoichiometric estimate ${fmt(input.estimateMgPerL, 3)} mg/L: oxidation may be incomplete at ${fmt(fitTime)} min, or the sample readings are high. Check dissolved Fe and Mn in the jars.`,
       });
     }
     // No demand makes the residual rise faster than the dose: a slope above 1 beyond its error is a
@@ -476,7 +495,7 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
         code: 'FIT_SLOPE_ABOVE_ONE',
         severity: blocks ? 'error' : 'warning',
         message:
-          `The residual rises faster than the dose (slope ${fmt(f.slope, 3)} ± ${fmt(f.slopeStdError, 2)}), which no demand can do: the stock may be about ${fmt(excess * 100, 2)} % stronger than labelled, or the residual method reads high. ` +
+          `The residual rises faster than the dose (slope ${fmt(f.slope, 3)} ± ${fmt(f.slopeStdError, 2, slopeScale(f.slope))}), which no demand can do: the stock may be about ${fmt(excess * 100, 2)} % stronger than labelled, or the residual method reads high. ` +
           (blocks
             ? `Beyond ${fmt(SLOPE_BLOCK * 100)} % (common practice) the jar doses are not what they say; standardise the stock and the residual method and repeat the test.`
             : "Check the stock strength and the residual method's calibration."),
@@ -581,6 +600,7 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
   // each recommendation predicts from the line at its own contact time: the lowest dose meeting
   // the targets at the plant's bench time, the apparent demand at the fitted time
   let predict = lineAt(benchLine);
+  let recLine: LinearFit | null = benchLine;
   const contaminantTargets = targets.filter((t) => t.analyte === 'iron' || t.analyte === 'manganese');
   if (residualNotKept !== null && blocking.length === 0) problems.push(residualNotKept);
   if (residualNotKept !== null || blocking.length > 0) {
@@ -615,11 +635,12 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       message:
         `No jar met every target at ${fmt(benchTime)} min, up to jar ${highest.jar} at ${fmt(highest.doseMgPerL, 3)} mg/L` +
         `${highestResult && highestResult.failures.length > 0 ? ` (${highestResult.failures.join('; ')})` : ''}, so no plant dose is recommended. ` +
-        `${apparentDemand !== null ? `The apparent demand (${fmt(apparentDemand.doseMgPerL, 3)} mg/L) is where the oxidant is used up, not where ${contaminantTargets.map((t) => t.analyte).join(' and ')} meet their targets. ` : ''}` +
+        `${apparentDemand !== null ? `The apparent demand (${fmt(apparentDemand.doseMgPerL, 3, scale)} mg/L) is where the oxidant is used up, not where ${contaminantTargets.map((t) => t.analyte).join(' and ')} meet their targets. ` : ''}` +
         'Repeat with doses above the highest jar or a longer contact time, and check pH, filtration of the samples and the form of the metal (complexed or colloidal iron and manganese may need another treatment).',
     });
   } else if (apparentDemand !== null && apparentDemand.doseMgPerL >= 0 && f !== null && fitTime !== null) {
     predict = lineAt(f);
+    recLine = f;
     const base = apparentDemand.doseMgPerL + residualTarget;
     const m = withMargin(base);
     recommendedDose = {
@@ -630,7 +651,7 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       margin: { ...margin, mgPerL: m, basis: marginBasis },
       expectedResidualMgPerL: predict(base + m),
       reason:
-        `${targets.length === 0 ? 'No targets apply' : `No jar met every target at ${fmt(benchTime)} min`}: apparent demand ${fmt(apparentDemand.doseMgPerL, 3)} mg/L (at ${fmt(fitTime)} min) + target residual ${fmt(residualTarget)} mg/L, ${marginText} (${marginBasis}).`,
+        `${targets.length === 0 ? 'No targets apply' : `No jar met every target at ${fmt(benchTime)} min`}: apparent demand ${fmt(apparentDemand.doseMgPerL, 3, scale)} mg/L (at ${fmt(fitTime)} min) + target residual ${fmt(residualTarget)} mg/L, ${marginText} (${marginBasis}).`,
     };
     if (fitTime > benchTime) {
       problems.push({
@@ -646,12 +667,107 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       message: 'No jar met every target and the residual line gives no demand, so no plant dose can be recommended; repeat the test with a wider ladder.',
     });
   }
-  if (recommendedDose !== null && input.targets?.residualOxidantMaxMgPerL !== undefined && recommendedDose.expectedResidualMgPerL !== null && recommendedDose.expectedResidualMgPerL > input.targets.residualOxidantMaxMgPerL) {
+  // The edges of the ladder: a recommendation from its lowest jar says nothing of lower doses, and a
+  // higher dose that fails after a lower one passed (permanganate overdose reads as manganese) is a finding.
+  const benchRows = jars
+    .map((j) => ({ j, r: j.results.find((x) => x.contactTimeMin === benchTime) }))
+    .filter((x): x is { j: EvaluatedJar; r: EvaluatedResult } => x.r !== undefined)
+    .sort((a, b) => a.j.doseMgPerL - b.j.doseMgPerL);
+  if (recommendedDose !== null && recommendedDose.basis === 'lowest-dose-meeting-targets' && atBench !== undefined && atBench.jar !== null && benchRows.length > 0) {
+    const lowestRow = benchRows[0]!;
+    if (atBench.doseMgPerL !== null && atBench.doseMgPerL <= lowestRow.j.doseMgPerL) {
+      const d = atBench.doseMgPerL;
+      problems.push({
+        code: 'LOWEST_JAR_MEETS_TARGETS',
+        severity: 'warning',
+        jar: atBench.jar,
+        message:
+          d === 0
+            ? `The control jar (jar ${atBench.jar}, no oxidant) already met every target at ${fmt(benchTime)} min: the water may need no oxidant for these targets, and the recommendation rests on it. Check the raw-water readings and the targets before dosing.`
+            : `Jar ${atBench.jar}, the lowest dose of the ladder (${fmt(d, 3)} mg/L), already met every target at ${fmt(benchTime)} min, so the true minimum may lie below the ladder and the recommended dose may be more than the plant needs. ` +
+              `Extend the ladder down (e.g. doses from ${fmt(d / 4, 2)} to ${fmt(d, 3)} mg/L) and repeat to find it.`,
+      });
+    }
+  }
+  const atBenchTargets = lowest.find((l) => l.contactTimeMin === benchTime);
+  // A higher jar that fails only on the largest residual allowed is what a higher dose does; one that
+  // fails on iron, manganese or the residual it must keep is a finding.
+  const otherTargets = targets.filter((t) => t.analyte !== 'residualOxidantMax');
+  const failsOther = (r: EvaluatedResult) =>
+    judge(
+      {
+        contactTimeMin: r.contactTimeMin,
+        ...(r.residualOxidantMgPerL !== null ? { residualOxidantMgPerL: r.residualOxidantMgPerL } : {}),
+        ...(r.ironMgPerL !== null ? { ironMgPerL: r.ironMgPerL } : {}),
+        ...(r.manganeseMgPerL !== null ? { manganeseMgPerL: r.manganeseMgPerL } : {}),
+      },
+      otherTargets,
+    );
+  const failing =
+    atBenchTargets === undefined || atBenchTargets.jar === null
+      ? []
+      : atBenchTargets.higherDosesFailing.filter((jar) => {
+          const row = benchRows.find((x) => x.j.jar === jar);
+          return row !== undefined && failsOther(row.r).meets === false;
+        });
+  if (atBenchTargets !== undefined && atBenchTargets.jar !== null && failing.length > 0) {
+    const first = benchRows.find((x) => x.j.jar === failing[0]);
     problems.push({
-      code: 'RECOMMENDED_ABOVE_RESIDUAL_MAX',
+      code: 'HIGHER_DOSE_FAILS_TARGETS',
       severity: 'warning',
-      message: `At the recommended ${fmt(recommendedDose.doseMgPerL, 3)} mg/L the residual line predicts ${fmt(recommendedDose.expectedResidualMgPerL, 2)} mg/L, above the ${fmt(input.targets.residualOxidantMaxMgPerL)} mg/L allowed; use a smaller margin or confirm at the plant.`,
+      message:
+        `Jar ${atBenchTargets.jar} (${fmt(atBenchTargets.doseMgPerL!, 3)} mg/L) met every target at ${fmt(benchTime)} min, but jar(s) ${failing.join(', ')} at higher doses did not` +
+        `${first !== undefined && first.r.failures.length > 0 ? ` (jar ${first.j.jar}: ${first.r.failures.join('; ')})` : ''}: ` +
+        (isPermanganateBasis(basis)
+          ? 'an overdose of permanganate passes the filter and reads as manganese, so the dose may have a ceiling as well as a floor; '
+          : 'a result that gets worse as the dose rises points at a reading, a jar mix-up or an overdose effect; ') +
+        'check those jars and confirm the recommended dose at the plant before relying on it.',
     });
+  }
+
+  // The largest residual allowed caps the margin: the plant dose stays where the line predicts that residual.
+  const residualMax = input.targets?.residualOxidantMaxMgPerL;
+  if (recommendedDose !== null && residualMax !== undefined && recommendedDose.expectedResidualMgPerL !== null && recommendedDose.expectedResidualMgPerL > residualMax && recLine !== null && recLine.slope > 0) {
+    const rec: RecommendedDose = recommendedDose;
+    const base = rec.baseDoseMgPerL;
+    const atMax = (residualMax - recLine.intercept) / recLine.slope;
+    const baseResidual = predict(base);
+    if (atMax > base && baseResidual !== null && baseResidual <= residualMax) {
+      const capped = atMax - base;
+      const cappedMargin: RecommendedDose['margin'] =
+        rec.margin.kind === 'relative'
+          ? { kind: 'relative', fraction: base > 0 ? capped / base : 0, mgPerL: capped, basis: `${rec.margin.basis}; capped so the expected residual stays at the ${fmt(residualMax)} mg/L allowed` }
+          : { kind: 'absolute', mgPerL: capped, basis: `${rec.margin.basis}; capped so the expected residual stays at the ${fmt(residualMax)} mg/L allowed` };
+      problems.push({
+        code: 'MARGIN_CAPPED_AT_RESIDUAL_MAX',
+        severity: 'warning',
+        message:
+          `The ${marginText} margin (${fmt(rec.margin.mgPerL, 3, scale)} mg/L) would raise the expected residual to ${fmt(rec.expectedResidualMgPerL!, 2, scale)} mg/L, above the ${fmt(residualMax)} mg/L allowed: ` +
+          `the margin is capped at ${fmt(capped, 3, scale)} mg/L, so the recommended dose is ${fmt(base + capped, 3)} mg/L, where the residual line predicts ${fmt(residualMax)} mg/L. ` +
+          'The smaller margin leaves less room for a rise in raw-water demand; confirm the residual at the plant.',
+      });
+      recommendedDose = {
+        ...rec,
+        doseMgPerL: base + capped,
+        margin: cappedMargin,
+        expectedResidualMgPerL: residualMax,
+        reason: `${rec.reason.replace(/\.$/, '')}; margin capped at ${fmt(capped, 3, scale)} mg/L so the expected residual stays at the ${fmt(residualMax)} mg/L allowed.`,
+      };
+    } else {
+      // even the bench dose itself leaves more than the maximum: no margin, and say so
+      const noMargin: RecommendedDose['margin'] =
+        rec.margin.kind === 'relative'
+          ? { kind: 'relative', fraction: 0, mgPerL: 0, basis: `${rec.margin.basis}; none, since the bench dose already leaves more than the ${fmt(residualMax)} mg/L allowed` }
+          : { kind: 'absolute', mgPerL: 0, basis: `${rec.margin.basis}; none, since the bench dose already leaves more than the ${fmt(residualMax)} mg/L allowed` };
+      recommendedDose = { ...rec, doseMgPerL: base, margin: noMargin, expectedResidualMgPerL: baseResidual, reason: `${rec.reason.replace(/\.$/, '')}; no margin, since the bench dose already leaves more than the ${fmt(residualMax)} mg/L allowed.` };
+      problems.push({
+        code: 'RECOMMENDED_ABOVE_RESIDUAL_MAX',
+        severity: 'warning',
+        message:
+          `At the bench dose ${fmt(base, 3)} mg/L the residual line already predicts ${fmt(baseResidual ?? 0, 2, scale)} mg/L, above the ${fmt(residualMax)} mg/L allowed, so no margin is added. ` +
+          'Repeat the test with doses just below it to find a lower dose that still meets the targets, or confirm the residual at the plant.',
+      });
+    }
   }
 
   // Permanganate without a caller's maximum: the residual that would show pink water is the default limit to check.
@@ -671,15 +787,28 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
         message: `The residual line gives no residual at the recommended ${fmt(recommendedDose.doseMgPerL, 3)} mg/L, so it was not checked against the ${fmt(pink.mgPerL)} mg/L as KMnO4 at which permanganate shows pink (${pink.basis}); look for pink in the jar nearest that dose.`,
       });
     } else if (predicted > pink.mgPerL) {
+      const rec = recommendedDose;
+      // only what can still be done: a margin of 0 cannot be made smaller, an apparent demand above the dose is no way down
+      const options: string[] = [];
+      if (rec.margin.mgPerL > 0) options.push(`use a smaller margin (the ${marginText} adds ${fmt(rec.margin.mgPerL, 3, scale)} mg/L)`);
+      if (apparentDemand !== null && apparentDemand.doseMgPerL >= 0 && apparentDemand.doseMgPerL < rec.baseDoseMgPerL && rec.basis === 'lowest-dose-meeting-targets') {
+        options.push(`repeat the test with doses between the apparent demand (${fmt(apparentDemand.doseMgPerL, 3, scale)} mg/L) and ${fmt(rec.baseDoseMgPerL, 3)} mg/L to find a lower dose that still meets the targets`);
+      } else if (rec.basis === 'lowest-dose-meeting-targets') {
+        options.push(`repeat the test with doses just below ${fmt(rec.baseDoseMgPerL, 3)} mg/L to find a lower dose that still meets the targets`);
+      }
+      if (rec.basis === 'apparent-demand-plus-residual' && residualTarget > 0) options.push(`lower the ${fmt(residualTarget)} mg/L target residual`);
+      options.push('give targets.residualOxidantMax so the jars are judged on the residual too');
+      options.push('confirm at the plant by watching for pink ahead of the filters');
+      const last = options.pop()!;
       problems.push({
         code: 'RECOMMENDED_RESIDUAL_PINK',
         severity: 'warning',
         message:
-          `At the recommended ${fmt(recommendedDose.doseMgPerL, 3)} mg/L the residual line predicts ${fmt(predicted, 2)} mg/L of permanganate as KMnO4, above the ${fmt(pink.mgPerL)} mg/L default threshold at which water shows pink ` +
-          `(${pink.basis}). Expect pink water unless the residual is consumed or removed before the tap: use a smaller margin, feed nearer the apparent demand and confirm at the plant, or give targets.residualOxidantMax.`,
+          `At the recommended ${fmt(rec.doseMgPerL, 3)} mg/L the residual line predicts ${fmt(predicted, 2, scale)} mg/L of permanganate as KMnO4, above the ${fmt(pink.mgPerL)} mg/L default threshold at which water shows pink ` +
+          `(${pink.basis}). Expect pink water unless the residual is consumed or removed before the tap: ${options.length > 0 ? `${options.join(', ')}, or ${last}` : last}.`,
       });
     } else {
-      notes.push(`Residual at the recommended dose ${fmt(predicted, 2)} mg/L as KMnO4, at or below the ${fmt(pink.mgPerL)} mg/L default pink-water threshold (${pink.basis}).`);
+      notes.push(`Residual at the recommended dose ${fmt(predicted, 2, scale)} mg/L as KMnO4, at or below the ${fmt(pink.mgPerL)} mg/L default pink-water threshold (${pink.basis}).`);
     }
   }
 

@@ -17,6 +17,7 @@ import {
   doseFromAliquot,
   evenlySpaced,
   fmt,
+  isNegligible,
   isPermanganateBasis,
   pinkWaterThreshold,
   roundToResolution,
@@ -144,9 +145,9 @@ export interface JarTestPlan {
     readonly fromFraction?: number;
     /** Default ladder: the last dose is toFraction × the planned dose. */
     readonly toFraction?: number;
-    /** Some jar below and some jar above the expected demand. */
+    /** Some dosed jar below and some above the expected demand (a control jar at 0 mg/L is a blank, not a bracket). */
     readonly brackets: boolean;
-    /** Some jar below and some jar above the planned dose. */
+    /** Some dosed jar below and some above the planned dose. */
     readonly bracketsPlannedDose: boolean;
   };
   readonly jarVolumeL: number;
@@ -314,6 +315,7 @@ function planStock(
   C: number,
   choice: 'caller' | 'chosen',
   stockUsedMl: number,
+  res: number,
   warnings: JarProblem[],
   assumptions: string[],
 ): PlannedStock {
@@ -390,7 +392,10 @@ function planStock(
 
   if (s.kind === 'trade-solution') {
     const T = s.tradeStrengthGPerL;
-    const volFor = (flaskMl: number) => (C * flaskMl) / T;
+    // The trade solution is measured with a pipette read to the plan's pipette step: the volume is
+    // rounded to it, and the stock strength is what that volume really gives in the flask.
+    const exactFor = (flaskMl: number) => (C * flaskMl) / T;
+    const volFor = (flaskMl: number) => Math.max(res, roundToResolution(exactFor(flaskMl), res));
     const minVol = D.minTradeVolumeMl.value;
     let flask = candidates.find((f) => volFor(f) >= minVol);
     if (flask === undefined) {
@@ -398,11 +403,28 @@ function planStock(
       warnings.push({
         code: 'TRADE_VOLUME_BELOW_MINIMUM',
         severity: 'warning',
-        message: `Only ${fmt(volFor(flask))} mL of trade solution makes ${flask} mL of ${fmt(C)} g/L, below the ${minVol} mL a pipette measures well; dilute the trade solution 1 + 9 first.`,
+        message:
+          `Only ${fmt(exactFor(flask))} mL of trade solution makes ${flask} mL of ${fmt(C)} g/L, below the ${minVol} mL a pipette measures well; ` +
+          `measured as ${fmt(volFor(flask))} mL it gives ${fmt((volFor(flask) * T) / flask)} g/L, and half a pipette step is ${fmt((res / 2 / volFor(flask)) * 100, 2)} % of it. ` +
+          `Dilute the trade solution 1 + 9 first (10 mL to 100 mL: ${fmt(T / 10)} g/L), then pipette ${fmt(Math.max(res, roundToResolution((C * flask) / (T / 10), res)))} mL of that into the ${flask} mL flask.`,
       });
     }
-    assumptions.push(`Flask: the smallest standard flask that holds the stock wanted and needs at least ${minVol} mL of trade solution (${D.minTradeVolumeMl.basis}).`);
+    assumptions.push(
+      `Flask: the smallest standard flask that holds the stock wanted and needs at least ${minVol} mL of trade solution (${D.minTradeVolumeMl.basis}), the volume rounded to the ${fmt(res)} mL pipette step (${D.pipetteResolutionMl.basis}).`,
+    );
+    const exact = exactFor(flask);
     const vol = volFor(flask);
+    // a volume that is already a pipette step (2.0 mL of 125 g/L into 250 mL) keeps the strength aimed at
+    const rounded = !isNegligible(vol - exact, exact);
+    const real = rounded ? new Dec(vol).times(T).dividedBy(flask).toNumber() : C;
+    const aimed = choice === 'caller' ? 'the stock strength asked for' : 'the round strength aimed at';
+    if (rounded) {
+      warnings.push({
+        code: 'STOCK_STRENGTH_FROM_ROUNDED_VOLUME',
+        severity: 'info',
+        message: `${fmt(C)} g/L (${aimed}) needs ${fmt(exact)} mL of trade solution in the ${flask} mL flask, which a pipette read to ${fmt(res)} mL cannot measure; ${fmt(vol)} mL gives ${fmt(real)} g/L as ${basis}, and the aliquots are computed with ${fmt(real)} g/L.`,
+      });
+    }
     const mustMeasure = p.decays !== undefined && s.strengthMeasured !== true;
     if (p.decays !== undefined) {
       warnings.push({
@@ -415,12 +437,15 @@ function planStock(
       instructions.push(`First measure the trade solution's strength by ${p.decays.measureBy}; it decays in storage.`);
     }
     instructions.push(
-      `Pipette ${fmt(vol)} mL of trade solution (${fmt(T)} g/L as ${basis}) into a ${flask} mL volumetric flask and make up to the mark with reagent water: ${fmt(C)} g/L as ${basis}.`,
+      `Pipette ${fmt(vol)} mL of trade solution (${fmt(T)} g/L as ${basis}) into a ${flask} mL volumetric flask and make up to the mark with reagent water: ${fmt(real)} g/L as ${basis}.`,
     );
-    instructions.push(`Volume = strength × flask volume ÷ trade strength = ${fmt(C)} g/L × ${flask} mL ÷ ${fmt(T)} g/L = ${fmt(vol)} mL.`);
+    instructions.push(
+      `Strength = trade volume × trade strength ÷ flask volume = ${fmt(vol)} mL × ${fmt(T)} g/L ÷ ${flask} mL = ${fmt(real)} g/L` +
+        (rounded ? ` (${fmt(C)} g/L would need ${fmt(exact)} mL, rounded to the ${fmt(res)} mL pipette step); the aliquots use ${fmt(real)} g/L.` : '.'),
+    );
     if (p.decays !== undefined) instructions.push('Make the stock on the day of the test and confirm its strength before dosing; a dilute stock decays faster than the trade solution.');
     return {
-      strengthGPerL: C,
+      strengthGPerL: real,
       basis,
       strengthChoice: choice,
       flaskVolumeMl: flask,
@@ -601,16 +626,35 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
   }
 
   const stockChoice = chooseStock(input, targets, minAliquotMl, maxAliquotMl, warnings);
-  const C = stockChoice.strengthGPerL;
+  const nominalC = stockChoice.strengthGPerL;
   if (stockChoice.choice === 'chosen') {
-    assumptions.push(`Stock strength ${fmt(C)} g/L: the weakest round strength whose aliquots lie between ${fmt(minAliquotMl)} mL and ${fmt(maxAliquotMl)} mL where one exists (${D.stockStrengthsGPerL.basis}).`);
+    assumptions.push(`Stock strength ${fmt(nominalC)} g/L: the weakest round strength whose aliquots lie between ${fmt(minAliquotMl)} mL and ${fmt(maxAliquotMl)} mL where one exists (${D.stockStrengthsGPerL.basis}).`);
   }
-  const correct = stockChoice.correctDilution;
+  const ladderJars = (C: number, correct: boolean): PlannedJar[] =>
+    targets.map((target, i) => {
+      const exact = target === 0 ? 0 : aliquotForDose(target, C, V, correct);
+      const aliquotMl = roundToResolution(exact, res);
+      const actual = doseFromAliquot(aliquotMl, C, V);
+      return {
+        jar: i + 1,
+        targetDoseMgPerL: target,
+        aliquotExactMl: exact,
+        aliquotMl,
+        actualDoseMgPerL: actual,
+        aliquotFractionOfJar: new Dec(aliquotMl).dividedBy(new Dec(V).times(1000)).toNumber(),
+        expectedResidualMgPerL: Math.max(0, actual - expected),
+      };
+    });
+  // The stock is made first: a trade solution is measured to the pipette step, and the strength that
+  // rounded volume really gives (not the round strength aimed at) is the one the aliquots are computed with.
+  const firstJars = ladderJars(nominalC, stockChoice.correctDilution);
+  const stock = planStock(input, nominalC, stockChoice.choice, firstJars.reduce((sum, j) => sum + j.aliquotMl, 0), res, warnings, assumptions);
+  const C = stock.strengthGPerL;
+  const correct = C === nominalC ? stockChoice.correctDilution : targets.some((d) => aliquotForDose(d, C, V, false) > maxAliquotMl);
+  const jars: PlannedJar[] = C === nominalC ? firstJars : ladderJars(C, correct);
 
-  const jars: PlannedJar[] = targets.map((target, i) => {
-    const exact = target === 0 ? 0 : aliquotForDose(target, C, V, correct);
-    const aliquotMl = roundToResolution(exact, res);
-    const actual = doseFromAliquot(aliquotMl, C, V);
+  jars.forEach((j, i) => {
+    const { targetDoseMgPerL: target, aliquotExactMl: exact, aliquotMl } = j;
     if (target > 0 && aliquotMl === 0) {
       warnings.push({
         code: 'ALIQUOT_ROUNDS_TO_ZERO',
@@ -626,15 +670,6 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
         message: `Jar ${i + 1}: ${fmt(aliquotMl)} mL is below ${fmt(minAliquotMl)} mL; rounding to the pipette changes its dose by up to ${fmt((res / 2 / aliquotMl) * 100, 2)} %.`,
       });
     }
-    return {
-      jar: i + 1,
-      targetDoseMgPerL: target,
-      aliquotExactMl: exact,
-      aliquotMl,
-      actualDoseMgPerL: actual,
-      aliquotFractionOfJar: new Dec(aliquotMl).dividedBy(new Dec(V).times(1000)).toNumber(),
-      expectedResidualMgPerL: Math.max(0, actual - expected),
-    };
   });
 
   const dosed = jars.filter((j) => j.targetDoseMgPerL > 0);
@@ -665,20 +700,33 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
     });
   }
   const actualDoses = jars.map((j) => j.actualDoseMgPerL);
-  const brackets = expected > 0 && actualDoses.some((d) => d < expected) && actualDoses.some((d) => d > expected);
+  // A control jar (dose 0) is a blank: it shows what the raw water does without oxidant, not a dose
+  // below the demand, so the bracketing is judged on the dosed jars only.
+  const controls = jars.filter((j) => j.targetDoseMgPerL === 0).map((j) => j.jar);
+  const dosedDoses = jars.filter((j) => j.targetDoseMgPerL > 0).map((j) => j.actualDoseMgPerL);
+  const controlText = controls.length === 0 ? '' : ` (jar ${controls.join(', ')} at 0 mg/L ${controls.length === 1 ? 'is a control' : 'are controls'}, not ${controls.length === 1 ? 'a dose' : 'doses'} below it)`;
+  if (controls.length > 0) {
+    warnings.push({
+      code: 'CONTROL_JAR',
+      severity: 'info',
+      message: `Jar ${controls.join(', ')} ${controls.length === 1 ? 'gets' : 'get'} no oxidant: a control (blank) that shows what the raw water does without oxidant (settling, aeration while stirring). It is not a dose below the demand; the bracketing is judged on the dosed jars.`,
+    });
+  }
+  const dosedText = `The dosed jars (${dosedDoses.map((d) => fmt(d, 3)).join(', ')} mg/L)`;
+  const brackets = expected > 0 && dosedDoses.some((d) => d < expected) && dosedDoses.some((d) => d > expected);
   if (!brackets && expected > 0) {
     warnings.push({
       code: 'NOT_BRACKETING',
       severity: 'warning',
-      message: `The doses (${actualDoses.map((d) => fmt(d, 3)).join(', ')} mg/L) do not include one below and one above the expected demand ${fmt(expected)} mg/L; add a jar on the missing side.`,
+      message: `${dosedText} do not include one below and one above the expected demand ${fmt(expected)} mg/L${controlText}; add a dosed jar on the missing side.`,
     });
   }
-  const bracketsPlannedDose = planned > 0 && actualDoses.some((d) => d < planned) && actualDoses.some((d) => d > planned);
+  const bracketsPlannedDose = planned > 0 && dosedDoses.some((d) => d < planned) && dosedDoses.some((d) => d > planned);
   if (!bracketsPlannedDose && residual > 0) {
     warnings.push({
       code: 'NOT_BRACKETING_PLANNED_DOSE',
       severity: 'warning',
-      message: `The doses (${actualDoses.map((d) => fmt(d, 3)).join(', ')} mg/L) do not include one below and one above the planned dose ${fmt(planned)} mg/L (expected demand ${fmt(expected)} + target residual ${fmt(residual)}); add a jar on the missing side.`,
+      message: `${dosedText} do not include one below and one above the planned dose ${fmt(planned)} mg/L (expected demand ${fmt(expected)} + target residual ${fmt(residual)})${controlText}; add a dosed jar on the missing side.`,
     });
   }
   for (let i = 1; i < jars.length; i++) {
@@ -699,8 +747,18 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
     warnings.push({ code: 'TOO_FEW_JARS', severity: 'warning', message: `${jars.length} jars cannot give a demand line; the evaluation needs at least 3 jars that keep a residual.` });
   }
 
-  const stockUsedMl = jars.reduce((s, j) => s + j.aliquotMl, 0);
-  const stock = planStock(input, C, stockChoice.choice, stockUsedMl, warnings, assumptions);
+  const stockUsedMl = jars.reduce((sum, j) => sum + j.aliquotMl, 0);
+  if (stockUsedMl !== stock.stockUsedMl) {
+    const wanted = stockUsedMl * D.stockVolumeFactor.value;
+    if (wanted > stock.flaskVolumeMl && stock.stockWantedMl <= stock.flaskVolumeMl) {
+      warnings.push({
+        code: 'STOCK_VOLUME_LARGE',
+        severity: 'warning',
+        message: `The ladder uses ${fmt(stockUsedMl)} mL of the ${fmt(C)} g/L stock, more than half the ${stock.flaskVolumeMl} mL flask; make up two flasks.`,
+      });
+    }
+  }
+  const stockFinal: PlannedStock = stockUsedMl === stock.stockUsedMl ? stock : { ...stock, stockUsedMl, stockWantedMl: stockUsedMl * D.stockVolumeFactor.value };
 
   const times = [...new Set(input.contactTimesMin ?? D.contactTimesMin.value)].sort((a, b) => a - b);
   if (input.contactTimesMin === undefined) assumptions.push(`Contact times ${times.join(', ')} min (${D.contactTimesMin.basis}).`);
@@ -716,7 +774,7 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
     minAliquotMl,
     maxAliquotMl,
     dilutionCorrected: correct,
-    stock,
+    stock: stockFinal,
     jars,
     schedule,
     warnings,

@@ -8,7 +8,7 @@
  * as a standalone SVG document.
  */
 import { roundSig } from '../core/decimal.js';
-import { fmt } from './common.js';
+import { fmt, isNegligible, mgPerLScale } from './common.js';
 import type { JarTestEvaluation } from './evaluate.js';
 
 export type MarkerShape = 'circle' | 'square' | 'triangle' | 'diamond';
@@ -124,6 +124,8 @@ export function residualPlotData(evaluation: JarTestEvaluation): ResidualPlotDat
     }));
 
   const apparent = evaluation.apparentDemand;
+  // the size of the test's mg/L figures: an intercept or a standard error far below it is rounding noise (prints as 0)
+  const scale = mgPerLScale(evaluation.estimateMgPerL, evaluation.jars.map((j) => ({ doseMgPerL: j.doseMgPerL, results: j.results })));
   const xs = [...evaluation.jars.map((j) => j.doseMgPerL), ...(apparent !== null && apparent.doseMgPerL > 0 ? [apparent.doseMgPerL] : [])];
   const ys = [...series.flatMap((s) => s.points.map((p) => p.y)), evaluation.detectionLimitMgPerL];
   const xt = niceTicks(0, Math.max(...xs) * 1.05);
@@ -142,7 +144,8 @@ export function residualPlotData(evaluation: JarTestEvaluation): ResidualPlotDat
     if (m > 0 && yAt(x2) > yt.max) x2 = xAt(yt.max);
     if (m < 0 && yAt(x1) > yt.max) x1 = xAt(yt.max);
     if (m < 0 && yAt(x2) < 0) x2 = xAt(0);
-    fitLabel = `fit at ${fmt(fit.contactTimeMin)} min: residual = ${fmt(m, 3)} × dose ${b < 0 ? '−' : '+'} ${fmt(Math.abs(b), 3)} (r² = ${Number.isFinite(fit.r2) ? roundSig(fit.r2, 3) : 'n/a'}, n = ${fit.n})`;
+    const slopeScale = Math.max(Math.abs(m), 1);
+    fitLabel = `fit at ${fmt(fit.contactTimeMin)} min: residual = ${fmt(m, 3, slopeScale)} × dose ${b < 0 && !isNegligible(b, scale) ? '−' : '+'} ${fmt(Math.abs(b), 3, scale)} (r² = ${Number.isFinite(fit.r2) ? roundSig(fit.r2, 3) : 'n/a'}, n = ${fit.n})`;
     lines.push({ id: 'fit', label: fitLabel, kind: 'fit', color: FIT_COLOR, dash: null, from: { x: x1, y: yAt(x1) }, to: { x: x2, y: yAt(x2) } });
   }
   lines.push({
@@ -160,7 +163,7 @@ export function residualPlotData(evaluation: JarTestEvaluation): ResidualPlotDat
     markers.push({
       id: 'apparent-demand',
       kind: 'zero-crossing',
-      label: `apparent demand ${fmt(apparent.doseMgPerL, 3)} ± ${fmt(apparent.stdError, 2)} mg/L`,
+      label: `apparent demand ${fmt(apparent.doseMgPerL, 3, scale)} ± ${fmt(apparent.stdError, 2, Math.max(Math.abs(apparent.doseMgPerL), scale))} mg/L`,
       x: apparent.doseMgPerL,
       y: 0,
       color: CROSS_COLOR,
@@ -176,7 +179,7 @@ export function residualPlotData(evaluation: JarTestEvaluation): ResidualPlotDat
 
   return {
     title: `Residual oxidant against applied dose (${evaluation.oxidant})`,
-    subtitle: `${fitLabel}${apparent !== null ? `; apparent demand ${fmt(apparent.doseMgPerL, 3)} mg/L as ${basis}` : '; no zero crossing'}`,
+    subtitle: `${fitLabel}${apparent !== null ? `; apparent demand ${fmt(apparent.doseMgPerL, 3, scale)} mg/L as ${basis}` : '; no zero crossing'}`,
     xAxis: { label: `Applied dose (mg/L as ${basis})`, unit: 'mg/L', min: xt.min, max: xt.max, ticks: xt.ticks },
     yAxis: { label: `Residual oxidant (mg/L as ${basis})`, unit: 'mg/L', min: yt.min, max: yt.max, ticks: yt.ticks },
     series,

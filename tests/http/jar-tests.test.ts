@@ -251,6 +251,18 @@ describe('POST /api/v1/jar-tests/plans', () => {
     expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toContain('/targetResidual/value');
   });
 
+  it.each(['hydrogen-peroxide', 'sodium-permanganate'])('%s: the trade solution is pipetted to the 0.1 mL step and the stock strength is what that volume gives', async (oxidant) => {
+    const r = await post('/api/v1/jar-tests/plans', { oxidant, sample: { pH: 7.4, temperatureC: 11, iron: mgL(3) }, jarVolume: { value: 2, unit: 'L' }, stockStrength: { value: 0.5, unit: 'g/L' } });
+    expect(r.statusCode, r.body).toBe(200);
+    const st = r.json().stock;
+    const v = st.preparation.tradeVolume.value;
+    expect(Math.abs(v * 10 - Math.round(v * 10))).toBeLessThan(1e-9); // a multiple of 0.1 mL
+    // strength = trade volume × trade strength ÷ flask volume, and the aliquots use it
+    expect(st.strength.value).toBeCloseTo((v * st.preparation.tradeStrength.value) / st.flaskVolume.value, 12);
+    for (const j of r.json().jars) expect(j.actualDose.value).toBeCloseTo((j.aliquotMl * st.strength.value) / (2 + j.aliquotMl / 1000), 12);
+    expect(st.instructions.join(' ')).not.toMatch(/Pipette \d+\.\d{2,} mL/);
+  });
+
   it('plantId: the target residual and the product on hand come from the stored profile, as for POST /api/v1/doses', async () => {
     // The invented demo plant (tables/demo/demo-plant.json): sodium hypochlorite 12.5 % w/v (125 g/L), residual 1.0 mg/L.
     const sample = { pH: 7.4, temperatureC: 11, iron: mgL(1.2) };
@@ -629,6 +641,38 @@ describe('POST /api/v1/jar-tests/evaluations', () => {
     const r = await post('/api/v1/jar-tests/evaluations', { ...body, jars: twice }, asAdmin);
     expect(r.statusCode).toBe(400);
     expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toContain('/jars/2/results/1/contactTimeMin');
+  });
+
+  it('plantId: the evaluation is filed under the plant and its profile version, listed by GET /api/v1/sheets?plantId, and the sheet names the plant', async () => {
+    const r = await post('/api/v1/jar-tests/evaluations', { ...body, plantId: 'demo-groundwater' }, asAdmin);
+    expect(r.statusCode, r.body).toBe(201);
+    const ev = r.json();
+    const plant = (await app.inject({ url: '/api/v1/plants/demo-groundwater', headers: asAdmin })).json();
+    const list = (await app.inject({ url: '/api/v1/sheets?plantId=demo-groundwater', headers: asAdmin })).json().sheets as Record<string, any>[];
+    const listed = list.find((x) => x.id === ev.id)!;
+    expect(listed).toBeDefined();
+    expect(listed.plantId).toBe('demo-groundwater');
+    // an evaluation without plantId is not filed under the plant
+    expect(list.map((x) => x.id)).not.toContain(created.id);
+    expect(listed.plantVersion).toBe(plant.version); // the profile version in force, as a dose sheet records it
+    expect(listed.kind).toBe('jar-test-evaluation');
+    const txt = pdfText(pdfFile((await app.inject({ url: ev.pdfUrl })).rawPayload, 'jar-eval-plant'));
+    expect(txt).toContain('Demo groundwater plant (invented)');
+    expect(txt).toContain('profile demo-groundwater');
+    const v = await app.inject({ url: `/api/v1/sheets/${ev.id}/verification` });
+    expect(v.statusCode).toBe(200);
+  });
+
+  it.each([
+    ['an unknown plant', 'no-such-plant', 404, 'PLANT_NOT_FOUND'],
+    ['an empty id', '', 400, undefined],
+  ])('plantId naming %s: %s, pointing at /plantId, as plans do', async (_what, plantId, status, code) => {
+    const r = await post('/api/v1/jar-tests/evaluations', { ...body, plantId }, asAdmin);
+    expect(r.statusCode).toBe(status);
+    if (code !== undefined) expect(r.json().code).toBe(code);
+    expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toContain('/plantId');
+    const plan = await post('/api/v1/jar-tests/plans', { oxidant: 'potassium-permanganate', sample: SAMPLE, jarVolume: { value: 2, unit: 'L' }, plantId });
+    expect(plan.statusCode).toBe(status);
   });
 
   it('unknown evaluation id: 404; malformed id: 400', async () => {

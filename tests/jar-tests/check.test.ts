@@ -209,3 +209,27 @@ describe('checkJarPlan: property', () => {
     );
   });
 });
+
+describe('checkJarPlan: a control jar (dose 0) is a blank, not a bracket', () => {
+  const withControl = (doses: number[]): CheckJarPlanInput => ({
+    ...SOUND,
+    estimateMgPerL: 0.572,
+    jars: doses.map((d) => ({ doseMgPerL: d, aliquotMl: d * 2 })),
+  });
+
+  it('[0, 1, 2] against 0.572 mg/L: no dosed jar below the demand, NOT_BRACKETING (error) naming the control', () => {
+    const r = checkJarPlan(withControl([0, 1, 2]));
+    const nb = r.problems.find((p) => p.code === CHECK_CODES.NOT_BRACKETING)!;
+    expect(nb.severity).toBe('error');
+    expect(nb.message).toContain('No dosed jar is below the expected demand 0.572 mg/L');
+    expect(nb.message).toContain('jar 1 at 0 mg/L is a control');
+    expect(allCodes(r)).toContain(CHECK_CODES.CONTROL_JAR);
+    expect(r.ok).toBe(false);
+  });
+
+  it('[0, 0.5, 1, 2] brackets it on the dosed jars; the control is an info', () => {
+    const r = checkJarPlan(withControl([0, 0.5, 1, 2]));
+    expect(allCodes(r)).not.toContain(CHECK_CODES.NOT_BRACKETING);
+    expect(r.problems.find((p) => p.code === CHECK_CODES.CONTROL_JAR)!.severity).toBe('info');
+  });
+});

@@ -2,12 +2,16 @@ import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import {
   aliquotForDose,
+  defaultDetectionLimit,
   doseFromAliquot,
   evenlySpaced,
+  fmt,
   isMultipleOf,
+  isNegligible,
   nominalDoseFromAliquot,
   roundToResolution,
 } from '../../src/jar-tests/common.js';
+import { defaultResidualMethod } from '../../src/jar-tests/product.js';
 import { gaussian, mulberry32 } from './prng.js';
 
 describe('aliquot and dose arithmetic (worked by hand)', () => {
@@ -88,5 +92,47 @@ describe('the test PRNG', () => {
     // sampling error of the mean is 1/√20000 ≈ 0.007
     expect(Math.abs(mean)).toBeLessThan(0.03);
     expect(Math.abs(sd - 1)).toBeLessThan(0.03);
+  });
+});
+
+describe('fmt and isNegligible: no floating-point noise in messages', () => {
+  // Rule shared with the PDF sheets (src/sheets/wording.ts): at or below 1e-9 of the figures' scale is rounding noise.
+  it.each([
+    [9e-17, undefined, '0.00000000000000009'], // without a scale: never e-notation
+    [9e-17, 1.1, '0'], // an exact fit's standard error against a 1.1 mg/L demand
+    [1.1e-9, 1.1, '0'], // at the 1e-9 relative bound
+    [1.2e-9, 1.1, '0.0000000012'], // just above it: a real, if tiny, figure
+    [0.05, 1.1, '0.05'],
+    [-2.7755575615628914e-17, 2, '0'],
+    [1.23456, undefined, '1.235'],
+    [1e21, undefined, '1000000000000000000000'],
+  ])('fmt(%s, 4, %s) = %s', (x, scale, text) => {
+    expect(fmt(x, 4, scale)).toBe(text);
+    expect(fmt(x, 4, scale)).not.toMatch(/e[+-]?\d/);
+  });
+
+  it.each([
+    [0, 0, true],
+    [1e-17, 0, false],
+    [1e-10, 1, true],
+    [Number.NaN, 1, false],
+    [1e-10, Number.POSITIVE_INFINITY, false],
+  ])('isNegligible(%s, %s) = %s', (x, scale, expected) => {
+    expect(isNegligible(x, scale)).toBe(expected);
+  });
+});
+
+describe('defaultDetectionLimit: stated on the residual method of the oxidant', () => {
+  it.each([
+    ['KMnO4', '525 nm', 'DPD'],
+    ['NaMnO4', 'pink', 'DPD'],
+    ['Cl2', 'DPD', '525 nm'],
+    ['O3', 'indigo', 'DPD'],
+  ])('%s: the basis names %s, not %s', (basis, named, notNamed) => {
+    const d = defaultDetectionLimit(basis, defaultResidualMethod(basis));
+    expect(d.value).toBe(0.05);
+    expect(d.basis).toContain(named);
+    expect(d.basis).not.toContain(notNamed);
+    expect(d.basis).toContain('common practice');
   });
 });

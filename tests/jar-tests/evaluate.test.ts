@@ -305,16 +305,29 @@ describe('evaluateJarTest: worked example from the stated model', () => {
     expect(strong.problems.map((p) => p.code)).toContain('NO_RECOMMENDATION');
   });
 
-  it('a residual maximum that the margin would exceed is warned about', () => {
+  it('a residual maximum that the margin would exceed caps the margin, so the expected residual stays at the maximum', () => {
     // +10 %: recommended 2.75 predicts 2.75 − 1.7 = 1.05 mg/L on the 15 min line: within 1.1, above 1.0
     const e = evaluateJarTest({ ...MODEL, targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05, residualOxidantMaxMgPerL: 1.1 } });
-    expect(e.problems.map((p) => p.code)).not.toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
+    expect(e.problems.map((p) => p.code)).not.toContain('MARGIN_CAPPED_AT_RESIDUAL_MAX');
+    expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(2.75, 10);
+    // 1.0 allowed: the line reaches 1.0 at 1.0 + 1.7 = 2.7 mg/L, so the margin is 0.2 mg/L (8 %), not 0.25
     const tight = evaluateJarTest({ ...MODEL, targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05, residualOxidantMaxMgPerL: 1.0 } });
-    expect(tight.problems.map((p) => p.code)).toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
+    const capped = tight.problems.find((p) => p.code === 'MARGIN_CAPPED_AT_RESIDUAL_MAX')!;
+    expect(capped.severity).toBe('warning');
+    expect(capped.message).toContain('capped at 0.2 mg/L');
+    expect(tight.recommendedDose!.doseMgPerL).toBeCloseTo(2.7, 10);
+    expect(tight.recommendedDose!.expectedResidualMgPerL).toBeCloseTo(1.0, 10);
+    expect(tight.recommendedDose!.margin).toMatchObject({ kind: 'relative' });
+    expect(tight.recommendedDose!.margin.mgPerL).toBeCloseTo(0.2, 10);
+    expect(tight.recommendedDose!.reason).toContain('margin capped');
+    expect(tight.problems.map((p) => p.code)).not.toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
+    // jars above 2.5 mg/L fail only on the residual maximum: what a higher dose does, not a finding
+    expect(tight.problems.map((p) => p.code)).not.toContain('HIGHER_DOSE_FAILS_TARGETS');
+    // an absolute margin is capped the same way: 2.5 + 0.5 = 3.0 would predict 1.3 mg/L; capped at 2.7
     const f = evaluateJarTest({ ...MODEL, margin: { kind: 'absolute', mgPerL: 0.5 }, targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05, residualOxidantMaxMgPerL: 1.0 } });
-    // lowest meeting at 15 min now also needs residual ≤ 1.0: jar 4 (0.8 at 15 min) → 2.5 + 0.5 = 3.0 → line 1.3 > 1.0
-    expect(f.recommendedDose!.doseMgPerL).toBeCloseTo(3.0, 10);
-    expect(f.problems.map((p) => p.code)).toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
+    expect(f.recommendedDose!.doseMgPerL).toBeCloseTo(2.7, 10);
+    expect(f.recommendedDose!.margin).toMatchObject({ kind: 'absolute' });
+    expect(f.problems.map((p) => p.code)).toContain('MARGIN_CAPPED_AT_RESIDUAL_MAX');
   });
 });
 
@@ -341,7 +354,8 @@ describe('evaluateJarTest: pink water from residual permanganate', () => {
     expect(codesOf(e)).not.toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
     // + 0.5 mg/L on the 2.5 mg/L jar: 3.0 mg/L predicts 3.0 − 1.7 = 1.3 mg/L, above the caller's 1.0 (their limit, not the default)
     const f = evaluateJarTest({ ...PMN, margin: { kind: 'absolute', mgPerL: 0.5 }, targets: { ...PMN.targets, residualOxidantMaxMgPerL: 1.0 } });
-    expect(codesOf(f)).toContain('RECOMMENDED_ABOVE_RESIDUAL_MAX');
+    expect(codesOf(f)).toContain('MARGIN_CAPPED_AT_RESIDUAL_MAX');
+    expect(f.recommendedDose!.doseMgPerL).toBeCloseTo(2.7, 10); // capped where the line predicts 1.0: 1.0 + 1.7
     expect(codesOf(f)).not.toContain('RECOMMENDED_RESIDUAL_PINK');
   });
 
@@ -458,5 +472,93 @@ describe('evaluateJarTest: recovers a known demand from noisy synthetic results'
       }),
       { seed: 31337, numRuns: 200 },
     );
+  });
+});
+
+describe('evaluateJarTest: the edges of the ladder', () => {
+  const codesOf = (e: { problems: readonly { code: string }[] }) => e.problems.map((p) => p.code);
+
+  it('the lowest jar already meets every target: LOWEST_JAR_MEETS_TARGETS (warning), extend the ladder down', () => {
+    // iron ≤ 0.7 and manganese ≤ 0.2 are met by every jar of the model, so jar 1 (1.0 mg/L) is the lowest meeting them
+    const e = evaluateJarTest({ ...MODEL, targets: { ironMgPerL: 0.7, manganeseMgPerL: 0.2 } });
+    expect(e.recommendedDose!.baseDoseMgPerL).toBe(1.0);
+    const w = e.problems.find((p) => p.code === 'LOWEST_JAR_MEETS_TARGETS')!;
+    expect(w.severity).toBe('warning');
+    expect(w.jar).toBe(1);
+    expect(w.message).toContain('true minimum may lie below the ladder');
+    expect(w.message).toContain('Extend the ladder down');
+    // the worked model's lowest jar meeting the targets is inside the ladder: no such warning
+    expect(codesOf(evaluateJarTest(MODEL))).not.toContain('LOWEST_JAR_MEETS_TARGETS');
+  });
+
+  it('a control jar (no oxidant) that meets every target says the water may need no oxidant', () => {
+    const jars = [{ doseMgPerL: 0, results: [{ contactTimeMin: 15, residualOxidantMgPerL: 0, ironMgPerL: 0.1, manganeseMgPerL: 0.02 }] }, ...modelJars()];
+    const e = evaluateJarTest({ ...MODEL, jars });
+    const w = e.problems.find((p) => p.code === 'LOWEST_JAR_MEETS_TARGETS')!;
+    expect(w.message).toContain('control jar');
+    expect(w.message).toContain('may need no oxidant');
+  });
+
+  it('a higher dose that fails after a lower one passed: HIGHER_DOSE_FAILS_TARGETS (warning), not only a note', () => {
+    // permanganate overdose: jar 6 (3.5 mg/L) reads 0.2 mg/L Mn at 15 min (dissolved permanganate reads as Mn)
+    const jars = modelJars().map((j, i) => (i === 5 ? { ...j, results: j.results.map((r) => (r.contactTimeMin === 15 ? { ...r, manganeseMgPerL: 0.2 } : r)) } : j));
+    const e = evaluateJarTest({ ...PMN, jars });
+    const w = e.problems.find((p) => p.code === 'HIGHER_DOSE_FAILS_TARGETS')!;
+    expect(w.severity).toBe('warning');
+    expect(w.message).toContain('jar(s) 6');
+    expect(w.message).toContain('manganese 0.2 > 0.05 mg/L');
+    expect(w.message).toContain('reads as manganese');
+    expect(e.lowestDoseMeetingTargets.find((l) => l.contactTimeMin === 15)!.higherDosesFailing).toEqual([6]);
+    expect(codesOf(evaluateJarTest(PMN))).not.toContain('HIGHER_DOSE_FAILS_TARGETS');
+  });
+
+  it('the line predicts more than the maximum at the bench dose itself: no margin, RECOMMENDED_ABOVE_RESIDUAL_MAX says so', () => {
+    // Invented readings at 15 min: doses 1, 2, 3, 4 mg/L, residuals 0.1, 0.5, 1.9, 2.9; iron ≤ 0.3 from 2 mg/L on.
+    // Jar 2 meets iron and the 0.6 mg/L maximum as read (0.5), but the least-squares line over the four jars,
+    // slope Sxy/Sxx = 4.9/5 = 0.98 and intercept 1.35 − 0.98 × 2.5 = −1.1 (worked by hand), predicts
+    // 0.98 × 2 − 1.1 = 0.86 mg/L there: above 0.6, so there is no margin to cap.
+    const jars = [[1, 0.1, 0.5], [2, 0.5, 0.2], [3, 1.9, 0.1], [4, 2.9, 0.1]].map(([d, r, fe]) => ({ doseMgPerL: d!, results: [{ contactTimeMin: 15, residualOxidantMgPerL: r!, ironMgPerL: fe! }] }));
+    const e = evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: 1, jarVolumeL: 1, jars, targets: { ironMgPerL: 0.3, residualOxidantMaxMgPerL: 0.6 } });
+    expect(e.fit!.slope).toBeCloseTo(0.98, 12);
+    expect(e.recommendedDose!.doseMgPerL).toBe(2);
+    expect(e.recommendedDose!.margin.mgPerL).toBe(0);
+    expect(e.recommendedDose!.expectedResidualMgPerL).toBeCloseTo(0.86, 12);
+    const w = e.problems.find((p) => p.code === 'RECOMMENDED_ABOVE_RESIDUAL_MAX')!;
+    expect(w.message).toContain('already predicts 0.86 mg/L');
+    expect(w.message).toContain('no margin is added');
+    expect(codesOf(e)).not.toContain('MARGIN_CAPPED_AT_RESIDUAL_MAX');
+  });
+});
+
+describe('evaluateJarTest: suggestions and the detection limit follow the oxidant', () => {
+  it('permanganate with no margin: RECOMMENDED_RESIDUAL_PINK does not suggest a smaller margin', () => {
+    const w = evaluateJarTest(PMN).problems.find((p) => p.code === 'RECOMMENDED_RESIDUAL_PINK')!;
+    expect(evaluateJarTest(PMN).recommendedDose!.margin.mgPerL).toBe(0);
+    expect(w.message).not.toContain('smaller margin');
+    expect(w.message).toContain('doses between the apparent demand');
+    expect(w.message).toContain('targets.residualOxidantMax');
+  });
+
+  it('permanganate with a caller margin of +10 %: the smaller margin is suggested, with what it adds', () => {
+    const w = evaluateJarTest({ ...PMN, margin: { kind: 'relative', fraction: 0.1 } }).problems.find((p) => p.code === 'RECOMMENDED_RESIDUAL_PINK')!;
+    expect(w.message).toContain('use a smaller margin (the +10 % adds 0.25 mg/L)');
+  });
+
+  it('the default detection limit is stated on the residual method: colour / 525 nm for permanganate, DPD for chlorine', () => {
+    const pmn = evaluateJarTest(PMN).notes.find((n) => n.startsWith('Detection limit'))!;
+    expect(pmn).toContain('525 nm');
+    expect(pmn).not.toContain('DPD');
+    const cl = evaluateJarTest(MODEL).notes.find((n) => n.startsWith('Detection limit'))!;
+    expect(cl).toContain('DPD');
+    const own = evaluateJarTest({ ...MODEL, residualMethod: 'amperometric titration' }).notes.find((n) => n.startsWith('Detection limit'))!;
+    expect(own).toContain('amperometric titration');
+  });
+
+  it('an exact fit whose line crosses zero at 0 mg/L within rounding is not APPARENT_DEMAND_NEGATIVE', () => {
+    // residual = dose exactly (no demand): −intercept/slope is 0 or a rounding residue of ~1e-17
+    const jars = [0.5, 1.1, 1.7, 2.3].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: d }] }));
+    const e = evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: 0, jarVolumeL: 1, jars });
+    expect(e.problems.map((p) => p.code)).not.toContain('APPARENT_DEMAND_NEGATIVE');
+    for (const p of e.problems) expect(p.message).not.toMatch(/\d[eE][+-]?\d/);
   });
 });

@@ -394,3 +394,74 @@ describe('planJarTest: properties', () => {
     );
   });
 });
+
+describe('planJarTest: a trade solution is measured to the pipette step', () => {
+  // Invented trade strengths of the size of the products: hydrogen peroxide about 35 % w/w (≈ 395.5 g/L as H2O2),
+  // sodium permanganate 40 % (≈ 610.2 g/L as KMnO4). Volume = strength × flask ÷ trade strength:
+  //   0.5 g/L × 1000 mL ÷ 395.5 g/L = 1.264 mL → 1.3 mL at 0.1 mL, which gives 1.3 × 395.5 ÷ 1000 = 0.51415 g/L;
+  //   1.0 g/L × 1000 mL ÷ 610.2 g/L = 1.639 mL → 1.6 mL, which gives 1.6 × 610.2 ÷ 1000 = 0.97632 g/L.
+  const H2O2: JarProductFacts = { name: 'hydrogen peroxide', basis: 'H2O2', stock: { kind: 'trade-solution', tradeStrengthGPerL: 395.5 } };
+  const NAMNO4: JarProductFacts = { name: 'sodium permanganate', basis: 'KMnO4', activeSpecies: 'MnO4-', stock: { kind: 'trade-solution', tradeStrengthGPerL: 610.2 } };
+
+  it.each([
+    ['hydrogen peroxide 0.5 g/L', H2O2, 0.5, 395.5, 1.3],
+    ['sodium permanganate 1.0 g/L', NAMNO4, 1.0, 610.2, 1.6],
+  ])('%s: the trade volume is rounded to 0.1 mL and the stock strength is what that volume gives', (_n, product, C, T, volume) => {
+    const plan = planJarTest(base({ product, stockStrengthGPerL: C, doses: [1, 2, 3, 4, 5, 6], jarVolumeL: 2, flaskVolumesMl: [1000] }));
+    const prep = plan.stock.preparation;
+    expect(prep.kind).toBe('dilute');
+    if (prep.kind !== 'dilute') return;
+    expect(prep.tradeVolumeMl).toBe(volume);
+    expect(isMultipleOf(prep.tradeVolumeMl, 0.1)).toBe(true);
+    expect(plan.stock.strengthGPerL).toBeCloseTo((volume * T) / 1000, 12);
+    expect(plan.stock.instructions.join(' ')).toContain(`Pipette ${volume} mL of trade solution`);
+    expect(plan.stock.instructions.join(' ')).not.toMatch(/\d\.\d{2,} mL of trade/);
+    expect(codes(plan)).toContain('STOCK_STRENGTH_FROM_ROUNDED_VOLUME');
+    // the aliquots and the doses they give use the strength really made
+    const real = plan.stock.strengthGPerL;
+    for (const j of plan.jars) expect(j.actualDoseMgPerL).toBeCloseTo((j.aliquotMl * real) / (2 + j.aliquotMl / 1000), 12);
+  });
+
+  it('a coarser pipette step (0.5 mL) rounds the trade volume to it', () => {
+    const plan = planJarTest(base({ product: H2O2, stockStrengthGPerL: 1, doses: [2, 4, 6, 8], jarVolumeL: 2, flaskVolumesMl: [1000], pipetteResolutionMl: 0.5, minAliquotMl: 1 }));
+    // 1 × 1000 ÷ 395.5 = 2.528 mL → 2.5 mL → 0.98875 g/L
+    expect(plan.stock.preparation).toMatchObject({ kind: 'dilute', tradeVolumeMl: 2.5 });
+    expect(plan.stock.strengthGPerL).toBeCloseTo((2.5 * 395.5) / 1000, 12);
+  });
+
+  it('hypochlorite: 1.0 g/L from 125 g/L in 250 mL is exactly 2.0 mL, so the strength is kept and nothing is said', () => {
+    const plan = planJarTest(base({ oxidant: 'sodium-hypochlorite', product: NAOCL, stockStrengthGPerL: 1, estimateMgPerL: 1.2, jarVolumeL: 1, doses: [0.5, 1, 1.5, 2] }));
+    expect(plan.stock.flaskVolumeMl).toBe(250);
+    expect(plan.stock.preparation).toMatchObject({ kind: 'dilute', tradeVolumeMl: 2 });
+    expect(plan.stock.strengthGPerL).toBe(1);
+    expect(codes(plan)).not.toContain('STOCK_STRENGTH_FROM_ROUNDED_VOLUME');
+  });
+
+  it('a volume below the 1 mL minimum in every flask is still a pipette step, with the two-stage dilution spelled out', () => {
+    const plan = planJarTest(base({ product: H2O2, stockStrengthGPerL: 0.1, doses: [0.1, 0.2, 0.3], jarVolumeL: 2 }));
+    const w = plan.warnings.find((x) => x.code === 'TRADE_VOLUME_BELOW_MINIMUM')!;
+    expect(w.message).toContain('1 + 9');
+    const prep = plan.stock.preparation;
+    if (prep.kind !== 'dilute') throw new Error('expected a dilution');
+    expect(isMultipleOf(prep.tradeVolumeMl, 0.1)).toBe(true);
+    expect(prep.tradeVolumeMl).toBeGreaterThan(0);
+  });
+});
+
+describe('planJarTest: a control jar (dose 0) is a blank, not a bracket', () => {
+  // doses 0, 1, 2 mg/L against an expected demand of 0.572 mg/L: the only jar below it is the control.
+  it('[0, 1, 2] against 0.572 mg/L does not bracket the demand, and the control is named', () => {
+    const plan = planJarTest(base({ estimateMgPerL: 0.572, doses: [0, 1, 2], stockStrengthGPerL: 1 }));
+    expect(plan.ladder.brackets).toBe(false);
+    expect(codes(plan)).toContain('NOT_BRACKETING');
+    expect(codes(plan)).toContain('CONTROL_JAR');
+    expect(plan.warnings.find((w) => w.code === 'NOT_BRACKETING')!.message).toContain('jar 1 at 0 mg/L is a control');
+  });
+
+  it('[0, 0.3, 1, 2] brackets it on the dosed jars, and the control is still named', () => {
+    const plan = planJarTest(base({ estimateMgPerL: 0.572, doses: [0, 0.3, 1, 2], stockStrengthGPerL: 0.25, jarVolumeL: 2 }));
+    expect(plan.ladder.brackets).toBe(true);
+    expect(codes(plan)).not.toContain('NOT_BRACKETING');
+    expect(codes(plan)).toContain('CONTROL_JAR');
+  });
+});

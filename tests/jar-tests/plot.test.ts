@@ -177,3 +177,41 @@ describe('residualPlotSvg', () => {
     expect(all(r, (n) => n.name === 'line' && n.attrs.class === 'fit')).toHaveLength(1);
   });
 });
+
+describe('residualPlotData: an exact fit prints no floating-point noise', () => {
+  // residual = dose − 1.1 exactly: the least-squares standard errors are ~1e-16 (rounding noise),
+  // ≤ 1e-9 of the test's mg/L scale, so they print as 0 (the rule of the PDF sheet, src/sheets/wording.ts).
+  const exact = evaluateJarTest({
+    oxidant: 'potassium-permanganate',
+    basis: 'KMnO4',
+    estimateMgPerL: 1.1,
+    jarVolumeL: 2,
+    jars: [1.3, 1.7, 2.1, 2.9, 3.3].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: Number((d - 1.1).toFixed(10)) }] })),
+  });
+
+  it('the standard error is noise, not zero, in the data', () => {
+    expect(exact.apparentDemand!.stdError).toBeGreaterThan(0);
+    expect(exact.apparentDemand!.stdError).toBeLessThan(1e-12);
+  });
+
+  it('the zero-crossing label reads "± 0 mg/L" and no text of the SVG has e-notation', () => {
+    const data = residualPlotData(exact);
+    expect(data.markers[0]!.label).toBe('apparent demand 1.1 ± 0 mg/L');
+    expect(data.subtitle).toContain('residual = 1 × dose − 1.1');
+    const svg = residualPlotSvg(exact);
+    const texts = [...svg.matchAll(/>([^<]+)</g)].map((m) => m[1]!);
+    for (const t of texts) expect(t).not.toMatch(/\d[eE][+-]?\d/);
+  });
+
+  it('a real standard error is kept: noisy residuals print their ± as figures', () => {
+    const noisy = evaluateJarTest({
+      oxidant: 'potassium-permanganate',
+      basis: 'KMnO4',
+      estimateMgPerL: 1.1,
+      jarVolumeL: 2,
+      jars: [[1.3, 0.22], [1.7, 0.61], [2.1, 1.02], [2.9, 1.79], [3.3, 2.21]].map(([d, r]) => ({ doseMgPerL: d!, results: [{ contactTimeMin: 30, residualOxidantMgPerL: r! }] })),
+    });
+    const label = residualPlotData(noisy).markers[0]!.label;
+    expect(label).toMatch(/± 0\.0\d+ mg\/L$/);
+  });
+});

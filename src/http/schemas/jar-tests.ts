@@ -144,6 +144,12 @@ export const JarEvaluationBody = z.strictObject({
   fitContactTimeMin: ContactTimeMin.optional().describe('Contact time whose residuals are fitted (default the longest)'),
   plantContactTimeMin: ContactTimeMin.optional().describe('Contact time the plant provides'),
   marginPercent: z.number().min(0).max(100).optional().describe('Margin added to the bench dose for the plant dose (default 10 %, common practice)'),
+  plantId: z
+    .string()
+    .min(1)
+    .max(100)
+    .optional()
+    .describe('Stored plant profile the test was run for: the archived evaluation is filed under the plant and its current profile version (GET /api/v1/sheets?plantId=…), and the sheet names it'),
   supersedes: z.string().regex(/^JT-\d{8}-[0-9A-HJKMNP-TV-Z]{10}$/, { error: 'supersedes must be a jar-test sheet id JT-YYYYMMDD-XXXXXXXXXX' }).optional(),
   ...SampleMeta,
 });

@@ -219,12 +219,12 @@ export function jarEstimate(services: Services, oxidant: DoseRequest['oxidant'],
 }
 
 /** The latest stored version of the plant profile a plan names, or null; a missing one is a 404 naming /plantId. */
-function planPlant(services: Services, plantId: string | undefined): { profile: PlantProfile; version: number } | null {
+function planPlant(services: Services, plantId: string | undefined, instead = 'or give targetResidual and product in the request instead'): { profile: PlantProfile; version: number } | null {
   if (plantId === undefined) return null;
   const stored = findPlant(services, plantId);
   if (!stored) {
     throw new DomainError('PLANT_NOT_FOUND', {
-      detail: `No plant profile "${plantId}"; GET /api/v1/plants lists the stored ones, or give targetResidual and product in the request instead.`,
+      detail: `No plant profile "${plantId}"; GET /api/v1/plants lists the stored ones, ${instead}.`,
       fields: [{ pointer: '/plantId', message: 'no stored plant profile with this id' }],
     });
   }
@@ -734,6 +734,8 @@ export async function issueJarTestEvaluation(services: Services, user: User, bod
       });
     }
   }
+  // The plant the test was run for, as a plan names it: it must be stored (404 naming /plantId otherwise).
+  const plant = planPlant(services, body.plantId, 'or leave plantId out');
   const { estimate, oxidant: ox } = jarEstimate(services, body.oxidant, body.sample);
   const input = evaluationInput(services, body, estimate.value, ox.doseBasis);
   const evaluated = mapped(() => evaluateJarTest(input), evaluationPointer);
@@ -751,7 +753,17 @@ export async function issueJarTestEvaluation(services: Services, user: User, bod
     plotSvg: residualPlotSvg(evaluation),
   };
   const sampledAt = body.sampledAt ?? now.toISOString();
-  const content = { id, kind: 'jar-test-evaluation' as const, plantId: null, plantVersion: null, sampledAt, supersedes: body.supersedes ?? null, request: body, result };
+  // filed under the plant and the profile version in force, as dose sheets are (src/http/issue-sheet.ts)
+  const content = {
+    id,
+    kind: 'jar-test-evaluation' as const,
+    plantId: plant?.profile.id ?? null,
+    plantVersion: plant?.version ?? null,
+    sampledAt,
+    supersedes: body.supersedes ?? null,
+    request: body,
+    result,
+  };
   const contentSha256 = sheetContentSha256(content);
   const { stored, signer } = services.signerFor(user.id);
   const ctx: JarSheetContext = {
@@ -760,6 +772,7 @@ export async function issueJarTestEvaluation(services: Services, user: User, bod
     preparedBy: { name: user.name, role: user.role },
     productName: ox.name,
     safety: safetyFor(services, body.oxidant),
+    ...(plant !== null ? { plantName: `${plant.profile.name} (profile ${plant.profile.id}, version ${plant.version})` } : {}),
     ...(body.sampleLabel ? { sampleLabel: body.sampleLabel } : {}),
     ...(body.samplingPoint ? { samplingPoint: body.samplingPoint } : {}),
     ...(body.sampledAt ? { sampledAt: body.sampledAt } : {}),
