@@ -60,6 +60,7 @@ export async function issueDoseSheet(services: Services, user: User, body: z.out
     ...(samplingPoint ? { samplingPoint } : {}),
     ...(sampleLabel ? { sampleLabel } : {}),
     ...(supersedes ? { supersedes } : {}),
+    ...(supersedes && correctionReason ? { correctionReason } : {}),
     // correctionReason is not printed: DoseSheetInput (src/sheets/dose-sheet.ts) has no place for it yet.
     // The content hash printed in the footer covers it (it is in the stored request).
     ...(pageSize ? { pageSize } : {}),

@@ -39,6 +39,8 @@ export interface DoseSheetInput {
   readonly plantName?: string;
   /** Id of the sheet this one corrects. */
   readonly supersedes?: string;
+  /** Why the sheet named in supersedes is corrected (stored with the record). */
+  readonly correctionReason?: string;
   readonly pageSize?: PageSize;
   /**
    * Add the result's traceability table (every derived figure with how it was found) and
@@ -196,6 +198,7 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
     });
   }
   if (input.supersedes) resultRows.push({ label: 'Supersedes', value: `sheet ${input.supersedes}` });
+  if (input.supersedes && input.correctionReason) resultRows.push({ label: 'Reason for correction', value: input.correctionReason });
   const resultBlocks: Block[] = [{ kind: 'keyValue', rows: resultRows }];
   const danger = r.flags.filter((fl) => fl.severity === 'danger');
   if (danger.length > 0) resultBlocks.push({ kind: 'flags', items: flagItems(danger, label) });

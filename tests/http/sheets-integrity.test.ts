@@ -16,6 +16,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import { buildApp } from '../../src/http/app.js';
+import { pdfFile, pdfText } from '../sheets/tools.js';
 
 const BOOTSTRAP = 'sheets-integrity-bootstrap-token-0123456789';
 const admin = { authorization: `Bearer ${BOOTSTRAP}` };
@@ -98,6 +99,11 @@ describe('integrity, oxidant, dose, local time and correction reason through the
     const m = (await app.inject({ method: 'GET', url: `/api/v1/sheets/${ids.fix}` })).json();
     expect(m).toMatchObject({ correctionReason: reason, supersedes: ids.first, status: 'current' });
     expect(m.request.correctionReason).toBe(reason); // stored in the request, inside content and record hash
+    // and printed on the corrected sheet, beside the id it supersedes
+    const pdf = await app.inject({ method: 'GET', url: `/api/v1/sheets/${ids.fix}/pdf` });
+    const text = pdfText(pdfFile(pdf.rawPayload, 'correction-reason')).replace(/\s+/g, ' ');
+    expect(text).toContain('Reason for correction');
+    expect(text).toContain('Iron was re-run by the lab');
     expect((await app.inject({ method: 'GET', url: `/api/v1/sheets/${ids.first}` })).json()).toMatchObject({ status: 'superseded', supersededBy: ids.fix, correctionReason: null });
   });
 

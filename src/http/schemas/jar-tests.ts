@@ -14,7 +14,7 @@ import {
   SampleSchema,
   StrengthSchema,
 } from '../../dosing/request.js';
-import { QuantityOut } from './common.js';
+import { IsoDateTime, PageSize, QuantityOut } from './common.js';
 
 // ---------------------------------------------------------------------------------------------
 // request pieces
@@ -67,12 +67,8 @@ export const JarProductSchema = z.strictObject({
 const SampleMeta = {
   sampleLabel: z.string().min(1).max(200).optional(),
   samplingPoint: z.string().min(1).max(200).optional(),
-  sampledAt: z
-    .string()
-    .regex(/^\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(:\d{2}(\.\d{1,9})?)?(Z|[+-]\d{2}:\d{2})$/, { error: 'sampledAt must be an ISO 8601 date-time with a zone, e.g. 2026-12-01T07:30:00+01:00' })
-    .optional()
-    .describe('When the sample was taken (ISO 8601 with a zone)'),
-  pageSize: z.enum(['A4', 'LETTER']).optional(),
+  sampledAt: IsoDateTime.optional().describe('When the sample was taken (ISO 8601 with a zone)'),
+  pageSize: PageSize.optional(),
 };
 
 export const JarPlanBody = z.strictObject({
