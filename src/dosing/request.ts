@@ -122,9 +122,10 @@ export const SampleSchema = z.strictObject(
       .number({ error: 'temperatureC must be a number' })
       .min(0, { error: 'temperature must be between 0 and 100 °C (liquid water)' })
       .max(100, { error: 'temperature must be between 0 and 100 °C (liquid water)' })
-      .optional(),
+      .optional()
+      .describe('Water temperature, °C (0–100). Required: give temperatureC or temperature (one of the two)'),
     /** Alternative to temperatureC: {value, unit: °C | °F | K}. */
-    temperature: TemperatureSchema.optional(),
+    temperature: TemperatureSchema.optional().describe('Water temperature with its unit (°C, °F or K), instead of temperatureC; one of the two is required'),
     iron: ConcentrationSchema.optional(),
     manganese: ConcentrationSchema.optional(),
     sulfide: ConcentrationSchema.optional(),
