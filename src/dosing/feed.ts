@@ -224,22 +224,42 @@ const plain = (x: number): string => String(Number(x.toPrecision(4)));
  */
 function densityCheck(ox: OxidantRow, strength: { value: number; unit: string }, density: DecT, who: string, flags: Flag[]): void {
   const rho = density.toNumber();
-  if (rho < 0.99) {
+  const v = new Dec(strength.value);
+  // the strength as g/L and as % w/w (with the given density), to place it against the tabled rows
+  const gramsPerL = strength.unit === '% w/w' ? v.times(density).times(TEN) : strength.unit === '% w/v' ? v.times(TEN) : v;
+  const massPercent = strength.unit === '% w/w' ? v : gramsPerL.dividedBy(density.times(TEN));
+  // every solution of these products is denser than water: at 1 % or more the difference is beyond a reading's error
+  if (rho < 0.99 || (rho <= 1 && massPercent.greaterThanOrEqualTo(1))) {
     flags.push({
       code: 'DENSITY_BELOW_WATER',
       severity: 'warning',
-      message: `${who}, ${plain(rho)} kg/L, is below that of water: a solution of ${lowerName(ox.name)} is denser than water. Check the value and its unit (kg/L; a specific gravity reads the same).`,
+      message: `${who}, ${plain(rho)} kg/L, is ${rho < 1 ? 'below' : 'that of'} water, but a ${plain(massPercent.toNumber())} % w/w solution of ${lowerName(ox.name)} is denser than water. Check the value and its unit (kg/L; a specific gravity reads the same).`,
       source: 'operator-practice',
     });
     return;
   }
   const series = densitySeries(ox);
   if (series.length === 0) return;
-  const v = new Dec(strength.value);
-  const hit =
-    strength.unit === '% w/w'
-      ? interpolateDensity(series, 'massPercent', v)
-      : interpolateDensity(series, 'gramsPerL', strength.unit === '% w/v' ? v.times(TEN) : v);
+  const by = strength.unit === '% w/w' ? 'massPercent' : 'gramsPerL';
+  const x = by === 'massPercent' ? v : gramsPerL;
+  const first = series[0]!;
+  const last = series[series.length - 1]!;
+  // beyond the tabled rows no density is known, but a stronger solution is denser than the strongest row, a weaker one lighter than the weakest
+  if (x.greaterThan(last[by]) || x.lessThan(first[by])) {
+    const above = x.greaterThan(last[by]);
+    const row = above ? last : first;
+    const wrong = above ? rho < row.density.toNumber() : rho > row.density.toNumber();
+    if (wrong) {
+      flags.push({
+        code: 'DENSITY_UNLIKE_TABLE',
+        severity: 'warning',
+        message: `${who}, ${plain(rho)} kg/L, is ${above ? 'below' : 'above'} the ${row.density.toString()} kg/L the table gives for ${row.label}, though ${strength.value} ${strength.unit} is ${above ? 'stronger' : 'weaker'}: a ${above ? 'stronger' : 'weaker'} solution is ${above ? 'denser' : 'lighter'}. The given value was used: check it.`,
+        source: row.source,
+      });
+    }
+    return;
+  }
+  const hit = interpolateDensity(series, by, x);
   if (!hit) return;
   const tabled = hit.density.toNumber();
   const off = (rho - tabled) / tabled;
@@ -338,7 +358,7 @@ export function resolveStrength(ox: OxidantRow, product: ProductInput | undefine
         flags.push({
           code: 'DENSITY_UNKNOWN',
           severity: 'info',
-          message: `${strength.value} ${strength.unit} (${plain(gL.toNumber())} g/L) is outside the ${lo} to ${hi} g/L the table holds densities for, and a density is not extrapolated: the solution rate needs none and is given, but the mass of solution fed, the % w/w and a stock in kg are not. Give product.density (kg/L) for them.`,
+          message: `${strength.value} ${strength.unit}${strength.unit === 'g/L' ? '' : ` (${plain(gL.toNumber())} g/L)`} is outside the ${lo} to ${hi} g/L the table holds densities for, and a density is not extrapolated: the solution rate needs none and is given, but the mass of solution fed, the % w/w and a stock in kg are not. Give product.density (kg/L) for them.`,
           source: series[0]!.source,
         });
       }

@@ -507,7 +507,7 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
     throw namePlantFields(
       new DomainError('VALIDATION_FAILED', {
         detail: `${name} ${how}: it has no solution rate, so a metering pump does not apply. Remove pump; the feeder is set by the mass rate (feed.massRate${ox.form === 'generated' ? ', and the generator output in feed.generator' : ''}).`,
-        fields: [{ pointer: '/pump/ratedCapacity', message: `${name} ${how}; a metering pump does not apply: remove pump` }],
+        fields: [{ pointer: '/pump', message: `${name} ${how}; a metering pump does not apply: remove pump` }],
       }),
     );
   }
@@ -705,13 +705,13 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
       dissolvedOxygenMgPerL:
         ox.id === 'oxygen'
           ? doMeasured && req.targetResidual
-            ? toBaseDec('concentration', doMeasured, '/sample/dissolvedOxygen').toNumber() + residual.toNumber() + total.backgroundMgPerL.toNumber()
+            ? toBaseDec('concentration', doMeasured, '/sample/dissolvedOxygen').toNumber() + residual.toNumber()
             : undefined
           : doMeasured
             ? toBaseDec('concentration', doMeasured, '/sample/dissolvedOxygen').toNumber()
             : undefined,
       ...(ox.id === 'oxygen' && doMeasured && req.targetResidual
-        ? { dissolvedOxygenFrom: "the sample's DO plus the oxygen dose less what the contaminants consume (the DO left after the reactions, the cautious figure for the rate)" }
+        ? { dissolvedOxygenFrom: "the sample's DO plus the oxygen dose less what the contaminants and the background demand consume, that is the sample's DO plus the target residual (the DO left after the reactions, the cautious figure for the rate)" }
         : {}),
     },
     context.contactDeps,

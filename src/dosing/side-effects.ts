@@ -101,7 +101,10 @@ export function sideEffects(input: SideEffectInput): SideEffects {
   if (unconsumed !== 0) {
     const molActive = (unconsumed / deps.basisMolarMass(ox).toNumber() / 1000) * deps.activePerBasis(ox);
     const hyd = deps.hydrolysisHPerMol(ox);
-    const forWhat = practicalExcess > 0 ? 'the residual, the background demand and the practical breakpoint excess' : 'the residual and background demand';
+    const forWhat =
+      practicalExcess > 0
+        ? 'the residual, the background demand and the practical breakpoint excess (a lower bound for the excess: its own reactions, to nitrate or trichloramine, release more acid than the hydrolysis counted here)'
+        : 'the residual and background demand';
     if (hyd !== 0) terms.push({ what: 'hydrolysis', meqPerL: molActive * hyd * 1000, how: `${ox.hydrolysis?.equation ?? ''}: ${hyd} H+ per ${ox.activeSpecies} for ${forWhat}` });
     const f = deps.hoclFraction(ox, input.pH, input.temperatureC);
     if (f !== null) {

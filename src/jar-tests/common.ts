@@ -262,20 +262,8 @@ export function checkJarVolume(c: FieldCheck, V: number, maxL?: number): void {
   }
 }
 
-/**
- * A figure at or below this fraction of the size of the figures it goes with is rounding noise of
- * floating-point arithmetic (an exact fit's standard error of 9e-17 beside a demand of 1.1 mg/L).
- * The same rule as the PDF sheets (src/sheets/wording.ts), which the domain cannot import.
- */
-export const NEGLIGIBLE_RELATIVE = 1e-9;
-
-/** Whether `x` is rounding noise against `scale`: zero, or at most NEGLIGIBLE_RELATIVE of |scale|. A non-finite x is not negligible. */
-export function isNegligible(x: number, scale: number): boolean {
-  if (!Number.isFinite(x)) return false;
-  if (x === 0) return true;
-  const s = Number.isFinite(scale) ? Math.abs(scale) : 0;
-  return Math.abs(x) <= NEGLIGIBLE_RELATIVE * s;
-}
+export { NEGLIGIBLE_RELATIVE, isNegligible } from '../core/negligible.js';
+import { isNegligible } from '../core/negligible.js';
 
 /**
  * Format a number for a message: up to 4 significant figures, no trailing zeros, never in

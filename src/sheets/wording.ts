@@ -8,19 +8,8 @@
  * Pure text functions, no pdfkit; `autoRich` (model.ts) runs every free text through `inWords`.
  */
 
-/** A standard error at or below this fraction of the figure it qualifies is rounding noise of an exact fit. */
-export const NEGLIGIBLE_RELATIVE = 1e-9;
-
-/**
- * Whether `x` is rounding noise against `scale` (the size of the figures it goes with):
- * zero, or at most `NEGLIGIBLE_RELATIVE` of the scale. A non-finite x is not negligible.
- */
-export function isNegligible(x: number, scale: number): boolean {
-  if (!Number.isFinite(x)) return false;
-  if (x === 0) return true;
-  const s = Number.isFinite(scale) ? Math.abs(scale) : 0;
-  return Math.abs(x) <= NEGLIGIBLE_RELATIVE * s;
-}
+export { NEGLIGIBLE_RELATIVE, isNegligible } from '../core/negligible.js';
+import { isNegligible } from '../core/negligible.js';
 
 /** "sodium-hypochlorite" → "sodium hypochlorite" (the table ids are the product names, hyphenated). */
 export function idInWords(id: string): string {

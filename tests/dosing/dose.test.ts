@@ -335,6 +335,9 @@ describe('feasibility at the sample conditions', () => {
     expect(detailOf(r).dissolvedOxygenFrom).toMatch(/DO left after the reactions/);
     // the raw water's DO is set against the need: 0.5 of 2.286 mg/L, so about 1.79 mg/L to add
     expect(r.flags.find((f) => f.code === 'DISSOLVED_OXYGEN_IN_SAMPLE')!.message).toMatch(/must add about 1\.79 mg\/L/);
+    // with a background demand the oxygen it takes is gone too: still the sample's DO + the residual
+    const bg = dose({ ...body, sample: { ...body.sample, dissolvedOxygen: { value: 2, unit: 'mg/L' } }, backgroundDemand: { value: 3, unit: 'mg/L' }, targetResidual: { value: 1, unit: 'mg/L' } });
+    expect(detailOf(bg).dissolvedOxygenMgPerL).toBeCloseTo(2 + 1, 9);
     const rich = dose({ ...body, sample: { ...body.sample, dissolvedOxygen: { value: 8, unit: 'mg/L' } }, targetResidual: { value: 2, unit: 'mg/L' } });
     expect(rich.flags.find((f) => f.code === 'DISSOLVED_OXYGEN_IN_SAMPLE')!.message).toMatch(/already holds 8\.00 mg\/L dissolved oxygen, at least the 2\.29 mg\/L/);
   });

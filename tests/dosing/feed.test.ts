@@ -261,13 +261,21 @@ describe('densities: questioned when unlike the table or below water, said when 
     expect(r.flags.find((f) => f.code === 'DENSITY_BELOW_WATER')!.severity).toBe('warning');
     expect(r.strength!.density!.value).toBe(0.9);
   });
-  it('35 % w/w peroxide given 1.00 kg/L: 11.5 % below the tabled 1.13 kg/L (CRC row) is questioned; 1.12 kg/L is not', () => {
-    // |1.00 − 1.13| / 1.13 = 0.115 > 0.05 (common practice tolerance); |1.12 − 1.13| / 1.13 = 0.009
-    const far = feed('hydrogen-peroxide', 1, 1000, { product: { strength: { value: 35, unit: '% w/w' }, density: { value: 1.0, unit: 'kg/L' } } });
+  it('35 % w/w peroxide given 1.05 kg/L: 7.08 % below the tabled 1.13 kg/L (CRC row) is questioned; 1.12 kg/L is not; 1.00 kg/L is water', () => {
+    // |1.05 − 1.13| / 1.13 = 0.0708 > 0.05 (common practice tolerance); |1.12 − 1.13| / 1.13 = 0.009
+    const far = feed('hydrogen-peroxide', 1, 1000, { product: { strength: { value: 35, unit: '% w/w' }, density: { value: 1.05, unit: 'kg/L' } } });
     const f = far.flags.find((x) => x.code === 'DENSITY_UNLIKE_TABLE')!;
-    expect(f.message).toMatch(/11\.5 % below the 1\.13 kg\/L/);
+    expect(f.message).toMatch(/7\.08 % below the 1\.13 kg\/L/);
+    const water = feed('hydrogen-peroxide', 1, 1000, { product: { strength: { value: 35, unit: '% w/w' }, density: { value: 1.0, unit: 'kg/L' } } });
+    expect(water.flags.map((x) => x.code)).toContain('DENSITY_BELOW_WATER');
     const near = feed('hydrogen-peroxide', 1, 1000, { product: { strength: { value: 35, unit: '% w/w' }, density: { value: 1.12, unit: 'kg/L' } } });
     expect(near.flags.map((x) => x.code)).not.toContain('DENSITY_UNLIKE_TABLE');
+  });
+  it('12.5 % w/w hypochlorite (above the strongest row, 15 trade % at 12.4 % w/w and 1.21 kg/L) given 1.05 kg/L: a stronger solution cannot be lighter', () => {
+    const r = feed('sodium-hypochlorite', 2, 1000, { product: { strength: { value: 12.5, unit: '% w/w' }, density: { value: 1.05, unit: 'kg/L' } } });
+    expect(r.flags.find((f) => f.code === 'DENSITY_UNLIKE_TABLE')!.message).toMatch(/below the 1\.21 kg\/L the table gives for 15 trade %/);
+    const ok = feed('sodium-hypochlorite', 2, 1000, { product: { strength: { value: 12.5, unit: '% w/w' }, density: { value: 1.22, unit: 'kg/L' } } });
+    expect(ok.flags.map((f) => f.code)).not.toContain('DENSITY_UNLIKE_TABLE');
   });
   it('4 trade % hypochlorite (40 g/L, below the 50 to 150 g/L rows): solution rate given, mass figures not, and a flag says why', () => {
     const r = feed('sodium-hypochlorite', 2, 1000, { product: { strength: { value: 4, unit: '% w/v' } } });

@@ -221,11 +221,11 @@ describe('plant products and bounds', () => {
     expect(ok.products[0]!.purity?.value).toBe(97);
   });
 
-  it('a dose request refuses a metering pump for a gas (400 at /pump/ratedCapacity) and a purity for a solution (400 at /product/purity)', () => {
+  it('a dose request refuses a metering pump for a gas (400 at /pump) and a purity for a solution (400 at /product/purity)', () => {
     const base = { flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 7.2, temperatureC: 12, iron: { value: 1, unit: 'mg/L' } } };
     for (const oxidant of ['chlorine-gas', 'ozone', 'oxygen']) {
       const e = refusal(() => computeDose(parseDoseRequest({ ...base, oxidant, pump: { ratedCapacity: { value: 10, unit: 'L/h' } } }), context));
-      expect(e.fields.map((f) => f.pointer)).toEqual(['/pump/ratedCapacity']);
+      expect(e.fields.map((f) => f.pointer)).toEqual(['/pump']);
     }
     for (const oxidant of ['sodium-hypochlorite', 'sodium-permanganate', 'hydrogen-peroxide']) {
       const e = refusal(() => computeDose(parseDoseRequest({ ...base, oxidant, product: { strength: { value: 10, unit: '% w/w' }, purity: { value: 90, unit: '%' } } }), context));

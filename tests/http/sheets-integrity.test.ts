@@ -226,3 +226,52 @@ describe('integrity, oxidant, dose, local time and correction reason through the
     expect(pdf.headers['x-sheet-integrity']).toBe('altered');
   });
 });
+
+describe('a jar-test evaluation edited in the file is served as altered too', () => {
+  let app: FastifyInstance;
+  let dataDir: string;
+  beforeAll(async () => {
+    dataDir = mkdtempSync(join(tmpdir(), 'oxd-http-integrity-jar-'));
+    app = await buildApp({ dataDir, bootstrapToken: BOOTSTRAP });
+  });
+  afterAll(async () => {
+    await app?.close();
+  });
+
+  it('GET /api/v1/jar-tests/evaluations/:id and its PDF say "altered", with the verification URL', async () => {
+    const mgL = (value: number) => ({ value, unit: 'mg/L' });
+    // invented permanganate jars: residual = dose − 1.0 mg/L; iron and manganese met from 1.5 mg/L
+    const jars = [0.5, 1, 1.5, 2, 2.5].map((d) => ({
+      dose: mgL(d),
+      results: [{ contactTimeMin: 20, residualOxidant: mgL(Math.max(0, d - 1)), iron: mgL(d >= 1.5 ? 0.05 : 0.5), manganese: mgL(d >= 1.5 ? 0.02 : 0.2) }],
+    }));
+    const r = await app.inject({
+      method: 'POST',
+      url: '/api/v1/jar-tests/evaluations',
+      headers: admin,
+      payload: { oxidant: 'potassium-permanganate', sample: { pH: 7.2, temperatureC: 12, iron: mgL(1), manganese: mgL(0.3) }, jarVolume: { value: 2, unit: 'L' }, jars, plantContactTimeMin: 20 },
+    });
+    expect(r.statusCode, r.body).toBe(201);
+    const id = r.json().id as string;
+    const fresh = await app.inject({ method: 'GET', url: `/api/v1/jar-tests/evaluations/${id}` });
+    expect(fresh.headers['x-sheet-integrity']).toBe('record hash matches');
+    expect(fresh.json().archive.status).toBe('current');
+    const raw = new Database(join(dataDir, 'oxidant-dosing.sqlite'));
+    try {
+      raw.exec('DROP TRIGGER IF EXISTS sheets_no_update');
+      const row = raw.prepare('SELECT result_json FROM sheets WHERE id = ?').get(id) as { result_json: string };
+      const edited = row.result_json.replace(/"doseMgPerL":1\.5/, '"doseMgPerL":0.5');
+      expect(edited).not.toBe(row.result_json);
+      raw.prepare('UPDATE sheets SET result_json = ? WHERE id = ?').run(edited, id);
+    } finally {
+      raw.close();
+    }
+    const g = await app.inject({ method: 'GET', url: `/api/v1/jar-tests/evaluations/${id}` });
+    expect(g.statusCode).toBe(200);
+    expect(g.headers['x-sheet-integrity']).toBe('altered');
+    expect(g.json().archive.status).toBe('altered');
+    expect(g.json().archive.integrity.message).toMatch(/^ALTERED/);
+    expect(g.json().archive.integrity.verificationUrl).toBe(`/api/v1/sheets/${id}/verification`);
+    expect((await app.inject({ method: 'GET', url: `/api/v1/jar-tests/evaluations/${id}/pdf` })).headers['x-sheet-integrity']).toBe('altered');
+  });
+});

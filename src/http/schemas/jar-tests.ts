@@ -15,6 +15,7 @@ import {
   StrengthSchema,
 } from '../../dosing/request.js';
 import { IsoDateTime, PageSize, QuantityOut } from './common.js';
+import { Integrity, SheetStatus } from './sheets.js';
 
 // ---------------------------------------------------------------------------------------------
 // request pieces
@@ -380,6 +381,8 @@ const ArchiveInfo = z.object({
   signer: z.object({ name: z.string(), role: z.string(), subject: z.string() }),
   supersedes: z.string().nullable(),
   supersededBy: z.string().nullable(),
+  status: SheetStatus.optional(),
+  integrity: Integrity.optional(),
 });
 
 export const EvaluationCreatedOut = EvaluationResultOut.extend({ archive: ArchiveInfo });

@@ -40,6 +40,7 @@ import { safetyBoxFromCautions } from '../../../sheets/safety.js';
 import type { SafetyBox } from '../../../sheets/model.js';
 import { canonicalJson, newSheetId, sha256Hex, sheetContentSha256, type SheetRecord, type SheetSummary, type User } from '../../../archive/index.js';
 import { findPlant } from './dosing.js';
+import { INTEGRITY_HEADER, integrityHeader, integrityOut } from './sheets.js';
 import {
   CheckOut,
   EvaluationCreatedOut,
@@ -591,16 +592,29 @@ const CHECKS_AT_RECOMMENDATION = new Set([
 export function checksAtRecommendation(services: Services, body: JarEvaluationBodyT, evaluation: JarTestEvaluation, estimateMgPerL: number): JarTestEvaluation['problems'] {
   const rec = evaluation.recommendedDose;
   if (rec === null) return [];
-  const residual = rec.expectedResidualMgPerL ?? 0;
-  const background = Math.max(0, rec.doseMgPerL - estimateMgPerL - residual);
+  // the dose route's dose is estimate + background + residual: the expected residual as the target and
+  // the rest above the estimate as background, so that it adds up to the recommendation; a
+  // recommendation below estimate + residual puts all of it above the estimate into the residual
+  let residual = rec.expectedResidualMgPerL ?? 0;
+  let background = rec.doseMgPerL - estimateMgPerL - residual;
+  if (background < 0) {
+    residual = Math.max(0, rec.doseMgPerL - estimateMgPerL);
+    background = 0;
+  }
   let result;
   try {
     result = computeDose({ oxidant: body.oxidant, sample: body.sample, backgroundDemand: { value: background, unit: 'mg/L' }, targetResidual: { value: residual, unit: 'mg/L' } }, services.dosing);
   } catch (e) {
-    const why = e instanceof DomainError ? e.detail : String(e);
-    return [{ code: 'DOSE_CHECKS_NOT_RUN', severity: 'warning', message: `The daily dose checks (residual limits, by-products, alkalinity) could not be run at the recommended ${roundSig(rec.doseMgPerL, 3)} mg/L: ${why} Check the recommendation with POST /api/v1/doses.` }];
+    if (!(e instanceof DomainError)) throw e;
+    return [{ code: 'DOSE_CHECKS_NOT_RUN', severity: 'warning', message: `The daily dose checks (residual limits, by-products, alkalinity) could not be run at the recommended ${roundSig(rec.doseMgPerL, 3)} mg/L: ${e.detail} Check the recommendation with POST /api/v1/doses.` }];
   }
-  const at = `At the recommended ${roundSig(rec.doseMgPerL, 3)} mg/L${rec.expectedResidualMgPerL !== null ? ` (expected residual ${roundSig(residual, 3)} mg/L)` : ''}, as POST /api/v1/doses judges it: `;
+  const judged = result.dose.value;
+  const same = Math.abs(judged - rec.doseMgPerL) <= 1e-9 * Math.max(1, rec.doseMgPerL);
+  const residualText =
+    rec.expectedResidualMgPerL !== null ? ` (expected residual ${roundSig(residual, 3)} mg/L)` : ' (no residual is predicted without a residual line, so the residual limits are not judged)';
+  const at = same
+    ? `At the recommended ${roundSig(rec.doseMgPerL, 3)} mg/L${residualText}, as POST /api/v1/doses judges it: `
+    : `At ${roundSig(judged, 3)} mg/L, the sample's stoichiometric demand, above the recommended ${roundSig(rec.doseMgPerL, 3)} mg/L (a dose cannot be judged below the demand its readings imply), as POST /api/v1/doses judges it: `;
   return result.flags
     .filter((f) => CHECKS_AT_RECOMMENDATION.has(f.code))
     .map((f) => ({ code: f.code, severity: f.severity === 'danger' ? ('error' as const) : f.severity, message: `${at}${f.message}` }));
@@ -715,6 +729,9 @@ function archiveInfo(s: SheetSummary) {
     signer: { name: s.signer.name, role: s.signer.role, subject: s.signer.subject },
     supersedes: s.supersedes,
     supersededBy: s.supersededBy,
+    // recomputed on every read, as for dosing sheets: an altered record is never shown as current
+    status: s.status,
+    integrity: integrityOut(s),
   };
 }
 
@@ -859,8 +876,9 @@ export async function jarTestRoutes(app: FastifyInstance): Promise<void> {
     tags: ['jar-tests'],
     params: EvaluationId,
     response: { 200: EvaluationRecordOut },
-    handler: async (req) => {
+    handler: async (req, reply) => {
       const s = requireEvaluation(app.services, req.params.id);
+      reply.header(INTEGRITY_HEADER, integrityHeader(s));
       return { ...evaluationView(s.id, s.result), archive: archiveInfo(s), request: s.request };
     },
   });
@@ -888,6 +906,7 @@ export async function jarTestRoutes(app: FastifyInstance): Promise<void> {
     produces: ['application/pdf'],
     handler: async (req, reply) => {
       const s = requireEvaluation(app.services, req.params.id);
+      reply.header(INTEGRITY_HEADER, integrityHeader(s));
       reply.header('content-type', 'application/pdf').header('content-disposition', `inline; filename="${s.id}.pdf"`);
       return app.services.archive.getSheetPdf(s.id);
     },

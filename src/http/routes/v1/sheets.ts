@@ -39,7 +39,7 @@ const Summary = z.object({
 const verificationUrlOf = (id: string) => `/api/v1/sheets/${id}/verification`;
 
 /** The integrity found on this read, with a sentence for whoever reads the record and where to check it fully. */
-function integrityOut(s: SheetSummary) {
+export function integrityOut(s: SheetSummary) {
   const url = verificationUrlOf(s.id);
   const i = s.integrity;
   const message = isIntact(i)
@@ -81,8 +81,8 @@ function summaryOut(s: SheetSummary) {
 }
 
 /** Header beside every read of one record: "record hash matches" or "altered". */
-const INTEGRITY_HEADER = 'x-sheet-integrity';
-const integrityHeader = (s: SheetSummary) => (s.status === 'altered' ? 'altered' : 'record hash matches');
+export const INTEGRITY_HEADER = 'x-sheet-integrity';
+export const integrityHeader = (s: SheetSummary) => (s.status === 'altered' ? 'altered' : 'record hash matches');
 
 function requireSheet(services: Services, id: string) {
   if (!isValidSheetId(id)) throw new DomainError('ID_INVALID', { detail: `"${id}" is not a sheet id.`, fields: [{ pointer: '/id', message: 'not a sheet id' }] });
