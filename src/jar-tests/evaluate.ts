@@ -674,7 +674,20 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
     .filter((x): x is { j: EvaluatedJar; r: EvaluatedResult } => x.r !== undefined)
     .sort((a, b) => a.j.doseMgPerL - b.j.doseMgPerL);
   if (recommendedDose !== null && recommendedDose.basis === 'lowest-dose-meeting-targets' && atBench !== undefined && atBench.jar !== null && benchRows.length > 0) {
-    const lowestRow = benchRows[0]!;
+    // a control jar (no oxidant) is a blank, not the ladder's lowest dose
+    const dosed = benchRows.filter((x) => x.j.doseMgPerL > 0);
+    const lowestRow = atBench.doseMgPerL === 0 || dosed.length === 0 ? benchRows[0]! : dosed[0]!;
+    const highestRow = benchRows[benchRows.length - 1]!;
+    if (atBench.doseMgPerL !== null && atBench.doseMgPerL > 0 && atBench.doseMgPerL >= highestRow.j.doseMgPerL && benchRows.length > 1) {
+      problems.push({
+        code: 'ONLY_HIGHEST_JAR_MEETS_TARGETS',
+        severity: 'warning',
+        jar: atBench.jar,
+        message:
+          `Only jar ${atBench.jar}, the highest dose of the ladder (${fmt(atBench.doseMgPerL, 3)} mg/L), met every target at ${fmt(benchTime)} min: the recommendation${recommendedDose.doseMgPerL > atBench.doseMgPerL ? `, ${fmt(recommendedDose.doseMgPerL, 3)} mg/L with its margin, is above every dose tested, and` : ''} rests on one jar at the edge of the ladder. ` +
+          'Repeat with doses around and above it before changing the plant dose.',
+      });
+    }
     if (atBench.doseMgPerL !== null && atBench.doseMgPerL <= lowestRow.j.doseMgPerL) {
       const d = atBench.doseMgPerL;
       problems.push({

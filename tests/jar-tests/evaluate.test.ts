@@ -562,3 +562,25 @@ describe('evaluateJarTest: suggestions and the detection limit follow the oxidan
     for (const p of e.problems) expect(p.message).not.toMatch(/\d[eE][+-]?\d/);
   });
 });
+
+describe('evaluateJarTest: the edges of the ladder with a control jar and at the top', () => {
+  // invented jars, no residual line needed: iron and manganese (filtered) against 0.3 / 0.05 mg/L
+  const jarsMeetingFrom = (doses: number[], from: number) =>
+    doses.map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 20, residualOxidantMgPerL: 0, ironMgPerL: d >= from ? 0.05 : 0.4, manganeseMgPerL: d >= from ? 0.02 : 0.12 }] }));
+  it('a control jar (0 mg/L) does not hide that the lowest dosed jar already met the targets', () => {
+    const e = evaluateJarTest({ ...PMN, jars: jarsMeetingFrom([0, 0.5, 1.0, 1.5], 0.5) });
+    expect(e.recommendedDose?.baseDoseMgPerL).toBe(0.5);
+    expect(e.problems.map((p) => p.code)).toContain('LOWEST_JAR_MEETS_TARGETS');
+  });
+  it('only the highest jar met the targets: a warning that the recommendation rests on the ladder\'s edge (above every dose tested with its margin)', () => {
+    const e = evaluateJarTest({ ...MODEL, jars: jarsMeetingFrom([2, 4, 6, 8], 8) });
+    expect(e.recommendedDose?.doseMgPerL).toBeCloseTo(8.8, 12); // 8 + 10 % margin (common practice)
+    const p = e.problems.find((x) => x.code === 'ONLY_HIGHEST_JAR_MEETS_TARGETS')!;
+    expect(p.severity).toBe('warning');
+    expect(p.message).toMatch(/above every dose tested/);
+    // a ladder whose middle jar meets them raises neither edge warning
+    const mid = evaluateJarTest({ ...MODEL, jars: jarsMeetingFrom([2, 4, 6, 8], 4) });
+    expect(mid.problems.map((x) => x.code)).not.toEqual(expect.arrayContaining(['ONLY_HIGHEST_JAR_MEETS_TARGETS']));
+    expect(mid.problems.map((x) => x.code)).not.toContain('LOWEST_JAR_MEETS_TARGETS');
+  });
+});

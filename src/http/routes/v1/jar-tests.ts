@@ -15,7 +15,7 @@ import type { FastifyInstance } from 'fastify';
 import { DomainError, type FieldProblem } from '../../../core/errors.js';
 import { roundSig } from '../../../core/decimal.js';
 import { toBaseDec, type Quantity } from '../../../core/quantity.js';
-import { computeDose, plantResidualFor, type DoseRequest, type PlantProfile } from '../../../dosing/index.js';
+import { computeDose, CONTAMINANT_FIELDS, plantResidualFor, type DoseRequest, type PlantProfile } from '../../../dosing/index.js';
 import type { BackgroundDemandInput, ConcentrationInput, SampleInput } from '../../../dosing/request.js';
 import {
   aerationNotPlanned,
@@ -591,30 +591,33 @@ const CHECKS_AT_RECOMMENDATION = new Set([
 ]);
 export function checksAtRecommendation(services: Services, body: JarEvaluationBodyT, evaluation: JarTestEvaluation, estimateMgPerL: number): JarTestEvaluation['problems'] {
   const rec = evaluation.recommendedDose;
-  if (rec === null) return [];
-  // the dose route's dose is estimate + background + residual: the expected residual as the target and
-  // the rest above the estimate as background, so that it adds up to the recommendation; a
-  // recommendation below estimate + residual puts all of it above the estimate into the residual
-  let residual = rec.expectedResidualMgPerL ?? 0;
-  let background = rec.doseMgPerL - estimateMgPerL - residual;
-  if (background < 0) {
-    residual = Math.max(0, rec.doseMgPerL - estimateMgPerL);
-    background = 0;
-  }
+  if (rec === null || !(rec.doseMgPerL > 0)) return [];
+  // Reported figures, not float noise, go into the dose route's messages.
+  const dose = Number(rec.doseMgPerL.toPrecision(6));
+  const residual = Number((rec.expectedResidualMgPerL ?? 0).toPrecision(6));
+  // The dose route's dose is estimate + background + residual: the expected residual as the target and
+  // the rest above the stoichiometric estimate as background, so that it adds up to the recommendation.
+  // When the jars used less oxidant than the readings imply (the recommendation is below estimate +
+  // residual), the readings' reactions are not counted: what the jars consumed stands as the demand.
+  const belowReadings = dose - residual < estimateMgPerL - 1e-9 * Math.max(1, estimateMgPerL);
+  const sample = belowReadings ? Object.fromEntries(Object.entries(body.sample).filter(([k]) => !(CONTAMINANT_FIELDS as readonly string[]).includes(k))) : body.sample;
+  const background = belowReadings ? dose - residual : dose - estimateMgPerL - residual;
   let result;
   try {
-    result = computeDose({ oxidant: body.oxidant, sample: body.sample, backgroundDemand: { value: background, unit: 'mg/L' }, targetResidual: { value: residual, unit: 'mg/L' } }, services.dosing);
+    result = computeDose(
+      { oxidant: body.oxidant, sample: sample as DoseRequest['sample'], backgroundDemand: { value: Math.max(0, background), unit: 'mg/L' }, targetResidual: { value: residual, unit: 'mg/L' } },
+      services.dosing,
+    );
   } catch (e) {
     if (!(e instanceof DomainError)) throw e;
-    return [{ code: 'DOSE_CHECKS_NOT_RUN', severity: 'warning', message: `The daily dose checks (residual limits, by-products, alkalinity) could not be run at the recommended ${roundSig(rec.doseMgPerL, 3)} mg/L: ${e.detail} Check the recommendation with POST /api/v1/doses.` }];
+    return [{ code: 'DOSE_CHECKS_NOT_RUN', severity: 'warning', message: `The daily dose checks (residual limits, by-products, alkalinity) could not be run at the recommended ${roundSig(dose, 3)} mg/L: ${e.detail} Check the recommendation with POST /api/v1/doses.` }];
   }
-  const judged = result.dose.value;
-  const same = Math.abs(judged - rec.doseMgPerL) <= 1e-9 * Math.max(1, rec.doseMgPerL);
   const residualText =
     rec.expectedResidualMgPerL !== null ? ` (expected residual ${roundSig(residual, 3)} mg/L)` : ' (no residual is predicted without a residual line, so the residual limits are not judged)';
-  const at = same
-    ? `At the recommended ${roundSig(rec.doseMgPerL, 3)} mg/L${residualText}, as POST /api/v1/doses judges it: `
-    : `At ${roundSig(judged, 3)} mg/L, the sample's stoichiometric demand, above the recommended ${roundSig(rec.doseMgPerL, 3)} mg/L (a dose cannot be judged below the demand its readings imply), as POST /api/v1/doses judges it: `;
+  const how = belowReadings
+    ? `, with the ${roundSig(dose - residual, 3)} mg/L the jars consumed as its demand (less than the ${roundSig(estimateMgPerL, 3)} mg/L the readings imply, so their reactions are not counted)`
+    : '';
+  const at = `At the recommended ${roundSig(dose, 3)} mg/L${residualText}${how}, as POST /api/v1/doses judges it: `;
   return result.flags
     .filter((f) => CHECKS_AT_RECOMMENDATION.has(f.code))
     .map((f) => ({ code: f.code, severity: f.severity === 'danger' ? ('error' as const) : f.severity, message: `${at}${f.message}` }));
