@@ -304,6 +304,29 @@ function checkAmount(value: number, kind: 'molPerL' | 'atm', text: string, point
   });
 }
 
+/**
+ * A converted activity or pressure within what a water can hold, at the sample's pH: dissolved O2
+ * given at 0.21 mol/L is 166 atm of O2(g), which no water holds. The given value's field is named.
+ */
+function checkLinked(link: LinkResult, pH: number, seen: ReadonlyMap<string, GivenAt>): void {
+  for (const l of link.links.values()) {
+    const value = Math.pow(10, l.linked.log10ActivityAtPH0 + l.linked.perPH * pH);
+    const at = seen.get(l.from.key);
+    const kind = l.termIsGas ? 'atm' : 'molPerL';
+    const b = AMOUNT_BOUNDS[kind];
+    if (Number.isFinite(value) && value >= b.min && value <= b.max) continue;
+    const unit = kind === 'atm' ? 'atm' : 'mol/L';
+    const shown = Number.isFinite(value) ? value.toPrecision(3) : 'beyond any number of';
+    const hint = l.termIsGas
+      ? ` In a couple a bare ${l.termText.replace(/\(g\)$/, '')} is the gas: give its partial pressure (atm) as ${l.termText}${at?.pointer.startsWith('/activities') ? ' in partialPressuresAtm' : ''}.`
+      : '';
+    throw new DomainError('QUANTITY_OUT_OF_RANGE', {
+      detail: `${l.from.text} as given sets ${l.termText} of the couple through ${l.equation} to ${shown} ${unit}, outside the ${b.min} to ${b.max} ${unit} a water can hold (common practice): check the value and its unit.${hint}`,
+      fields: [{ pointer: at ? (at.pointer.startsWith('/concentrations/') ? `${at.pointer}/value` : at.pointer) : '/', message: `sets ${l.termText} to ${shown} ${unit}, outside ${b.min} to ${b.max} ${unit}` }],
+    });
+  }
+}
+
 function keyedActivities(
   map: Readonly<Record<string, number>> | undefined,
   pointer: string,
@@ -316,7 +339,7 @@ function keyedActivities(
     const at = { text, pointer: `${pointer}/${pointerToken(text)}` };
     const s = parseAt(text, at.pointer, deps);
     check?.(s, at);
-    checkAmount(a, pointer === '/partialPressuresAtm' ? 'atm' : 'molPerL', text, at.pointer);
+    checkAmount(a, pointer === '/partialPressuresAtm' || s.phase === 'g' ? 'atm' : 'molPerL', text, at.pointer);
     const key = speciesKey(s);
     noteGiven(seen, key, at);
     out.set(key, a);
@@ -561,6 +584,7 @@ export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
       if (v !== undefined && v > 0 && sp !== undefined) givenSpecies.push({ key, text, species: sp, log10Activity: Math.log10(v) });
     }
     link = linkGivenSpecies([{ half, name: 'couple' }], givenSpecies, { temperatureC, ledger: deps.ledger, solids: tabledSolids(deps.ledger) });
+    checkLinked(link, ph.pH ?? 0, seen);
     n = nernst({
       half,
       standardPotentialV: e0T,
@@ -809,6 +833,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     givenSpecies,
     { temperatureC: T, ledger: deps.ledger, solids: tabledSolids(deps.ledger) },
   );
+  checkLinked(link, input.pH, seen);
 
   const molarMassRed = (() => {
     try {
