@@ -233,7 +233,7 @@ function densityCheck(ox: OxidantRow, strength: { value: number; unit: string },
     flags.push({
       code: 'DENSITY_BELOW_WATER',
       severity: 'warning',
-      message: `${who}, ${plain(rho)} kg/L, is ${rho < 1 ? 'below' : 'that of'} water, but a ${plain(massPercent.toNumber())} % w/w solution of ${lowerName(ox.name)} is denser than water. Check the value and its unit (kg/L; a specific gravity reads the same).`,
+      message: `${who}, ${plain(rho)} kg/L, is ${rho < 1 ? 'below' : 'that of'} water, but ${lowerName(ox.name)} at ${plain(massPercent.toNumber())} % w/w is denser than water. Check the value and its unit (kg/L; a specific gravity reads the same).`,
       source: 'operator-practice',
     });
     return;

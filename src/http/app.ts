@@ -134,7 +134,19 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
       });
     }
     if (err.code === 'FST_ERR_CTP_INVALID_JSON_BODY' || err instanceof SyntaxError || err.statusCode === 400) {
-      return sendProblem(reply, problem('BODY_NOT_JSON', `The request body could not be read as JSON: ${err.message}`));
+      // the parser's own reason (JSON.parse's SyntaxError) says where the text stops being JSON
+      const cause = (err as { cause?: unknown }).cause;
+      const why = cause instanceof SyntaxError ? cause.message : err instanceof SyntaxError ? err.message : null;
+      const blank = why !== null && /end of (JSON )?input/i.test(why);
+      return sendProblem(reply, {
+        ...problem(
+          'BODY_NOT_JSON',
+          blank
+            ? 'The request body holds no JSON (it is empty, white space or cut short) although its content-type is application/json: send the JSON object this route takes (see /docs).'
+            : `The request body is not valid JSON although its content-type is application/json${why ? ` (${why})` : ''}: send one JSON object, as this route's schema in /docs shows.`,
+        ),
+        instance: req.url,
+      });
     }
     if (err.statusCode === 429) {
       return sendProblem(reply, problem('RATE_LIMITED', err.message || 'Too many requests for this token; wait and try again.'));

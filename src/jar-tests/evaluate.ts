@@ -422,7 +422,7 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       tooFew(
         new DomainError('JAR_TEST_TOO_FEW_POINTS', {
           detail:
-            `Only ${used.length} jar(s)${which} kept a residual above the detection limit ${fmt(dl)} mg/L at ${fmt(time)} min` +
+            `${used.length === 0 ? 'No jar' : `Only ${used.length} jar${used.length === 1 ? '' : 's'}${which}`} kept a residual above the detection limit ${fmt(dl)} mg/L at ${fmt(time)} min` +
             `${used.length >= 3 ? ', all at one dose' : ''}; the demand line needs at least 3 jars at 2 or more doses. Repeat the test with more jars above the expected demand, or fit another contact time.`,
           params: { n: used.length, distinctDoses, detectionLimitMgPerL: dl, contactTimeMin: time, jarsUsed: used.map((u) => u.jar) },
           fields: [{ pointer: '/jars', message: `${used.length} jar(s) with a measurable residual at ${fmt(time)} min; at least 3 needed` }],
@@ -797,7 +797,7 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       problems.push({
         code: 'RESIDUAL_COLOUR_NOT_CHECKED',
         severity: 'info',
-        message: `The residual line gives no residual at the recommended ${fmt(recommendedDose.doseMgPerL, 3)} mg/L, so it was not checked against the ${fmt(pink.mgPerL)} mg/L as KMnO4 at which permanganate shows pink (${pink.basis}); look for pink in the jar nearest that dose.`,
+        message: `${fit === null ? 'Without a residual line no residual is predicted' : 'The residual line gives no residual'} at the recommended ${fmt(recommendedDose.doseMgPerL, 3)} mg/L, so it was not checked against the ${fmt(pink.mgPerL)} mg/L as KMnO4 at which permanganate shows pink (${pink.basis}); look for pink in the jar nearest that dose.`,
       });
     } else if (predicted > pink.mgPerL) {
       const rec = recommendedDose;

@@ -197,7 +197,6 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
       ),
     });
   }
-  if (input.supersedes) resultRows.push({ label: 'Supersedes', value: `sheet ${input.supersedes}` });
   if (input.supersedes && input.correctionReason) resultRows.push({ label: 'Reason for correction', value: input.correctionReason });
   const resultBlocks: Block[] = [{ kind: 'keyValue', rows: resultRows }];
   const danger = r.flags.filter((fl) => fl.severity === 'danger');

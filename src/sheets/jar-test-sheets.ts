@@ -304,13 +304,13 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
         ? apExact
           ? `${n3(ap.doseMgPerL)} mg/L (SE 0, exact fit: every jar of the fit lies on the line)`
           : `${n3(ap.doseMgPerL)} mg/L (SE ${n3(ap.stdError)}; 95 % interval ${n3(ap.ci95[0])} to ${n3(ap.ci95[1])})`
-        : 'not found',
+        : ev.fit === null ? 'not determined: too few jars kept a measurable residual for a residual line' : 'not determined: the residual line does not cross zero residual',
       ...(ap ? { source: ap.method } : {}),
     },
     { label: 'Stoichiometric estimate', value: `${n3(ev.estimateMgPerL)} mg/L` },
     {
       label: 'Background demand',
-      value: ev.backgroundDemand ? `${nFit(ev.backgroundDemand.doseMgPerL, doseScale)} mg/L (SE ${seText(ev.backgroundDemand.stdError, doseScale)})` : 'not found',
+      value: ev.backgroundDemand ? `${nFit(ev.backgroundDemand.doseMgPerL, doseScale)} mg/L (SE ${seText(ev.backgroundDemand.stdError, doseScale)})` : 'not determined (it needs the apparent demand)',
       source: 'apparent demand − stoichiometric estimate',
     },
   ];

@@ -239,12 +239,14 @@ describe('amounts no water can hold are refused (common practice bounds: 1e-40 t
 describe('a converted value is held to the same bounds', () => {
   it('dissolved O2 given at 0.21 mol/L for an O2 couple (the gas) would be 166 atm: refused, naming the given field and how to give the gas', () => {
     // p = a / K_H = 0.21 / 10^−2.8983 ≈ 166 atm (phreeqc-o2-henry), above the 100 atm bound
-    let err: { code: string; detail: string; fields: { pointer: string }[] } | null = null;
-    try {
-      couplePotential({ from: 'O2', to: 'H2O', pH: 7.2, activities: { O2: 0.21 } }, deps);
-    } catch (e) {
-      err = e as typeof err;
-    }
+    const err = (() => {
+      try {
+        couplePotential({ from: 'O2', to: 'H2O', pH: 7.2, activities: { O2: 0.21 } }, deps);
+      } catch (e) {
+        return e as { code: string; detail: string; fields: { pointer: string }[] };
+      }
+      return null;
+    })();
     expect(err?.code).toBe('QUANTITY_OUT_OF_RANGE');
     expect(err?.fields[0]?.pointer).toBe('/activities/O2');
     expect(err?.detail).toMatch(/partialPressuresAtm/);

@@ -5,7 +5,7 @@ import { DateOrTime, IsoDateTime, PageSize } from './common.js';
 
 export const SheetId = z
   .string()
-  .regex(SHEET_ID_RE, { error: 'not a sheet id: a sheet id is DS- (dose) or JT- (jar test), the date YYYYMMDD, a hyphen and 10 letters or digits, e.g. DS-20261201-7K2M9Q4X1B' })
+  .regex(SHEET_ID_RE, { error: 'not a sheet id: a sheet id is DS- (dose) or JT- (jar test), the date YYYYMMDD, a hyphen and 10 characters of 0–9 and A–Z without I, L, O and U, e.g. DS-20261201-7K2M9Q4X1B' })
   .describe('Sheet id, e.g. DS-20261201-…');
 export { DateOrTime, IsoDateTime };
 
