@@ -232,7 +232,7 @@ export interface BoundedQuantities {
   readonly contactVolume?: Quantity | undefined;
   readonly targetResidual?: Quantity | undefined;
   readonly backgroundDemand?: Quantity | { readonly tocFactor: number } | undefined;
-  readonly product?: { readonly strength: Quantity; readonly purity?: Quantity | undefined } | undefined;
+  readonly product?: { readonly strength?: Quantity | undefined; readonly purity?: Quantity | undefined } | undefined;
   readonly pump?: { readonly ratedCapacity: Quantity } | undefined;
   readonly stock?: Quantity | undefined;
   readonly batch?: { readonly volume: Quantity } | undefined;

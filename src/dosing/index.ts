@@ -498,7 +498,7 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
     const name = ox.name.replace(/\s*\([^)]*\)$/, '');
     throw new DomainError('VALIDATION_FAILED', {
       detail: `${name} ${how}: it has no product strength, density or solution rate, so product does not apply. Remove product; the feed is the mass rate (feed.massRate${ox.form === 'generated' ? ', and the generator output in feed.generator' : ''}).`,
-      fields: [{ pointer: '/product/strength', message: `${name} ${how}; a product strength (${req.product.strength.value} ${req.product.strength.unit}) does not apply: remove product` }],
+      fields: [{ pointer: '/product/strength', message: `${name} ${how}; a product ${req.product.strength ? `strength (${req.product.strength.value} ${req.product.strength.unit})` : 'entry'} does not apply: remove product` }],
     });
   }
   if (req.pump && oxidantFedAsGas(ox)) {
@@ -515,7 +515,7 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
     // the strength of a solution already states its active content: a purity on top would be a second, silent factor
     throw namePlantFields(
       new DomainError('VALIDATION_FAILED', {
-        detail: `${ox.name} is supplied as a solution: its strength (${req.product.strength.value} ${req.product.strength.unit}) already states the active content, so a purity does not apply. Remove product.purity, and give the measured strength of the stock instead.`,
+        detail: `${ox.name} is supplied as a solution: its strength${req.product.strength ? ` (${req.product.strength.value} ${req.product.strength.unit})` : ''} already states the active content, so a purity does not apply. Remove product.purity, and give the measured strength of the stock instead.`,
         fields: [{ pointer: '/product/purity', message: 'purity applies to solid products (potassium permanganate, calcium hypochlorite); a solution is given by its strength' }],
       }),
     );
@@ -527,11 +527,11 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
   const pH = s.pH;
   const temperatureC = s.temperatureC ?? temperatureToC(s.temperature!, '/sample/temperature');
   // a possible but unusual strength (the impossible ones were refused by checkDoseRequest): above the strongest grade, or dissolving only in a warm tank
-  if (req.product) {
+  if (req.product?.strength) {
     const tankC = req.batch?.temperatureC ?? temperatureC;
     const tankFrom = req.batch?.temperatureC !== undefined ? 'batch.temperatureC' : "the sample temperature (give batch.temperatureC for the tank's)";
     // with a batch and a flow, the feed's batch check (BATCH_ABOVE_SOLUBILITY) covers the solubility
-    flags.push(...strengthLimitFlags(ox, req.product, tankC, tankFrom, !(req.batch && req.flow), context.strengthLimits));
+    flags.push(...strengthLimitFlags(ox, { ...req.product, strength: req.product.strength }, tankC, tankFrom, !(req.batch && req.flow), context.strengthLimits));
   }
   const medium: Medium = req.options?.medium ?? mediumForPH(pH);
   checkPotentialOverrides(req.options?.potentialOverrides);

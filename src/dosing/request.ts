@@ -10,7 +10,7 @@ import { z } from 'zod';
 import { DomainError, toPointer, type FieldProblem } from '../core/errors.js';
 import { UNIT_FACTORS, TEMPERATURE_UNITS, temperatureToC } from '../core/quantity.js';
 import { READING_BOUNDS, quantityBoundProblems, readingBoundProblems } from './bounds.js';
-import { strengthLimitProblem, type StrengthLimit, type StrengthLimitProblem } from './strength-limits.js';
+import { SOLID_PRODUCT_IDS, strengthLimitProblem, type StrengthLimit, type StrengthLimitProblem } from './strength-limits.js';
 
 /** The product ids the HTTP contract fixes (tables/oxidants.json holds their properties). */
 export const OXIDANT_IDS = [
@@ -107,7 +107,8 @@ export const PuritySchema = z.strictObject({
 });
 
 export const ProductSchema = z.strictObject({
-  strength: StrengthSchema,
+  /** Required for a solution product; a solid (KMnO4, Ca(OCl)2) may give only its purity, for the mass of solid to feed. */
+  strength: StrengthSchema.optional().describe('Strength of the product as fed: required for a solution; a solid (potassium permanganate, calcium hypochlorite) may give only its purity, for the mass of solid to feed'),
   density: DensitySchema.optional(),
   purity: PuritySchema.optional(),
 });
@@ -259,6 +260,10 @@ export function checkDoseRequest(req: DoseRequest, strengthLimits?: readonly Str
     }
   }
   const st = req.product?.strength;
+  // a solid may be given by its purity alone (the mass of solid to feed); a solution is given by its strength
+  if (req.product && st === undefined && !SOLID_PRODUCT_IDS.has(req.oxidant)) {
+    fields.push({ pointer: '/product/strength', message: `the strength of the ${req.oxidant.replace(/-/g, ' ')} fed is required (% w/w with density, % w/v or g/L); only a solid product (${[...SOLID_PRODUCT_IDS].map((x) => x.replace(/-/g, ' ')).join(', ')}) may be given by its purity alone` });
+  }
   if (st && st.unit !== 'g/L' && st.value > 100) {
     fields.push({ pointer: '/product/strength/value', message: `a strength in ${st.unit} must be more than 0 and at most 100` });
   }
@@ -266,8 +271,8 @@ export function checkDoseRequest(req: DoseRequest, strengthLimits?: readonly Str
   fields.push(...quantityBoundProblems(req));
   // a strength no solution of the product can have: above its solubility, or far above its strongest grade (tables/strength-limits.json)
   let strengthLimit: StrengthLimitProblem | null = null;
-  if (req.product && !fields.some((f) => f.pointer.startsWith('/product/'))) {
-    strengthLimit = strengthLimitProblem(req.oxidant, req.product, '/product', strengthLimits);
+  if (req.product?.strength && !fields.some((f) => f.pointer.startsWith('/product/'))) {
+    strengthLimit = strengthLimitProblem(req.oxidant, { ...req.product, strength: req.product.strength }, '/product', strengthLimits);
     if (strengthLimit) fields.push({ pointer: strengthLimit.pointer, message: strengthLimit.message });
   }
   // readings a raw water cannot hold (a unit slip or a miscopied reading): refused, naming the field, the value, the bound and why

@@ -233,6 +233,16 @@ describe('plant products and bounds', () => {
     }
   });
 
+  it('a solid product may be given by its purity alone (the mass of solid to feed); a solution product needs its strength', () => {
+    const base = { flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 7.2, temperatureC: 12, iron: { value: 1, unit: 'mg/L' } } };
+    // Ca(OCl)2 tablets at 70 % available chlorine: 0.6348 mg Cl2/mg Fe × 1 mg/L × 1000 m3/d = 0.6348 kg/d as Cl2 ÷ 0.70
+    const r = computeDose(parseDoseRequest({ ...base, oxidant: 'calcium-hypochlorite', product: { purity: { value: 70, unit: '%' } } }), context);
+    expect(r.feed!.productMassRate!.value).toBeCloseTo(r.feed!.massRate.value / 0.7, 9);
+    expect(r.flags.map((f) => f.code)).not.toContain('PURITY_DEFAULT_USED');
+    const e = refusal(() => computeDose(parseDoseRequest({ ...base, oxidant: 'sodium-hypochlorite', product: { purity: { value: 90, unit: '%' } } }), context));
+    expect(e.fields.map((f) => f.pointer)).toContain('/product/strength');
+  });
+
   it('a pump for chlorine dioxide (generated, fed as a solution) is still accepted', () => {
     const p = parsePlantProfile({ ...profile([], {}), pumps: [{ id: 'p1', oxidant: 'chlorine-dioxide', ratedCapacity: { value: 10, unit: 'L/h' } }] });
     expect(p.pumps.map((x) => x.oxidant)).toEqual(['chlorine-dioxide']);
