@@ -40,6 +40,8 @@ export interface JarSheetContext {
   /** ISO 8601 time the sample was taken. */
   readonly sampledAt?: string;
   readonly supersedes?: string;
+  /** Why the evaluation named in supersedes is corrected. */
+  readonly correctionReason?: string;
   readonly pageSize?: PageSize;
   /** Where a plan's target residual came from when not from the request (the plant profile entry). */
   readonly residualFrom?: string;
@@ -77,6 +79,7 @@ function metaFor(ctx: JarSheetContext, extra: MetaItem[], archived = false): Met
     { label: 'Sampled at', value: ctx.sampledAt ? displayTime(ctx.sampledAt) : notGiven },
     ...extra,
     ...(ctx.supersedes ? [{ label: 'Supersedes', value: ctx.supersedes }] : []),
+    ...(ctx.supersedes && ctx.correctionReason ? [{ label: 'Reason for correction', value: ctx.correctionReason }] : []),
   ];
 }
 

@@ -731,3 +731,27 @@ describe('POST /api/v1/jar-tests/evaluations: the daily dose checks at the recom
     expect(pmn.problems.filter((p) => p.message.startsWith('At the recommended'))).toEqual([]);
   });
 });
+
+describe('POST /api/v1/jar-tests/evaluations: corrections say why', () => {
+  const jarsFrom = (doses: number[]) =>
+    doses.map((d) => ({ dose: mgL(d), results: [{ contactTimeMin: 20, residualOxidant: mgL(Math.max(0, d - 1)), iron: mgL(d >= 1.5 ? 0.05 : 0.5), manganese: mgL(d >= 1.5 ? 0.02 : 0.2) }] }));
+  const body = { oxidant: 'potassium-permanganate', sample: SAMPLE, jarVolume: { value: 2, unit: 'L' }, jars: jarsFrom([0.5, 1, 1.5, 2, 2.5]), plantContactTimeMin: 20 };
+  it('a correction with correctionReason prints it on the signed sheet; one without gets a warning; a reason without supersedes is a 400', async () => {
+    const first = await post('/api/v1/jar-tests/evaluations', body, asAdmin);
+    expect(first.statusCode, first.body).toBe(201);
+    const reason = 'Jar 3 manganese re-read after filtering again (invented)';
+    const fix = await post('/api/v1/jar-tests/evaluations', { ...body, supersedes: first.json().id, correctionReason: reason }, asAdmin);
+    expect(fix.statusCode, fix.body).toBe(201);
+    expect(fix.json().warnings).toEqual([]);
+    const pdf = await app.inject({ url: fix.json().pdfUrl });
+    const text = pdfText(pdfFile(pdf.rawPayload, 'jar-correction')).replace(/\s+/g, ' ');
+    expect(text).toMatch(/reason for correction/i);
+    expect(text).toContain('Jar 3 manganese re-read');
+    const bare = await post('/api/v1/jar-tests/evaluations', { ...body, supersedes: fix.json().id }, asAdmin);
+    expect(bare.statusCode, bare.body).toBe(201);
+    expect(bare.json().warnings[0]).toMatch(/without a correctionReason/);
+    const lone = await post('/api/v1/jar-tests/evaluations', { ...body, correctionReason: reason }, asAdmin);
+    expect(lone.statusCode).toBe(400);
+    expect(lone.json().errors[0].pointer).toBe('/correctionReason');
+  });
+});

@@ -15,7 +15,7 @@ import {
   StrengthSchema,
 } from '../../dosing/request.js';
 import { IsoDateTime, PageSize, QuantityOut } from './common.js';
-import { Integrity, SheetStatus } from './sheets.js';
+import { CorrectionReason, Integrity, SheetStatus } from './sheets.js';
 
 // ---------------------------------------------------------------------------------------------
 // request pieces
@@ -148,6 +148,7 @@ export const JarEvaluationBody = z.strictObject({
     .optional()
     .describe('Stored plant profile the test was run for: the archived evaluation is filed under the plant and its current profile version (GET /api/v1/sheets?plantId=…), and the sheet names it'),
   supersedes: z.string().regex(/^JT-\d{8}-[0-9A-HJKMNP-TV-Z]{10}$/, { error: 'supersedes must be a jar-test sheet id JT-YYYYMMDD-XXXXXXXXXX' }).optional(),
+  correctionReason: CorrectionReason.optional(),
   ...SampleMeta,
 });
 export type JarEvaluationBodyT = z.output<typeof JarEvaluationBody>;
@@ -385,5 +386,8 @@ const ArchiveInfo = z.object({
   integrity: Integrity.optional(),
 });
 
-export const EvaluationCreatedOut = EvaluationResultOut.extend({ archive: ArchiveInfo });
+export const EvaluationCreatedOut = EvaluationResultOut.extend({
+  archive: ArchiveInfo,
+  warnings: z.array(z.string()).optional().describe('What the archived record lacks that a reviewer will expect (a correction without its reason)'),
+});
 export const EvaluationRecordOut = EvaluationResultOut.extend({ archive: ArchiveInfo, request: z.unknown() });

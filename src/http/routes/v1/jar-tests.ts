@@ -740,6 +740,20 @@ function archiveInfo(s: SheetSummary) {
 
 /** Evaluate, render, sign with the user's signer and append to the archive. */
 export async function issueJarTestEvaluation(services: Services, user: User, body: JarEvaluationBodyT) {
+  // a correction says why, as a dose sheet's does (src/http/issue-sheet.ts); the reason is stored in the hashed request
+  if (body.correctionReason !== undefined && body.supersedes === undefined) {
+    throw new DomainError('VALIDATION_FAILED', {
+      detail: 'correctionReason says why an evaluation is corrected; give it together with supersedes (the id of the evaluation this one corrects), or leave it out.',
+      fields: [{ pointer: '/correctionReason', message: 'only with supersedes' }],
+    });
+  }
+  const warnings: string[] = [];
+  if (body.supersedes !== undefined && body.correctionReason === undefined) {
+    warnings.push(
+      `This evaluation corrects ${body.supersedes} without a correctionReason: the record will not say why it was corrected, which a supervisor or regulator reviewing it will expect. ` +
+        'A reason cannot be added to an archived record later; to record one, issue a further correction with supersedes and correctionReason.',
+    );
+  }
   if (body.supersedes !== undefined) {
     let kind: string | null = null;
     try {
@@ -797,11 +811,12 @@ export async function issueJarTestEvaluation(services: Services, user: User, bod
     ...(body.samplingPoint ? { samplingPoint: body.samplingPoint } : {}),
     ...(body.sampledAt ? { sampledAt: body.sampledAt } : {}),
     ...(body.supersedes ? { supersedes: body.supersedes } : {}),
+    ...(body.supersedes && body.correctionReason ? { correctionReason: body.correctionReason } : {}),
     ...(body.pageSize ? { pageSize: body.pageSize } : {}),
   };
   const { pdf } = await renderSignedSheet(jarTestEvaluationDocument(evaluation, ctx, plot), signer, { signingTime: now, contentSha256 });
   const saved = services.archive.appendSheet({ ...content, createdBy: user.id, signerId: stored.id, signedAs: { name: stored.name, role: stored.role }, pdf, contentSha256 });
-  return { ...evaluationView(id, result), archive: archiveInfo(saved) };
+  return { ...evaluationView(id, result), archive: archiveInfo(saved), warnings };
 }
 
 function requireEvaluation(services: Services, id: string): SheetRecord<unknown, StoredEvaluation> {
