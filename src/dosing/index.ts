@@ -746,6 +746,20 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
     flags,
   });
 
+  // a DO reading above air saturation at the sample's temperature: supersaturated water (algae, pure
+  // oxygen) or a reading to check; the request is not refused (the plausibility band warns above 20 mg/L)
+  if (doMeasured) {
+    const measured = toBaseDec('concentration', doMeasured, '/sample/dissolvedOxygen').toNumber();
+    const sat = context.o2SaturationAt(temperatureC);
+    if (measured > sat * 1.05) {
+      flags.push({
+        code: 'DISSOLVED_OXYGEN_ABOVE_SATURATION',
+        severity: 'info',
+        message: `The dissolved oxygen reading, ${roundSigNumber(measured, 3)} mg/L, is ${roundSigNumber((measured / sat) * 100, 3)} % of air saturation at ${temperatureC} °C (${roundSigNumber(sat, 3)} mg/L, tables/oxygen-saturation.json): the water is supersaturated (algae, pure-oxygen aeration, a pressure drop) or the reading needs checking (meter calibration, sample handling).`,
+        source: 'std-methods-4500-o',
+      });
+    }
+  }
   // the oxygen the raw water already holds, against what the reactions and the residual need
   if (ox.id === 'oxygen' && doMeasured && total.doseMgPerL.greaterThan(0)) {
     const have = toBaseDec('concentration', doMeasured, '/sample/dissolvedOxygen').toNumber();

@@ -341,6 +341,12 @@ describe('feasibility at the sample conditions', () => {
     const rich = dose({ ...body, sample: { ...body.sample, dissolvedOxygen: { value: 8, unit: 'mg/L' } }, targetResidual: { value: 2, unit: 'mg/L' } });
     expect(rich.flags.find((f) => f.code === 'DISSOLVED_OXYGEN_IN_SAMPLE')!.message).toMatch(/already holds 8\.00 mg\/L dissolved oxygen, at least the 2\.29 mg\/L/);
   });
+  it('a DO reading above air saturation at the sample temperature is said (info), whatever the oxidant; one below it is not', () => {
+    // air saturation at 11 °C is about 11 mg/L (tables/oxygen-saturation.json, Standard Methods 4500-O, from memory)
+    const at = (mg: number) => dose({ oxidant: 'sodium-hypochlorite', flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 7.2, temperatureC: 11, iron: { value: 1, unit: 'mg/L' }, dissolvedOxygen: { value: mg, unit: 'mg/L' } } });
+    expect(at(16).flags.find((f) => f.code === 'DISSOLVED_OXYGEN_ABOVE_SATURATION')!.message).toMatch(/supersaturated/);
+    expect(at(9).flags.map((f) => f.code)).not.toContain('DISSOLVED_OXYGEN_ABOVE_SATURATION');
+  });
   it('unusual background demand (> 20 mg/L) and target residual (> 10 mg/L) are warnings (common practice); oxygen has no residual band', () => {
     const base = { flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 7.2, temperatureC: 10, iron: { value: 0.5, unit: 'mg/L' } } };
     const high = dose({ ...base, oxidant: 'sodium-hypochlorite', backgroundDemand: { value: 500, unit: 'mg/L' }, targetResidual: { value: 12, unit: 'mg/L' } });
