@@ -222,7 +222,7 @@ const plain = (x: number): string => String(Number(x.toPrecision(4)));
  * likely a misread certificate (or the density of another grade) than the stock's. Warnings only:
  * the given value is used.
  */
-function densityCheck(ox: OxidantRow, strength: { value: number; unit: string }, density: DecT, who: string, flags: Flag[]): void {
+export function densityCheck(ox: OxidantRow, strength: { value: number; unit: string }, density: DecT, who: string, flags: Flag[]): void {
   const rho = density.toNumber();
   const v = new Dec(strength.value);
   // the strength as g/L and as % w/w (with the given density), to place it against the tabled rows

@@ -38,7 +38,7 @@ import { demandResidualFlags } from './bounds.js';
 
 export type { DoseRequest } from './request.js';
 export { DoseRequestSchema, parseDoseRequest, checkDoseRequest, OXIDANT_IDS, CONTAMINANT_FIELDS } from './request.js';
-export { PlantProfileSchema, parsePlantProfile, mergePlantIntoRequest, plantResidualFor, type PlantProfile } from './plant.js';
+export { PlantProfileSchema, parsePlantProfile, mergePlantIntoRequest, plantProfileWarnings, plantResidualFor, type PlantProfile } from './plant.js';
 export type { Flag, Reported, Severity } from './types.js';
 export { stoichiometricRatio, type RatioResult } from './ratio.js';
 export { computeFeed, type FeedResult } from './feed.js';

@@ -9,6 +9,9 @@ import { DomainError } from '../core/errors.js';
 import { toBaseDec } from '../core/quantity.js';
 import { quantityBoundProblems } from './bounds.js';
 import { FED_AS_GAS_IDS, GAS_FEEDER_TEXT, SOLID_PRODUCT_IDS, strengthLimitProblem, type StrengthLimit } from './strength-limits.js';
+import { densityCheck } from './feed.js';
+import type { Flag } from './types.js';
+import type { OxidantRow } from '../reference/dosing-schemas.js';
 import {
   ConcentrationSchema,
   DensitySchema,
@@ -250,4 +253,20 @@ export function mergePlantIntoRequest(request: DoseRequest, plant: PlantProfile,
     plant: { id: plant.id, name: plant.name, invented: plant.invented, preferredUnits: plant.preferredUnits },
     residual,
   };
+}
+
+/**
+ * What a stored profile holds that its doses will warn about, said when it is saved: a product
+ * density below water's or unlike the tabled one at that strength (the same check as a dose's).
+ */
+export function plantProfileWarnings(profile: PlantProfile, oxidants: ReadonlyMap<string, OxidantRow>): { code: string; message: string; pointer: string }[] {
+  const out: { code: string; message: string; pointer: string }[] = [];
+  profile.products.forEach((prod, i) => {
+    const ox = oxidants.get(prod.oxidant);
+    if (!ox || !prod.density) return;
+    const flags: Flag[] = [];
+    densityCheck(ox, prod.strength, toBaseDec('density', prod.density, `/products/${i}/density`), `The density of product ${i + 1} (${prod.oxidant})`, flags);
+    for (const f of flags) out.push({ code: f.code, message: f.message, pointer: `/products/${i}/density` });
+  });
+  return out;
 }

@@ -594,6 +594,14 @@ describe('POST /api/v1/plants', () => {
     expect(warm.statusCode, warm.body).toBe(201);
   });
 
+  it('a profile whose hypochlorite density is below water\'s is stored with a warning naming the product\'s density; the tabled density gives none', async () => {
+    const light = await postPlant({ ...profile, id: 'test-light-hypo', products: [{ ...profile.products[0], density: { value: 0.95, unit: 'kg/L' } }] }, engineerToken);
+    expect(light.statusCode, light.body).toBe(201);
+    expect(light.json().warnings).toEqual([expect.objectContaining({ code: 'DENSITY_BELOW_WATER', pointer: '/products/0/density' })]);
+    const ok = await postPlant({ ...profile, id: 'test-tabled-hypo' }, engineerToken);
+    expect(ok.json().warnings).toEqual([]);
+  });
+
   it('no token → 401; an operator token → 403', async () => {
     const none = await postPlant(profile);
     expect(none.statusCode).toBe(401);

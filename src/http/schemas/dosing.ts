@@ -21,6 +21,10 @@ export const PlantOut = z.object({
   savedBy: z.string().nullable(),
   sha256: z.string(),
   profile: PlantProfileSchema,
+  warnings: z
+    .array(z.object({ code: z.string(), message: z.string(), pointer: z.string() }))
+    .optional()
+    .describe('When a profile is stored: what its doses will warn about (a product density unlike the table or below water)'),
 });
 
 export const OxidantOut = z.looseObject({

@@ -1,7 +1,7 @@
 import type { FastifyInstance } from 'fastify';
 import { z } from 'zod';
 import { DomainError, isDomainError } from '../../../core/errors.js';
-import { computeDose, parsePlantProfile, type DoseRequest, type PlantProfile } from '../../../dosing/index.js';
+import { computeDose, parsePlantProfile, plantProfileWarnings, type DoseRequest, type PlantProfile } from '../../../dosing/index.js';
 import { isValidPlantId } from '../../../archive/index.js';
 import { DoseBody, DoseResponse, OxidantOut, PlantBody, PlantOut, PlantSummary } from '../../schemas/dosing.js';
 import { defineRoute } from '../../route.js';
@@ -103,7 +103,7 @@ export async function dosingRoutes(app: FastifyInstance): Promise<void> {
       const profile = parsePlantProfile(req.body, app.services.dosing.strengthLimits);
       const saved = app.services.archive.savePlant(profile, { createdBy: req.user!.id });
       reply.code(saved.changed ? 201 : 200);
-      return plantOut(saved);
+      return { ...plantOut(saved), warnings: plantProfileWarnings(profile, app.services.dosing.oxidants) };
     },
   });
 }
