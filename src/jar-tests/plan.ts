@@ -400,13 +400,16 @@ function planStock(
     let flask = candidates.find((f) => volFor(f) >= minVol);
     if (flask === undefined) {
       flask = candidates[candidates.length - 1]!;
+      const predilutedVol = Math.max(res, roundToResolution((C * flask) / (T / 10), res));
+      const predilutedStrength = (predilutedVol * (T / 10)) / flask;
       warnings.push({
         code: 'TRADE_VOLUME_BELOW_MINIMUM',
         severity: 'warning',
         message:
           `Only ${fmt(exactFor(flask))} mL of trade solution makes ${flask} mL of ${fmt(C)} g/L, below the ${minVol} mL a pipette measures well; ` +
           `measured as ${fmt(volFor(flask))} mL it gives ${fmt((volFor(flask) * T) / flask)} g/L, and half a pipette step is ${fmt((res / 2 / volFor(flask)) * 100, 2)} % of it. ` +
-          `Dilute the trade solution 1 + 9 first (10 mL to 100 mL: ${fmt(T / 10)} g/L), then pipette ${fmt(Math.max(res, roundToResolution((C * flask) / (T / 10), res)))} mL of that into the ${flask} mL flask.`,
+          `Better: dilute the trade solution 1 + 9 first (10 mL to 100 mL: ${fmt(T / 10)} g/L), then pipette ${fmt(predilutedVol)} mL of that into the ${flask} mL flask, which gives ${fmt(predilutedStrength)} g/L; ` +
+          `the aliquots below are computed for the single step (${fmt((volFor(flask) * T) / flask)} g/L), so for the two-step stock plan again with stockStrength ${fmt(predilutedStrength)} g/L, or the jars will be off by ${fmt(Math.abs(predilutedStrength / ((volFor(flask) * T) / flask) - 1) * 100, 2)} %.`,
       });
     }
     assumptions.push(

@@ -441,6 +441,9 @@ describe('planJarTest: a trade solution is measured to the pipette step', () => 
     const plan = planJarTest(base({ product: H2O2, stockStrengthGPerL: 0.1, doses: [0.1, 0.2, 0.3], jarVolumeL: 2 }));
     const w = plan.warnings.find((x) => x.code === 'TRADE_VOLUME_BELOW_MINIMUM')!;
     expect(w.message).toContain('1 + 9');
+    // the two-step stock's own strength is named, with the re-plan that makes the aliquots match it
+    const m = /which gives ([\d.]+) g\/L/.exec(w.message)!;
+    expect(w.message).toContain(`plan again with stockStrength ${m[1]} g/L`);
     const prep = plan.stock.preparation;
     if (prep.kind !== 'dilute') throw new Error('expected a dilution');
     expect(isMultipleOf(prep.tradeVolumeMl, 0.1)).toBe(true);
