@@ -11,7 +11,7 @@ import { createHash } from 'node:crypto';
 import { afterEach, describe, expect, it } from 'vitest';
 import { DomainError } from '../../src/core/errors.js';
 import { localSampleTime, type Archive } from '../../src/archive/index.js';
-import { doseSheetInput, ensureAuthor, fakeVerifyPdf, openTestArchive, rawTamper, tempDataDir } from './fixtures/archive-fixture.js';
+import { doseSheetInput, ensureAuthor, fakeVerifyPdf, openTestArchive, rawTamper, tempDataDir, caught } from './fixtures/archive-fixture.js';
 
 const cleanups: (() => void)[] = [];
 afterEach(() => {
@@ -33,15 +33,6 @@ function fresh(): { archive: Archive; author: { userId: string; signerId: string
 }
 const file = (dir: string) => `${dir}/oxidant-dosing.sqlite`;
 const sha256 = (b: Buffer | string) => createHash('sha256').update(b).digest('hex');
-function caught(fn: () => unknown): DomainError {
-  try {
-    fn();
-  } catch (e) {
-    if (e instanceof DomainError) return e;
-    throw e;
-  }
-  throw new Error('expected a DomainError');
-}
 
 /** A tiny RFC 4180 reader (quoted fields, doubled quotes, CRLF records). */
 function csvRows(text: string): Record<string, string>[] {

@@ -4,7 +4,7 @@ import Database from 'better-sqlite3';
 import { afterEach, describe, expect, it } from 'vitest';
 import { DomainError } from '../../src/core/errors.js';
 import { ARCHIVE_FILE_NAME, MIGRATIONS, latestVersion, migrate, openArchive, schemaVersion, type Migration } from '../../src/archive/index.js';
-import { tempDataDir } from './fixtures/archive-fixture.js';
+import { tempDataDir, caught } from './fixtures/archive-fixture.js';
 
 const SECRET = 'ab'.repeat(32);
 const cleanups: (() => void)[] = [];
@@ -17,15 +17,6 @@ function dir(): string {
   return t.dir;
 }
 
-function caught(fn: () => unknown): DomainError {
-  try {
-    fn();
-  } catch (e) {
-    if (e instanceof DomainError) return e;
-    throw e;
-  }
-  throw new Error('expected a DomainError');
-}
 
 describe('opening the archive', () => {
   it('creates a missing (nested) data folder and the database file', () => {

@@ -2,7 +2,7 @@ import { createHash } from 'node:crypto';
 import { afterEach, describe, expect, it } from 'vitest';
 import { DomainError } from '../../src/core/errors.js';
 import type { Archive } from '../../src/archive/index.js';
-import { openTestArchive, tempDataDir } from './fixtures/archive-fixture.js';
+import { openTestArchive, tempDataDir, caught } from './fixtures/archive-fixture.js';
 
 const cleanups: (() => void)[] = [];
 afterEach(() => {
@@ -16,15 +16,6 @@ function fresh(): Archive {
     t.cleanup();
   });
   return archive;
-}
-function caught(fn: () => unknown): DomainError {
-  try {
-    fn();
-  } catch (e) {
-    if (e instanceof DomainError) return e;
-    throw e;
-  }
-  throw new Error('expected a DomainError');
 }
 
 /** An invented demo plant profile (shape owned by src/dosing; here only stored). */

@@ -10,7 +10,7 @@ import {
   sheetContentSha256,
   type Archive,
 } from '../../src/archive/index.js';
-import { doseSheetInput, ensureAuthor, openTestArchive, tempDataDir } from './fixtures/archive-fixture.js';
+import { doseSheetInput, ensureAuthor, openTestArchive, tempDataDir, caught } from './fixtures/archive-fixture.js';
 
 const cleanups: (() => void)[] = [];
 afterEach(() => {
@@ -24,15 +24,6 @@ function fresh(): { archive: Archive; author: { userId: string; signerId: string
     t.cleanup();
   });
   return { archive, author: ensureAuthor(archive) };
-}
-function caught(fn: () => unknown): DomainError {
-  try {
-    fn();
-  } catch (e) {
-    if (e instanceof DomainError) return e;
-    throw e;
-  }
-  throw new Error('expected a DomainError');
 }
 const sha256 = (b: Buffer | string) => createHash('sha256').update(b).digest('hex');
 

@@ -4,7 +4,7 @@ import { join } from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { DomainError } from '../../src/core/errors.js';
 import type { Archive } from '../../src/archive/index.js';
-import { openTestArchive, tempDataDir } from './fixtures/archive-fixture.js';
+import { openTestArchive, tempDataDir, caught } from './fixtures/archive-fixture.js';
 
 const cleanups: (() => void)[] = [];
 afterEach(() => {
@@ -18,15 +18,6 @@ function fresh(): { archive: Archive; dir: string } {
     t.cleanup();
   });
   return { archive, dir: t.dir };
-}
-function caught(fn: () => unknown): DomainError {
-  try {
-    fn();
-  } catch (e) {
-    if (e instanceof DomainError) return e;
-    throw e;
-  }
-  throw new Error('expected a DomainError');
 }
 /** Every byte the archive wrote (database, WAL), to look for secrets. */
 function allBytes(dir: string): Buffer {
