@@ -11,22 +11,28 @@ import { doseFor } from './routes/v1/dosing.js';
 import type { SheetBody } from './schemas/sheets.js';
 import type { Services } from './services.js';
 
-export async function issueDoseSheet(services: Services, user: User, body: z.output<typeof SheetBody>) {
-  const { sampledAt, supersedes, correctionReason, samplingPoint, sampleLabel, pageSize, ...doseRequest } = body;
-  // The reason is stored in the request (request_json, so inside both hashes; see src/archive/sheets.ts).
+/**
+ * A correction says why (a dose sheet's or a jar-test evaluation's): a reason without the sheet it
+ * corrects is a 400 naming /correctionReason; a correction without a reason is stored, with a warning.
+ */
+export function correctionWarnings(supersedes: string | undefined, correctionReason: string | undefined, what: 'sheet' | 'evaluation'): string[] {
   if (correctionReason !== undefined && supersedes === undefined) {
     throw new DomainError('VALIDATION_FAILED', {
-      detail: 'correctionReason says why a sheet is corrected; give it together with supersedes (the id of the sheet this one corrects), or leave it out.',
+      detail: `correctionReason says why ${what === 'sheet' ? 'a sheet' : 'an evaluation'} is corrected; give it together with supersedes (the id of the ${what} this one corrects), or leave it out.`,
       fields: [{ pointer: '/correctionReason', message: 'only with supersedes' }],
     });
   }
-  const warnings: string[] = [];
-  if (supersedes !== undefined && correctionReason === undefined) {
-    warnings.push(
-      `This sheet corrects ${supersedes} without a correctionReason: the record will not say why the sheet was corrected, which a supervisor or regulator reviewing it will expect. ` +
-        'A reason cannot be added to an archived sheet later; to record one, issue a further correction of this sheet with supersedes and correctionReason.',
-    );
-  }
+  if (supersedes === undefined || correctionReason !== undefined) return [];
+  return [
+    `This ${what} corrects ${supersedes} without a correctionReason: the record will not say why it was corrected, which a supervisor or regulator reviewing it will expect. ` +
+      `A reason cannot be added to an archived ${what} later; to record one, issue a further correction with supersedes and correctionReason.`,
+  ];
+}
+
+export async function issueDoseSheet(services: Services, user: User, body: z.output<typeof SheetBody>) {
+  const { sampledAt, supersedes, correctionReason, samplingPoint, sampleLabel, pageSize, ...doseRequest } = body;
+  // The reason is stored in the request (request_json, so inside both hashes; see src/archive/sheets.ts).
+  const warnings = correctionWarnings(supersedes, correctionReason, 'sheet');
   // archive.getSheet throws SHEET_NOT_FOUND (404, pointer /id); a correction naming an unknown
   // sheet is a bad request field instead (400, /supersedes). The append re-checks both rules.
   if (supersedes !== undefined) {
@@ -61,8 +67,7 @@ export async function issueDoseSheet(services: Services, user: User, body: z.out
     ...(sampleLabel ? { sampleLabel } : {}),
     ...(supersedes ? { supersedes } : {}),
     ...(supersedes && correctionReason ? { correctionReason } : {}),
-    // correctionReason is not printed: DoseSheetInput (src/sheets/dose-sheet.ts) has no place for it yet.
-    // The content hash printed in the footer covers it (it is in the stored request).
+    // printed as "Reason for correction"; the content hash in the footer covers it too (it is in the stored request)
     ...(pageSize ? { pageSize } : {}),
   });
   const { pdf } = await renderSignedSheet(doc, signer, { signingTime: now, contentSha256 });

@@ -40,6 +40,7 @@ import { safetyBoxFromCautions } from '../../../sheets/safety.js';
 import type { SafetyBox } from '../../../sheets/model.js';
 import { canonicalJson, newSheetId, sha256Hex, sheetContentSha256, type SheetRecord, type SheetSummary, type User } from '../../../archive/index.js';
 import { findPlant } from './dosing.js';
+import { correctionWarnings } from '../../issue-sheet.js';
 import { INTEGRITY_HEADER, integrityHeader, integrityOut } from './sheets.js';
 import {
   CheckOut,
@@ -740,20 +741,8 @@ function archiveInfo(s: SheetSummary) {
 
 /** Evaluate, render, sign with the user's signer and append to the archive. */
 export async function issueJarTestEvaluation(services: Services, user: User, body: JarEvaluationBodyT) {
-  // a correction says why, as a dose sheet's does (src/http/issue-sheet.ts); the reason is stored in the hashed request
-  if (body.correctionReason !== undefined && body.supersedes === undefined) {
-    throw new DomainError('VALIDATION_FAILED', {
-      detail: 'correctionReason says why an evaluation is corrected; give it together with supersedes (the id of the evaluation this one corrects), or leave it out.',
-      fields: [{ pointer: '/correctionReason', message: 'only with supersedes' }],
-    });
-  }
-  const warnings: string[] = [];
-  if (body.supersedes !== undefined && body.correctionReason === undefined) {
-    warnings.push(
-      `This evaluation corrects ${body.supersedes} without a correctionReason: the record will not say why it was corrected, which a supervisor or regulator reviewing it will expect. ` +
-        'A reason cannot be added to an archived record later; to record one, issue a further correction with supersedes and correctionReason.',
-    );
-  }
+  // a correction says why, as a dose sheet's does; the reason is stored in the hashed request
+  const warnings = correctionWarnings(body.supersedes, body.correctionReason, 'evaluation');
   if (body.supersedes !== undefined) {
     let kind: string | null = null;
     try {
