@@ -511,17 +511,18 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
       }),
     );
   }
-  if (req.product?.purity && ox.form !== 'solid') {
-    // the strength of a solution already states its active content: a purity on top would be a second, silent factor
-    throw namePlantFields(
-      new DomainError('VALIDATION_FAILED', {
-        detail: `${ox.name} is supplied as a solution: its strength${req.product.strength ? ` (${req.product.strength.value} ${req.product.strength.unit})` : ''} already states the active content, so a purity does not apply. Remove product.purity, and give the measured strength of the stock instead.`,
-        fields: [{ pointer: '/product/purity', message: 'purity applies to solid products (potassium permanganate, calcium hypochlorite); a solution is given by its strength' }],
-      }),
-    );
-  }
   const per = context.perOxidant.get(ox.id)!;
   const flags: Flag[] = [];
+  if (req.product?.purity && ox.form !== 'solid') {
+    // the strength of a solution already states its active content: a purity on top would be a second
+    // factor; it is not used, and said so (the strength is what sets the feed)
+    flags.push({
+      code: 'PURITY_NOT_APPLICABLE',
+      severity: 'warning',
+      message: `${ox.name} is supplied as a solution: its strength${req.product.strength ? ` (${req.product.strength.value} ${req.product.strength.unit})` : ''} already states the active content, so the purity given (${req.product.purity.value} %) was not used. Give the measured strength of the stock instead${fromPlant.includes('product') ? `, and remove the purity from the plant profile "${plantInfo?.id}"` : ''}.`,
+      source: 'input',
+    });
+  }
   const notes: string[] = [];
   const s = req.sample;
   const pH = s.pH;

@@ -96,9 +96,6 @@ export function parsePlantProfile(input: unknown, strengthLimits?: readonly Stre
       return;
     }
     const before = fields.length;
-    if (prod.purity && !SOLID_PRODUCT_IDS.has(prod.oxidant)) {
-      fields.push({ pointer: `/products/${i}/purity`, message: `${prod.oxidant} is supplied as a solution: its strength states the active content, so a purity does not apply (it is for solid products: ${[...SOLID_PRODUCT_IDS].join(', ')}). Remove purity` });
-    }
     if (prod.strength.unit !== 'g/L' && prod.strength.value > 100) fields.push({ pointer: `/products/${i}/strength/value`, message: `a strength in ${prod.strength.unit} must be at most 100` });
     fields.push(
       ...quantityBoundProblems(
@@ -262,6 +259,13 @@ export function mergePlantIntoRequest(request: DoseRequest, plant: PlantProfile,
 export function plantProfileWarnings(profile: PlantProfile, oxidants: ReadonlyMap<string, OxidantRow>): { code: string; message: string; pointer: string }[] {
   const out: { code: string; message: string; pointer: string }[] = [];
   profile.products.forEach((prod, i) => {
+    if (prod.purity && !SOLID_PRODUCT_IDS.has(prod.oxidant)) {
+      out.push({
+        code: 'PURITY_NOT_APPLICABLE',
+        pointer: `/products/${i}/purity`,
+        message: `${prod.oxidant.replace(/-/g, ' ')} is supplied as a solution: its strength states the active content, so the purity is not used in its doses (it is for solid products: ${[...SOLID_PRODUCT_IDS].map((x) => x.replace(/-/g, ' ')).join(', ')}). Remove it from the profile.`,
+      });
+    }
     const ox = oxidants.get(prod.oxidant);
     if (!ox || !prod.density) return;
     const flags: Flag[] = [];

@@ -8,7 +8,7 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { computeDose, parseDoseRequest, parsePlantProfile, type DoseResult, type PlantProfile } from '../../src/dosing/index.js';
-import { plantResidualFor } from '../../src/dosing/plant.js';
+import { plantProfileWarnings, plantResidualFor } from '../../src/dosing/plant.js';
 import { isDomainError, type DomainError } from '../../src/core/errors.js';
 import { context } from './fixture.js';
 
@@ -213,23 +213,26 @@ describe('plant products and bounds', () => {
     expect(e.fields[0]!.message).toMatch(/rated in L\/h does not apply/);
   });
 
-  it('a purity for a solution product is PLANT_INVALID naming /products/0/purity; for permanganate (a solid) it is kept', () => {
-    const e = refusal(() => parsePlantProfile({ ...profile([], {}), products: [{ oxidant: 'sodium-hypochlorite', strength: { value: 12.5, unit: '% w/v' }, purity: { value: 90, unit: '%' } }] }));
-    expect(e.fields.map((f) => f.pointer)).toEqual(['/products/0/purity']);
-    expect(e.fields[0]!.message).toMatch(/supplied as a solution/);
+  it('a purity for a solution product is stored with a warning (it is not used in doses); for permanganate (a solid) it is kept and used', () => {
+    const p = parsePlantProfile({ ...profile([], {}), products: [{ oxidant: 'sodium-hypochlorite', strength: { value: 12.5, unit: '% w/v' }, purity: { value: 90, unit: '%' } }] });
+    const w = plantProfileWarnings(p, context.oxidants);
+    expect(w.map((x) => [x.code, x.pointer])).toEqual([['PURITY_NOT_APPLICABLE', '/products/0/purity']]);
     const ok = parsePlantProfile({ ...profile([], {}), products: [{ oxidant: 'potassium-permanganate', strength: { value: 2, unit: '% w/w' }, purity: { value: 97, unit: '%' } }] });
     expect(ok.products[0]!.purity?.value).toBe(97);
+    expect(plantProfileWarnings(ok, context.oxidants)).toEqual([]);
   });
 
-  it('a dose request refuses a metering pump for a gas (400 at /pump) and a purity for a solution (400 at /product/purity)', () => {
+  it('a dose request refuses a metering pump for a gas (400 at /pump); a purity for a solution is not used, with a warning, and the feed is the same as without it', () => {
     const base = { flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 7.2, temperatureC: 12, iron: { value: 1, unit: 'mg/L' } } };
     for (const oxidant of ['chlorine-gas', 'ozone', 'oxygen']) {
       const e = refusal(() => computeDose(parseDoseRequest({ ...base, oxidant, pump: { ratedCapacity: { value: 10, unit: 'L/h' } } }), context));
       expect(e.fields.map((f) => f.pointer)).toEqual(['/pump']);
     }
     for (const oxidant of ['sodium-hypochlorite', 'sodium-permanganate', 'hydrogen-peroxide']) {
-      const e = refusal(() => computeDose(parseDoseRequest({ ...base, oxidant, product: { strength: { value: 10, unit: '% w/w' }, purity: { value: 90, unit: '%' } } }), context));
-      expect(e.fields.map((f) => f.pointer)).toEqual(['/product/purity']);
+      const withPurity = computeDose(parseDoseRequest({ ...base, oxidant, product: { strength: { value: 10, unit: '% w/v' }, purity: { value: 90, unit: '%' } } }), context);
+      const without = computeDose(parseDoseRequest({ ...base, oxidant, product: { strength: { value: 10, unit: '% w/v' } } }), context);
+      expect(withPurity.flags.find((f) => f.code === 'PURITY_NOT_APPLICABLE')!.message).toMatch(/was not used/);
+      expect(withPurity.feed!.solutionRate!.value).toBe(without.feed!.solutionRate!.value);
     }
   });
 
