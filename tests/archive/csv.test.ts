@@ -1,6 +1,7 @@
 import { afterEach, describe, expect, it } from 'vitest';
 import { BASE_CSV_COLUMNS, DOSE_CSV_COLUMNS, csvField, type Archive, type CsvColumn } from '../../src/archive/index.js';
 import { doseSheetInput, ensureAuthor, openTestArchive, tempDataDir } from './fixtures/archive-fixture.js';
+import { parseCsv } from './fixtures/csv-reader.js';
 
 const cleanups: (() => void)[] = [];
 afterEach(() => {
@@ -19,53 +20,6 @@ function fresh(): { archive: Archive; author: { userId: string; signerId: string
   return { archive, author };
 }
 
-/** A small RFC 4180 reader written for the test (quoted fields, doubled quotes, CRLF records). */
-function parseCsv(text: string): string[][] {
-  const rows: string[][] = [];
-  let row: string[] = [];
-  let field = '';
-  let i = 0;
-  let quoted = false;
-  while (i < text.length) {
-    const c = text[i]!;
-    if (quoted) {
-      if (c === '"' && text[i + 1] === '"') {
-        field += '"';
-        i += 2;
-        continue;
-      }
-      if (c === '"') {
-        quoted = false;
-        i++;
-        continue;
-      }
-      field += c;
-      i++;
-      continue;
-    }
-    if (c === '"' && field === '') {
-      quoted = true;
-      i++;
-    } else if (c === ',') {
-      row.push(field);
-      field = '';
-      i++;
-    } else if (c === '\r' && text[i + 1] === '\n') {
-      row.push(field);
-      rows.push(row);
-      row = [];
-      field = '';
-      i += 2;
-    } else {
-      expect(c, `bare ${JSON.stringify(c)} outside quotes at ${i}`).not.toMatch(/[\r\n"]/);
-      field += c;
-      i++;
-    }
-  }
-  expect(field, 'the last record ends with CRLF').toBe('');
-  expect(row).toEqual([]);
-  return rows;
-}
 
 describe('csvField (RFC 4180 §2)', () => {
   it.each([

@@ -12,6 +12,7 @@ import { afterEach, describe, expect, it } from 'vitest';
 import { DomainError } from '../../src/core/errors.js';
 import { localSampleTime, type Archive } from '../../src/archive/index.js';
 import { doseSheetInput, ensureAuthor, fakeVerifyPdf, openTestArchive, rawTamper, tempDataDir, caught } from './fixtures/archive-fixture.js';
+import { csvRecords } from './fixtures/csv-reader.js';
 
 const cleanups: (() => void)[] = [];
 afterEach(() => {
@@ -34,26 +35,6 @@ function fresh(): { archive: Archive; author: { userId: string; signerId: string
 const file = (dir: string) => `${dir}/oxidant-dosing.sqlite`;
 const sha256 = (b: Buffer | string) => createHash('sha256').update(b).digest('hex');
 
-/** A tiny RFC 4180 reader (quoted fields, doubled quotes, CRLF records). */
-function csvRows(text: string): Record<string, string>[] {
-  const rows: string[][] = [];
-  let row: string[] = [];
-  let field = '';
-  let quoted = false;
-  for (let i = 0; i < text.length; i++) {
-    const c = text[i]!;
-    if (quoted) {
-      if (c === '"' && text[i + 1] === '"') (field += '"'), i++;
-      else if (c === '"') quoted = false;
-      else field += c;
-    } else if (c === '"') quoted = true;
-    else if (c === ',') row.push(field), (field = '');
-    else if (c === '\r' && text[i + 1] === '\n') row.push(field), rows.push(row), (row = []), (field = ''), i++;
-    else field += c;
-  }
-  const [header, ...body] = rows;
-  return body.map((r) => Object.fromEntries(header!.map((h, i) => [h, r[i]!])));
-}
 
 describe('integrity on every read', () => {
   it('an untouched record: getSheet hashes the record and the PDF, the list and the CSV the record', () => {
@@ -67,7 +48,7 @@ describe('integrity on every read', () => {
     expect(got.status).toBe('current');
     expect(sha256(archive.getSheetPdf(s.id))).toBe(got.pdfSha256);
     expect(archive.listSheets()[0]).toMatchObject({ status: 'current', integrity: { recordHashMatches: true, pdfHashMatches: null, checked: 'record hash' } });
-    expect(csvRows(archive.exportCsv())[0]).toMatchObject({ status: 'current', integrity: 'record hash matches', verification_url: `/api/v1/sheets/${s.id}/verification` });
+    expect(csvRecords(archive.exportCsv()).rows[0]).toMatchObject({ status: 'current', integrity: 'record hash matches', verification_url: `/api/v1/sheets/${s.id}/verification` });
   });
 
   it.each([
@@ -101,7 +82,7 @@ describe('integrity on every read', () => {
     expect(listed.get(ids[1]!)).toMatchObject({ status: 'altered', integrity: { recordHashMatches: false, checked: 'record hash' } });
     expect([listed.get(ids[0]!)!.status, listed.get(ids[2]!)!.status]).toEqual(['current', 'current']);
 
-    const rows = new Map(csvRows(a.exportCsv()).map((r) => [r['sheet_id'], r]));
+    const rows = new Map(csvRecords(a.exportCsv()).rows.map((r) => [r['sheet_id'], r]));
     expect(rows.get(ids[1]!)).toMatchObject({ status: 'altered', integrity: 'altered' });
     expect(rows.get(ids[0]!)).toMatchObject({ status: 'current', integrity: 'record hash matches' });
   });
@@ -147,7 +128,7 @@ describe('correction reason (inside the stored request, so inside both hashes)',
     expect(b.correctionReason).toBe('Iron was 1.5 mg/L, not 0.15 (lab re-run)');
     expect(archive.getSheet(b.id).correctionReason).toBe('Iron was 1.5 mg/L, not 0.15 (lab re-run)');
     expect(archive.listSheets().map((s) => s.correctionReason)).toEqual([null, 'Iron was 1.5 mg/L, not 0.15 (lab re-run)']);
-    expect(csvRows(archive.exportCsv()).map((r) => r['correction_reason'])).toEqual(['', 'Iron was 1.5 mg/L, not 0.15 (lab re-run)']);
+    expect(csvRecords(archive.exportCsv()).rows.map((r) => r['correction_reason'])).toEqual(['', 'Iron was 1.5 mg/L, not 0.15 (lab re-run)']);
     expect(await archive.verifyArchive({ verifyPdfSignature: fakeVerifyPdf })).toMatchObject({ valid: true, records: 2 });
   });
 

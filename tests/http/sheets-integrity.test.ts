@@ -17,6 +17,7 @@ import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import { buildApp } from '../../src/http/app.js';
 import { pdfFile, pdfText } from '../sheets/tools.js';
+import { csvRecords } from '../archive/fixtures/csv-reader.js';
 
 const BOOTSTRAP = 'sheets-integrity-bootstrap-token-0123456789';
 const admin = { authorization: `Bearer ${BOOTSTRAP}` };
@@ -48,26 +49,6 @@ function sheetBody(sampledAt: string, extra: Record<string, unknown> = {}) {
   };
 }
 
-/** Minimal RFC 4180 reader (quoted fields, doubled quotes) into objects by header. */
-function csvRecords(text: string): { header: string[]; rows: Record<string, string>[] } {
-  const all: string[][] = [];
-  let row: string[] = [];
-  let field = '';
-  let quoted = false;
-  for (let i = 0; i < text.length; i++) {
-    const ch = text[i]!;
-    if (quoted) {
-      if (ch === '"' && text[i + 1] === '"') (field += '"'), i++;
-      else if (ch === '"') quoted = false;
-      else field += ch;
-    } else if (ch === '"') quoted = true;
-    else if (ch === ',') row.push(field), (field = '');
-    else if (ch === '\r' && text[i + 1] === '\n') row.push(field), all.push(row), (row = []), (field = ''), i++;
-    else field += ch;
-  }
-  const [header, ...body] = all;
-  return { header: header!, rows: body.map((r) => Object.fromEntries(header!.map((h, i) => [h, r[i]!]))) };
-}
 
 describe('integrity, oxidant, dose, local time and correction reason through the HTTP contract', () => {
   let app: FastifyInstance;

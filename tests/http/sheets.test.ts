@@ -16,6 +16,7 @@ import Database from 'better-sqlite3';
 import { buildApp } from '../../src/http/app.js';
 import { createDemoSigner } from '../../src/sheets/sign.js';
 import { pdfFile, pdfText, requireTools, run, runAny } from '../sheets/tools.js';
+import { parseCsv } from '../archive/fixtures/csv-reader.js';
 
 const BOOTSTRAP = 'sheets-test-bootstrap-token-0123456789';
 const admin = { authorization: `Bearer ${BOOTSTRAP}` };
@@ -58,28 +59,6 @@ function createSheet(app: FastifyInstance, body: unknown, headers: Record<string
   return app.inject({ method: 'POST', url: '/api/v1/sheets', headers, payload: body as Record<string, unknown> });
 }
 
-/** Minimal RFC 4180 reader (quoted fields, doubled quotes). */
-function parseCsv(text: string): string[][] {
-  const rows: string[][] = [];
-  let row: string[] = [];
-  let field = '';
-  let quoted = false;
-  for (let i = 0; i < text.length; i++) {
-    const ch = text[i]!;
-    if (quoted) {
-      if (ch === '"' && text[i + 1] === '"') (field += '"'), i++;
-      else if (ch === '"') quoted = false;
-      else field += ch;
-    } else if (ch === '"') quoted = true;
-    else if (ch === ',') row.push(field), (field = '');
-    else if (ch === '\n' || ch === '\r') {
-      if (ch === '\r' && text[i + 1] === '\n') i++;
-      row.push(field), rows.push(row), (row = []), (field = '');
-    } else field += ch;
-  }
-  if (field !== '' || row.length > 0) row.push(field), rows.push(row);
-  return rows;
-}
 
 beforeAll(() => requireTools('pdfsig', 'pdftotext', 'qpdf'));
 
