@@ -228,12 +228,24 @@ describe('flags', () => {
     expect(pr.sideEffects.alkalinityConsumed.value - st.sideEffects.alkalinityConsumed.value).toBeGreaterThanOrEqual(hydrolysisOnly - 1e-9);
     expect(pr.sideEffects.alkalinityTerms.find((t) => t.what === 'hydrolysis')!.how).toMatch(/practical breakpoint excess/);
   });
-  it('sulfide with oxygen: a warning that oxidation is slow and aeration strips only H2S, with its share at the pH (pKa from the tables)', () => {
-    // un-ionised share 1/(1 + 10^(pH − pKa)); the tables' H2S pKa is 7.05 (CRC), so 53 % at pH 7.0 and 3.4 % at pH 8.5
-    const at = (pH: number) => dose({ ...base, oxidant: 'oxygen', sample: { pH, temperatureC: 15, sulfide: { value: 2, unit: 'mg/L' } } }).flags.find((x) => x.code === 'AERATION_SULFIDE_SLOW')!;
+  it('sulfide with oxygen: a warning that oxidation is slow and aeration strips only H2S, with its share at the pH and temperature (pKa from the tables)', () => {
+    // un-ionised share 1/(1 + 10^(pH − pKa)). The H2S pKa follows the temperature by phreeqc.dat's
+    // analytical expression −11.17 + 0.02386·T + 3279/T, which PHREEQC uses in place of the printed
+    // log_k 6.994 when both are given: 6.94 at 25 °C, 7.08 at 15 °C. Cross-checks: van 't Hoff with
+    // phreeqc.dat's delta_h (5.30 kcal/mol for the dissociation) moves pK by 0.135 from 25 to 15 °C
+    // (the expression by 0.143); the CRC table's 25 °C value is 7.05 (from memory).
+    const pKaAt = (c: number) => -11.17 + 0.02386 * (273.15 + c) + 3279 / (273.15 + c);
+    const at = (pH: number, temperatureC = 15) =>
+      dose({ ...base, oxidant: 'oxygen', sample: { pH, temperatureC, sulfide: { value: 2, unit: 'mg/L' } } }).flags.find((x) => x.code === 'AERATION_SULFIDE_SLOW')!;
     expect(at(7).severity).toBe('warning');
-    expect(at(7).message).toContain(`about ${(100 / (1 + 10 ** (7 - 7.05))).toPrecision(2)} % of the sulfide is H2S`);
-    expect(at(8.5).message).toContain(`about ${(100 / (1 + 10 ** (8.5 - 7.05))).toPrecision(2)} % of the sulfide is H2S`);
+    expect(pKaAt(15)).toBeCloseTo(7.08, 2);
+    expect(pKaAt(25)).toBeCloseTo(7.0, 1);
+    expect(pKaAt(15) - pKaAt(25)).toBeCloseTo(((5.3 * 4184) / (8.314462618 * Math.LN10)) * (1 / 288.15 - 1 / 298.15), 1); // 0.143 vs 0.135: ΔH is not constant
+    expect(at(7).message).toContain(`about ${(100 / (1 + 10 ** (7 - pKaAt(15)))).toPrecision(2)} % of the sulfide is H2S`);
+    expect(at(8.5).message).toContain(`about ${(100 / (1 + 10 ** (8.5 - pKaAt(15)))).toPrecision(2)} % of the sulfide is H2S`);
+    // colder water holds more of it as H2S at the same pH
+    expect(at(7.2, 5).message).toContain(`about ${(100 / (1 + 10 ** (7.2 - pKaAt(5)))).toPrecision(2)} % of the sulfide is H2S`);
+    expect(pKaAt(5)).toBeGreaterThan(pKaAt(25));
     expect(dose({ ...base, oxidant: 'sodium-hypochlorite', sample: { pH: 7, temperatureC: 15, sulfide: { value: 2, unit: 'mg/L' } } }).flags.map((x) => x.code)).not.toContain('AERATION_SULFIDE_SLOW');
   });
   it('a target residual above the MRDL (4.0 mg/L as Cl2, 40 CFR 141.65) is danger, naming the limit and that local regulations govern', () => {
