@@ -138,6 +138,13 @@ export interface DosingContext {
   readonly carbonateConstantsAt: (temperatureC: number) => CarbonateConstants;
   readonly pKaAt: (equilibriumId: string, temperatureC: number) => number;
   readonly o2SaturationAt: (temperatureC: number) => number;
+  /** The warmest temperature of tables/oxygen-saturation.json's points (°C); above it the Benson–Krause equation is extrapolated. */
+  readonly o2SaturationTableMaxC: number;
+  /**
+   * For Kw and the given equilibria at this temperature: a note for each whose temperature expression
+   * is fitted for a narrower range (an extrapolation), e.g. Harned & Owen's Kw above 60 °C.
+   */
+  readonly temperatureRangeNotes: (equilibriumIds: readonly string[], temperatureC: number, usesOxygen: boolean) => readonly { readonly text: string; readonly source: string }[];
   /** Source id → full citation text. */
   readonly citations: ReadonlyMap<string, string>;
   /** Per oxidant: caution texts and rows (its own, the standing note, its storage note). */
@@ -286,6 +293,16 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
     .filter((r): r is Extract<typeof r, { kind: 'point' }> => r.kind === 'point')
     .map((r) => ({ t: Number(r.temperatureC), c: Number(r.valueText) }))
     .sort((a, b) => a.t - b.t);
+  // Benson & Krause (1984) as Standard Methods 4500-O prints it; the table (0–40 °C) is used where it
+  // reaches, the equation beyond it (an extrapolation, flagged by the dose route: O2_SATURATION_EXTRAPOLATED)
+  const satEquation = tables.oxygenSaturation.find((r): r is Extract<typeof r, { kind: 'equation' }> => r.kind === 'equation');
+  const satTableMaxC = satPoints.length > 0 ? satPoints[satPoints.length - 1]!.t : Number.NaN;
+  const bensonKrause = (t: number): number | null => {
+    if (!satEquation) return null;
+    const [a0, a1, a2, a3, a4] = satEquation.coefficients.map(Number) as [number, number, number, number, number];
+    const T = t + constants.zeroCelsiusK.value;
+    return Math.exp(a0 + a1 / T + a2 / T ** 2 + a3 / T ** 3 + a4 / T ** 4);
+  };
   const o2SaturationAt = (t: number): number => {
     if (satPoints.length === 0) throw new DomainError('TABLE_INVALID', { detail: 'tables/oxygen-saturation.json has no points.' });
     if (t <= satPoints[0]!.t) return satPoints[0]!.c;
@@ -294,7 +311,18 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
       const b = satPoints[i]!;
       if (t <= b.t) return a.c + ((b.c - a.c) * (t - a.t)) / (b.t - a.t);
     }
-    return satPoints[satPoints.length - 1]!.c;
+    return bensonKrause(t) ?? satPoints[satPoints.length - 1]!.c;
+  };
+  const temperatureRangeNotes = (equilibriumIds: readonly string[], t: number): { text: string; source: string }[] => {
+    const notes: { text: string; source: string }[] = [];
+    for (const id of new Set(equilibriumIds)) {
+      const spec = specOf(id);
+      const r = log10KAt(t, spec, constants);
+      if (r.extrapolated && spec.validRangeC) {
+        notes.push({ text: `${eqRows.get(id)?.reaction ?? id} (${id}) is fitted for ${spec.validRangeC.min}–${spec.validRangeC.max} °C`, source: spec.source });
+      }
+    }
+    return notes;
   };
   const o2Molar = molarMassOf('O2').toNumber();
   const pO2AirAtm = memoT((t) => o2SaturationAt(t) / 1000 / o2Molar / o2HenryAt(t));
@@ -358,6 +386,8 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
     carbonateConstantsAt,
     pKaAt,
     o2SaturationAt,
+    o2SaturationTableMaxC: satTableMaxC,
+    temperatureRangeNotes: (equilibriumIds, t, usesOxygen) => temperatureRangeNotes([ids.kw, ...equilibriumIds, ...(usesOxygen ? [ids.o2Henry] : [])], t),
   };
 }
 
@@ -785,6 +815,27 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
         severity: 'danger',
         message: `The oxygen needed, ${total.doseMgPerL.toSignificantDigits(3).toString()} mg/L, is more than air-saturated water holds at ${temperatureC} °C (${sat.toFixed(2)} mg/L): aeration alone cannot supply it in one pass. Use a chemical oxidant or pure oxygen.`,
         source: 'std-methods-4500-o',
+      });
+    }
+  }
+
+  // constants and tables used beyond the temperatures they were fitted for: the figures built on them are estimates
+  {
+    const usesOxygen = ox.id === 'oxygen' || doMeasured !== undefined;
+    const equilibria = [ox.speciation?.equilibrium, ...demands.map((d) => d.contaminantRow.speciation?.equilibrium)].filter((x): x is string => x !== undefined);
+    const beyond = [...context.temperatureRangeNotes(equilibria, temperatureC, usesOxygen)];
+    if (usesOxygen && temperatureC > context.o2SaturationTableMaxC) {
+      beyond.push({
+        text: `dissolved oxygen at saturation: tables/oxygen-saturation.json ends at ${context.o2SaturationTableMaxC} °C, so the Benson–Krause equation is extended to ${temperatureC} °C (${roundSigNumber(context.o2SaturationAt(temperatureC), 3)} mg/L)`,
+        source: 'benson-krause-1984',
+      });
+    }
+    if (beyond.length > 0) {
+      flags.push({
+        code: 'TEMPERATURE_BEYOND_CORRELATION',
+        severity: 'info',
+        message: `At ${temperatureC} °C the water is outside the range some of the relations used here were fitted for: ${beyond.map((b) => b.text).join('; ')}. The potentials, contact time and saturation figures that rest on them are extrapolations; confirm with a jar test and measurements at the plant's temperature.`,
+        source: beyond[0]!.source,
       });
     }
   }
