@@ -68,7 +68,7 @@ export const READING_BOUNDS: readonly ReadingBound[] = [
   },
   {
     field: 'nitrite', name: 'nitrite', basis: 'as N', warnAbove: 1, refuseAbove: 100, flagCode: 'NITRITE_UNUSUALLY_HIGH', source: 'operator-practice',
-    warnWhy: 'above the 1 mg/L as N drinking-water limit, unusual in a raw water (common practice)',
+    warnWhy: 'unusual in a raw water, which holds at most a few tenths of a mg/L as N (common practice); the drinking-water limits are flagged apart (RAW_NITRITE_ABOVE_LIMIT)',
     refuseWhy: 'raw waters hold tenths of a mg/L of nitrite and even nitrifying systems a few mg/L (common practice)',
   },
   {

@@ -61,21 +61,41 @@ export function inputFlags(input: { readonly pH: number; readonly sample: Parame
 }
 
 /** Raw-water readings against the finished-water limits they will have to meet. */
-export function rawWaterFlags(input: { readonly readings: readonly { readonly parameter: string; readonly name: string; readonly mgPerL: DecT }[]; readonly limits: readonly LimitRow[] }): Flag[] {
+export function rawWaterFlags(input: {
+  readonly readings: readonly { readonly parameter: string; readonly name: string; readonly mgPerL: DecT; readonly basis?: string }[];
+  readonly limits: readonly LimitRow[];
+  /**
+   * A limit's value in the reading's basis (mg/L), for a limit published on another basis (WHO's nitrite
+   * "as NO2-" against a reading "as N"); null when it cannot be converted (the limit is then not used).
+   */
+  readonly inBasis?: (limit: LimitRow, readingBasis: string) => number | null;
+}): Flag[] {
   const flags: Flag[] = [];
   for (const r of input.readings) {
     const v = r.mgPerL.toNumber();
-    const over = input.limits.filter((l) => l.parameter === r.parameter && v > Number(l.valueText));
+    const valued = input.limits
+      .filter((l) => l.parameter === r.parameter)
+      .map((l) => {
+        if (r.basis === undefined || l.basis === r.basis) return { l, value: Number(l.valueText), converted: false };
+        const value = input.inBasis?.(l, r.basis) ?? null;
+        return value === null ? null : { l, value, converted: true };
+      })
+      .filter((x): x is { l: LimitRow; value: number; converted: boolean } => x !== null);
+    const over = valued.filter((x) => v > x.value);
     if (over.length === 0) continue;
     const what =
       r.parameter === 'arsenic'
         ? 'Oxidation turns arsenite into arsenate but removes no arsenic: a removal step (coagulation, adsorption) must follow to meet'
-        : 'Oxidation and solids removal (settling, filtration) must bring it below';
+        : r.parameter === 'nitrite'
+          ? 'Oxidation (chlorine, ozone, permanganate) turns nitrite into nitrate, which has its own limit (10 mg/L as N, 40 CFR 141.62(b)); confirm that the finished water meets'
+          : 'Oxidation and solids removal (settling, filtration) must bring it below';
+    const text = (x: { l: LimitRow; value: number; converted: boolean }) =>
+      x.converted ? limitText(x.l).replace(`${x.l.valueText} mg/L ${x.l.basis}`, `${x.l.valueText} mg/L ${x.l.basis} (${roundSigNumber(x.value)} mg/L ${r.basis})`) : limitText(x.l);
     flags.push({
       code: `RAW_${r.parameter.toUpperCase()}_ABOVE_LIMIT`,
-      severity: r.parameter === 'arsenic' ? 'warning' : 'info',
-      message: `Raw ${r.name} ${roundSigNumber(v)} mg/L is above ${over.map(limitText).join(' and ')}. ${what} the limit in the finished water. ${GOVERN}`,
-      source: over[0]!.source,
+      severity: r.parameter === 'arsenic' || r.parameter === 'nitrite' ? 'warning' : 'info',
+      message: `Raw ${r.name} ${roundSigNumber(v)} mg/L${r.basis ? ` ${r.basis}` : ''} is above ${over.map(text).join(' and ')}. ${what} the limit in the finished water. ${GOVERN}`,
+      source: over[0]!.l.source,
     });
   }
   return flags;

@@ -10,7 +10,7 @@ import { Dec, ROUNDING_RULE, type Dec as DecT } from '../core/decimal.js';
 import { lowerName } from '../core/text.js';
 import { DomainError } from '../core/errors.js';
 import { toBaseDec, temperatureToC, cToF, UNIT_FACTORS } from '../core/quantity.js';
-import { molarMass, parseEquation, speciesKey } from '../chemistry/formula/index.js';
+import { molarMass, parseEquation, parseFormula, speciesKey } from '../chemistry/formula/index.js';
 import { mediumForPH, type Medium } from '../chemistry/balance/index.js';
 import { buildLedger, type Ledger } from '../chemistry/thermo/ledger.js';
 import type { PotentialResult } from '../chemistry/thermo/derive.js';
@@ -448,6 +448,25 @@ export interface DoseResult {
   readonly notes: readonly string[];
 }
 
+/**
+ * A limit published "as X" (a formula) in a reading's basis "as E" (an element X holds): the value times
+ * n·M(E)/M(X), e.g. WHO's nitrite 3 mg/L as NO2- is 3 × 14.007/46.005 = 0.913 mg/L as N. Null when
+ * either basis is not of that form or X holds no E.
+ */
+function limitInBasis(limit: LimitRow, readingBasis: string, molarMassOf: (formula: string) => DecT): number | null {
+  const from = /^as (\S+)$/.exec(limit.basis)?.[1];
+  const to = /^as ([A-Z][a-z]?)$/.exec(readingBasis)?.[1];
+  if (from === undefined || to === undefined) return null;
+  let n: number;
+  try {
+    n = parseFormula(from).composition[to] ?? 0;
+  } catch {
+    return null;
+  }
+  if (n === 0) return null;
+  return new Dec(limit.valueText).times(n).times(molarMassOf(to)).dividedBy(molarMassOf(from)).toNumber();
+}
+
 function citation(s: SourceRow): string {
   return `${s.author} (${s.year}). ${s.title}. ${s.publication}${s.edition ? `, ${s.edition}` : ''}. ${s.tableOrEquation}.${s.access === 'memory' ? ' [values recalled from memory; verify]' : ''}`;
 }
@@ -619,11 +638,12 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
   // flags on the inputs and limits
   const ironQ = s.iron ? mgPerL(s.iron, '/sample/iron') : null;
   flags.push(...inputFlags({ pH, sample: s, temperatureC }));
-  const readings: { parameter: string; name: string; mgPerL: DecT }[] = [];
+  const readings: { parameter: string; name: string; mgPerL: DecT; basis?: string }[] = [];
   if (ironQ) readings.push({ parameter: 'iron', name: 'iron', mgPerL: ironQ });
   if (s.manganese) readings.push({ parameter: 'manganese', name: 'manganese', mgPerL: mgPerL(s.manganese, '/sample/manganese') });
   if (s.arsenite) readings.push({ parameter: 'arsenic', name: 'arsenic(III)', mgPerL: mgPerL(s.arsenite, '/sample/arsenite') });
-  flags.push(...rawWaterFlags({ readings, limits: context.limits }));
+  if (s.nitrite) readings.push({ parameter: 'nitrite', name: 'nitrite', basis: 'as N', mgPerL: mgPerL(s.nitrite, '/sample/nitrite') });
+  flags.push(...rawWaterFlags({ readings, limits: context.limits, inBasis: (l, basis) => limitInBasis(l, basis, context.molarMassOf) }));
   flags.push(...residualFlags({ oxidant: ox, residualMgPerL: residual, limits: context.limits }));
 
   // feed

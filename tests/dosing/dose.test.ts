@@ -261,6 +261,20 @@ describe('flags', () => {
     const f = r.flags.find((x) => x.code === 'RAW_ARSENIC_ABOVE_LIMIT')!;
     expect(f.message).toMatch(/141\.62/);
   });
+  it('raw nitrite against its limits: US MCL 1 mg/L as N (40 CFR 141.62(b)), WHO 3 mg/L as NO2- and EU 0.50 mg/L as NO2- compared through the molar masses (values from memory)', () => {
+    // 3 mg/L as NO2- × 14.007 / 46.005 = 0.913 mg/L as N; 0.50 × 14.007 / 46.005 = 0.152 mg/L as N (IUPAC weights N 14.007, O 15.999)
+    const asN = (x: number) => (x * 14.007) / (14.007 + 2 * 15.999);
+    const at = (n: number) => dose({ ...base, oxidant: 'chlorine-gas', sample: { pH: 7.5, temperatureC: 15, nitrite: { value: n, unit: 'mg/L' } } }).flags.find((x) => x.code === 'RAW_NITRITE_ABOVE_LIMIT');
+    const f = at(0.95)!;
+    expect(f.severity).toBe('warning');
+    expect(f.message).toContain(`3 mg/L as NO2- (${asN(3).toFixed(3)} mg/L as N)`);
+    expect(f.message).toContain(`0.50 mg/L as NO2- (${asN(0.5).toFixed(3)} mg/L as N)`);
+    expect(f.message).not.toMatch(/US EPA MCL/); // 0.95 is below the 1 mg/L as N MCL
+    expect(f.message).toMatch(/nitrate/);
+    expect(f.message).toMatch(/Local regulations/);
+    expect(at(1.2)!.message).toMatch(/US EPA MCL 1 mg\/L as N \(40 CFR 141\.62\(b\)\)/);
+    expect(at(0.1)).toBeUndefined();
+  });
   it('chlorine with TOC above 2.0 mg/L: DBP caution (screening level from 40 CFR 141.135, named common practice)', () => {
     const r = dose({ ...base, oxidant: 'sodium-hypochlorite', sample: { pH: 7.2, temperatureC: 15, toc: { value: 3.5, unit: 'mg/L' } } });
     expect(r.flags.find((x) => x.code === 'DBP_CAUTION')?.message).toMatch(/common practice/);
