@@ -407,12 +407,24 @@ export function resolveStrength(ox: OxidantRow, product: ProductInput | undefine
 
 /** Purity of a solid as a fraction of the strength formula (product compound or available chlorine). */
 function purityFraction(ox: OxidantRow, product: ProductInput | undefined, flags: Flag[]): number {
-  if (product?.purity) return product.purity.value / 100;
+  if (product?.purity) {
+    // below the grade the standard names (KMnO4 at least 97 %, Ca(OCl)2 65 to 70 %): a slip, an aged or
+    // a wrong product; the figure is used as given (it is what the certificate or a test says), with a warning
+    if (ox.purity && product.purity.value < Number(ox.purity.defaultPercent)) {
+      flags.push({
+        code: 'PURITY_BELOW_GRADE',
+        severity: 'warning',
+        message: `The purity given, ${product.purity.value} %, is below the ${ox.purity.defaultPercent} % of the usual grade (${ox.purity.text.replace(/\.$/, '')}); it was used as given, so the product feed is ${roundSigNumber(Number(ox.purity.defaultPercent) / product.purity.value, 3)} times what the usual grade needs. Check the certificate of analysis, the product delivered and its age (calcium hypochlorite loses strength in storage).`,
+        source: ox.purity.source,
+      });
+    }
+    return product.purity.value / 100;
+  }
   if (ox.purity) {
     flags.push({
       code: 'PURITY_DEFAULT_USED',
       severity: 'info',
-      message: `No purity was given; ${ox.purity.defaultPercent} % (${ox.purity.text}) was used. Give product.purity from the certificate of analysis.`,
+      message: `No purity was given, so the default ${ox.purity.defaultPercent} % was used: ${ox.purity.text} Give product.purity from the certificate of analysis.`,
       source: ox.purity.source,
     });
     return Number(ox.purity.defaultPercent) / 100;

@@ -342,6 +342,21 @@ describe('flags', () => {
     expect(f.message).toMatch(/morris-hocl\) is fitted for 5–35 °C/);
     expect(f.source).toBe('harned-owen-1958');
   });
+  it('a purity below the usual grade (KMnO4 at least 97 %, ANSI/AWWA B603; Ca(OCl)2 65–70 %, ANSI/AWWA B300; both from memory) is used as given, with a warning', () => {
+    const km = (purity: number) => dose({ ...base, oxidant: 'potassium-permanganate', sample: { pH: 7.2, temperatureC: 15, iron: { value: 2, unit: 'mg/L' } }, product: { purity: { value: purity, unit: '%' } } });
+    const low = km(50);
+    const f = low.flags.find((x) => x.code === 'PURITY_BELOW_GRADE')!;
+    expect(f.severity).toBe('warning');
+    expect(f.message).toContain('97 %');
+    expect(f.message).toContain(`${(97 / 50).toPrecision(3)} times`);
+    // product mass = KMnO4 mass ÷ purity: at 50 % it is 98/50 of what a 98 % product needs
+    const at98 = km(98);
+    expect(at98.flags.map((x) => x.code)).not.toContain('PURITY_BELOW_GRADE');
+    const mass = (r: typeof low) => r.feed!.productMassRate!.value;
+    expect(mass(low) / mass(at98)).toBeCloseTo(98 / 50, 2);
+    const hy = dose({ ...base, oxidant: 'calcium-hypochlorite', sample: { pH: 7.2, temperatureC: 15, iron: { value: 2, unit: 'mg/L' } }, product: { purity: { value: 60, unit: '%' } } });
+    expect(hy.flags.find((x) => x.code === 'PURITY_BELOW_GRADE')?.message).toMatch(/65 %.*loses strength/);
+  });
   it('every flag source is a sources.json id or "input"', () => {
     const ids = new Set([...tables.sources.map((s) => s.id), 'input']);
     const r = dose({ ...base, oxidant: 'chlorine-dioxide', sample: { pH: 4.5, temperatureC: 15, iron: { value: 25, unit: 'mg/L' }, manganese: { value: 0.5, unit: 'mg/L' }, ammoniaN: { value: 1, unit: 'mg/L' } }, targetResidual: { value: 1, unit: 'mg/L' } });
