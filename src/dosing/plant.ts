@@ -10,8 +10,9 @@ import { toBaseDec } from '../core/quantity.js';
 import { quantityBoundProblems } from './bounds.js';
 import { FED_AS_GAS_IDS, GAS_FEEDER_TEXT, SOLID_PRODUCT_IDS, strengthLimitProblem, type StrengthLimit } from './strength-limits.js';
 import { densityCheck } from './feed.js';
+import { residualFlags } from './flags.js';
 import type { Flag } from './types.js';
-import type { OxidantRow } from '../reference/dosing-schemas.js';
+import type { LimitRow, OxidantRow } from '../reference/dosing-schemas.js';
 import {
   ConcentrationSchema,
   DensitySchema,
@@ -256,8 +257,31 @@ export function mergePlantIntoRequest(request: DoseRequest, plant: PlantProfile,
  * What a stored profile holds that its doses will warn about, said when it is saved: a product
  * density below water's or unlike the tabled one at that strength (the same check as a dose's).
  */
-export function plantProfileWarnings(profile: PlantProfile, oxidants: ReadonlyMap<string, OxidantRow>): { code: string; message: string; pointer: string }[] {
+export function plantProfileWarnings(
+  profile: PlantProfile,
+  oxidants: ReadonlyMap<string, OxidantRow>,
+  limits: readonly LimitRow[] = [],
+): { code: string; message: string; pointer: string }[] {
   const out: { code: string; message: string; pointer: string }[] = [];
+  // residual targets above a maximum residual level (MRDL) or guideline: the dose route flags them on every
+  // request; said here too, when the profile is saved, so that it is corrected once
+  const residualChecks: [string, string, ConcentrationInput][] = [];
+  for (const [id, q] of Object.entries(profile.targets.residualByOxidant ?? {})) if (q) residualChecks.push([id, `/targets/residualByOxidant/${id}`, q]);
+  if (profile.targets.residual) {
+    const own = new Set(Object.keys(profile.targets.residualByOxidant ?? {}));
+    for (const prod of profile.products) if (!own.has(prod.oxidant)) residualChecks.push([prod.oxidant, '/targets/residual', profile.targets.residual]);
+  }
+  const seen = new Set<string>();
+  for (const [id, pointer, q] of residualChecks) {
+    const ox = oxidants.get(id);
+    if (!ox) continue;
+    for (const f of residualFlags({ oxidant: ox, residualMgPerL: toBaseDec('concentration', q, pointer), limits })) {
+      const key = `${pointer}|${f.code}|${f.message}`;
+      if (seen.has(key)) continue;
+      seen.add(key);
+      out.push({ code: f.code, pointer, message: `For ${ox.name.toLowerCase()}: ${f.message}` });
+    }
+  }
   profile.products.forEach((prod, i) => {
     if (prod.purity && !SOLID_PRODUCT_IDS.has(prod.oxidant)) {
       out.push({

@@ -222,6 +222,18 @@ describe('plant products and bounds', () => {
     expect(plantProfileWarnings(ok, context.oxidants)).toEqual([]);
   });
 
+  it('a residual target above the MRDL (4.0 mg/L as Cl2 and 0.8 mg/L as ClO2, 40 CFR 141.65(a)) is stored with a warning naming its field', () => {
+    const p = profile(['sodium-hypochlorite'], { residualByOxidant: { 'sodium-hypochlorite': { value: 5, unit: 'mg/L' }, 'chlorine-dioxide': { value: 1, unit: 'mg/L' } } });
+    const w = plantProfileWarnings(p, context.oxidants, context.limits).filter((x) => x.code === 'RESIDUAL_ABOVE_MRDL');
+    expect(w.map((x) => x.pointer).sort()).toEqual(['/targets/residualByOxidant/chlorine-dioxide', '/targets/residualByOxidant/sodium-hypochlorite']);
+    expect(w.find((x) => x.pointer.endsWith('sodium-hypochlorite'))!.message).toMatch(/5 mg\/L as Cl2 is above the US EPA MRDL 4\.0 mg\/L/);
+    // the general target applies to each product without its own: 4.5 mg/L for the hypochlorite product
+    const general = profile(['sodium-hypochlorite'], { residual: { value: 4.5, unit: 'mg/L' } });
+    expect(plantProfileWarnings(general, context.oxidants, context.limits).map((x) => [x.code, x.pointer])).toContainEqual(['RESIDUAL_ABOVE_MRDL', '/targets/residual']);
+    // at the demo plant's 1.0 mg/L, none
+    expect(plantProfileWarnings(demo, context.oxidants, context.limits).map((x) => x.code)).not.toContain('RESIDUAL_ABOVE_MRDL');
+  });
+
   it('a dose request refuses a metering pump for a gas (400 at /pump); a purity for a solution is not used, with a warning, and the feed is the same as without it', () => {
     const base = { flow: { value: 1000, unit: 'm3/d' }, sample: { pH: 7.2, temperatureC: 12, iron: { value: 1, unit: 'mg/L' } } };
     for (const oxidant of ['chlorine-gas', 'ozone', 'oxygen']) {

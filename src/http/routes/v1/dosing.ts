@@ -103,7 +103,7 @@ export async function dosingRoutes(app: FastifyInstance): Promise<void> {
       const profile = parsePlantProfile(req.body, app.services.dosing.strengthLimits);
       const saved = app.services.archive.savePlant(profile, { createdBy: req.user!.id });
       reply.code(saved.changed ? 201 : 200);
-      return { ...plantOut(saved), warnings: plantProfileWarnings(profile, app.services.dosing.oxidants) };
+      return { ...plantOut(saved), warnings: plantProfileWarnings(profile, app.services.dosing.oxidants, app.services.dosing.limits) };
     },
   });
 }
