@@ -726,6 +726,17 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
   if (req.contactTime) {
     availableMinutes = toBaseDec('time', req.contactTime, '/contactTime').toNumber();
     availableFrom = 'given';
+    if (req.contactVolume && flowM3PerD) {
+      // both given: the contact time wins (it may already allow for short-circuiting, a baffle factor or T10);
+      // what the volume would give is said, so a mismatch is seen
+      const fromVolume = toBaseDec('volume', req.contactVolume, '/contactVolume').dividedBy(1000).dividedBy(flowM3PerD).times(1440).toNumber();
+      if (Number.isFinite(fromVolume)) {
+        const where = (k: string) => (fromPlant.includes(k) ? ` (from plant profile "${plantInfo!.id}")` : '');
+        notes.push(
+          `Contact: the contact time given${where('contactTime')}, ${req.contactTime.value} ${req.contactTime.unit}, was used; the contact volume${where('contactVolume')} ÷ flow would give ${roundSigNumber(fromVolume, 3)} min at this flow, which was not used.`,
+        );
+      }
+    }
   } else if (req.contactVolume && flowM3PerD) {
     const m3 = toBaseDec('volume', req.contactVolume, '/contactVolume').dividedBy(1000);
     availableMinutes = m3.dividedBy(flowM3PerD).times(1440).toNumber();

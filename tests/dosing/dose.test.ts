@@ -357,6 +357,11 @@ describe('flags', () => {
     const hy = dose({ ...base, oxidant: 'calcium-hypochlorite', sample: { pH: 7.2, temperatureC: 15, iron: { value: 2, unit: 'mg/L' } }, product: { purity: { value: 60, unit: '%' } } });
     expect(hy.flags.find((x) => x.code === 'PURITY_BELOW_GRADE')?.message).toMatch(/65 %.*loses strength/);
   });
+  it('contact time and contact volume both given: the time is used and the note gives what the volume would: 10 000 gal at 500 gpm is 20 min', () => {
+    const r = dose({ oxidant: 'chlorine-gas', flow: { value: 500, unit: 'gpm' }, sample: { pH: 7.2, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } }, contactVolume: { value: 10000, unit: 'gal' }, contactTime: { value: 5, unit: 'min' } });
+    expect(r.contact!.availableMinutes).toBe(5);
+    expect(r.notes.find((n) => n.startsWith('Contact:'))).toMatch(/5 min, was used; the contact volume ÷ flow would give 20\.0 min/);
+  });
   it('every flag source is a sources.json id or "input"', () => {
     const ids = new Set([...tables.sources.map((s) => s.id), 'input']);
     const r = dose({ ...base, oxidant: 'chlorine-dioxide', sample: { pH: 4.5, temperatureC: 15, iron: { value: 25, unit: 'mg/L' }, manganese: { value: 0.5, unit: 'mg/L' }, ammoniaN: { value: 1, unit: 'mg/L' } }, targetResidual: { value: 1, unit: 'mg/L' } });
