@@ -101,7 +101,7 @@ export interface FeedResult {
     readonly withinSolubility: boolean | null;
     readonly lastsDays: Reported | null;
   } | null;
-  readonly generator: { readonly output: Reported; readonly outputGPerH: Reported; readonly note: string } | null;
+  readonly generator: { readonly label: string; readonly output: Reported; readonly outputGPerH: Reported; readonly note: string } | null;
   readonly notes: readonly string[];
   readonly flags: readonly Flag[];
 }
@@ -549,8 +549,9 @@ export function computeFeed(input: FeedInput): FeedResult {
     generator = {
       output: reported(basisKg, 'kg/d'),
       outputGPerH: reported((basisKg * 1000) / 24, 'g/h'),
+      label: ox.id === 'ozone' ? 'Ozone to transfer (not the generator setting)' : 'Generator output',
       note: ox.id === 'ozone'
-        ? 'Generator output for the transferred dose; divide by the contactor transfer efficiency for the generator setting.'
+        ? "This is the ozone the contactor must transfer into the water at the dose, not the generator setting: set the generator to this divided by the contactor's measured transfer efficiency (as a fraction), which is always more."
         : 'Generator production of chlorine dioxide at the dose.',
     };
   }

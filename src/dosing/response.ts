@@ -102,7 +102,7 @@ export const DoseResultSchema = z.object({
           lastsDays: Reported.nullable(),
         })
         .nullable(),
-      generator: z.object({ output: Reported, outputGPerH: Reported, note: z.string() }).nullable(),
+      generator: z.object({ label: z.string(), output: Reported, outputGPerH: Reported, note: z.string() }).nullable(),
       notes: z.array(z.string()),
       flags: z.array(Flag),
     })

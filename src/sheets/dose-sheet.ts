@@ -367,7 +367,7 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
         value: `${inPreferred(us, fd.batch.productKg, fd.batch.productLb)} in ${reportedText(fd.batch.volume)}; ${fd.batch.gramsPer100gWater.rounded} g per 100 g water${fd.batch.solubilityGPer100gWater ? ` (solubility ${fd.batch.solubilityGPer100gWater.rounded} at ${fd.batch.temperatureC} °C)` : ''}${fd.batch.lastsDays ? `; lasts ${reportedText(fd.batch.lastsDays)}` : ''}`,
       });
     }
-    if (fd.generator) rows.push({ label: 'Generator output', value: `${reportedText(fd.generator.output)} (${reportedText(fd.generator.outputGPerH)}); ${fd.generator.note}` });
+    if (fd.generator) rows.push({ label: fd.generator.label, value: `${reportedText(fd.generator.output)} (${reportedText(fd.generator.outputGPerH)}); ${fd.generator.note}` });
     feedBlocks.push({ kind: 'keyValue', rows });
     for (const n of fd.notes) feedBlocks.push({ kind: 'note', text: autoRich(n) });
   } else {

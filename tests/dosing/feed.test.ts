@@ -127,11 +127,15 @@ describe('gases and generated oxidants', () => {
     expect(r.massRateUS.rounded).toBe('17.6');
     expect(r.daysOfSupply!.value).toBeCloseTo(8.5, 12);
   });
-  it('ozone: generator output 1.5 mg/L × 3000 m3/d = 4.5 kg/d = 187.5 g/h; no solution rate', () => {
+  it('ozone: 1.5 mg/L × 3000 m3/d = 4.5 kg/d = 187.5 g/h to transfer, labelled as not the generator setting; no solution rate', () => {
     const r = feed('ozone', 1.5, 3000);
     expect(r.solutionRate).toBeNull();
     expect(r.generator!.output.value).toBe(4.5);
     expect(r.generator!.outputGPerH.value).toBe(187.5);
+    // the generator must make more than the water takes up: output = transferred ÷ transfer efficiency
+    expect(r.generator!.label).toBe('Ozone to transfer (not the generator setting)');
+    expect(r.generator!.note).toMatch(/divided by the contactor's measured transfer efficiency/);
+    expect(feed('chlorine-dioxide', 1, 1000).generator!.label).toBe('Generator output');
   });
   it('oxygen: mass rate only, with the aeration note', () => {
     const r = feed('oxygen', 0.3, 1000);
