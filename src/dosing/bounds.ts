@@ -157,7 +157,7 @@ export function readingFlags(sample: SampleLike): Flag[] {
       flags.push({
         code: b.flagCode,
         severity: 'warning',
-        message: `${name} ${fmt(mg.toNumber())} mg/L${withBasis(b)} is above ${b.warnAbove} mg/L, ${b.warnWhy}: check the lab reading and the sample; the dose and the solids load scale with it.`,
+        message: `${name} ${fmt(mg.toNumber())} mg/L${withBasis(b)} is above ${b.warnAbove} mg/L, ${b.warnWhy}: check the lab reading and the sample; the dose${SOLIDS_FORMING.has(b.field) ? ' and the solids load scale' : ' scales'} with it.`,
         source: b.source,
       });
     }
@@ -217,6 +217,9 @@ export const BATCH_MAX_L = new Dec('1000000');
  */
 export const STRENGTH_MIN_G_PER_L = new Dec('0.1');
 export const STRENGTH_MIN_PERCENT = new Dec('0.01');
+/** Readings whose oxidation makes solids to remove (iron and manganese oxides, colloidal sulfur). */
+const SOLIDS_FORMING = new Set(['iron', 'manganese', 'sulfide']);
+
 /** Purity of a solid product: below 10 % it is not a commercial product (common practice; commercial grades are 65 to 99 %). */
 export const PURITY_MIN_PERCENT = 10;
 /** Target residual and background demand, mg/L: 1000, ten times the strongest chlorination of new mains (common practice). */

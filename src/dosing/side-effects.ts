@@ -188,7 +188,8 @@ export function sideEffects(input: SideEffectInput): SideEffects {
     const byReactions = (reacting.reduce((a, d) => a + d.demandMgPerL.toNumber(), 0) + fraction * input.backgroundMgPerL.toNumber()) * perClO2;
     const chlorite = Math.max(byFraction, byReactions);
     const pct = (fraction * 100).toFixed(0);
-    const fractionWhat = input.chloriteFraction !== null ? `the ${pct} % of the dose given in options.chloriteFraction` : `the usual ${pct} % of the dose (${ox.chloriteFraction.text})`;
+    const usual = `usually ${(Number(ox.chloriteFraction.low) * 100).toFixed(0)} to ${(Number(ox.chloriteFraction.high) * 100).toFixed(0)} %${fraction === Number(ox.chloriteFraction.high) ? ', the high end taken here' : ''}`;
+    const fractionWhat = input.chloriteFraction !== null ? `the ${pct} % of the dose given in options.chloriteFraction` : `${pct} % of the dose (${usual})`;
     const us = limitOf(input.limits, 'us-mcl-chlorite');
     const who = limitOf(input.limits, 'who-chlorite');
     byproducts.push({
@@ -198,7 +199,7 @@ export function sideEffects(input: SideEffectInput): SideEffects {
       text:
         byReactions > byFraction
           ? `The balanced reactions with ${reacting.map((d) => d.entry.name.charAt(0).toLowerCase() + d.entry.name.slice(1)).join(' and ')} reduce all the chlorine dioxide they consume to chlorite (ClO2 + e- → ClO2-)${input.backgroundMgPerL.isZero() ? '' : `, and ${pct} % of the background demand's share is added`}: ${roundSigNumber(byReactions)} mg/L, more than ${fractionWhat}; the larger is reported`
-          : `${input.chloriteFraction !== null ? `${pct} % of the chlorine dioxide dose (options.chloriteFraction) is taken to end as chlorite` : `About ${pct} % of the chlorine dioxide dose ends as chlorite (${ox.chloriteFraction.text})`}${byReactions > 0 ? `; the balanced reactions alone form ${roundSigNumber(byReactions)} mg/L` : ''}`,
+          : `${input.chloriteFraction !== null ? `${pct} % of the chlorine dioxide dose (options.chloriteFraction) is taken to end as chlorite` : `About ${pct} % of the chlorine dioxide dose ends as chlorite (${usual})`}${byReactions > 0 ? `; the balanced reactions alone form ${roundSigNumber(byReactions)} mg/L` : ''}`,
       source: ox.chloriteFraction.source,
     });
     if (us && chlorite > Number(us.valueText)) {

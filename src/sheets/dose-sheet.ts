@@ -132,9 +132,14 @@ function readingsTable(req: DoseRequest, result: DoseResult): Block {
   rows.push(['pH', String(s.pH), '–', '–']);
   const tC = result.conditions.temperatureC;
   const us = result.units.preferred === 'US';
-  const both = us ? `${round1(result.conditions.temperatureF)} °F, ${round1(tC)} °C` : `${round1(tC)} °C, ${round1(result.conditions.temperatureF)} °F`;
-  if (s.temperature) rows.push(['Temperature', String(s.temperature.value), s.temperature.unit, both]);
-  else rows.push(['Temperature', String(s.temperatureC ?? tC), '°C', `${round1(result.conditions.temperatureF)} °F`]);
+  // the reading as given, its conversion beside the unit (the Basis column is for "as Fe" and the like)
+  const inC = `${round1(tC)} °C`;
+  const inF = `${round1(result.conditions.temperatureF)} °F`;
+  if (s.temperature) {
+    const u = s.temperature.unit;
+    const other = u === '°C' || u === 'C' ? inF : u === '°F' || u === 'F' ? inC : us ? `${inF}, ${inC}` : `${inC}, ${inF}`;
+    rows.push(['Temperature', String(s.temperature.value), `${s.temperature.unit} (= ${other})`, '–']);
+  } else rows.push(['Temperature', String(s.temperatureC ?? tC), `°C (= ${inF})`, '–']);
   for (const [field, labels] of Object.entries(READING_LABELS)) {
     const v = s[field] as { value: number; unit: string } | undefined;
     if (!v) continue;
@@ -319,7 +324,7 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
       label: 'pH after dosing',
       value: autoRich(fx.pH.after === null ? `not estimated (${fx.pH.method})` : `${(Math.round(fx.pH.after * 100) / 100).toFixed(2)} (from ${fx.pH.before}). ${fx.pH.method}`),
     },
-    { label: 'Solids formed', value: fx.solids.length ? autoRich(fx.solids.map((x) => `${x.amount.rounded} ${x.amount.unit}`).join('; ')) : 'none', source: `total ${reportedText(fx.solidsTotal)}` },
+    { label: 'Solids formed', value: fx.solids.length ? autoRich(`${fx.solids.map((x) => `${x.amount.rounded} ${x.amount.unit}`).join('; ')}${fx.solids.length > 1 ? `; total ${reportedText(fx.solidsTotal)}` : ''}`) : 'none' },
   ];
   for (const bp of fx.byproducts) {
     fxRows.push({
@@ -345,9 +350,11 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
           { label: 'Mass rate', value: autoRich(`${reportedText(fd.massRate)} ${fd.massRate.basis}`), source: 'dose × flow' },
           { label: 'Mass rate, US', value: `${reportedText(fd.massRateUS)}; pounds formula with 8.34: ${reportedText(fd.poundsFormula.conventionalLbPerD)}`, source: autoRich(fd.poundsFormula.note) },
         ];
-    rows.push(
-      { label: 'Compound fed', value: autoRich(`${reportedText(fd.compoundMassRate)} ${fd.compoundMassRate.formula}`), source: autoRich(fd.compoundMassRate.derivation) },
-    );
+    // the compound fed differs from the dose basis (NaOCl for a dose as Cl2); when it is the basis itself
+    // (KMnO4 as KMnO4, O3 as O3) the row would only repeat the mass rate
+    if (fd.compoundMassRate.formula !== r.dose.basis.replace(/^as /, '')) {
+      rows.push({ label: 'Compound fed', value: autoRich(`${reportedText(fd.compoundMassRate)} ${fd.compoundMassRate.formula}`), source: autoRich(fd.compoundMassRate.derivation) });
+    }
     if (fd.productMassRate) rows.push({ label: 'Product as supplied', value: autoRich(`${reportedText(fd.productMassRate)} ${fd.productMassRate.what}`) });
     if (fd.strength) rows.push({ label: 'Strength', value: autoRich(fd.strength.text) });
     if (fd.solutionRate) rows.push({ label: 'Solution rate', value: us ? qtys(fd.solutionRateGalPerD, fd.solutionRate, fd.solutionRateMLPerMin) : qtys(fd.solutionRate, fd.solutionRateMLPerMin, fd.solutionRateGalPerD) });

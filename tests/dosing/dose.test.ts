@@ -362,6 +362,12 @@ describe('flags', () => {
     expect(r.contact!.availableMinutes).toBe(5);
     expect(r.notes.find((n) => n.startsWith('Contact:'))).toMatch(/5 min, was used; the contact volume ÷ flow would give 20\.0 min/);
   });
+  it('an unusually high reading speaks of solids only where oxidation makes them (iron, not arsenite)', () => {
+    const msg = (sample: Record<string, unknown>, code: string) => dose({ ...base, oxidant: 'sodium-hypochlorite', sample: { pH: 7.2, temperatureC: 15, ...sample } }).flags.find((x) => x.code === code)!.message;
+    expect(msg({ iron: { value: 25, unit: 'mg/L' } }, 'IRON_UNUSUALLY_HIGH')).toMatch(/the dose and the solids load scale with it/);
+    expect(msg({ arsenite: { value: 0.8, unit: 'mg/L' } }, 'ARSENITE_UNUSUALLY_HIGH')).toMatch(/the dose scales with it/);
+    expect(msg({ nitrite: { value: 2, unit: 'mg/L' } }, 'NITRITE_UNUSUALLY_HIGH')).not.toMatch(/solids/);
+  });
   it('every flag source is a sources.json id or "input"', () => {
     const ids = new Set([...tables.sources.map((s) => s.id), 'input']);
     const r = dose({ ...base, oxidant: 'chlorine-dioxide', sample: { pH: 4.5, temperatureC: 15, iron: { value: 25, unit: 'mg/L' }, manganese: { value: 0.5, unit: 'mg/L' }, ammoniaN: { value: 1, unit: 'mg/L' } }, targetResidual: { value: 1, unit: 'mg/L' } });

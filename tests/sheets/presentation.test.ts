@@ -169,6 +169,21 @@ describe('dose sheet', () => {
     expect(all.slice(0, -1).every((p) => !p.includes('SIGNATURES'))).toBe(true);
   });
 
+  it('reads as a document, not a dump: no "Compound fed" row that only repeats the basis, the chlorite share as a range, the temperature conversion beside its unit', async () => {
+    const asCells = (doc: SheetDocument) => JSON.stringify(doc);
+    const km = parseDoseRequest({ plantId: 'demo-groundwater', oxidant: 'potassium-permanganate', sample: { pH: 7.4, temperatureC: 14, iron: mgL(1.5) } }) as DoseRequest;
+    // KMnO4 dosed as KMnO4: the compound row would say "1 g KMnO4 per g KMnO4"
+    expect(asCells(sheet(km))).not.toContain('Compound fed');
+    // hypochlorite dosed as Cl2 and fed as NaOCl: the row stays, with its conversion
+    expect(asCells(sheet(hypo()))).toContain('Compound fed');
+    const clo2 = parseDoseRequest({ oxidant: 'chlorine-dioxide', flow: { value: 2000, unit: 'm3/d' }, sample: { pH: 7.4, temperatureC: 14, iron: mgL(0.2) } }) as DoseRequest;
+    const text = pdfText(pdfFile(await renderSheet(doseSheetDocument({ id: 'DS-20261205-AB12CD34EF', request: clo2, result: computeDose(clo2, dosing), sampledAt: '2026-12-01T23:30:00Z', issuedAt: '2026-12-05T09:05:00Z', preparedBy: { name: 'A. Operator (demo)', role: 'Shift operator' } })), 'dose-clo2-words'));
+    expect(text).not.toContain('(Fraction of the chlorine dioxide dose');
+    expect(text).toMatch(/usually 50 to 70 %, the high end taken here/);
+    const tempRow = JSON.stringify(sheet(hypo({ sample: { pH: 7.4, temperature: { value: 57.2, unit: '°F' }, iron: mgL(1.5) } })));
+    expect(tempRow).toContain('°F (= 14 °C)');
+  });
+
   it('the superseded sheet id and the sample time are never broken inside', async () => {
     const raw = run('pdftotext', ['-f', '1', '-l', '1', pdfFile(await renderSheet(sheet(hypo())), 'dose-ids'), '-']);
     const lines = raw.split('\n');
