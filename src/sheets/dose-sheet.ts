@@ -202,7 +202,8 @@ export function doseSheetDocument(input: DoseSheetInput): SheetDocument {
       ),
     });
   }
-  if (input.supersedes && input.correctionReason) resultRows.push({ label: 'Reason for correction', value: input.correctionReason });
+  // a correction always says why, or that no reason was recorded (a reader of the paper copy must see it)
+  if (input.supersedes) resultRows.push({ label: 'Reason for correction', value: input.correctionReason ?? `not recorded: this sheet replaces ${input.supersedes} without a stated reason` });
   const resultBlocks: Block[] = [{ kind: 'keyValue', rows: resultRows }];
   const danger = r.flags.filter((fl) => fl.severity === 'danger');
   if (danger.length > 0) resultBlocks.push({ kind: 'flags', items: flagItems(danger, label) });

@@ -182,6 +182,9 @@ describe('dose sheet', () => {
     expect(text).toMatch(/usually 50 to 70 %, the high end taken here/);
     const tempRow = JSON.stringify(sheet(hypo({ sample: { pH: 7.4, temperature: { value: 57.2, unit: '°F' }, iron: mgL(1.5) } })));
     expect(tempRow).toContain('°F (= 14 °C)');
+    // a correction without a stated reason says so on the sheet itself
+    expect(asCells(sheet(hypo()))).toContain('"label":"Reason for correction","value":"not recorded: this sheet replaces DS-20261204-KB3VRK5CJ2 without a stated reason"');
+    expect(asCells(sheet(hypo(), 'A4', { correctionReason: 'iron reading entered as 15 instead of 1.5' }))).toContain('"value":"iron reading entered as 15 instead of 1.5"');
   });
 
   it('the superseded sheet id and the sample time are never broken inside', async () => {
