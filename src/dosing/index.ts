@@ -857,7 +857,7 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
     const beyond = [...context.temperatureRangeNotes(equilibria, temperatureC, usesOxygen)];
     if (usesOxygen && temperatureC > context.o2SaturationTableMaxC) {
       beyond.push({
-        text: `dissolved oxygen at saturation: tables/oxygen-saturation.json ends at ${context.o2SaturationTableMaxC} °C, so the Benson–Krause equation is extended to ${temperatureC} °C (${roundSigNumber(context.o2SaturationAt(temperatureC), 3)} mg/L)`,
+        text: `the dissolved oxygen at saturation (tables/oxygen-saturation.json ends at ${context.o2SaturationTableMaxC} °C; the Benson–Krause equation is extended to ${temperatureC} °C, giving ${roundSigNumber(context.o2SaturationAt(temperatureC), 3)} mg/L)`,
         source: 'benson-krause-1984',
       });
     }
