@@ -279,7 +279,7 @@ export function plantProfileWarnings(
       const key = `${pointer}|${f.code}|${f.message}`;
       if (seen.has(key)) continue;
       seen.add(key);
-      out.push({ code: f.code, pointer, message: `For ${ox.name.toLowerCase()}: ${f.message}` });
+      out.push({ code: f.code, pointer, message: `For ${ox.name.toLowerCase()}, ${f.message.charAt(0).toLowerCase()}${f.message.slice(1)}` });
     }
   }
   profile.products.forEach((prod, i) => {
