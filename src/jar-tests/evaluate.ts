@@ -602,6 +602,26 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
   let predict = lineAt(benchLine);
   let recLine: LinearFit | null = benchLine;
   const contaminantTargets = targets.filter((t) => t.analyte === 'iron' || t.analyte === 'manganese');
+  // A control jar (no oxidant) that meets the iron and manganese targets while dosed jars read above
+  // them cannot both be right: oxidant does not raise dissolved iron or manganese (permanganate
+  // overdose aside, which shows above the jars that pass, not below them). A blank that passes then
+  // says nothing about the dose, and no plant dose is recommended from it.
+  const exceeds = (r: EvaluatedResult): string[] =>
+    contaminantTargets.flatMap((t) => {
+      const v = t.analyte === 'iron' ? r.ironMgPerL : r.manganeseMgPerL;
+      return v !== null && v > t.limitMgPerL ? [`${t.analyte} ${fmt(v)} > ${fmt(t.limitMgPerL)} mg/L`] : [];
+    });
+  const contradicting =
+    atBench !== undefined && atBench.doseMgPerL === 0
+      ? jars
+          .filter((j) => j.doseMgPerL > 0)
+          .flatMap((j) => {
+            const r = j.results.find((x) => x.contactTimeMin === benchTime);
+            const over = r === undefined ? [] : exceeds(r);
+            return over.length > 0 ? [{ j, over }] : [];
+          })
+          .sort((a, b) => a.j.doseMgPerL - b.j.doseMgPerL)
+      : [];
   if (residualNotKept !== null && blocking.length === 0) problems.push(residualNotKept);
   if (residualNotKept !== null || blocking.length > 0) {
     if (blocking.length > 0) {
@@ -611,6 +631,18 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
         message: `No plant dose is recommended: ${blocking.map((b) => b.code).join(', ')} puts the jar doses or the readings in doubt. Check the stock strength, the aliquots and the residual method, then repeat the test.`,
       });
     }
+  } else if (atBench !== undefined && atBench.doseMgPerL === 0 && contradicting.length > 0) {
+    const first = contradicting[0]!;
+    problems.push({
+      code: 'CONTROL_JAR_CONTRADICTS_DOSED_JARS',
+      severity: 'error',
+      ...(atBench.jar !== null ? { jar: atBench.jar } : {}),
+      message:
+        `The control jar (jar ${atBench.jar}, no oxidant) met every target at ${fmt(benchTime)} min, but dosed jar(s) ${contradicting.map((c) => c.j.jar).join(', ')} ` +
+        `(${contradicting.map((c) => fmt(c.j.doseMgPerL, 3)).join(', ')} mg/L) did not (jar ${first.j.jar}: ${first.over.join('; ')}). ` +
+        'Oxidant does not raise dissolved iron or manganese, so a reading, the control\'s sample or a jar mix-up is wrong, and no plant dose is recommended. ' +
+        "Check the control jar's sample (filtered through 0.45 µm and read like the others, from the same raw water) and the labels, then repeat the test.",
+    });
   } else if (atBench !== undefined && atBench.doseMgPerL !== null) {
     benchLineNote();
     const base = atBench.doseMgPerL;
@@ -723,7 +755,7 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
           const row = benchRows.find((x) => x.j.jar === jar);
           return row !== undefined && failsOther(row.r).meets === false;
         });
-  if (atBenchTargets !== undefined && atBenchTargets.jar !== null && failing.length > 0) {
+  if (atBenchTargets !== undefined && atBenchTargets.jar !== null && failing.length > 0 && contradicting.length === 0) {
     const first = benchRows.find((x) => x.j.jar === failing[0]);
     problems.push({
       code: 'HIGHER_DOSE_FAILS_TARGETS',

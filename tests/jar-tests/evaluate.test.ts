@@ -491,12 +491,34 @@ describe('evaluateJarTest: the edges of the ladder', () => {
     expect(codesOf(evaluateJarTest(MODEL))).not.toContain('LOWEST_JAR_MEETS_TARGETS');
   });
 
-  it('a control jar (no oxidant) that meets every target says the water may need no oxidant', () => {
+  it('a control jar (no oxidant) that meets every target, as every dosed jar does, says the water may need no oxidant', () => {
+    // iron ≤ 0.7 and manganese ≤ 0.2 are met by every jar of the model (readings ≤ 0.6 and ≤ 0.12), and by the blank
     const jars = [{ doseMgPerL: 0, results: [{ contactTimeMin: 15, residualOxidantMgPerL: 0, ironMgPerL: 0.1, manganeseMgPerL: 0.02 }] }, ...modelJars()];
-    const e = evaluateJarTest({ ...MODEL, jars });
+    const e = evaluateJarTest({ ...MODEL, jars, targets: { ironMgPerL: 0.7, manganeseMgPerL: 0.2 } });
     const w = e.problems.find((p) => p.code === 'LOWEST_JAR_MEETS_TARGETS')!;
     expect(w.message).toContain('control jar');
     expect(w.message).toContain('may need no oxidant');
+    expect(e.problems.map((p) => p.code)).not.toContain('CONTROL_JAR_CONTRADICTS_DOSED_JARS');
+  });
+
+  it('a control jar that passes while dosed jars above it fail: no recommendation, an error that says why', () => {
+    // Invented jars (hypochlorite as Cl2, 30 min): doses 0, 0.5 … 3 mg/L; dissolved Fe 0.1, 0.8, 0.4, 0.1, 0.05, 0.02, 0.02;
+    // residual max(0, dose − 1.2). The blank reads 0.1 ≤ 0.3 mg/L (40 CFR 143.3 level as the target) but jars 2 and 3,
+    // dosed with 0.5 and 1 mg/L, read 0.8 and 0.4: oxidant does not raise dissolved iron, so one side is wrong.
+    const doses = [0, 0.5, 1, 1.5, 2, 2.5, 3];
+    const fe = [0.1, 0.8, 0.4, 0.1, 0.05, 0.02, 0.02];
+    const jars = doses.map((d, i) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: Math.max(0, Number((d - 1.2).toFixed(10))), ironMgPerL: fe[i]! }] }));
+    const e = evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: 0.64, jarVolumeL: 2, jars, targets: { ironMgPerL: 0.3 }, plantContactTimeMin: 30 });
+    expect(e.recommendedDose).toBeNull();
+    const p = e.problems.find((x) => x.code === 'CONTROL_JAR_CONTRADICTS_DOSED_JARS')!;
+    expect(p.severity).toBe('error');
+    expect(p.jar).toBe(1);
+    expect(p.message).toContain('dosed jar(s) 2, 3 (0.5, 1 mg/L)');
+    expect(p.message).toContain('iron 0.8 > 0.3 mg/L');
+    expect(p.message).toContain("control jar's sample");
+    // the residual line is still reported: residual = dose − 1.2 over jars 4–7, so it crosses zero at 1.2 mg/L (by hand)
+    expect(e.apparentDemand!.doseMgPerL).toBeCloseTo(1.2, 9);
+    expect(e.problems.map((x) => x.code)).not.toContain('HIGHER_DOSE_FAILS_TARGETS');
   });
 
   it('a higher dose that fails after a lower one passed: HIGHER_DOSE_FAILS_TARGETS (warning), not only a note', () => {
