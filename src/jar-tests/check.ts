@@ -108,8 +108,10 @@ function validate(input: CheckJarPlanInput): void {
         c.add(`/jars/${i}`, 'each jar must be an object with doseMgPerL and/or aliquotMl');
         return;
       }
-      if (j.doseMgPerL !== undefined) c.nonNegative(j.doseMgPerL, `/jars/${i}/doseMgPerL`, `the dose of jar ${i + 1} (mg/L)`);
-      if (j.aliquotMl !== undefined) c.nonNegative(j.aliquotMl, `/jars/${i}/aliquotMl`, `the aliquot of jar ${i + 1} (mL)`);
+      if (j.doseMgPerL !== undefined) c.doseMgPerL(j.doseMgPerL, `/jars/${i}/doseMgPerL`, `the dose of jar ${i + 1} (mg/L)`);
+      if (j.aliquotMl !== undefined && c.nonNegative(j.aliquotMl, `/jars/${i}/aliquotMl`, `the aliquot of jar ${i + 1} (mL)`) && Number.isFinite(input.jarVolumeL) && j.aliquotMl > input.jarVolumeL * 1000) {
+        c.add(`/jars/${i}/aliquotMl`, `the aliquot of jar ${i + 1} (${fmt(j.aliquotMl)} mL) is more than the ${fmt(input.jarVolumeL * 1000)} mL jar itself; check the value and its unit (mL)`);
+      }
     });
   }
   if (input.contactTimesMin !== undefined) {

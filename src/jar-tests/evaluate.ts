@@ -192,7 +192,7 @@ function validate(input: EvaluateJarTestInput): void {
     input.jars.forEach((j, i) => {
       const p = `/jars/${i}`;
       if (j === null || typeof j !== 'object') return c.add(p, 'each jar must be an object with doseMgPerL and results');
-      c.nonNegative(j.doseMgPerL, `${p}/doseMgPerL`, `the dose of jar ${i + 1} (mg/L)`);
+      c.doseMgPerL(j.doseMgPerL, `${p}/doseMgPerL`, `the dose of jar ${i + 1} (mg/L)`);
       const results: readonly JarResultInput[] = j.results;
       if (!Array.isArray(results)) return c.add(`${p}/results`, 'give the results as a list (one entry per contact time)');
       const seen = new Set<number>();
@@ -204,7 +204,9 @@ function validate(input: EvaluateJarTestInput): void {
           seen.add(r.contactTimeMin);
         }
         for (const key of ['residualOxidantMgPerL', 'ironMgPerL', 'manganeseMgPerL', 'turbidityNTU'] as const) {
-          if (r[key] !== undefined) c.nonNegative(r[key], `${q}/${key}`, key);
+          if (r[key] === undefined) continue;
+          if (key === 'residualOxidantMgPerL') c.doseMgPerL(r[key], `${q}/${key}`, `the residual of jar ${i + 1} at ${r.contactTimeMin} min (mg/L)`);
+          else c.nonNegative(r[key], `${q}/${key}`, key);
         }
       });
     });
@@ -854,6 +856,25 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       });
     } else {
       notes.push(`Residual at the recommended dose ${fmt(predicted, 2, scale)} mg/L as KMnO4, at or below the ${fmt(pink.mgPerL)} mg/L default pink-water threshold (${pink.basis}).`);
+    }
+  }
+
+  // A dose read off the residual line below every jar tested is an extrapolation: below the ladder the
+  // residual need not follow the line (a breakpoint curve with ammonia, a demand met at low doses).
+  if (recommendedDose !== null && recommendedDose.basis === 'apparent-demand-plus-residual') {
+    const dosedJars = jars.filter((j) => j.doseMgPerL > 0).sort((a, b) => a.doseMgPerL - b.doseMgPerL);
+    const lowestJar = dosedJars[0];
+    if (lowestJar !== undefined && recommendedDose.doseMgPerL < lowestJar.doseMgPerL) {
+      const demand = apparentDemand?.doseMgPerL ?? recommendedDose.baseDoseMgPerL;
+      problems.push({
+        code: 'RECOMMENDATION_BELOW_LADDER',
+        severity: 'warning',
+        message:
+          `The recommended ${fmt(recommendedDose.doseMgPerL, 3)} mg/L is below every jar tested (the lowest is jar ${lowestJar.jar}, ${fmt(lowestJar.doseMgPerL, 3)} mg/L): ` +
+          `it is read off the residual line extrapolated below the ladder to the apparent demand ${fmt(demand, 3, scale)} mg/L, and no jar shows what the water does there ` +
+          '(with ammonia in the water chlorine follows a breakpoint curve, not a line). ' +
+          `Repeat the test with doses from about ${fmt(demand / 2, 2)} to ${fmt(lowestJar.doseMgPerL, 3)} mg/L before using it.`,
+      });
     }
   }
 

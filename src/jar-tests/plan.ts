@@ -179,7 +179,7 @@ function validate(input: PlanJarTestInput): void {
     if (!Array.isArray(input.doses) || input.doses.length < 2 || input.doses.length > MAX_JARS) {
       c.add('/doses', `give from 2 to ${MAX_JARS} doses (mg/L), one per jar`);
     } else {
-      input.doses.forEach((d, i) => c.nonNegative(d, `/doses/${i}`, `the dose of jar ${i + 1} (mg/L)`));
+      input.doses.forEach((d, i) => c.doseMgPerL(d, `/doses/${i}`, `the dose of jar ${i + 1} (mg/L)`));
       if (input.doses.every((d) => d === 0)) c.add('/doses', 'at least one dose must be above 0 mg/L');
     }
   }

@@ -305,6 +305,12 @@ describe('POST /api/v1/jar-tests/plans', () => {
     }
   });
 
+  it('a ladder dose of 1e9 mg/L is a 400 naming /doses/1/value', async () => {
+    const r = await post('/api/v1/jar-tests/plans', { ...worked, doses: [mgL(1), mgL(1e9)] });
+    expect(r.statusCode).toBe(400);
+    expect(r.json().errors.find((x: { pointer: string }) => x.pointer === '/doses/1/value').message).toContain('at most 1000 mg/L');
+  });
+
   it('an unknown plantId is a 404 naming /plantId', async () => {
     const r = await post('/api/v1/jar-tests/plans', { ...worked, plantId: 'no-such-plant' });
     expect(r.statusCode).toBe(404);
@@ -447,6 +453,15 @@ describe('POST /api/v1/jar-tests/checks', () => {
     expect(r.statusCode).toBe(400);
     expect(r.json().errors[0].pointer).toBe('/jarVolume/value');
     expect(r.json().errors[0].message).toContain('at least 0.25 L');
+  });
+
+  it('a dose beyond any bench (1e9 mg/L) or an aliquot larger than the jar is a 400 naming the field', async () => {
+    // 1000 mg/L is the bound src/dosing/bounds.ts puts on a target residual (common practice); 2 L = 2000 mL
+    const r = await post('/api/v1/jar-tests/checks', { ...base, jars: [goodJars[0], { dose: mgL(1e9) }, { aliquotMl: 2500 }] });
+    expect(r.statusCode).toBe(400);
+    const errors = r.json().errors as { pointer: string; message: string }[];
+    expect(errors.find((e) => e.pointer === '/jars/1/dose/value')!.message).toContain('at most 1000 mg/L');
+    expect(errors.find((e) => e.pointer === '/jars/2/aliquotMl')!.message).toContain('more than the 2000 mL jar');
   });
 
   it('a negative aliquot is a 400 naming /jars/1/aliquotMl', async () => {
@@ -601,6 +616,14 @@ describe('POST /api/v1/jar-tests/evaluations', () => {
     const op = await post('/api/v1/jar-tests/evaluations', body, { authorization: `Bearer ${operatorToken}` });
     expect(op.statusCode).toBe(403);
     expect(op.json().code).toBe('AUTH_FORBIDDEN');
+  });
+
+  it('a jar dose of 1e9 mg/L is a 400 naming /jars/0/dose/value (at most 1000 mg/L, common practice), not a 201', async () => {
+    const r = await post('/api/v1/jar-tests/evaluations', { ...body, jars: [{ ...jars[0]!, dose: mgL(1e9) }, ...jars.slice(1)] }, asAdmin);
+    expect(r.statusCode).toBe(400);
+    expect(r.headers['content-type']).toContain('application/problem+json');
+    const e = r.json().errors.find((x: { pointer: string }) => x.pointer === '/jars/0/dose/value');
+    expect(e.message).toContain('at most 1000 mg/L');
   });
 
   it('too few jars with a residual and no iron or manganese to judge by: 422 naming /jars', async () => {

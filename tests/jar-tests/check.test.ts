@@ -119,7 +119,7 @@ describe('checkJarPlan: each problem found by a crafted plan', () => {
     ['jar 2 repeats jar 1', jars([{ doseMgPerL: 1 }, { doseMgPerL: 1 }, { doseMgPerL: 3 }]), 'DUPLICATE_DOSE', 2],
     ['ladder 1, 3, 2', jars([{ doseMgPerL: 1 }, { doseMgPerL: 3 }, { doseMgPerL: 2 }]), 'NON_MONOTONIC_LADDER', null],
     ['a jar with neither dose nor aliquot', jars([{ doseMgPerL: 1 }, {}, { doseMgPerL: 3 }]), 'MISSING_DOSE_AND_ALIQUOT', 2],
-    ['3000 mg/L from a 1.0 g/L stock', jars([{ doseMgPerL: 1 }, { doseMgPerL: 3000 }, { doseMgPerL: 4000 }]), 'DOSE_UNREACHABLE', 2],
+    ['1000 mg/L from a 0.5 g/L (500 mg/L) stock', { ...jars([{ doseMgPerL: 1 }, { doseMgPerL: 1000 }, { doseMgPerL: 600 }]), stockStrengthGPerL: 0.5 }, 'DOSE_UNREACHABLE', 2],
     ['two jars', jars([{ doseMgPerL: 1 }, { doseMgPerL: 3 }]), 'TOO_FEW_JARS', null],
     ['no estimate', { ...SOUND, estimateMgPerL: undefined }, 'NO_ESTIMATE', null],
   ])('%s → %s', (_name, plan, code, jar) => {

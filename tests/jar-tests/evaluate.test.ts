@@ -606,3 +606,34 @@ describe('evaluateJarTest: the edges of the ladder with a control jar and at the
     expect(mid.problems.map((x) => x.code)).not.toContain('LOWEST_JAR_MEETS_TARGETS');
   });
 });
+
+describe('evaluateJarTest: a recommendation below the ladder, and jar figures beyond any bench', () => {
+  it('no targets, jars 3, 4, 5 mg/L keep 1.8, 2.8, 3.8: the line crosses zero at 1.2 mg/L, and 1.32 mg/L is flagged as extrapolated below the ladder', () => {
+    // by hand: residual = dose − 1.2 exactly, so the apparent demand is 1.2 mg/L and +10 % (common practice) gives 1.32 mg/L, below jar 1 (3 mg/L)
+    const jars = [3, 4, 5].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: Number((d - 1.2).toFixed(10)) }] }));
+    const e = evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: 0.64, jarVolumeL: 1, jars, plantContactTimeMin: 30 });
+    expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(1.32, 9);
+    const w = e.problems.find((p) => p.code === 'RECOMMENDATION_BELOW_LADDER')!;
+    expect(w.severity).toBe('warning');
+    expect(w.message).toContain('below every jar tested (the lowest is jar 1, 3 mg/L)');
+    expect(w.message).toContain('doses from about 0.6 to 3 mg/L');
+    // a ladder reaching below the recommendation raises no such warning: add a jar at 1 mg/L that keeps nothing
+    const wider = evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: 0.64, jarVolumeL: 1, jars: [{ doseMgPerL: 1, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 0 }] }, ...jars], plantContactTimeMin: 30 });
+    expect(wider.recommendedDose!.doseMgPerL).toBeCloseTo(1.32, 9);
+    expect(wider.problems.map((p) => p.code)).not.toContain('RECOMMENDATION_BELOW_LADDER');
+  });
+
+  it.each([
+    ['a jar dose of 1e9 mg/L', { jars: [{ doseMgPerL: 1e9, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 1 }] }] }, '/jars/0/doseMgPerL'],
+    ['a residual of 5000 mg/L', { jars: [{ doseMgPerL: 5, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 5000 }] }] }, '/jars/0/results/0/residualOxidantMgPerL'],
+  ] as const)('%s is refused (above 1000 mg/L, the bound of src/dosing/bounds.ts on a target residual; common practice)', (_n, over, pointer) => {
+    const e = fails(() => evaluateJarTest({ ...MODEL, ...(over as Partial<EvaluateJarTestInput>) }));
+    expect(e.code).toBe('JAR_TEST_INVALID');
+    const f = e.fields.find((x) => x.pointer === pointer)!;
+    expect(f.message).toContain('at most 1000 mg/L');
+  });
+  it('1000 mg/L itself is taken (the bound is inclusive)', () => {
+    const jars = [500, 750, 1000].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: d - 100 }] }));
+    expect(() => evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: 1, jarVolumeL: 1, jars })).not.toThrow();
+  });
+});
