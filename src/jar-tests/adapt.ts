@@ -24,6 +24,11 @@ export interface JarProductOptions {
   readonly purityPercent?: number;
   /** Strength of the trade solution on hand, on the row's strength basis, overriding the row's nominal default. */
   readonly tradeStrength?: { readonly value: number; readonly unit: '% w/w' | '% w/v' | 'g/L'; readonly densityKgPerL?: number; readonly measured?: boolean };
+  /**
+   * For a solid whose oxidants row has no solubility table (calcium hypochlorite): the solubility row of
+   * tables/strength-limits.json, the limit POST /api/v1/doses refuses a product strength above.
+   */
+  readonly solubilityLimit?: { readonly gramsPer100gWater: number; readonly temperatureC: number; readonly source: string; readonly of: string; readonly fromMemory: boolean };
 }
 
 const DEFAULT_SOLUBILITY_T_C = 20;
@@ -96,6 +101,17 @@ export function jarProductFacts(row: OxidantRow, options: JarProductOptions = {}
         temperatureC: T,
         source: row.solubility.source,
         note: `${fmt(s)} ${row.solubility.unit} at ${fmt(T)} °C${sol.clamped ? ' (outside the table; nearest end used)' : ''}, as about ${fmt(gPerL, 3)} g/L of solution`,
+      };
+    } else if (options.solubilityLimit !== undefined) {
+      // g per 100 g water → g per L of solution taken as 1.00 kg/L: 1000·s/(100 + s), the same conversion as
+      // the dose route's check (c·100/(1000 − c) ≤ s), compared on the dose basis as that row is
+      const l = options.solubilityLimit;
+      const gPerL = (1000 * l.gramsPer100gWater) / (100 + l.gramsPer100gWater);
+      solubility = {
+        gPerL,
+        temperatureC: l.temperatureC,
+        source: l.source,
+        note: `about ${fmt(l.gramsPer100gWater)} g ${l.of} per 100 g water at ${fmt(l.temperatureC)} °C (tables/strength-limits.json${l.fromMemory ? ', from memory; verify' : ''}), as about ${fmt(gPerL, 3)} g/L of solution`,
       };
     }
     return { ...common, stock: { kind: 'solid', ...(purityFraction !== undefined ? { purityFraction } : {}), ...(solubility !== undefined ? { solubility } : {}) }, ...(notes.length ? { notes } : {}) };

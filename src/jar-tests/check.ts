@@ -34,6 +34,8 @@ export const CHECK_CODES = {
   NO_ESTIMATE: 'NO_ESTIMATE',
   CONTROL_JAR: 'CONTROL_JAR',
   STOCK_ABOVE_SOLUBILITY: 'STOCK_ABOVE_SOLUBILITY',
+  STOCK_ABOVE_PRODUCT_LIMIT: 'STOCK_ABOVE_PRODUCT_LIMIT',
+  STOCK_ABOVE_TRADE_GRADE: 'STOCK_ABOVE_TRADE_GRADE',
   NO_CONTACT_TIMES: 'NO_CONTACT_TIMES',
   DUPLICATE_CONTACT_TIME: 'DUPLICATE_CONTACT_TIME',
   TOO_FEW_JARS: 'TOO_FEW_JARS',
@@ -52,6 +54,12 @@ export interface CheckJarPlanInput {
   /** Default 0.1 mL (common practice). */
   readonly pipetteResolutionMl?: number;
   readonly solubility?: Solubility;
+  /**
+   * A liquid concentrate's limit on the stock (tables/strength-limits.json, judged by the caller): "error" when
+   * no solution of the product is that strong (STOCK_ABOVE_PRODUCT_LIMIT), "warning" when it is above the
+   * strongest trade grade tabled (STOCK_ABOVE_TRADE_GRADE).
+   */
+  readonly strengthLimit?: { readonly severity: 'error' | 'warning'; readonly message: string };
   readonly minAliquotMl?: number;
   readonly maxAliquotFraction?: number;
 }
@@ -311,6 +319,14 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
       code: CHECK_CODES.STOCK_ABOVE_SOLUBILITY,
       severity: 'error',
       message: `A ${fmt(C)} g/L stock is above the solubility ${fmt(input.solubility.gPerL)} g/L${at}; it will not dissolve fully and the doses will be low. Use ${fmt(input.solubility.gPerL / 2, 2)} g/L or less.`,
+    });
+  }
+
+  if (input.strengthLimit !== undefined) {
+    planProblems.push({
+      code: input.strengthLimit.severity === 'error' ? CHECK_CODES.STOCK_ABOVE_PRODUCT_LIMIT : CHECK_CODES.STOCK_ABOVE_TRADE_GRADE,
+      severity: input.strengthLimit.severity,
+      message: input.strengthLimit.message,
     });
   }
 

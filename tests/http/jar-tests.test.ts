@@ -305,6 +305,28 @@ describe('POST /api/v1/jar-tests/plans', () => {
     }
   });
 
+  it('calcium hypochlorite: a 300 g/L stock is above its solubility (about 21 g per 100 g water = 173.55 g/L, tables/strength-limits.json): 400 naming /stockStrength/value', async () => {
+    const body = { oxidant: 'calcium-hypochlorite', sample: SAMPLE, jarVolume: { value: 1, unit: 'L' }, stockStrength: { value: 300, unit: 'g/L' } };
+    const r = await post('/api/v1/jar-tests/plans', body);
+    expect(r.statusCode).toBe(400);
+    const e = r.json().errors.find((x: { pointer: string }) => x.pointer === '/stockStrength/value');
+    expect(e.message).toContain('173.6 g/L'); // 173.55 to 4 significant figures
+    // the default plan now states the solubility it was checked against, instead of SOLUBILITY_NOT_CHECKED
+    const ok = await post('/api/v1/jar-tests/plans', { ...body, stockStrength: undefined });
+    expect(ok.statusCode).toBe(200);
+    expect(ok.json().stock.solubility.value).toBeCloseTo(21000 / 121, 9);
+    expect(ok.json().warnings.map((w: { code: string }) => w.code)).not.toContain('SOLUBILITY_NOT_CHECKED');
+  });
+
+  it('sodium hypochlorite on hand at 25 % w/v (250 g/L, above the 200 g/L no trade product reaches) is a 400 naming /product/strength/value, as POST /api/v1/doses refuses it', async () => {
+    const r = await post('/api/v1/jar-tests/plans', { oxidant: 'sodium-hypochlorite', sample: SAMPLE, jarVolume: { value: 1, unit: 'L' }, product: { strength: { value: 25, unit: '% w/v' } } });
+    expect(r.statusCode).toBe(400);
+    expect(r.json().errors[0].pointer).toBe('/product/strength/value');
+    const dose = await post('/api/v1/doses', { oxidant: 'sodium-hypochlorite', sample: SAMPLE, product: { strength: { value: 25, unit: '% w/v' } } });
+    expect(dose.statusCode).toBe(400);
+    expect(dose.json().errors[0].pointer).toBe('/product/strength/value');
+  });
+
   it('a ladder dose of 1e9 mg/L is a 400 naming /doses/1/value', async () => {
     const r = await post('/api/v1/jar-tests/plans', { ...worked, doses: [mgL(1), mgL(1e9)] });
     expect(r.statusCode).toBe(400);
@@ -462,6 +484,34 @@ describe('POST /api/v1/jar-tests/checks', () => {
     const errors = r.json().errors as { pointer: string; message: string }[];
     expect(errors.find((e) => e.pointer === '/jars/1/dose/value')!.message).toContain('at most 1000 mg/L');
     expect(errors.find((e) => e.pointer === '/jars/2/aliquotMl')!.message).toContain('more than the 2000 mL jar');
+  });
+
+  // tables/strength-limits.json, the limits POST /api/v1/doses uses (values from memory there, as its rows say):
+  //   calcium hypochlorite dissolves to about 21 g per 100 g water → 1000 × 21 ÷ 121 = 173.55 g/L of solution;
+  //   sodium hypochlorite refused above 200 g/L, strongest grade 15 trade % = 150 g/L;
+  //   hydrogen peroxide refused above 80 % w/w (× 1.20 kg/L × 10 = 960 g/L), strongest grade 50 % w/w = 600 g/L.
+  it.each([
+    ['calcium-hypochlorite', 30, 'STOCK_ABOVE_SOLUBILITY', 'error'],
+    ['sodium-hypochlorite', 50, 'STOCK_ABOVE_PRODUCT_LIMIT', 'error'],
+    ['sodium-hypochlorite', 16, 'STOCK_ABOVE_TRADE_GRADE', 'warning'],
+    ['hydrogen-peroxide', 90, 'STOCK_ABOVE_TRADE_GRADE', 'warning'],
+  ] as const)('%s stock at %s %% w/v → %s (%s), from the product limits of the dose route', async (oxidant, pct, code, severity) => {
+    const r = await post('/api/v1/jar-tests/checks', { ...base, oxidant, stockStrength: { value: pct, unit: '% w/v' }, jars: [{ aliquotMl: 0.1 }, { aliquotMl: 0.2 }, { aliquotMl: 0.3 }] });
+    expect(r.statusCode).toBe(200);
+    const p = r.json().problems.find((x: { code: string }) => x.code === code);
+    expect(p, JSON.stringify(r.json().problems)).toBeDefined();
+    expect(p.severity).toBe(severity);
+    if (severity === 'error') expect(r.json().ok).toBe(false);
+  });
+
+  it('a stock within every limit (hypochlorite 10 g/L, calcium hypochlorite 10 g/L) raises none of them', async () => {
+    for (const oxidant of ['sodium-hypochlorite', 'calcium-hypochlorite']) {
+      const r = await post('/api/v1/jar-tests/checks', { ...base, oxidant, stockStrength: { value: 10, unit: 'g/L' }, jars: goodJars });
+      const codes = r.json().problems.map((x: { code: string }) => x.code);
+      expect(codes).not.toEqual(expect.arrayContaining(['STOCK_ABOVE_SOLUBILITY']));
+      expect(codes).not.toContain('STOCK_ABOVE_PRODUCT_LIMIT');
+      expect(codes).not.toContain('STOCK_ABOVE_TRADE_GRADE');
+    }
   });
 
   it('a negative aliquot is a 400 naming /jars/1/aliquotMl', async () => {
