@@ -78,6 +78,22 @@ describe('checkJarPlan: a sound plan', () => {
   });
 });
 
+describe('checkJarPlan: a written aliquot against a written dose when the pipette step is coarse', () => {
+  it('10 g/L in 500 mL jars: 0.1 mL gives 2.0 mg/L (one step is 2 mg/L), so 1.5 and 2.5 written beside 0.1 mL are DOSE_MISMATCH, and 5.5 beside 0.3 mL too', () => {
+    // by hand: a·C/V = 0.1 mL × 10 mg/mL ÷ 0.5 L = 2.0 mg/L (2.0/1.0002 = 1.9996 with the dilution), 0.2 mL → 4.0, 0.3 mL → 6.0;
+    // half a step is 1.0 mg/L, far above the 5 % of the dose a 10-step aliquot allows (common practice), so it is not rounding
+    const r = checkJarPlan({
+      oxidant: 'potassium-permanganate', jarVolumeL: 0.5, stockStrengthGPerL: 10, contactTimesMin: [5, 15, 30],
+      jars: [{ doseMgPerL: 1.5, aliquotMl: 0.1 }, { doseMgPerL: 2.5, aliquotMl: 0.1 }, { doseMgPerL: 4, aliquotMl: 0.2 }, { doseMgPerL: 5.5, aliquotMl: 0.3 }],
+    });
+    const mismatched = r.jars.filter((j) => j.problems.some((p) => p.code === 'DOSE_MISMATCH')).map((j) => j.jar);
+    expect(mismatched).toEqual([1, 2, 4]);
+    expect(r.jars[0]!.recomputedDoseMgPerL).toBeCloseTo(1 / 0.5001, 9);
+    expect(r.jars[0]!.problems.find((p) => p.code === 'DOSE_MISMATCH')!.message).toContain('not the stated 1.5 mg/L');
+    expect(r.ok).toBe(false);
+  });
+});
+
 describe('checkJarPlan: bracketing is judged on the doses the aliquots give', () => {
   // 0.5 g/L stock, 2 L jars: a mL gives a·0.5/(2 + a/1000) mg/L, so 0.5, 1, 1.5, 2 mL give about 0.125 … 0.5 mg/L,
   // a factor-of-4 slip against the stated 0.5 … 2.0 mg/L
