@@ -119,7 +119,8 @@ export interface DemandCurve {
 
 export interface ResidualFit {
   readonly contactTimeMin: number;
-  readonly contactTimeChoice: 'caller' | 'longest';
+  /** caller: fitContactTimeMin; plant-contact: the longest bench time not beyond the plant's contact; longest: the longest with residual readings. */
+  readonly contactTimeChoice: 'caller' | 'plant-contact' | 'longest';
   readonly jarsUsed: readonly number[];
   readonly jarsExcluded: readonly { readonly jar: number; readonly reason: string }[];
   readonly n: number;
@@ -407,8 +408,24 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       }),
     );
   } else {
-    const choice: 'caller' | 'longest' = input.fitContactTimeMin !== undefined ? 'caller' : 'longest';
-    const time = input.fitContactTimeMin ?? residualTimes[residualTimes.length - 1]!;
+    // The line is fitted at the contact time the recommendation is for: the caller's, else the longest bench
+    // time not beyond the plant's contact that gives a line (the first bench time when the plant has less
+    // contact than that), else the longest time with residual readings.
+    const longest = residualTimes[residualTimes.length - 1]!;
+    let choice: ResidualFit['contactTimeChoice'] = 'longest';
+    let time = longest;
+    if (input.fitContactTimeMin !== undefined) {
+      choice = 'caller';
+      time = input.fitContactTimeMin;
+    } else if (input.plantContactTimeMin !== undefined) {
+      const within = residualTimes.filter((t) => t <= input.plantContactTimeMin!);
+      const candidates = (within.length > 0 ? within : [residualTimes[0]!]).slice().reverse();
+      const usable = candidates.find((t) => residualLineAt(jars, t, dl) !== null);
+      if (usable !== undefined) {
+        choice = 'plant-contact';
+        time = usable;
+      }
+    }
     const used: { jar: number; x: number; y: number; consumed: number }[] = [];
     const excluded: { jar: number; reason: string }[] = [];
     for (const j of jars) {
@@ -432,7 +449,17 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       );
     } else {
       fitTime = time;
-      notes.push(`Residual line fitted at ${fmt(time)} min (${choice === 'caller' ? 'chosen by the caller' : 'the longest contact time with residual readings'}).`);
+      notes.push(
+        `Residual line fitted at ${fmt(time)} min (${
+          choice === 'caller'
+            ? 'chosen by the caller'
+            : choice === 'plant-contact'
+              ? `the longest bench time with a residual line not beyond the plant's ${fmt(input.plantContactTimeMin!)} min of contact, the time the recommendation is for`
+              : input.plantContactTimeMin !== undefined
+                ? `the longest contact time with residual readings: no bench time within the plant's ${fmt(input.plantContactTimeMin)} min of contact gives a line`
+                : 'the longest contact time with residual readings'
+        }).`,
+      );
       f = olsFit(used.map((u) => u.x), used.map((u) => u.y));
       const dline = olsFit(used.map((u) => u.x), used.map((u) => u.consumed));
       fit = {
@@ -691,7 +718,10 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       problems.push({
         code: 'FIT_TIME_BEYOND_PLANT_CONTACT',
         severity: 'warning',
-        message: `The apparent demand comes from ${fmt(fitTime)} min of contact, longer than the ${fmt(benchTime)} min the plant provides; the plant may need more oxidant or more contact.`,
+        message:
+          `The apparent demand comes from ${fmt(fitTime)} min of contact, longer than the ${fmt(benchTime)} min the recommendation is for (the plant's contact). ` +
+          `Demand grows with contact, so in ${fmt(benchTime)} min the water uses no more oxidant than in ${fmt(fitTime)} min: the dose covers that demand and the residual after the plant's contact will be at least the expected one, ` +
+          `but the oxidation the ${fmt(fitTime)} min line reflects may not be complete within the plant's contact. Check iron and manganese at ${fmt(benchTime)} min, or fit a bench time within the plant's contact (fitContactTimeMin).`,
       });
     }
   } else {

@@ -334,7 +334,7 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
     : [
     {
       label: 'Line',
-      value: `residual = ${nFit(fit.slope, slopeScale)} × dose ${sign(fit.intercept, doseScale)} ${nFit(Math.abs(fit.intercept), doseScale)}, at ${fit.contactTimeMin} min (${fit.contactTimeChoice === 'caller' ? 'chosen' : 'longest contact time'})`,
+      value: `residual = ${nFit(fit.slope, slopeScale)} × dose ${sign(fit.intercept, doseScale)} ${nFit(Math.abs(fit.intercept), doseScale)}, at ${fit.contactTimeMin} min (${fit.contactTimeChoice === 'caller' ? 'chosen' : fit.contactTimeChoice === 'plant-contact' ? "longest within the plant's contact" : 'longest contact time'})`,
     },
     { label: 'Slope', value: `${nFit(fit.slope, slopeScale)} (SE ${seText(fit.slopeStdError, slopeScale)})` },
     { label: 'Intercept', value: `${nFit(fit.intercept, doseScale).replace(/^-/, '−')} mg/L (SE ${seText(fit.interceptStdError, doseScale)})` },

@@ -136,23 +136,35 @@ describe('evaluateJarTest: bad input and too few points (edge cases first)', () 
 describe('evaluateJarTest: worked example from the stated model', () => {
   const r = evaluateJarTest(MODEL);
 
-  it('fits the longest contact time over the jars that kept a residual', () => {
-    // at 30 min residuals 0, 0, 0.2, 0.7, 1.2, 1.7: jars 3–6 are above 0.05 mg/L
-    expect(r.fit!.contactTimeMin).toBe(30);
-    expect(r.fit!.contactTimeChoice).toBe('longest');
+  it("fits the longest bench time within the plant's 20 min of contact (15 min) over the jars that kept a residual", () => {
+    // at 15 min residuals 0, 0, 0.3, 0.8, 1.3, 1.8: jars 3–6 are above 0.05 mg/L
+    expect(r.fit!.contactTimeMin).toBe(15);
+    expect(r.fit!.contactTimeChoice).toBe('plant-contact');
     expect(r.fit!.jarsUsed).toEqual([3, 4, 5, 6]);
     expect(r.fit!.jarsExcluded.map((x) => x.jar)).toEqual([1, 2]);
     expect(r.fit!.n).toBe(4);
-    // exact line residual = dose − 1.8
+    // exact line residual = dose − 1.7
     expect(r.fit!.slope).toBeCloseTo(1, 10);
-    expect(r.fit!.intercept).toBeCloseTo(-1.8, 10);
+    expect(r.fit!.intercept).toBeCloseTo(-1.7, 10);
     expect(r.fit!.r2).toBeCloseTo(1, 10);
-    expect(r.notes.join(' ')).toContain('longest');
+    expect(r.notes.join(' ')).toContain("not beyond the plant's 20 min of contact");
   });
 
-  it('apparent demand = −intercept/slope = 1.8 mg/L; background = 1.8 − 1.6 = 0.2 mg/L', () => {
-    expect(r.apparentDemand!.doseMgPerL).toBeCloseTo(1.8, 10);
-    expect(r.backgroundDemand!.doseMgPerL).toBeCloseTo(0.2, 10);
+  it('without a plant contact time the fit is at the longest contact time, 30 min: residual = dose − 1.8', () => {
+    const { plantContactTimeMin: _p, ...noPlant } = MODEL;
+    const e = evaluateJarTest(noPlant);
+    expect(e.fit!.contactTimeMin).toBe(30);
+    expect(e.fit!.contactTimeChoice).toBe('longest');
+    expect(e.fit!.intercept).toBeCloseTo(-1.8, 10);
+    expect(e.notes.join(' ')).toContain('longest');
+  });
+
+  it('apparent demand = −intercept/slope = 1.7 mg/L at 15 min; background = 1.7 − 1.6 = 0.1 mg/L (1.8 and 0.2 at 30 min)', () => {
+    expect(r.apparentDemand!.doseMgPerL).toBeCloseTo(1.7, 10);
+    expect(r.backgroundDemand!.doseMgPerL).toBeCloseTo(0.1, 10);
+    const at30 = evaluateJarTest({ ...MODEL, fitContactTimeMin: 30 });
+    expect(at30.apparentDemand!.doseMgPerL).toBeCloseTo(1.8, 10);
+    expect(at30.backgroundDemand!.doseMgPerL).toBeCloseTo(0.2, 10);
   });
 
   it('oxidant consumed per jar and the demand curve: consumed = applied − residual', () => {
@@ -162,9 +174,9 @@ describe('evaluateJarTest: worked example from the stated model', () => {
     expect(r.jars[0]!.results[2]!.residualBelowDetection).toBe(true);
     expect(r.demandCurves.map((c) => c.contactTimeMin)).toEqual([5, 15, 30]);
     expect(r.demandCurves[2]!.points.map((p) => p.consumedMgPerL)).toEqual(DOSES.map((d) => expect.closeTo(Math.min(d, 1.8), 10)));
-    // consumed = x − y, so its line has slope 1 − m and intercept −b: here 0 and 1.8
+    // consumed = x − y, so its line has slope 1 − m and intercept −b: here 0 and 1.7 (the 15 min line)
     expect(r.fit!.demandLine.slope).toBeCloseTo(0, 10);
-    expect(r.fit!.demandLine.intercept).toBeCloseTo(1.8, 10);
+    expect(r.fit!.demandLine.intercept).toBeCloseTo(1.7, 10);
   });
 
   it('the lowest dose meeting every target at each contact time', () => {
@@ -188,7 +200,7 @@ describe('evaluateJarTest: worked example from the stated model', () => {
     expect(rec.margin.basis).toContain('common practice');
     // the residual line at the recommendation's own contact time, 15 min: 2.75 − 1.7 = 1.05 mg/L
     expect(rec.expectedResidualMgPerL).toBeCloseTo(1.05, 10);
-    expect(r.notes.join(' ')).toContain('read from the residual line at 15 min');
+    expect(r.fit!.contactTimeMin).toBe(rec.contactTimeMin);
   });
 
   it('permanganate: no margin by default (a residual shows as pink water), 2.5 mg/L at 15 min', () => {
@@ -248,13 +260,31 @@ describe('evaluateJarTest: worked example from the stated model', () => {
     expect(at30.note).toContain('manganese 0.2 > 0.05');
   });
 
-  it('no targets at all: recommend apparent demand + target residual + margin', () => {
-    // (1.8 + 0) × 1.1 = 1.98 mg/L
+  it("no targets at all: recommend apparent demand + target residual + margin, from the line at the plant's contact", () => {
+    // plant 20 min → the 15 min line, D = 1.7: (1.7 + 0) × 1.1 = 1.87 mg/L; the residual it predicts there is 1.87 − 1.7 = 0.17
     const jars = MODEL.jars.map((j) => ({ ...j, results: j.results.map((x) => ({ contactTimeMin: x.contactTimeMin, residualOxidantMgPerL: x.residualOxidantMgPerL })) }));
     const e = evaluateJarTest({ ...MODEL, jars, targets: undefined });
     expect(e.lowestDoseMeetingTargets).toEqual([]);
     expect(e.recommendedDose!.basis).toBe('apparent-demand-plus-residual');
-    expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(1.98, 10);
+    expect(e.recommendedDose!.contactTimeMin).toBe(15);
+    expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(1.87, 10);
+    expect(e.recommendedDose!.expectedResidualMgPerL).toBeCloseTo(0.17, 10);
+    expect(e.problems.map((p) => p.code)).not.toContain('FIT_TIME_BEYOND_PLANT_CONTACT');
+    // a residual target no jar met takes the same path and the same line: (1.7 + 5) × 1.1 = 7.37 mg/L
+    const withTarget = evaluateJarTest({ ...MODEL, jars, targets: { residualOxidantMgPerL: 5 } });
+    expect(withTarget.recommendedDose!.basis).toBe('apparent-demand-plus-residual');
+    expect(withTarget.recommendedDose!.doseMgPerL).toBeCloseTo(7.37, 10);
+    expect(withTarget.recommendedDose!.contactTimeMin).toBe(15);
+  });
+
+  it('a fit the caller puts beyond the plant contact says why that errs on the side of the residual, not of the oxidation', () => {
+    const jars = MODEL.jars.map((j) => ({ ...j, results: j.results.map((x) => ({ contactTimeMin: x.contactTimeMin, residualOxidantMgPerL: x.residualOxidantMgPerL })) }));
+    const e = evaluateJarTest({ ...MODEL, jars, targets: undefined, fitContactTimeMin: 30 });
+    expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(1.98, 10); // (1.8 + 0) × 1.1
+    const w = e.problems.find((p) => p.code === 'FIT_TIME_BEYOND_PLANT_CONTACT')!;
+    expect(w.message).toContain('uses no more oxidant than in 30 min');
+    expect(w.message).toContain('may not be complete');
+    expect(w.message).not.toContain('may need more oxidant');
   });
 
   it('an iron target no jar met: no dose is recommended (the demand line would sit below doses that failed)', () => {

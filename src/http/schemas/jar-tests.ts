@@ -321,7 +321,7 @@ export const EvaluationResultOut = z.object({
     interceptUnit: z.string(),
     n: z.number().int(),
     contactTimeMin: z.number(),
-    contactTimeChoice: z.enum(['caller', 'longest']),
+    contactTimeChoice: z.enum(['caller', 'plant-contact', 'longest']).describe("caller: fitContactTimeMin; plant-contact: the longest bench time not beyond plantContactTimeMin that gives a line (the recommendation's); longest: the longest with residual readings"),
     jarsUsed: z.array(z.number().int()),
     jarsExcluded: z.array(z.object({ jar: z.number().int(), reason: z.string() })),
     slopeStdError: NullableNumber,
