@@ -6,7 +6,8 @@
  */
 import { DomainError } from '../core/errors.js';
 import type { LimitRow, OxidantRow } from '../reference/dosing-schemas.js';
-import { solubilityAt } from '../dosing/feed.js';
+import { densitySeries, interpolateDensity, solubilityAt } from '../dosing/feed.js';
+import { Dec } from '../core/decimal.js';
 import { fmt } from './common.js';
 import type { LimitTarget } from './evaluate.js';
 import { defaultResidualMethod, type JarProductFacts, type Solubility } from './product.js';
@@ -127,8 +128,27 @@ export function jarProductFacts(row: OxidantRow, options: JarProductOptions = {}
     if (unit === 'g/L') gPerL = value;
     else if (unit === '% w/v') gPerL = value * 10;
     else {
-      const density = given?.densityKgPerL ?? (given === undefined && nominal?.densityKgPerL !== undefined ? Number(nominal.densityKgPerL) : undefined);
-      if (density === undefined) throw wiring(`A strength in % w/w needs the solution's density (kg/L) to give g/L.`, '/product/density');
+      let density = given?.densityKgPerL ?? (given === undefined && nominal?.densityKgPerL !== undefined ? Number(nominal.densityKgPerL) : undefined);
+      if (density === undefined) {
+        // as POST /api/v1/doses does: the tabled density of that strength, else interpolated between the
+        // tabled strengths around it (tables/oxidants.json); never extrapolated beyond them
+        const series = densitySeries(row);
+        const same = row.strength.nominal.find((n) => n.densityKgPerL !== undefined && n.unit === '% w/w' && Number(n.value) === value);
+        const hit = same ? null : interpolateDensity(series, 'massPercent', new Dec(value));
+        if (same?.densityKgPerL !== undefined) {
+          density = Number(same.densityKgPerL);
+          notes.push(`No density was given for ${fmt(value)} % w/w: the tabled density of ${same.label}, ${same.densityKgPerL} kg/L (tables/oxidants.json, source ${same.source}), was used. Give product.density from the certificate of analysis to refine.`);
+        } else if (hit !== null) {
+          density = hit.density.toNumber();
+          notes.push(
+            `No density was given for ${fmt(value)} % w/w: ${hit.note} (tables/oxidants.json, source ${hit.source}), ${fmt(value * 10 * density, 4)} g/L. ` +
+              'The density also moves with temperature and excess caustic; give product.density from the certificate of analysis for the exact strength.',
+          );
+        } else {
+          const range = series.length > 0 ? ` the table holds densities from ${fmt(series[0]!.massPercent.toNumber(), 4)} to ${fmt(series[series.length - 1]!.massPercent.toNumber(), 4)} % w/w, and` : '';
+          throw wiring(`A strength of ${fmt(value)} % w/w needs the solution's density (kg/L) to give g/L:${range} a density is not extrapolated; give product.density, or the strength in % w/v or g/L.`, '/product/density');
+        }
+      }
       gPerL = value * 10 * density;
     }
     const onProduct = row.strength.basis === 'product';

@@ -327,6 +327,25 @@ describe('POST /api/v1/jar-tests/plans', () => {
     expect(dose.json().errors[0].pointer).toBe('/product/strength/value');
   });
 
+  it('sodium hypochlorite at 10 % w/w without a density: the tabled density interpolated, as POST /api/v1/doses does, and said', async () => {
+    // tables/oxidants.json (White's Handbook, from memory): 10 trade % = 100 g/L at 1.14 kg/L → 100/11.4 = 8.7719 % w/w;
+    // 12.5 trade % = 125 g/L at 1.17 kg/L → 125/11.7 = 10.6838 % w/w. At 10 % w/w, by hand:
+    //   ρ = 1.14 + 0.03 × (10 − 8.7719)/(10.6838 − 8.7719) = 1.14 + 0.03 × 0.64235 = 1.15927 kg/L → 10 × 1.15927 × 10 = 115.93 g/L
+    const rho = 1.14 + (0.03 * (10 - 100 / 11.4)) / (125 / 11.7 - 100 / 11.4);
+    const r = await post('/api/v1/jar-tests/plans', { oxidant: 'sodium-hypochlorite', sample: SAMPLE, jarVolume: { value: 1, unit: 'L' }, product: { strength: { value: 10, unit: '% w/w' } } });
+    expect(r.statusCode, r.body).toBe(200);
+    expect(r.json().stock.preparation.tradeStrength.value).toBeCloseTo(100 * rho, 9);
+    const note = r.json().warnings.find((w: { message: string }) => w.message.includes('No density was given for 10 % w/w'));
+    expect(note.message).toContain('1.159 kg/L interpolated');
+    const dose = await post('/api/v1/doses', { oxidant: 'sodium-hypochlorite', sample: SAMPLE, flow: { value: 1000, unit: 'm3/d' }, product: { strength: { value: 10, unit: '% w/w' } } });
+    expect(dose.statusCode).toBe(200);
+    expect(JSON.stringify(dose.json().flags)).toContain('1.159 kg/L');
+    // beyond the tabled strengths (12.4 % w/w at 15 trade %) the density is not extrapolated: 400 naming /product/density
+    const out = await post('/api/v1/jar-tests/plans', { oxidant: 'sodium-hypochlorite', sample: SAMPLE, jarVolume: { value: 1, unit: 'L' }, product: { strength: { value: 14, unit: '% w/w' } } });
+    expect(out.statusCode).toBe(400);
+    expect(out.json().errors.map((e: { pointer: string }) => e.pointer)).toContain('/product/density');
+  });
+
   it('a ladder dose of 1e9 mg/L is a 400 naming /doses/1/value', async () => {
     const r = await post('/api/v1/jar-tests/plans', { ...worked, doses: [mgL(1), mgL(1e9)] });
     expect(r.statusCode).toBe(400);
