@@ -241,7 +241,7 @@ interface StockChoice {
   readonly correctDilution: boolean;
 }
 
-function chooseStock(input: PlanJarTestInput, targets: readonly number[], minAliquotMl: number, maxAliquotMl: number, warnings: JarProblem[]): StockChoice {
+function chooseStock(input: PlanJarTestInput, targets: readonly number[], minAliquotMl: number, maxAliquotMl: number, res: number, warnings: JarProblem[]): StockChoice {
   const V = input.jarVolumeL;
   const positive = targets.filter((d) => d > 0);
   const minDose = Math.min(...positive);
@@ -289,14 +289,24 @@ function chooseStock(input: PlanJarTestInput, targets: readonly number[], minAli
     });
   }
   const aliquots = (C: number) => ({ min: (minDose * V) / C, max: (maxDose * V) / C });
+  // A stock that can be made up in one step: at least minTradeVolumeMl of trade solution (rounded to the
+  // pipette step) or minWeighMassG of solid in the largest flask; a stock that cannot is a last resort.
+  const largestFlask = Math.max(...(input.flaskVolumesMl ?? D.flaskVolumesMl.value));
+  const stockRoute = input.product.stock;
+  const preparable = (C: number): boolean => {
+    if (stockRoute.kind === 'trade-solution') return roundToResolution((C * largestFlask) / stockRoute.tradeStrengthGPerL, res) >= D.minTradeVolumeMl.value;
+    if (stockRoute.kind === 'solid') return (C * largestFlask) / 1000 / (stockRoute.purityFraction ?? 1) >= D.minWeighMassG.value;
+    return true;
+  };
+  const inRange = (C: number) => aliquots(C).min >= minAliquotMl && aliquots(C).max <= maxAliquotMl;
   // Lowest strength that keeps every aliquot within [minAliquot, maxAliquot]: the largest aliquots, so the
-  // finest relative resolution, while dilution stays negligible.
-  const feasible = allowed.find((C) => aliquots(C).min >= minAliquotMl && aliquots(C).max <= maxAliquotMl);
+  // finest relative resolution, while dilution stays negligible; one that can be made up in one step first.
+  const feasible = allowed.find((C) => inRange(C) && preparable(C)) ?? allowed.find(inRange);
   if (feasible !== undefined) return { strengthGPerL: feasible, choice: 'chosen', correctDilution: false };
   // No strength does both: keep the smallest aliquot measurable and correct the large ones for dilution.
   const measurable = allowed.filter((C) => aliquots(C).min >= minAliquotMl);
   if (measurable.length > 0) {
-    const C = measurable[measurable.length - 1]!;
+    const C = [...measurable].reverse().find(preparable) ?? measurable[measurable.length - 1]!;
     return { strengthGPerL: C, choice: 'chosen', correctDilution: needsDilutionCorrection(C) };
   }
   const C = allowed[0]!;
@@ -628,10 +638,13 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
     );
   }
 
-  const stockChoice = chooseStock(input, targets, minAliquotMl, maxAliquotMl, warnings);
+  const stockChoice = chooseStock(input, targets, minAliquotMl, maxAliquotMl, res, warnings);
   const nominalC = stockChoice.strengthGPerL;
   if (stockChoice.choice === 'chosen') {
-    assumptions.push(`Stock strength ${fmt(nominalC)} g/L: the weakest round strength whose aliquots lie between ${fmt(minAliquotMl)} mL and ${fmt(maxAliquotMl)} mL where one exists (${D.stockStrengthsGPerL.basis}).`);
+    assumptions.push(
+      `Stock strength ${fmt(nominalC)} g/L: the weakest round strength whose aliquots lie between ${fmt(minAliquotMl)} mL and ${fmt(maxAliquotMl)} mL where one exists, ` +
+        `preferring one made up in one step (at least ${fmt(D.minTradeVolumeMl.value)} mL of trade solution or ${fmt(D.minWeighMassG.value)} g of solid in a flask of at most ${fmt(Math.max(...(input.flaskVolumesMl ?? D.flaskVolumesMl.value)))} mL) (${D.stockStrengthsGPerL.basis}).`,
+    );
   }
   const ladderJars = (C: number, correct: boolean): PlannedJar[] =>
     targets.map((target, i) => {
