@@ -350,6 +350,8 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
     },
   ];
 
+  // turbidity is a column when any result has it (the bench sheet asks for it at every contact time)
+  const withTurbidity = ev.jars.some((j) => j.results.some((r) => r.turbidityNTU !== null));
   const resultRowsTable: TableCell[][] = [];
   for (const jar of ev.jars) {
     for (const r of jar.results) {
@@ -361,6 +363,7 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
         n3(r.consumedMgPerL),
         n3(r.ironMgPerL),
         n3(r.manganeseMgPerL),
+        ...(withTurbidity ? [n3(r.turbidityNTU)] : []),
         r.meetsTargets === null ? '–' : r.meetsTargets ? 'yes' : 'no',
         autoRich([r.failures.join('; '), r.note ?? ''].filter(Boolean).join('. ')),
       ]);
@@ -383,6 +386,7 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
             { header: 'Consumed', unit: 'mg/L' },
             { header: 'Fe', unit: 'mg/L' },
             { header: 'Mn', unit: 'mg/L' },
+            ...(withTurbidity ? [{ header: 'Turbidity', unit: 'NTU' }] : []),
             { header: 'Targets met' },
             { header: 'Why not, notes' },
           ],

@@ -166,4 +166,17 @@ describe('jar tests → bench sheet and evaluation sheet', () => {
     expect(txt).toContain('Apparent demand');
     expect(run('qpdf', ['--check', p])).toContain('No syntax or stream encoding errors found');
   });
+
+  it('evaluation sheet: the jar results table has a turbidity column when any result has a turbidity reading, and none otherwise', async () => {
+    const base = evaluation();
+    const col = (t: string) => squash(t).match(/Jar results.*?Targets met/)?.[0] ?? '';
+    const without = pdfText(pdfFile(await renderSheet(jarTestEvaluationDocument(base, { ...ctx, id: 'JT-DEMO-0102' })), 'eval-no-ntu'));
+    expect(col(without)).not.toContain('Turbidity');
+    // invented readings: 0.85 NTU in jar 1, 0.42 NTU in jar 6
+    const jars = base.jars.map((j, i) => ({ ...j, results: j.results.map((r) => ({ ...r, turbidityNTU: i === 0 ? 0.85 : i === base.jars.length - 1 ? 0.42 : null })) }));
+    const txt = pdfText(pdfFile(await renderSheet(jarTestEvaluationDocument({ ...base, jars }, { ...ctx, id: 'JT-DEMO-0103' })), 'eval-ntu'));
+    expect(col(txt)).toContain('Turbidity');
+    expect(txt).toContain('0.850');
+    expect(txt).toContain('0.420');
+  });
 });
