@@ -611,6 +611,13 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
   if (input.doses !== undefined) {
     targets = [...input.doses];
     ladder = { source: 'caller' };
+    if (input.jars !== undefined && input.jars !== input.doses.length) {
+      warnings.push({
+        code: 'JARS_IGNORED',
+        severity: 'warning',
+        message: `jars says ${fmt(input.jars)} but ${input.doses.length} doses were given: the plan has ${input.doses.length} jars, one per dose (the doses win). Give as many doses as jars, or leave jars out.`,
+      });
+    }
   } else {
     if (!(planned > 0)) {
       throw new DomainError('JAR_TEST_INVALID', {

@@ -488,3 +488,14 @@ describe('planJarTest: the default stock can be made up in one step', () => {
     expect(codes(p125)).not.toContain('TRADE_VOLUME_BELOW_MINIMUM');
   });
 });
+
+describe('planJarTest: a jar count beside explicit doses', () => {
+  it('jars: 4 with three doses → 3 jars and a JARS_IGNORED warning; jars: 3 with three doses → no warning', () => {
+    const p = planJarTest(base({ jars: 4, doses: [1, 2, 3] }));
+    expect(p.jars).toHaveLength(3);
+    const w = p.warnings.find((x) => x.code === 'JARS_IGNORED')!;
+    expect(w.severity).toBe('warning');
+    expect(w.message).toContain('jars says 4 but 3 doses were given');
+    expect(codes(planJarTest(base({ jars: 3, doses: [1, 2, 3] })))).not.toContain('JARS_IGNORED');
+  });
+});
