@@ -184,10 +184,12 @@ describe('POST /api/v1/jar-tests/plans', () => {
     expect(String(r.headers['content-type'])).toContain(type);
   });
 
-  it('an Accept header that allows neither JSON nor PDF is refused', async () => {
+  it('an Accept header that allows neither JSON nor PDF is refused with 406 Not Acceptable (RFC 9110 §15.5.7)', async () => {
     const r = await post('/api/v1/jar-tests/plans', worked, { accept: 'text/html' });
-    expect(r.statusCode).toBe(400);
+    expect(r.statusCode).toBe(406);
+    expect(r.headers['content-type']).toContain('application/problem+json');
     expect(r.json().code).toBe('NOT_ACCEPTABLE');
+    expect(r.json().status).toBe(406);
   });
 
   it.each([
