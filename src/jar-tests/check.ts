@@ -190,7 +190,7 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
     }
     const recomputed = doseFromAliquot(aliquot, C, V);
     const nominal = nominalDoseFromAliquot(aliquot, C, V);
-    const what = fromDose ? `the aliquot ${fmt(stated!)} mg/L needs, ${fmt(aliquot)} mL,` : `${fmt(aliquot)} mL`;
+    const what = fromDose ? `the ${fmt(aliquot)} mL aliquot that ${fmt(stated!)} mg/L needs` : `${fmt(aliquot)} mL`;
 
     if (aliquot > 0 && aliquot < res) {
       problems.push({

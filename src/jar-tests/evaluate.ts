@@ -444,7 +444,15 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
             `${used.length === 0 ? 'No jar' : `Only ${used.length} jar${used.length === 1 ? '' : 's'}${which}`} kept a residual above the detection limit ${fmt(dl)} mg/L at ${fmt(time)} min` +
             `${used.length >= 3 ? ', all at one dose' : ''}; the demand line needs at least 3 jars at 2 or more doses. Repeat the test with more jars above the expected demand, or fit another contact time.`,
           params: { n: used.length, distinctDoses, detectionLimitMgPerL: dl, contactTimeMin: time, jarsUsed: used.map((u) => u.jar) },
-          fields: [{ pointer: '/jars', message: `${used.length} jar(s) with a measurable residual at ${fmt(time)} min; at least 3 needed` }],
+          fields: [
+            {
+              pointer: '/jars',
+              message:
+                used.length >= 3
+                  ? `${used.length} jars with a measurable residual at ${fmt(time)} min, but all at one dose (${fmt(used[0]!.x, 3)} mg/L); a line needs jars at 2 or more doses`
+                  : `${used.length} jar(s) with a measurable residual at ${fmt(time)} min; at least 3 needed, at 2 or more doses`,
+            },
+          ],
         }),
       );
     } else {
@@ -535,7 +543,10 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
     problems.push({
       code: 'FIT_POOR',
       severity: 'warning',
-      message: `The residual line fits poorly (r² = ${roundSig(f.r2, 3)} over ${f.n} jars); treat the apparent demand as rough and repeat the jars that stand off the line.`,
+      message:
+        apparentDemand !== null
+          ? `The residual line fits poorly (r² = ${roundSig(f.r2, 3)} over ${f.n} jars); treat the apparent demand as rough and repeat the jars that stand off the line.`
+          : `The residual line fits poorly (r² = ${roundSig(f.r2, 3)} over ${f.n} jars), and no apparent demand was computed from it; repeat the jars that stand off the line.`,
     });
   }
 

@@ -447,7 +447,11 @@ function planStock(
           ? `The strength of ${label} decays in storage (${noteText(p.decays.note)}). Measure the trade solution by ${p.decays.measureBy} before making the stock and recompute the volume with the measured strength; the ${fmt(T)} g/L used here is nominal.`
           : `The trade strength ${fmt(T)} g/L was measured on the day; make the stock fresh and confirm it by ${p.decays.measureBy}.`,
       });
-      instructions.push(`First measure the trade solution's strength by ${p.decays.measureBy}; it decays in storage.`);
+      instructions.push(
+        mustMeasure
+          ? `First measure the trade solution's strength by ${p.decays.measureBy}; it decays in storage.`
+          : `The trade solution's strength (${fmt(T)} g/L) was measured on the day of the test; it decays in storage, so use it the same day.`,
+      );
     }
     instructions.push(
       `Pipette ${fmt(vol)} mL of trade solution (${fmt(T)} g/L as ${basis}) into a ${flask} mL volumetric flask and make up to the mark with reagent water: ${fmt(real)} g/L as ${basis}.`,

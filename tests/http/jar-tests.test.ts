@@ -689,6 +689,13 @@ describe('POST /api/v1/jar-tests/evaluations', () => {
     expect(op.json().code).toBe('AUTH_FORBIDDEN');
   });
 
+  it('marginPercent 150 is a 400 naming /marginPercent, saying what the field is and the range it takes', async () => {
+    const r = await post('/api/v1/jar-tests/evaluations', { ...body, marginPercent: 150 }, asAdmin);
+    expect(r.statusCode).toBe(400);
+    const e = r.json().errors.find((x: { pointer: string }) => x.pointer === '/marginPercent');
+    expect(e.message).toBe('marginPercent, the margin added to the bench dose, must be from 0 to 100 % (10 % is common practice); got 150');
+  });
+
   it('a jar dose of 1e9 mg/L is a 400 naming /jars/0/dose/value (at most 1000 mg/L, common practice), not a 201', async () => {
     const r = await post('/api/v1/jar-tests/evaluations', { ...body, jars: [{ ...jars[0]!, dose: mgL(1e9) }, ...jars.slice(1)] }, asAdmin);
     expect(r.statusCode).toBe(400);

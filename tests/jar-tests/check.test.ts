@@ -78,6 +78,14 @@ describe('checkJarPlan: a sound plan', () => {
   });
 });
 
+describe('checkJarPlan: the aliquot a dose needs, in words', () => {
+  it('0.2 mg/L in 1 L of 1 g/L needs 0.2 mL (by hand: 0.2 × 1 ÷ 1): "the 0.2 mL aliquot that 0.2 mg/L needs is below 1 mL"', () => {
+    const r = checkJarPlan({ oxidant: 'potassium-permanganate', jarVolumeL: 1, stockStrengthGPerL: 1, contactTimesMin: [30], jars: [{ doseMgPerL: 0.2 }, { doseMgPerL: 2 }, { doseMgPerL: 3 }] });
+    const p = r.jars[0]!.problems.find((x) => x.code === 'ALIQUOT_BELOW_MINIMUM')!;
+    expect(p.message).toContain('Jar 1: the 0.2 mL aliquot that 0.2 mg/L needs is below 1 mL');
+  });
+});
+
 describe('checkJarPlan: a written aliquot against a written dose when the pipette step is coarse', () => {
   it('10 g/L in 500 mL jars: 0.1 mL gives 2.0 mg/L (one step is 2 mg/L), so 1.5 and 2.5 written beside 0.1 mL are DOSE_MISMATCH, and 5.5 beside 0.3 mL too', () => {
     // by hand: a·C/V = 0.1 mL × 10 mg/mL ÷ 0.5 L = 2.0 mg/L (2.0/1.0002 = 1.9996 with the dilution), 0.2 mL → 4.0, 0.3 mL → 6.0;

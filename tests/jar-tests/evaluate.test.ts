@@ -94,7 +94,10 @@ describe('evaluateJarTest: bad input and too few points (edge cases first)', () 
 
   it('three replicates at one dose cannot make a line', () => {
     const jars = [2, 2, 2].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 0.3 }] }));
-    expect(fails(() => evaluateJarTest({ ...MODEL, jars, targets: {} })).params).toMatchObject({ n: 3, distinctDoses: 1 });
+    const e = fails(() => evaluateJarTest({ ...MODEL, jars, targets: {} }));
+    expect(e.params).toMatchObject({ n: 3, distinctDoses: 1 });
+    // the field message says the real reason: one dose, not too few jars
+    expect(e.fields[0]!.message).toBe('3 jars with a measurable residual at 30 min, but all at one dose (2 mg/L); a line needs jars at 2 or more doses');
   });
 
   it('no line but iron and manganese targets: the lowest jar meeting them is recommended, with no demand figures (permanganate: info; hypochlorite: warning)', () => {
@@ -130,6 +133,18 @@ describe('evaluateJarTest: bad input and too few points (edge cases first)', () 
     const no = r.problems.find((p) => p.code === 'NO_RECOMMENDATION')!;
     expect(no.severity).toBe('error');
     expect(no.message).toContain('FIT_SLOPE_NOT_POSITIVE');
+  });
+
+  it('a poor fit with no apparent demand does not say to treat the apparent demand as rough', () => {
+    // invented readings falling with dose, scattered: 1 → 2.0, 2 → 0.5, 3 → 1.5, 4 → 0.2 mg/L; by hand x̄ = 2.5, ȳ = 1.05,
+    // Sxy = −1.425 + 0.275 + 0.225 − 1.275 = −2.2, Sxx = 5, Syy = 2.13: slope −0.44, r² = 4.84/(5 × 2.13) = 0.4545
+    const jars = [[1, 2.0], [2, 0.5], [3, 1.5], [4, 0.2]].map(([d, r]) => ({ doseMgPerL: d!, results: [{ contactTimeMin: 30, residualOxidantMgPerL: r!, ironMgPerL: 0.1 }] }));
+    const e = evaluateJarTest({ ...MODEL, jars, targets: { ironMgPerL: 0.3 } });
+    expect(e.fit!.slope).toBeCloseTo(-0.44, 12);
+    expect(e.fit!.r2).toBeCloseTo(4.84 / 10.65, 12);
+    const poor = e.problems.find((p) => p.code === 'FIT_POOR')!;
+    expect(poor.message).toContain('no apparent demand was computed');
+    expect(poor.message).not.toContain('treat the apparent demand as rough');
   });
 });
 

@@ -489,6 +489,16 @@ describe('planJarTest: the default stock can be made up in one step', () => {
   });
 });
 
+describe('planJarTest: a trade strength measured on the day', () => {
+  it('strengthMeasured: the instructions do not ask to measure it first; without it they do', () => {
+    const measured = planJarTest({ oxidant: 'sodium-hypochlorite', product: { ...NAOCL, stock: { kind: 'trade-solution', tradeStrengthGPerL: 125, strengthMeasured: true } }, estimateMgPerL: 0.64, jarVolumeL: 1 });
+    expect(measured.stock.instructions.join(' ')).not.toContain('First measure');
+    expect(measured.stock.instructions.join(' ')).toContain('was measured on the day');
+    const nominal = planJarTest({ oxidant: 'sodium-hypochlorite', product: NAOCL, estimateMgPerL: 0.64, jarVolumeL: 1 });
+    expect(nominal.stock.instructions.join(' ')).toContain("First measure the trade solution's strength");
+  });
+});
+
 describe('planJarTest: a jar count beside explicit doses', () => {
   it('jars: 4 with three doses → 3 jars and a JARS_IGNORED warning; jars: 3 with three doses → no warning', () => {
     const p = planJarTest(base({ jars: 4, doses: [1, 2, 3] }));
