@@ -9,6 +9,7 @@
  *   unprocessable - well-formed input whose chemistry cannot be done (HTTP 422)
  *   not-found     - a referenced thing does not exist (HTTP 404)
  *   method-not-allowed - the path exists but not with this method (HTTP 405, with an Allow header)
+ *   not-acceptable - no representation the Accept header allows (HTTP 406, RFC 9110 §15.5.7)
  *   conflict      - the request clashes with stored state (HTTP 409)
  *   unauthenticated / forbidden - access (HTTP 401 / 403)
  *   too-large / unsupported-media / rate-limited - HTTP 413 / 415 / 429
@@ -20,6 +21,7 @@ export type ErrorKind =
   | 'unprocessable'
   | 'not-found'
   | 'method-not-allowed'
+  | 'not-acceptable'
   | 'conflict'
   | 'unauthenticated'
   | 'forbidden'
@@ -43,7 +45,7 @@ export const ERROR_CATALOGUE = {
   ROUTE_NOT_FOUND: { kind: 'not-found', title: 'No such route' },
   METHOD_NOT_ALLOWED: { kind: 'method-not-allowed', title: 'The path does not take this method' },
   RATE_LIMITED: { kind: 'rate-limited', title: 'Too many requests' },
-  NOT_ACCEPTABLE: { kind: 'invalid', title: 'The requested representation is not available' },
+  NOT_ACCEPTABLE: { kind: 'not-acceptable', title: 'The requested representation is not available' },
 
   // formulas
   FORMULA_EMPTY: { kind: 'invalid', title: 'Empty formula' },

@@ -13,6 +13,7 @@ const STATUS_OF_KIND: Record<ErrorKind, number> = {
   forbidden: 403,
   'not-found': 404,
   'method-not-allowed': 405,
+  'not-acceptable': 406,
   conflict: 409,
   'too-large': 413,
   'unsupported-media': 415,

@@ -6,7 +6,8 @@
  */
 import { DomainError } from '../core/errors.js';
 import type { LimitRow, OxidantRow } from '../reference/dosing-schemas.js';
-import { solubilityAt } from '../dosing/feed.js';
+import { densitySeries, interpolateDensity, solubilityAt } from '../dosing/feed.js';
+import { Dec } from '../core/decimal.js';
 import { fmt } from './common.js';
 import type { LimitTarget } from './evaluate.js';
 import { defaultResidualMethod, type JarProductFacts, type Solubility } from './product.js';
@@ -24,6 +25,11 @@ export interface JarProductOptions {
   readonly purityPercent?: number;
   /** Strength of the trade solution on hand, on the row's strength basis, overriding the row's nominal default. */
   readonly tradeStrength?: { readonly value: number; readonly unit: '% w/w' | '% w/v' | 'g/L'; readonly densityKgPerL?: number; readonly measured?: boolean };
+  /**
+   * For a solid whose oxidants row has no solubility table (calcium hypochlorite): the solubility row of
+   * tables/strength-limits.json, the limit POST /api/v1/doses refuses a product strength above.
+   */
+  readonly solubilityLimit?: { readonly gramsPer100gWater: number; readonly temperatureC: number; readonly source: string; readonly of: string; readonly fromMemory: boolean };
 }
 
 const DEFAULT_SOLUBILITY_T_C = 20;
@@ -97,6 +103,17 @@ export function jarProductFacts(row: OxidantRow, options: JarProductOptions = {}
         source: row.solubility.source,
         note: `${fmt(s)} ${row.solubility.unit} at ${fmt(T)} °C${sol.clamped ? ' (outside the table; nearest end used)' : ''}, as about ${fmt(gPerL, 3)} g/L of solution`,
       };
+    } else if (options.solubilityLimit !== undefined) {
+      // g per 100 g water → g per L of solution taken as 1.00 kg/L: 1000·s/(100 + s), the same conversion as
+      // the dose route's check (c·100/(1000 − c) ≤ s), compared on the dose basis as that row is
+      const l = options.solubilityLimit;
+      const gPerL = (1000 * l.gramsPer100gWater) / (100 + l.gramsPer100gWater);
+      solubility = {
+        gPerL,
+        temperatureC: l.temperatureC,
+        source: l.source,
+        note: `about ${fmt(l.gramsPer100gWater)} g ${l.of} per 100 g water at ${fmt(l.temperatureC)} °C (tables/strength-limits.json${l.fromMemory ? ', from memory; verify' : ''}), as about ${fmt(gPerL, 3)} g/L of solution`,
+      };
     }
     return { ...common, stock: { kind: 'solid', ...(purityFraction !== undefined ? { purityFraction } : {}), ...(solubility !== undefined ? { solubility } : {}) }, ...(notes.length ? { notes } : {}) };
   }
@@ -111,8 +128,27 @@ export function jarProductFacts(row: OxidantRow, options: JarProductOptions = {}
     if (unit === 'g/L') gPerL = value;
     else if (unit === '% w/v') gPerL = value * 10;
     else {
-      const density = given?.densityKgPerL ?? (given === undefined && nominal?.densityKgPerL !== undefined ? Number(nominal.densityKgPerL) : undefined);
-      if (density === undefined) throw wiring(`A strength in % w/w needs the solution's density (kg/L) to give g/L.`, '/product/density');
+      let density = given?.densityKgPerL ?? (given === undefined && nominal?.densityKgPerL !== undefined ? Number(nominal.densityKgPerL) : undefined);
+      if (density === undefined) {
+        // as POST /api/v1/doses does: the tabled density of that strength, else interpolated between the
+        // tabled strengths around it (tables/oxidants.json); never extrapolated beyond them
+        const series = densitySeries(row);
+        const same = row.strength.nominal.find((n) => n.densityKgPerL !== undefined && n.unit === '% w/w' && Number(n.value) === value);
+        const hit = same ? null : interpolateDensity(series, 'massPercent', new Dec(value));
+        if (same?.densityKgPerL !== undefined) {
+          density = Number(same.densityKgPerL);
+          notes.push(`No density was given for ${fmt(value)} % w/w: the tabled density of ${same.label}, ${same.densityKgPerL} kg/L (tables/oxidants.json, source ${same.source}), was used. Give product.density from the certificate of analysis to refine.`);
+        } else if (hit !== null) {
+          density = hit.density.toNumber();
+          notes.push(
+            `No density was given for ${fmt(value)} % w/w: ${hit.note} (tables/oxidants.json, source ${hit.source}), ${fmt(value * 10 * density, 4)} g/L. ` +
+              'The density also moves with temperature and excess caustic; give product.density from the certificate of analysis for the exact strength.',
+          );
+        } else {
+          const range = series.length > 0 ? ` the table holds densities from ${fmt(series[0]!.massPercent.toNumber(), 4)} to ${fmt(series[series.length - 1]!.massPercent.toNumber(), 4)} % w/w, and` : '';
+          throw wiring(`A strength of ${fmt(value)} % w/w needs the solution's density (kg/L) to give g/L:${range} a density is not extrapolated; give product.density, or the strength in % w/v or g/L.`, '/product/density');
+        }
+      }
       gPerL = value * 10 * density;
     }
     const onProduct = row.strength.basis === 'product';

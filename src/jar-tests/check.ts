@@ -34,6 +34,8 @@ export const CHECK_CODES = {
   NO_ESTIMATE: 'NO_ESTIMATE',
   CONTROL_JAR: 'CONTROL_JAR',
   STOCK_ABOVE_SOLUBILITY: 'STOCK_ABOVE_SOLUBILITY',
+  STOCK_ABOVE_PRODUCT_LIMIT: 'STOCK_ABOVE_PRODUCT_LIMIT',
+  STOCK_ABOVE_TRADE_GRADE: 'STOCK_ABOVE_TRADE_GRADE',
   NO_CONTACT_TIMES: 'NO_CONTACT_TIMES',
   DUPLICATE_CONTACT_TIME: 'DUPLICATE_CONTACT_TIME',
   TOO_FEW_JARS: 'TOO_FEW_JARS',
@@ -52,6 +54,12 @@ export interface CheckJarPlanInput {
   /** Default 0.1 mL (common practice). */
   readonly pipetteResolutionMl?: number;
   readonly solubility?: Solubility;
+  /**
+   * A liquid concentrate's limit on the stock (tables/strength-limits.json, judged by the caller): "error" when
+   * no solution of the product is that strong (STOCK_ABOVE_PRODUCT_LIMIT), "warning" when it is above the
+   * strongest trade grade tabled (STOCK_ABOVE_TRADE_GRADE).
+   */
+  readonly strengthLimit?: { readonly severity: 'error' | 'warning'; readonly message: string };
   readonly minAliquotMl?: number;
   readonly maxAliquotFraction?: number;
 }
@@ -88,6 +96,8 @@ export interface JarPlanCheck {
 const DUPLICATE_RELATIVE = 0.005;
 const FIGURE_ROUNDING_RELATIVE = 0.005;
 const FIGURE_ROUNDING_ABSOLUTE_MG_PER_L = 0.005;
+/** Half a pipette step of at most 5 % of the dose is rounding (a minimum aliquot of 10 steps; common practice). */
+const PIPETTE_ROUNDING_RELATIVE = 0.05;
 
 function validate(input: CheckJarPlanInput): void {
   const c = new FieldCheck();
@@ -108,8 +118,10 @@ function validate(input: CheckJarPlanInput): void {
         c.add(`/jars/${i}`, 'each jar must be an object with doseMgPerL and/or aliquotMl');
         return;
       }
-      if (j.doseMgPerL !== undefined) c.nonNegative(j.doseMgPerL, `/jars/${i}/doseMgPerL`, `the dose of jar ${i + 1} (mg/L)`);
-      if (j.aliquotMl !== undefined) c.nonNegative(j.aliquotMl, `/jars/${i}/aliquotMl`, `the aliquot of jar ${i + 1} (mL)`);
+      if (j.doseMgPerL !== undefined) c.doseMgPerL(j.doseMgPerL, `/jars/${i}/doseMgPerL`, `the dose of jar ${i + 1} (mg/L)`);
+      if (j.aliquotMl !== undefined && c.nonNegative(j.aliquotMl, `/jars/${i}/aliquotMl`, `the aliquot of jar ${i + 1} (mL)`) && Number.isFinite(input.jarVolumeL) && j.aliquotMl > input.jarVolumeL * 1000) {
+        c.add(`/jars/${i}/aliquotMl`, `the aliquot of jar ${i + 1} (${fmt(j.aliquotMl)} mL) is more than the ${fmt(input.jarVolumeL * 1000)} mL jar itself; check the value and its unit (mL)`);
+      }
     });
   }
   if (input.contactTimesMin !== undefined) {
@@ -124,7 +136,8 @@ function validate(input: CheckJarPlanInput): void {
  *
  * A stated dose is accepted when it is within the sum of
  *   - the dilution by the aliquot (|a·C/V − a·C/(V + a/1000)|: either form is accepted when the aliquot is small),
- *   - half a pipette step (0.5·r·C/V: a target dose whose aliquot was rounded to the pipette),
+ *   - half a pipette step (0.5·r·C/V: a target dose whose aliquot was rounded to the pipette), but at most
+ *     5 % of the dose: with a coarser step the written aliquot gives another dose than the one written,
  *   - the rounding of the printed figure (0.5 % of the dose, at least 0.005 mg/L)
  * of the dose recomputed from the aliquot.
  */
@@ -137,6 +150,11 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
   const maxFraction = input.maxAliquotFraction ?? D.maxAliquotFraction.value;
   const maxAliquot = maxFraction * V * 1000;
   const halfStepDose = (0.5 * res * C) / V;
+  // A target dose written beside its pipette-rounded aliquot is off by up to half a pipette step, but only
+  // where that step is small beside the dose: at most 5 %, what the ten-step minimum aliquot allows
+  // (common practice, JAR_TEST_DEFAULTS.minAliquotMl). Beyond it the written aliquot gives another dose
+  // than the one written, and the jar gets the aliquot's.
+  const roundingAllowance = (recomputed: number) => Math.min(halfStepDose, PIPETTE_ROUNDING_RELATIVE * recomputed);
   const planProblems: JarProblem[] = [];
 
   const jars: CheckedJar[] = input.jars.map((j, i): CheckedJar => {
@@ -172,7 +190,7 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
     }
     const recomputed = doseFromAliquot(aliquot, C, V);
     const nominal = nominalDoseFromAliquot(aliquot, C, V);
-    const what = fromDose ? `the aliquot ${fmt(stated!)} mg/L needs, ${fmt(aliquot)} mL,` : `${fmt(aliquot)} mL`;
+    const what = fromDose ? `the ${fmt(aliquot)} mL aliquot that ${fmt(stated!)} mg/L needs` : `${fmt(aliquot)} mL`;
 
     if (aliquot > 0 && aliquot < res) {
       problems.push({
@@ -208,7 +226,7 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
 
     if (stated !== null && statedAliquot !== null && stated < 1000 * C) {
       const dilution = Math.abs(nominal - recomputed);
-      const tolerance = dilution + halfStepDose + Math.max(FIGURE_ROUNDING_RELATIVE * recomputed, FIGURE_ROUNDING_ABSOLUTE_MG_PER_L);
+      const tolerance = dilution + roundingAllowance(recomputed) + Math.max(FIGURE_ROUNDING_RELATIVE * recomputed, FIGURE_ROUNDING_ABSOLUTE_MG_PER_L);
       const diff = stated - recomputed;
       if (Math.abs(diff) > tolerance) {
         const needed = roundToResolution(aliquotForDose(stated, C, V, aliquot > maxAliquot), res);
@@ -225,7 +243,7 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
 
     if (aliquot > maxAliquot) {
       const pct = (aliquot / (V * 1000)) * 100;
-      const accounted = stated !== null && Math.abs(stated - recomputed) <= halfStepDose + Math.max(FIGURE_ROUNDING_RELATIVE * recomputed, FIGURE_ROUNDING_ABSOLUTE_MG_PER_L) && Math.abs(stated - nominal) > Math.abs(stated - recomputed);
+      const accounted = stated !== null && Math.abs(stated - recomputed) <= roundingAllowance(recomputed) + Math.max(FIGURE_ROUNDING_RELATIVE * recomputed, FIGURE_ROUNDING_ABSOLUTE_MG_PER_L) && Math.abs(stated - nominal) > Math.abs(stated - recomputed);
       problems.push({
         code: CHECK_CODES.ALIQUOT_TOO_LARGE,
         severity: accounted ? 'info' : 'warning',
@@ -312,6 +330,14 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
     });
   }
 
+  if (input.strengthLimit !== undefined) {
+    planProblems.push({
+      code: input.strengthLimit.severity === 'error' ? CHECK_CODES.STOCK_ABOVE_PRODUCT_LIMIT : CHECK_CODES.STOCK_ABOVE_TRADE_GRADE,
+      severity: input.strengthLimit.severity,
+      message: input.strengthLimit.message,
+    });
+  }
+
   const times = input.contactTimesMin ?? [];
   if (times.length === 0) {
     planProblems.push({
@@ -343,6 +369,6 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
     problems: planProblems,
     ok: !all.some((p) => p.severity === 'error'),
     toleranceRule:
-      'stated dose accepted within dilution by the aliquot + half a pipette step (0.5·r·C/V) + 0.5 % of the dose (at least 0.005 mg/L) of the recomputed dose a·C/(V + a/1000)',
+      'stated dose accepted within dilution by the aliquot + half a pipette step (0.5·r·C/V, but at most 5 % of the dose: a target dose beside its rounded aliquot) + 0.5 % of the dose (at least 0.005 mg/L) of the recomputed dose a·C/(V + a/1000)',
   };
 }

@@ -12,6 +12,14 @@
  */
 import { DomainError, type FieldProblem } from '../core/errors.js';
 import { Dec } from '../core/decimal.js';
+import { RESIDUAL_MAX_MG_PER_L } from '../dosing/bounds.js';
+
+/**
+ * The largest jar dose or residual reading taken, mg/L: the bound src/dosing/bounds.ts puts on a
+ * target residual and a background demand (1000 mg/L, ten times the strongest chlorination of new
+ * mains; common practice). Above it the figure is a unit slip or a miscopied reading, not a bench dose.
+ */
+export const JAR_DOSE_MAX_MG_PER_L = RESIDUAL_MAX_MG_PER_L.toNumber();
 
 /** Severity of a problem or warning: error = the plan is wrong; warning = usable with care; info = not checked or advice. */
 export type Severity = 'error' | 'warning' | 'info';
@@ -175,6 +183,19 @@ export class FieldCheck {
     if (!this.finite(value, pointer, what)) return false;
     if (value < 0) {
       this.add(pointer, `${what} must not be negative (got ${value})`);
+      return false;
+    }
+    return true;
+  }
+
+  /** A jar dose or residual reading (mg/L): not negative and at most JAR_DOSE_MAX_MG_PER_L. */
+  doseMgPerL(value: unknown, pointer: string, what: string): boolean {
+    if (!this.nonNegative(value, pointer, what)) return false;
+    if ((value as number) > JAR_DOSE_MAX_MG_PER_L) {
+      this.add(
+        pointer,
+        `${what} must be at most ${JAR_DOSE_MAX_MG_PER_L} mg/L (got ${fmt(value as number)} mg/L): that is ten times the strongest chlorination of new mains, not a jar-test figure (common practice, the bound src/dosing/bounds.ts puts on a target residual); check the value and its unit`,
+      );
       return false;
     }
     return true;

@@ -119,7 +119,8 @@ export interface DemandCurve {
 
 export interface ResidualFit {
   readonly contactTimeMin: number;
-  readonly contactTimeChoice: 'caller' | 'longest';
+  /** caller: fitContactTimeMin; plant-contact: the longest bench time not beyond the plant's contact; longest: the longest with residual readings. */
+  readonly contactTimeChoice: 'caller' | 'plant-contact' | 'longest';
   readonly jarsUsed: readonly number[];
   readonly jarsExcluded: readonly { readonly jar: number; readonly reason: string }[];
   readonly n: number;
@@ -192,7 +193,7 @@ function validate(input: EvaluateJarTestInput): void {
     input.jars.forEach((j, i) => {
       const p = `/jars/${i}`;
       if (j === null || typeof j !== 'object') return c.add(p, 'each jar must be an object with doseMgPerL and results');
-      c.nonNegative(j.doseMgPerL, `${p}/doseMgPerL`, `the dose of jar ${i + 1} (mg/L)`);
+      c.doseMgPerL(j.doseMgPerL, `${p}/doseMgPerL`, `the dose of jar ${i + 1} (mg/L)`);
       const results: readonly JarResultInput[] = j.results;
       if (!Array.isArray(results)) return c.add(`${p}/results`, 'give the results as a list (one entry per contact time)');
       const seen = new Set<number>();
@@ -204,7 +205,9 @@ function validate(input: EvaluateJarTestInput): void {
           seen.add(r.contactTimeMin);
         }
         for (const key of ['residualOxidantMgPerL', 'ironMgPerL', 'manganeseMgPerL', 'turbidityNTU'] as const) {
-          if (r[key] !== undefined) c.nonNegative(r[key], `${q}/${key}`, key);
+          if (r[key] === undefined) continue;
+          if (key === 'residualOxidantMgPerL') c.doseMgPerL(r[key], `${q}/${key}`, `the residual of jar ${i + 1} at ${r.contactTimeMin} min (mg/L)`);
+          else c.nonNegative(r[key], `${q}/${key}`, key);
         }
       });
     });
@@ -405,8 +408,24 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       }),
     );
   } else {
-    const choice: 'caller' | 'longest' = input.fitContactTimeMin !== undefined ? 'caller' : 'longest';
-    const time = input.fitContactTimeMin ?? residualTimes[residualTimes.length - 1]!;
+    // The line is fitted at the contact time the recommendation is for: the caller's, else the longest bench
+    // time not beyond the plant's contact that gives a line (the first bench time when the plant has less
+    // contact than that), else the longest time with residual readings.
+    const longest = residualTimes[residualTimes.length - 1]!;
+    let choice: ResidualFit['contactTimeChoice'] = 'longest';
+    let time = longest;
+    if (input.fitContactTimeMin !== undefined) {
+      choice = 'caller';
+      time = input.fitContactTimeMin;
+    } else if (input.plantContactTimeMin !== undefined) {
+      const within = residualTimes.filter((t) => t <= input.plantContactTimeMin!);
+      const candidates = (within.length > 0 ? within : [residualTimes[0]!]).slice().reverse();
+      const usable = candidates.find((t) => residualLineAt(jars, t, dl) !== null);
+      if (usable !== undefined) {
+        choice = 'plant-contact';
+        time = usable;
+      }
+    }
     const used: { jar: number; x: number; y: number; consumed: number }[] = [];
     const excluded: { jar: number; reason: string }[] = [];
     for (const j of jars) {
@@ -425,12 +444,30 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
             `${used.length === 0 ? 'No jar' : `Only ${used.length} jar${used.length === 1 ? '' : 's'}${which}`} kept a residual above the detection limit ${fmt(dl)} mg/L at ${fmt(time)} min` +
             `${used.length >= 3 ? ', all at one dose' : ''}; the demand line needs at least 3 jars at 2 or more doses. Repeat the test with more jars above the expected demand, or fit another contact time.`,
           params: { n: used.length, distinctDoses, detectionLimitMgPerL: dl, contactTimeMin: time, jarsUsed: used.map((u) => u.jar) },
-          fields: [{ pointer: '/jars', message: `${used.length} jar(s) with a measurable residual at ${fmt(time)} min; at least 3 needed` }],
+          fields: [
+            {
+              pointer: '/jars',
+              message:
+                used.length >= 3
+                  ? `${used.length} jars with a measurable residual at ${fmt(time)} min, but all at one dose (${fmt(used[0]!.x, 3)} mg/L); a line needs jars at 2 or more doses`
+                  : `${used.length} jar(s) with a measurable residual at ${fmt(time)} min; at least 3 needed, at 2 or more doses`,
+            },
+          ],
         }),
       );
     } else {
       fitTime = time;
-      notes.push(`Residual line fitted at ${fmt(time)} min (${choice === 'caller' ? 'chosen by the caller' : 'the longest contact time with residual readings'}).`);
+      notes.push(
+        `Residual line fitted at ${fmt(time)} min (${
+          choice === 'caller'
+            ? 'chosen by the caller'
+            : choice === 'plant-contact'
+              ? `the longest bench time with a residual line not beyond the plant's ${fmt(input.plantContactTimeMin!)} min of contact, the time the recommendation is for`
+              : input.plantContactTimeMin !== undefined
+                ? `the longest contact time with residual readings: no bench time within the plant's ${fmt(input.plantContactTimeMin)} min of contact gives a line`
+                : 'the longest contact time with residual readings'
+        }).`,
+      );
       f = olsFit(used.map((u) => u.x), used.map((u) => u.y));
       const dline = olsFit(used.map((u) => u.x), used.map((u) => u.consumed));
       fit = {
@@ -506,7 +543,10 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
     problems.push({
       code: 'FIT_POOR',
       severity: 'warning',
-      message: `The residual line fits poorly (r² = ${roundSig(f.r2, 3)} over ${f.n} jars); treat the apparent demand as rough and repeat the jars that stand off the line.`,
+      message:
+        apparentDemand !== null
+          ? `The residual line fits poorly (r² = ${roundSig(f.r2, 3)} over ${f.n} jars); treat the apparent demand as rough and repeat the jars that stand off the line.`
+          : `The residual line fits poorly (r² = ${roundSig(f.r2, 3)} over ${f.n} jars), and no apparent demand was computed from it; repeat the jars that stand off the line.`,
     });
   }
 
@@ -602,6 +642,26 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
   let predict = lineAt(benchLine);
   let recLine: LinearFit | null = benchLine;
   const contaminantTargets = targets.filter((t) => t.analyte === 'iron' || t.analyte === 'manganese');
+  // A control jar (no oxidant) that meets the iron and manganese targets while dosed jars read above
+  // them cannot both be right: oxidant does not raise dissolved iron or manganese (permanganate
+  // overdose aside, which shows above the jars that pass, not below them). A blank that passes then
+  // says nothing about the dose, and no plant dose is recommended from it.
+  const exceeds = (r: EvaluatedResult): string[] =>
+    contaminantTargets.flatMap((t) => {
+      const v = t.analyte === 'iron' ? r.ironMgPerL : r.manganeseMgPerL;
+      return v !== null && v > t.limitMgPerL ? [`${t.analyte} ${fmt(v)} > ${fmt(t.limitMgPerL)} mg/L`] : [];
+    });
+  const contradicting =
+    atBench !== undefined && atBench.doseMgPerL === 0
+      ? jars
+          .filter((j) => j.doseMgPerL > 0)
+          .flatMap((j) => {
+            const r = j.results.find((x) => x.contactTimeMin === benchTime);
+            const over = r === undefined ? [] : exceeds(r);
+            return over.length > 0 ? [{ j, over }] : [];
+          })
+          .sort((a, b) => a.j.doseMgPerL - b.j.doseMgPerL)
+      : [];
   if (residualNotKept !== null && blocking.length === 0) problems.push(residualNotKept);
   if (residualNotKept !== null || blocking.length > 0) {
     if (blocking.length > 0) {
@@ -611,6 +671,18 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
         message: `No plant dose is recommended: ${blocking.map((b) => b.code).join(', ')} puts the jar doses or the readings in doubt. Check the stock strength, the aliquots and the residual method, then repeat the test.`,
       });
     }
+  } else if (atBench !== undefined && atBench.doseMgPerL === 0 && contradicting.length > 0) {
+    const first = contradicting[0]!;
+    problems.push({
+      code: 'CONTROL_JAR_CONTRADICTS_DOSED_JARS',
+      severity: 'error',
+      ...(atBench.jar !== null ? { jar: atBench.jar } : {}),
+      message:
+        `The control jar (jar ${atBench.jar}, no oxidant) met every target at ${fmt(benchTime)} min, but dosed jar(s) ${contradicting.map((c) => c.j.jar).join(', ')} ` +
+        `(${contradicting.map((c) => fmt(c.j.doseMgPerL, 3)).join(', ')} mg/L) did not (jar ${first.j.jar}: ${first.over.join('; ')}). ` +
+        'Oxidant does not raise dissolved iron or manganese, so a reading, the control\'s sample or a jar mix-up is wrong, and no plant dose is recommended. ' +
+        "Check the control jar's sample (filtered through 0.45 µm and read like the others, from the same raw water) and the labels, then repeat the test.",
+    });
   } else if (atBench !== undefined && atBench.doseMgPerL !== null) {
     benchLineNote();
     const base = atBench.doseMgPerL;
@@ -657,7 +729,10 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       problems.push({
         code: 'FIT_TIME_BEYOND_PLANT_CONTACT',
         severity: 'warning',
-        message: `The apparent demand comes from ${fmt(fitTime)} min of contact, longer than the ${fmt(benchTime)} min the plant provides; the plant may need more oxidant or more contact.`,
+        message:
+          `The apparent demand comes from ${fmt(fitTime)} min of contact, longer than the ${fmt(benchTime)} min the recommendation is for (the plant's contact). ` +
+          `Demand grows with contact, so in ${fmt(benchTime)} min the water uses no more oxidant than in ${fmt(fitTime)} min: the dose covers that demand and the residual after the plant's contact will be at least the expected one, ` +
+          `but the oxidation the ${fmt(fitTime)} min line reflects may not be complete within the plant's contact. Check iron and manganese at ${fmt(benchTime)} min, or fit a bench time within the plant's contact (fitContactTimeMin).`,
       });
     }
   } else {
@@ -723,7 +798,7 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
           const row = benchRows.find((x) => x.j.jar === jar);
           return row !== undefined && failsOther(row.r).meets === false;
         });
-  if (atBenchTargets !== undefined && atBenchTargets.jar !== null && failing.length > 0) {
+  if (atBenchTargets !== undefined && atBenchTargets.jar !== null && failing.length > 0 && contradicting.length === 0) {
     const first = benchRows.find((x) => x.j.jar === failing[0]);
     problems.push({
       code: 'HIGHER_DOSE_FAILS_TARGETS',
@@ -822,6 +897,25 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
       });
     } else {
       notes.push(`Residual at the recommended dose ${fmt(predicted, 2, scale)} mg/L as KMnO4, at or below the ${fmt(pink.mgPerL)} mg/L default pink-water threshold (${pink.basis}).`);
+    }
+  }
+
+  // A dose read off the residual line below every jar tested is an extrapolation: below the ladder the
+  // residual need not follow the line (a breakpoint curve with ammonia, a demand met at low doses).
+  if (recommendedDose !== null && recommendedDose.basis === 'apparent-demand-plus-residual') {
+    const dosedJars = jars.filter((j) => j.doseMgPerL > 0).sort((a, b) => a.doseMgPerL - b.doseMgPerL);
+    const lowestJar = dosedJars[0];
+    if (lowestJar !== undefined && recommendedDose.doseMgPerL < lowestJar.doseMgPerL) {
+      const demand = apparentDemand?.doseMgPerL ?? recommendedDose.baseDoseMgPerL;
+      problems.push({
+        code: 'RECOMMENDATION_BELOW_LADDER',
+        severity: 'warning',
+        message:
+          `The recommended ${fmt(recommendedDose.doseMgPerL, 3)} mg/L is below every jar tested (the lowest is jar ${lowestJar.jar}, ${fmt(lowestJar.doseMgPerL, 3)} mg/L): ` +
+          `it is read off the residual line extrapolated below the ladder to the apparent demand ${fmt(demand, 3, scale)} mg/L, and no jar shows what the water does there ` +
+          '(with ammonia in the water chlorine follows a breakpoint curve, not a line). ' +
+          `Repeat the test with doses from about ${fmt(demand / 2, 2)} to ${fmt(lowestJar.doseMgPerL, 3)} mg/L before using it.`,
+      });
     }
   }
 

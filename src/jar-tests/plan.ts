@@ -179,7 +179,7 @@ function validate(input: PlanJarTestInput): void {
     if (!Array.isArray(input.doses) || input.doses.length < 2 || input.doses.length > MAX_JARS) {
       c.add('/doses', `give from 2 to ${MAX_JARS} doses (mg/L), one per jar`);
     } else {
-      input.doses.forEach((d, i) => c.nonNegative(d, `/doses/${i}`, `the dose of jar ${i + 1} (mg/L)`));
+      input.doses.forEach((d, i) => c.doseMgPerL(d, `/doses/${i}`, `the dose of jar ${i + 1} (mg/L)`));
       if (input.doses.every((d) => d === 0)) c.add('/doses', 'at least one dose must be above 0 mg/L');
     }
   }
@@ -241,7 +241,7 @@ interface StockChoice {
   readonly correctDilution: boolean;
 }
 
-function chooseStock(input: PlanJarTestInput, targets: readonly number[], minAliquotMl: number, maxAliquotMl: number, warnings: JarProblem[]): StockChoice {
+function chooseStock(input: PlanJarTestInput, targets: readonly number[], minAliquotMl: number, maxAliquotMl: number, res: number, warnings: JarProblem[]): StockChoice {
   const V = input.jarVolumeL;
   const positive = targets.filter((d) => d > 0);
   const minDose = Math.min(...positive);
@@ -289,14 +289,24 @@ function chooseStock(input: PlanJarTestInput, targets: readonly number[], minAli
     });
   }
   const aliquots = (C: number) => ({ min: (minDose * V) / C, max: (maxDose * V) / C });
+  // A stock that can be made up in one step: at least minTradeVolumeMl of trade solution (rounded to the
+  // pipette step) or minWeighMassG of solid in the largest flask; a stock that cannot is a last resort.
+  const largestFlask = Math.max(...(input.flaskVolumesMl ?? D.flaskVolumesMl.value));
+  const stockRoute = input.product.stock;
+  const preparable = (C: number): boolean => {
+    if (stockRoute.kind === 'trade-solution') return roundToResolution((C * largestFlask) / stockRoute.tradeStrengthGPerL, res) >= D.minTradeVolumeMl.value;
+    if (stockRoute.kind === 'solid') return (C * largestFlask) / 1000 / (stockRoute.purityFraction ?? 1) >= D.minWeighMassG.value;
+    return true;
+  };
+  const inRange = (C: number) => aliquots(C).min >= minAliquotMl && aliquots(C).max <= maxAliquotMl;
   // Lowest strength that keeps every aliquot within [minAliquot, maxAliquot]: the largest aliquots, so the
-  // finest relative resolution, while dilution stays negligible.
-  const feasible = allowed.find((C) => aliquots(C).min >= minAliquotMl && aliquots(C).max <= maxAliquotMl);
+  // finest relative resolution, while dilution stays negligible; one that can be made up in one step first.
+  const feasible = allowed.find((C) => inRange(C) && preparable(C)) ?? allowed.find(inRange);
   if (feasible !== undefined) return { strengthGPerL: feasible, choice: 'chosen', correctDilution: false };
   // No strength does both: keep the smallest aliquot measurable and correct the large ones for dilution.
   const measurable = allowed.filter((C) => aliquots(C).min >= minAliquotMl);
   if (measurable.length > 0) {
-    const C = measurable[measurable.length - 1]!;
+    const C = [...measurable].reverse().find(preparable) ?? measurable[measurable.length - 1]!;
     return { strengthGPerL: C, choice: 'chosen', correctDilution: needsDilutionCorrection(C) };
   }
   const C = allowed[0]!;
@@ -437,7 +447,11 @@ function planStock(
           ? `The strength of ${label} decays in storage (${noteText(p.decays.note)}). Measure the trade solution by ${p.decays.measureBy} before making the stock and recompute the volume with the measured strength; the ${fmt(T)} g/L used here is nominal.`
           : `The trade strength ${fmt(T)} g/L was measured on the day; make the stock fresh and confirm it by ${p.decays.measureBy}.`,
       });
-      instructions.push(`First measure the trade solution's strength by ${p.decays.measureBy}; it decays in storage.`);
+      instructions.push(
+        mustMeasure
+          ? `First measure the trade solution's strength by ${p.decays.measureBy}; it decays in storage.`
+          : `The trade solution's strength (${fmt(T)} g/L) was measured on the day of the test; it decays in storage, so use it the same day.`,
+      );
     }
     instructions.push(
       `Pipette ${fmt(vol)} mL of trade solution (${fmt(T)} g/L as ${basis}) into a ${flask} mL volumetric flask and make up to the mark with reagent water: ${fmt(real)} g/L as ${basis}.`,
@@ -601,6 +615,13 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
   if (input.doses !== undefined) {
     targets = [...input.doses];
     ladder = { source: 'caller' };
+    if (input.jars !== undefined && input.jars !== input.doses.length) {
+      warnings.push({
+        code: 'JARS_IGNORED',
+        severity: 'warning',
+        message: `jars says ${fmt(input.jars)} but ${input.doses.length} doses were given: the plan has ${input.doses.length} jars, one per dose (the doses win). Give as many doses as jars, or leave jars out.`,
+      });
+    }
   } else {
     if (!(planned > 0)) {
       throw new DomainError('JAR_TEST_INVALID', {
@@ -628,10 +649,13 @@ export function planJarTest(input: PlanJarTestInput): JarTestPlan {
     );
   }
 
-  const stockChoice = chooseStock(input, targets, minAliquotMl, maxAliquotMl, warnings);
+  const stockChoice = chooseStock(input, targets, minAliquotMl, maxAliquotMl, res, warnings);
   const nominalC = stockChoice.strengthGPerL;
   if (stockChoice.choice === 'chosen') {
-    assumptions.push(`Stock strength ${fmt(nominalC)} g/L: the weakest round strength whose aliquots lie between ${fmt(minAliquotMl)} mL and ${fmt(maxAliquotMl)} mL where one exists (${D.stockStrengthsGPerL.basis}).`);
+    assumptions.push(
+      `Stock strength ${fmt(nominalC)} g/L: the weakest round strength whose aliquots lie between ${fmt(minAliquotMl)} mL and ${fmt(maxAliquotMl)} mL where one exists, ` +
+        `preferring one made up in one step (at least ${fmt(D.minTradeVolumeMl.value)} mL of trade solution or ${fmt(D.minWeighMassG.value)} g of solid in a flask of at most ${fmt(Math.max(...(input.flaskVolumesMl ?? D.flaskVolumesMl.value)))} mL) (${D.stockStrengthsGPerL.basis}).`,
+    );
   }
   const ladderJars = (C: number, correct: boolean): PlannedJar[] =>
     targets.map((target, i) => {

@@ -163,7 +163,7 @@ export function residualPlotData(evaluation: JarTestEvaluation): ResidualPlotDat
     markers.push({
       id: 'apparent-demand',
       kind: 'zero-crossing',
-      label: `apparent demand ${fmt(apparent.doseMgPerL, 3, scale)} ± ${fmt(apparent.stdError, 2, Math.max(Math.abs(apparent.doseMgPerL), scale))} mg/L`,
+      label: `apparent demand ${fmt(apparent.doseMgPerL, 3, scale)} ± ${fmt(apparent.stdError, 2, Math.max(Math.abs(apparent.doseMgPerL), scale))} mg/L (standard error)`,
       x: apparent.doseMgPerL,
       y: 0,
       color: CROSS_COLOR,

@@ -3,7 +3,7 @@
  * the sheet model). Figures are those of the plan or evaluation, rounded here for print
  * (3 significant figures, half to even, `roundSig`); nothing is computed but the rounding.
  */
-import { roundSig } from '../core/decimal.js';
+import { Dec, roundSig } from '../core/decimal.js';
 import { residualPlotData, type JarTestEvaluation, type JarTestPlan, type ResidualPlotData } from '../jar-tests/index.js';
 import { inWords, isNegligible } from './wording.js';
 import {
@@ -49,6 +49,8 @@ export interface JarSheetContext {
 
 const n3 = (x: number | null | undefined): string => (x === null || x === undefined || !Number.isFinite(x) ? '–' : roundSig(x, 3).replace(/^-/, '−'));
 const nGiven = (x: number): string => String(x);
+/** A volume measured with a pipette, to the decimals of its step (9.0 beside 4.1 for a 0.1 mL pipette). */
+const nPipette = (x: number, resolutionMl: number): string => new Dec(x).toFixed(Math.max(0, new Dec(resolutionMl).decimalPlaces()));
 /**
  * A figure of the fit (an intercept, a demand, a standard error) as printed: "0" when it is
  * rounding noise against `scale`, the size of the figures it goes with (an exact fit gives
@@ -148,7 +150,7 @@ export function jarTestPlanDocument(plan: JarTestPlan, ctx: JarSheetContext): Sh
       { header: 'Aliquot of jar', unit: '%' },
       { header: 'Expected residual', unit: 'mg/L' },
     ],
-    rows: plan.jars.map((j) => [String(j.jar), n3(j.targetDoseMgPerL), nGiven(j.aliquotMl), n3(j.actualDoseMgPerL), n3(j.aliquotFractionOfJar * 100), n3(j.expectedResidualMgPerL)]),
+    rows: plan.jars.map((j) => [String(j.jar), n3(j.targetDoseMgPerL), nPipette(j.aliquotMl, plan.pipetteResolutionMl), n3(j.actualDoseMgPerL), n3(j.aliquotFractionOfJar * 100), n3(j.expectedResidualMgPerL)]),
     notes: [autoRich(`Doses in mg/L as ${b}. "Dose given" is what the rounded aliquot delivers; the expected residual assumes all of the expected demand is met.`)],
   };
 
@@ -334,7 +336,7 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
     : [
     {
       label: 'Line',
-      value: `residual = ${nFit(fit.slope, slopeScale)} × dose ${sign(fit.intercept, doseScale)} ${nFit(Math.abs(fit.intercept), doseScale)}, at ${fit.contactTimeMin} min (${fit.contactTimeChoice === 'caller' ? 'chosen' : 'longest contact time'})`,
+      value: `residual = ${nFit(fit.slope, slopeScale)} × dose ${sign(fit.intercept, doseScale)} ${nFit(Math.abs(fit.intercept), doseScale)}, at ${fit.contactTimeMin} min (${fit.contactTimeChoice === 'caller' ? 'chosen' : fit.contactTimeChoice === 'plant-contact' ? "longest within the plant's contact" : 'longest contact time'})`,
     },
     { label: 'Slope', value: `${nFit(fit.slope, slopeScale)} (SE ${seText(fit.slopeStdError, slopeScale)})` },
     { label: 'Intercept', value: `${nFit(fit.intercept, doseScale).replace(/^-/, '−')} mg/L (SE ${seText(fit.interceptStdError, doseScale)})` },
@@ -350,6 +352,8 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
     },
   ];
 
+  // turbidity is a column when any result has it (the bench sheet asks for it at every contact time)
+  const withTurbidity = ev.jars.some((j) => j.results.some((r) => r.turbidityNTU !== null));
   const resultRowsTable: TableCell[][] = [];
   for (const jar of ev.jars) {
     for (const r of jar.results) {
@@ -361,6 +365,7 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
         n3(r.consumedMgPerL),
         n3(r.ironMgPerL),
         n3(r.manganeseMgPerL),
+        ...(withTurbidity ? [n3(r.turbidityNTU)] : []),
         r.meetsTargets === null ? '–' : r.meetsTargets ? 'yes' : 'no',
         autoRich([r.failures.join('; '), r.note ?? ''].filter(Boolean).join('. ')),
       ]);
@@ -383,6 +388,7 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
             { header: 'Consumed', unit: 'mg/L' },
             { header: 'Fe', unit: 'mg/L' },
             { header: 'Mn', unit: 'mg/L' },
+            ...(withTurbidity ? [{ header: 'Turbidity', unit: 'NTU' }] : []),
             { header: 'Targets met' },
             { header: 'Why not, notes' },
           ],

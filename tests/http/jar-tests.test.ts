@@ -184,10 +184,12 @@ describe('POST /api/v1/jar-tests/plans', () => {
     expect(String(r.headers['content-type'])).toContain(type);
   });
 
-  it('an Accept header that allows neither JSON nor PDF is refused', async () => {
+  it('an Accept header that allows neither JSON nor PDF is refused with 406 Not Acceptable (RFC 9110 §15.5.7)', async () => {
     const r = await post('/api/v1/jar-tests/plans', worked, { accept: 'text/html' });
-    expect(r.statusCode).toBe(400);
+    expect(r.statusCode).toBe(406);
+    expect(r.headers['content-type']).toContain('application/problem+json');
     expect(r.json().code).toBe('NOT_ACCEPTABLE');
+    expect(r.json().status).toBe(406);
   });
 
   it.each([
@@ -303,6 +305,53 @@ describe('POST /api/v1/jar-tests/plans', () => {
       // a stored target the plan does not take changes what the operator expected: a warning in both answers
       if (doseFlag) expect([doseFlag.severity, planFlag.severity], oxidant).toEqual(['warning', 'warning']);
     }
+  });
+
+  it('calcium hypochlorite: a 300 g/L stock is above its solubility (about 21 g per 100 g water = 173.55 g/L, tables/strength-limits.json): 400 naming /stockStrength/value', async () => {
+    const body = { oxidant: 'calcium-hypochlorite', sample: SAMPLE, jarVolume: { value: 1, unit: 'L' }, stockStrength: { value: 300, unit: 'g/L' } };
+    const r = await post('/api/v1/jar-tests/plans', body);
+    expect(r.statusCode).toBe(400);
+    const e = r.json().errors.find((x: { pointer: string }) => x.pointer === '/stockStrength/value');
+    expect(e.message).toContain('173.6 g/L'); // 173.55 to 4 significant figures
+    // the default plan now states the solubility it was checked against, instead of SOLUBILITY_NOT_CHECKED
+    const ok = await post('/api/v1/jar-tests/plans', { ...body, stockStrength: undefined });
+    expect(ok.statusCode).toBe(200);
+    expect(ok.json().stock.solubility.value).toBeCloseTo(21000 / 121, 9);
+    expect(ok.json().warnings.map((w: { code: string }) => w.code)).not.toContain('SOLUBILITY_NOT_CHECKED');
+  });
+
+  it('sodium hypochlorite on hand at 25 % w/v (250 g/L, above the 200 g/L no trade product reaches) is a 400 naming /product/strength/value, as POST /api/v1/doses refuses it', async () => {
+    const r = await post('/api/v1/jar-tests/plans', { oxidant: 'sodium-hypochlorite', sample: SAMPLE, jarVolume: { value: 1, unit: 'L' }, product: { strength: { value: 25, unit: '% w/v' } } });
+    expect(r.statusCode).toBe(400);
+    expect(r.json().errors[0].pointer).toBe('/product/strength/value');
+    const dose = await post('/api/v1/doses', { oxidant: 'sodium-hypochlorite', sample: SAMPLE, product: { strength: { value: 25, unit: '% w/v' } } });
+    expect(dose.statusCode).toBe(400);
+    expect(dose.json().errors[0].pointer).toBe('/product/strength/value');
+  });
+
+  it('sodium hypochlorite at 10 % w/w without a density: the tabled density interpolated, as POST /api/v1/doses does, and said', async () => {
+    // tables/oxidants.json (White's Handbook, from memory): 10 trade % = 100 g/L at 1.14 kg/L → 100/11.4 = 8.7719 % w/w;
+    // 12.5 trade % = 125 g/L at 1.17 kg/L → 125/11.7 = 10.6838 % w/w. At 10 % w/w, by hand:
+    //   ρ = 1.14 + 0.03 × (10 − 8.7719)/(10.6838 − 8.7719) = 1.14 + 0.03 × 0.64235 = 1.15927 kg/L → 10 × 1.15927 × 10 = 115.93 g/L
+    const rho = 1.14 + (0.03 * (10 - 100 / 11.4)) / (125 / 11.7 - 100 / 11.4);
+    const r = await post('/api/v1/jar-tests/plans', { oxidant: 'sodium-hypochlorite', sample: SAMPLE, jarVolume: { value: 1, unit: 'L' }, product: { strength: { value: 10, unit: '% w/w' } } });
+    expect(r.statusCode, r.body).toBe(200);
+    expect(r.json().stock.preparation.tradeStrength.value).toBeCloseTo(100 * rho, 9);
+    const note = r.json().warnings.find((w: { message: string }) => w.message.includes('No density was given for 10 % w/w'));
+    expect(note.message).toContain('1.159 kg/L interpolated');
+    const dose = await post('/api/v1/doses', { oxidant: 'sodium-hypochlorite', sample: SAMPLE, flow: { value: 1000, unit: 'm3/d' }, product: { strength: { value: 10, unit: '% w/w' } } });
+    expect(dose.statusCode).toBe(200);
+    expect(JSON.stringify(dose.json().flags)).toContain('1.159 kg/L');
+    // beyond the tabled strengths (12.4 % w/w at 15 trade %) the density is not extrapolated: 400 naming /product/density
+    const out = await post('/api/v1/jar-tests/plans', { oxidant: 'sodium-hypochlorite', sample: SAMPLE, jarVolume: { value: 1, unit: 'L' }, product: { strength: { value: 14, unit: '% w/w' } } });
+    expect(out.statusCode).toBe(400);
+    expect(out.json().errors.map((e: { pointer: string }) => e.pointer)).toContain('/product/density');
+  });
+
+  it('a ladder dose of 1e9 mg/L is a 400 naming /doses/1/value', async () => {
+    const r = await post('/api/v1/jar-tests/plans', { ...worked, doses: [mgL(1), mgL(1e9)] });
+    expect(r.statusCode).toBe(400);
+    expect(r.json().errors.find((x: { pointer: string }) => x.pointer === '/doses/1/value').message).toContain('at most 1000 mg/L');
   });
 
   it('an unknown plantId is a 404 naming /plantId', async () => {
@@ -447,6 +496,43 @@ describe('POST /api/v1/jar-tests/checks', () => {
     expect(r.statusCode).toBe(400);
     expect(r.json().errors[0].pointer).toBe('/jarVolume/value');
     expect(r.json().errors[0].message).toContain('at least 0.25 L');
+  });
+
+  it('a dose beyond any bench (1e9 mg/L) or an aliquot larger than the jar is a 400 naming the field', async () => {
+    // 1000 mg/L is the bound src/dosing/bounds.ts puts on a target residual (common practice); 2 L = 2000 mL
+    const r = await post('/api/v1/jar-tests/checks', { ...base, jars: [goodJars[0], { dose: mgL(1e9) }, { aliquotMl: 2500 }] });
+    expect(r.statusCode).toBe(400);
+    const errors = r.json().errors as { pointer: string; message: string }[];
+    expect(errors.find((e) => e.pointer === '/jars/1/dose/value')!.message).toContain('at most 1000 mg/L');
+    expect(errors.find((e) => e.pointer === '/jars/2/aliquotMl')!.message).toContain('more than the 2000 mL jar');
+  });
+
+  // tables/strength-limits.json, the limits POST /api/v1/doses uses (values from memory there, as its rows say):
+  //   calcium hypochlorite dissolves to about 21 g per 100 g water → 1000 × 21 ÷ 121 = 173.55 g/L of solution;
+  //   sodium hypochlorite refused above 200 g/L, strongest grade 15 trade % = 150 g/L;
+  //   hydrogen peroxide refused above 80 % w/w (× 1.20 kg/L × 10 = 960 g/L), strongest grade 50 % w/w = 600 g/L.
+  it.each([
+    ['calcium-hypochlorite', 30, 'STOCK_ABOVE_SOLUBILITY', 'error'],
+    ['sodium-hypochlorite', 50, 'STOCK_ABOVE_PRODUCT_LIMIT', 'error'],
+    ['sodium-hypochlorite', 16, 'STOCK_ABOVE_TRADE_GRADE', 'warning'],
+    ['hydrogen-peroxide', 90, 'STOCK_ABOVE_TRADE_GRADE', 'warning'],
+  ] as const)('%s stock at %s %% w/v → %s (%s), from the product limits of the dose route', async (oxidant, pct, code, severity) => {
+    const r = await post('/api/v1/jar-tests/checks', { ...base, oxidant, stockStrength: { value: pct, unit: '% w/v' }, jars: [{ aliquotMl: 0.1 }, { aliquotMl: 0.2 }, { aliquotMl: 0.3 }] });
+    expect(r.statusCode).toBe(200);
+    const p = r.json().problems.find((x: { code: string }) => x.code === code);
+    expect(p, JSON.stringify(r.json().problems)).toBeDefined();
+    expect(p.severity).toBe(severity);
+    if (severity === 'error') expect(r.json().ok).toBe(false);
+  });
+
+  it('a stock within every limit (hypochlorite 10 g/L, calcium hypochlorite 10 g/L) raises none of them', async () => {
+    for (const oxidant of ['sodium-hypochlorite', 'calcium-hypochlorite']) {
+      const r = await post('/api/v1/jar-tests/checks', { ...base, oxidant, stockStrength: { value: 10, unit: 'g/L' }, jars: goodJars });
+      const codes = r.json().problems.map((x: { code: string }) => x.code);
+      expect(codes).not.toEqual(expect.arrayContaining(['STOCK_ABOVE_SOLUBILITY']));
+      expect(codes).not.toContain('STOCK_ABOVE_PRODUCT_LIMIT');
+      expect(codes).not.toContain('STOCK_ABOVE_TRADE_GRADE');
+    }
   });
 
   it('a negative aliquot is a 400 naming /jars/1/aliquotMl', async () => {
@@ -601,6 +687,21 @@ describe('POST /api/v1/jar-tests/evaluations', () => {
     const op = await post('/api/v1/jar-tests/evaluations', body, { authorization: `Bearer ${operatorToken}` });
     expect(op.statusCode).toBe(403);
     expect(op.json().code).toBe('AUTH_FORBIDDEN');
+  });
+
+  it('marginPercent 150 is a 400 naming /marginPercent, saying what the field is and the range it takes', async () => {
+    const r = await post('/api/v1/jar-tests/evaluations', { ...body, marginPercent: 150 }, asAdmin);
+    expect(r.statusCode).toBe(400);
+    const e = r.json().errors.find((x: { pointer: string }) => x.pointer === '/marginPercent');
+    expect(e.message).toBe('marginPercent, the margin added to the bench dose, must be from 0 to 100 % (10 % is common practice); got 150');
+  });
+
+  it('a jar dose of 1e9 mg/L is a 400 naming /jars/0/dose/value (at most 1000 mg/L, common practice), not a 201', async () => {
+    const r = await post('/api/v1/jar-tests/evaluations', { ...body, jars: [{ ...jars[0]!, dose: mgL(1e9) }, ...jars.slice(1)] }, asAdmin);
+    expect(r.statusCode).toBe(400);
+    expect(r.headers['content-type']).toContain('application/problem+json');
+    const e = r.json().errors.find((x: { pointer: string }) => x.pointer === '/jars/0/dose/value');
+    expect(e.message).toContain('at most 1000 mg/L');
   });
 
   it('too few jars with a residual and no iron or manganese to judge by: 422 naming /jars', async () => {

@@ -78,6 +78,30 @@ describe('checkJarPlan: a sound plan', () => {
   });
 });
 
+describe('checkJarPlan: the aliquot a dose needs, in words', () => {
+  it('0.2 mg/L in 1 L of 1 g/L needs 0.2 mL (by hand: 0.2 × 1 ÷ 1): "the 0.2 mL aliquot that 0.2 mg/L needs is below 1 mL"', () => {
+    const r = checkJarPlan({ oxidant: 'potassium-permanganate', jarVolumeL: 1, stockStrengthGPerL: 1, contactTimesMin: [30], jars: [{ doseMgPerL: 0.2 }, { doseMgPerL: 2 }, { doseMgPerL: 3 }] });
+    const p = r.jars[0]!.problems.find((x) => x.code === 'ALIQUOT_BELOW_MINIMUM')!;
+    expect(p.message).toContain('Jar 1: the 0.2 mL aliquot that 0.2 mg/L needs is below 1 mL');
+  });
+});
+
+describe('checkJarPlan: a written aliquot against a written dose when the pipette step is coarse', () => {
+  it('10 g/L in 500 mL jars: 0.1 mL gives 2.0 mg/L (one step is 2 mg/L), so 1.5 and 2.5 written beside 0.1 mL are DOSE_MISMATCH, and 5.5 beside 0.3 mL too', () => {
+    // by hand: a·C/V = 0.1 mL × 10 mg/mL ÷ 0.5 L = 2.0 mg/L (2.0/1.0002 = 1.9996 with the dilution), 0.2 mL → 4.0, 0.3 mL → 6.0;
+    // half a step is 1.0 mg/L, far above the 5 % of the dose a 10-step aliquot allows (common practice), so it is not rounding
+    const r = checkJarPlan({
+      oxidant: 'potassium-permanganate', jarVolumeL: 0.5, stockStrengthGPerL: 10, contactTimesMin: [5, 15, 30],
+      jars: [{ doseMgPerL: 1.5, aliquotMl: 0.1 }, { doseMgPerL: 2.5, aliquotMl: 0.1 }, { doseMgPerL: 4, aliquotMl: 0.2 }, { doseMgPerL: 5.5, aliquotMl: 0.3 }],
+    });
+    const mismatched = r.jars.filter((j) => j.problems.some((p) => p.code === 'DOSE_MISMATCH')).map((j) => j.jar);
+    expect(mismatched).toEqual([1, 2, 4]);
+    expect(r.jars[0]!.recomputedDoseMgPerL).toBeCloseTo(1 / 0.5001, 9);
+    expect(r.jars[0]!.problems.find((p) => p.code === 'DOSE_MISMATCH')!.message).toContain('not the stated 1.5 mg/L');
+    expect(r.ok).toBe(false);
+  });
+});
+
 describe('checkJarPlan: bracketing is judged on the doses the aliquots give', () => {
   // 0.5 g/L stock, 2 L jars: a mL gives a·0.5/(2 + a/1000) mg/L, so 0.5, 1, 1.5, 2 mL give about 0.125 … 0.5 mg/L,
   // a factor-of-4 slip against the stated 0.5 … 2.0 mg/L
@@ -119,7 +143,7 @@ describe('checkJarPlan: each problem found by a crafted plan', () => {
     ['jar 2 repeats jar 1', jars([{ doseMgPerL: 1 }, { doseMgPerL: 1 }, { doseMgPerL: 3 }]), 'DUPLICATE_DOSE', 2],
     ['ladder 1, 3, 2', jars([{ doseMgPerL: 1 }, { doseMgPerL: 3 }, { doseMgPerL: 2 }]), 'NON_MONOTONIC_LADDER', null],
     ['a jar with neither dose nor aliquot', jars([{ doseMgPerL: 1 }, {}, { doseMgPerL: 3 }]), 'MISSING_DOSE_AND_ALIQUOT', 2],
-    ['3000 mg/L from a 1.0 g/L stock', jars([{ doseMgPerL: 1 }, { doseMgPerL: 3000 }, { doseMgPerL: 4000 }]), 'DOSE_UNREACHABLE', 2],
+    ['1000 mg/L from a 0.5 g/L (500 mg/L) stock', { ...jars([{ doseMgPerL: 1 }, { doseMgPerL: 1000 }, { doseMgPerL: 600 }]), stockStrengthGPerL: 0.5 }, 'DOSE_UNREACHABLE', 2],
     ['two jars', jars([{ doseMgPerL: 1 }, { doseMgPerL: 3 }]), 'TOO_FEW_JARS', null],
     ['no estimate', { ...SOUND, estimateMgPerL: undefined }, 'NO_ESTIMATE', null],
   ])('%s → %s', (_name, plan, code, jar) => {

@@ -94,7 +94,10 @@ describe('evaluateJarTest: bad input and too few points (edge cases first)', () 
 
   it('three replicates at one dose cannot make a line', () => {
     const jars = [2, 2, 2].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 0.3 }] }));
-    expect(fails(() => evaluateJarTest({ ...MODEL, jars, targets: {} })).params).toMatchObject({ n: 3, distinctDoses: 1 });
+    const e = fails(() => evaluateJarTest({ ...MODEL, jars, targets: {} }));
+    expect(e.params).toMatchObject({ n: 3, distinctDoses: 1 });
+    // the field message says the real reason: one dose, not too few jars
+    expect(e.fields[0]!.message).toBe('3 jars with a measurable residual at 30 min, but all at one dose (2 mg/L); a line needs jars at 2 or more doses');
   });
 
   it('no line but iron and manganese targets: the lowest jar meeting them is recommended, with no demand figures (permanganate: info; hypochlorite: warning)', () => {
@@ -131,28 +134,52 @@ describe('evaluateJarTest: bad input and too few points (edge cases first)', () 
     expect(no.severity).toBe('error');
     expect(no.message).toContain('FIT_SLOPE_NOT_POSITIVE');
   });
+
+  it('a poor fit with no apparent demand does not say to treat the apparent demand as rough', () => {
+    // invented readings falling with dose, scattered: 1 → 2.0, 2 → 0.5, 3 → 1.5, 4 → 0.2 mg/L; by hand x̄ = 2.5, ȳ = 1.05,
+    // Sxy = −1.425 + 0.275 + 0.225 − 1.275 = −2.2, Sxx = 5, Syy = 2.13: slope −0.44, r² = 4.84/(5 × 2.13) = 0.4545
+    const jars = [[1, 2.0], [2, 0.5], [3, 1.5], [4, 0.2]].map(([d, r]) => ({ doseMgPerL: d!, results: [{ contactTimeMin: 30, residualOxidantMgPerL: r!, ironMgPerL: 0.1 }] }));
+    const e = evaluateJarTest({ ...MODEL, jars, targets: { ironMgPerL: 0.3 } });
+    expect(e.fit!.slope).toBeCloseTo(-0.44, 12);
+    expect(e.fit!.r2).toBeCloseTo(4.84 / 10.65, 12);
+    const poor = e.problems.find((p) => p.code === 'FIT_POOR')!;
+    expect(poor.message).toContain('no apparent demand was computed');
+    expect(poor.message).not.toContain('treat the apparent demand as rough');
+  });
 });
 
 describe('evaluateJarTest: worked example from the stated model', () => {
   const r = evaluateJarTest(MODEL);
 
-  it('fits the longest contact time over the jars that kept a residual', () => {
-    // at 30 min residuals 0, 0, 0.2, 0.7, 1.2, 1.7: jars 3–6 are above 0.05 mg/L
-    expect(r.fit!.contactTimeMin).toBe(30);
-    expect(r.fit!.contactTimeChoice).toBe('longest');
+  it("fits the longest bench time within the plant's 20 min of contact (15 min) over the jars that kept a residual", () => {
+    // at 15 min residuals 0, 0, 0.3, 0.8, 1.3, 1.8: jars 3–6 are above 0.05 mg/L
+    expect(r.fit!.contactTimeMin).toBe(15);
+    expect(r.fit!.contactTimeChoice).toBe('plant-contact');
     expect(r.fit!.jarsUsed).toEqual([3, 4, 5, 6]);
     expect(r.fit!.jarsExcluded.map((x) => x.jar)).toEqual([1, 2]);
     expect(r.fit!.n).toBe(4);
-    // exact line residual = dose − 1.8
+    // exact line residual = dose − 1.7
     expect(r.fit!.slope).toBeCloseTo(1, 10);
-    expect(r.fit!.intercept).toBeCloseTo(-1.8, 10);
+    expect(r.fit!.intercept).toBeCloseTo(-1.7, 10);
     expect(r.fit!.r2).toBeCloseTo(1, 10);
-    expect(r.notes.join(' ')).toContain('longest');
+    expect(r.notes.join(' ')).toContain("not beyond the plant's 20 min of contact");
   });
 
-  it('apparent demand = −intercept/slope = 1.8 mg/L; background = 1.8 − 1.6 = 0.2 mg/L', () => {
-    expect(r.apparentDemand!.doseMgPerL).toBeCloseTo(1.8, 10);
-    expect(r.backgroundDemand!.doseMgPerL).toBeCloseTo(0.2, 10);
+  it('without a plant contact time the fit is at the longest contact time, 30 min: residual = dose − 1.8', () => {
+    const { plantContactTimeMin: _p, ...noPlant } = MODEL;
+    const e = evaluateJarTest(noPlant);
+    expect(e.fit!.contactTimeMin).toBe(30);
+    expect(e.fit!.contactTimeChoice).toBe('longest');
+    expect(e.fit!.intercept).toBeCloseTo(-1.8, 10);
+    expect(e.notes.join(' ')).toContain('longest');
+  });
+
+  it('apparent demand = −intercept/slope = 1.7 mg/L at 15 min; background = 1.7 − 1.6 = 0.1 mg/L (1.8 and 0.2 at 30 min)', () => {
+    expect(r.apparentDemand!.doseMgPerL).toBeCloseTo(1.7, 10);
+    expect(r.backgroundDemand!.doseMgPerL).toBeCloseTo(0.1, 10);
+    const at30 = evaluateJarTest({ ...MODEL, fitContactTimeMin: 30 });
+    expect(at30.apparentDemand!.doseMgPerL).toBeCloseTo(1.8, 10);
+    expect(at30.backgroundDemand!.doseMgPerL).toBeCloseTo(0.2, 10);
   });
 
   it('oxidant consumed per jar and the demand curve: consumed = applied − residual', () => {
@@ -162,9 +189,9 @@ describe('evaluateJarTest: worked example from the stated model', () => {
     expect(r.jars[0]!.results[2]!.residualBelowDetection).toBe(true);
     expect(r.demandCurves.map((c) => c.contactTimeMin)).toEqual([5, 15, 30]);
     expect(r.demandCurves[2]!.points.map((p) => p.consumedMgPerL)).toEqual(DOSES.map((d) => expect.closeTo(Math.min(d, 1.8), 10)));
-    // consumed = x − y, so its line has slope 1 − m and intercept −b: here 0 and 1.8
+    // consumed = x − y, so its line has slope 1 − m and intercept −b: here 0 and 1.7 (the 15 min line)
     expect(r.fit!.demandLine.slope).toBeCloseTo(0, 10);
-    expect(r.fit!.demandLine.intercept).toBeCloseTo(1.8, 10);
+    expect(r.fit!.demandLine.intercept).toBeCloseTo(1.7, 10);
   });
 
   it('the lowest dose meeting every target at each contact time', () => {
@@ -188,7 +215,7 @@ describe('evaluateJarTest: worked example from the stated model', () => {
     expect(rec.margin.basis).toContain('common practice');
     // the residual line at the recommendation's own contact time, 15 min: 2.75 − 1.7 = 1.05 mg/L
     expect(rec.expectedResidualMgPerL).toBeCloseTo(1.05, 10);
-    expect(r.notes.join(' ')).toContain('read from the residual line at 15 min');
+    expect(r.fit!.contactTimeMin).toBe(rec.contactTimeMin);
   });
 
   it('permanganate: no margin by default (a residual shows as pink water), 2.5 mg/L at 15 min', () => {
@@ -248,13 +275,31 @@ describe('evaluateJarTest: worked example from the stated model', () => {
     expect(at30.note).toContain('manganese 0.2 > 0.05');
   });
 
-  it('no targets at all: recommend apparent demand + target residual + margin', () => {
-    // (1.8 + 0) × 1.1 = 1.98 mg/L
+  it("no targets at all: recommend apparent demand + target residual + margin, from the line at the plant's contact", () => {
+    // plant 20 min → the 15 min line, D = 1.7: (1.7 + 0) × 1.1 = 1.87 mg/L; the residual it predicts there is 1.87 − 1.7 = 0.17
     const jars = MODEL.jars.map((j) => ({ ...j, results: j.results.map((x) => ({ contactTimeMin: x.contactTimeMin, residualOxidantMgPerL: x.residualOxidantMgPerL })) }));
     const e = evaluateJarTest({ ...MODEL, jars, targets: undefined });
     expect(e.lowestDoseMeetingTargets).toEqual([]);
     expect(e.recommendedDose!.basis).toBe('apparent-demand-plus-residual');
-    expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(1.98, 10);
+    expect(e.recommendedDose!.contactTimeMin).toBe(15);
+    expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(1.87, 10);
+    expect(e.recommendedDose!.expectedResidualMgPerL).toBeCloseTo(0.17, 10);
+    expect(e.problems.map((p) => p.code)).not.toContain('FIT_TIME_BEYOND_PLANT_CONTACT');
+    // a residual target no jar met takes the same path and the same line: (1.7 + 5) × 1.1 = 7.37 mg/L
+    const withTarget = evaluateJarTest({ ...MODEL, jars, targets: { residualOxidantMgPerL: 5 } });
+    expect(withTarget.recommendedDose!.basis).toBe('apparent-demand-plus-residual');
+    expect(withTarget.recommendedDose!.doseMgPerL).toBeCloseTo(7.37, 10);
+    expect(withTarget.recommendedDose!.contactTimeMin).toBe(15);
+  });
+
+  it('a fit the caller puts beyond the plant contact says why that errs on the side of the residual, not of the oxidation', () => {
+    const jars = MODEL.jars.map((j) => ({ ...j, results: j.results.map((x) => ({ contactTimeMin: x.contactTimeMin, residualOxidantMgPerL: x.residualOxidantMgPerL })) }));
+    const e = evaluateJarTest({ ...MODEL, jars, targets: undefined, fitContactTimeMin: 30 });
+    expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(1.98, 10); // (1.8 + 0) × 1.1
+    const w = e.problems.find((p) => p.code === 'FIT_TIME_BEYOND_PLANT_CONTACT')!;
+    expect(w.message).toContain('uses no more oxidant than in 30 min');
+    expect(w.message).toContain('may not be complete');
+    expect(w.message).not.toContain('may need more oxidant');
   });
 
   it('an iron target no jar met: no dose is recommended (the demand line would sit below doses that failed)', () => {
@@ -491,12 +536,34 @@ describe('evaluateJarTest: the edges of the ladder', () => {
     expect(codesOf(evaluateJarTest(MODEL))).not.toContain('LOWEST_JAR_MEETS_TARGETS');
   });
 
-  it('a control jar (no oxidant) that meets every target says the water may need no oxidant', () => {
+  it('a control jar (no oxidant) that meets every target, as every dosed jar does, says the water may need no oxidant', () => {
+    // iron ≤ 0.7 and manganese ≤ 0.2 are met by every jar of the model (readings ≤ 0.6 and ≤ 0.12), and by the blank
     const jars = [{ doseMgPerL: 0, results: [{ contactTimeMin: 15, residualOxidantMgPerL: 0, ironMgPerL: 0.1, manganeseMgPerL: 0.02 }] }, ...modelJars()];
-    const e = evaluateJarTest({ ...MODEL, jars });
+    const e = evaluateJarTest({ ...MODEL, jars, targets: { ironMgPerL: 0.7, manganeseMgPerL: 0.2 } });
     const w = e.problems.find((p) => p.code === 'LOWEST_JAR_MEETS_TARGETS')!;
     expect(w.message).toContain('control jar');
     expect(w.message).toContain('may need no oxidant');
+    expect(e.problems.map((p) => p.code)).not.toContain('CONTROL_JAR_CONTRADICTS_DOSED_JARS');
+  });
+
+  it('a control jar that passes while dosed jars above it fail: no recommendation, an error that says why', () => {
+    // Invented jars (hypochlorite as Cl2, 30 min): doses 0, 0.5 … 3 mg/L; dissolved Fe 0.1, 0.8, 0.4, 0.1, 0.05, 0.02, 0.02;
+    // residual max(0, dose − 1.2). The blank reads 0.1 ≤ 0.3 mg/L (40 CFR 143.3 level as the target) but jars 2 and 3,
+    // dosed with 0.5 and 1 mg/L, read 0.8 and 0.4: oxidant does not raise dissolved iron, so one side is wrong.
+    const doses = [0, 0.5, 1, 1.5, 2, 2.5, 3];
+    const fe = [0.1, 0.8, 0.4, 0.1, 0.05, 0.02, 0.02];
+    const jars = doses.map((d, i) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: Math.max(0, Number((d - 1.2).toFixed(10))), ironMgPerL: fe[i]! }] }));
+    const e = evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: 0.64, jarVolumeL: 2, jars, targets: { ironMgPerL: 0.3 }, plantContactTimeMin: 30 });
+    expect(e.recommendedDose).toBeNull();
+    const p = e.problems.find((x) => x.code === 'CONTROL_JAR_CONTRADICTS_DOSED_JARS')!;
+    expect(p.severity).toBe('error');
+    expect(p.jar).toBe(1);
+    expect(p.message).toContain('dosed jar(s) 2, 3 (0.5, 1 mg/L)');
+    expect(p.message).toContain('iron 0.8 > 0.3 mg/L');
+    expect(p.message).toContain("control jar's sample");
+    // the residual line is still reported: residual = dose − 1.2 over jars 4–7, so it crosses zero at 1.2 mg/L (by hand)
+    expect(e.apparentDemand!.doseMgPerL).toBeCloseTo(1.2, 9);
+    expect(e.problems.map((x) => x.code)).not.toContain('HIGHER_DOSE_FAILS_TARGETS');
   });
 
   it('a higher dose that fails after a lower one passed: HIGHER_DOSE_FAILS_TARGETS (warning), not only a note', () => {
@@ -582,5 +649,36 @@ describe('evaluateJarTest: the edges of the ladder with a control jar and at the
     const mid = evaluateJarTest({ ...MODEL, jars: jarsMeetingFrom([2, 4, 6, 8], 4) });
     expect(mid.problems.map((x) => x.code)).not.toEqual(expect.arrayContaining(['ONLY_HIGHEST_JAR_MEETS_TARGETS']));
     expect(mid.problems.map((x) => x.code)).not.toContain('LOWEST_JAR_MEETS_TARGETS');
+  });
+});
+
+describe('evaluateJarTest: a recommendation below the ladder, and jar figures beyond any bench', () => {
+  it('no targets, jars 3, 4, 5 mg/L keep 1.8, 2.8, 3.8: the line crosses zero at 1.2 mg/L, and 1.32 mg/L is flagged as extrapolated below the ladder', () => {
+    // by hand: residual = dose − 1.2 exactly, so the apparent demand is 1.2 mg/L and +10 % (common practice) gives 1.32 mg/L, below jar 1 (3 mg/L)
+    const jars = [3, 4, 5].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: Number((d - 1.2).toFixed(10)) }] }));
+    const e = evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: 0.64, jarVolumeL: 1, jars, plantContactTimeMin: 30 });
+    expect(e.recommendedDose!.doseMgPerL).toBeCloseTo(1.32, 9);
+    const w = e.problems.find((p) => p.code === 'RECOMMENDATION_BELOW_LADDER')!;
+    expect(w.severity).toBe('warning');
+    expect(w.message).toContain('below every jar tested (the lowest is jar 1, 3 mg/L)');
+    expect(w.message).toContain('doses from about 0.6 to 3 mg/L');
+    // a ladder reaching below the recommendation raises no such warning: add a jar at 1 mg/L that keeps nothing
+    const wider = evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: 0.64, jarVolumeL: 1, jars: [{ doseMgPerL: 1, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 0 }] }, ...jars], plantContactTimeMin: 30 });
+    expect(wider.recommendedDose!.doseMgPerL).toBeCloseTo(1.32, 9);
+    expect(wider.problems.map((p) => p.code)).not.toContain('RECOMMENDATION_BELOW_LADDER');
+  });
+
+  it.each([
+    ['a jar dose of 1e9 mg/L', { jars: [{ doseMgPerL: 1e9, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 1 }] }] }, '/jars/0/doseMgPerL'],
+    ['a residual of 5000 mg/L', { jars: [{ doseMgPerL: 5, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 5000 }] }] }, '/jars/0/results/0/residualOxidantMgPerL'],
+  ] as const)('%s is refused (above 1000 mg/L, the bound of src/dosing/bounds.ts on a target residual; common practice)', (_n, over, pointer) => {
+    const e = fails(() => evaluateJarTest({ ...MODEL, ...(over as Partial<EvaluateJarTestInput>) }));
+    expect(e.code).toBe('JAR_TEST_INVALID');
+    const f = e.fields.find((x) => x.pointer === pointer)!;
+    expect(f.message).toContain('at most 1000 mg/L');
+  });
+  it('1000 mg/L itself is taken (the bound is inclusive)', () => {
+    const jars = [500, 750, 1000].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: d - 100 }] }));
+    expect(() => evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: 1, jarVolumeL: 1, jars })).not.toThrow();
   });
 });

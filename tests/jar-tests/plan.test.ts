@@ -468,3 +468,44 @@ describe('planJarTest: a control jar (dose 0) is a blank, not a bracket', () => 
     expect(codes(plan)).toContain('CONTROL_JAR');
   });
 });
+
+describe('planJarTest: the default stock can be made up in one step', () => {
+  it('12.5 % w/w hypochlorite at 1.2 kg/L (150 g/L), 1 L jars, estimate 0.64 mg/L: 0.25 g/L, not 0.1 g/L that needs 0.67 mL of trade solution', () => {
+    // by hand: ladder 0.32 … 0.96 mg/L (50 % to 150 % of 0.64, common practice); at 0.1 g/L the aliquots are 3.2 … 9.6 mL,
+    // but 0.1 g/L × 1000 mL ÷ 150 g/L = 0.667 mL of trade solution, below the 1 mL a pipette measures well (common practice).
+    // At 0.25 g/L the aliquots are 1.28 … 3.84 mL and 0.25 × 1000 ÷ 150 = 1.667 mL, measured as 1.7 mL:
+    // 1.7 mL × 150 g/L ÷ 1000 mL = 0.255 g/L, the strength the aliquots use.
+    const hypo: JarProductFacts = { ...NAOCL, stock: { kind: 'trade-solution', tradeStrengthGPerL: 150 } };
+    const p = planJarTest({ oxidant: 'sodium-hypochlorite', product: hypo, estimateMgPerL: 0.64, jarVolumeL: 1 });
+    expect(codes(p)).not.toContain('TRADE_VOLUME_BELOW_MINIMUM');
+    expect(p.stock.flaskVolumeMl).toBe(1000);
+    expect(p.stock.preparation).toMatchObject({ kind: 'dilute', tradeVolumeMl: 1.7 });
+    expect(p.stock.strengthGPerL).toBeCloseTo(0.255, 12);
+    expect(p.jars.every((j) => j.aliquotMl >= 1 && j.aliquotMl <= 10)).toBe(true);
+    // 125 g/L trade solution (12.5 trade %): 0.25 × 1000 ÷ 125 = 2.0 mL, a pipette step, so 0.25 g/L is kept exactly
+    const p125 = planJarTest({ oxidant: 'sodium-hypochlorite', product: NAOCL, estimateMgPerL: 0.64, jarVolumeL: 1 });
+    expect(p125.stock.strengthGPerL).toBe(0.25);
+    expect(codes(p125)).not.toContain('TRADE_VOLUME_BELOW_MINIMUM');
+  });
+});
+
+describe('planJarTest: a trade strength measured on the day', () => {
+  it('strengthMeasured: the instructions do not ask to measure it first; without it they do', () => {
+    const measured = planJarTest({ oxidant: 'sodium-hypochlorite', product: { ...NAOCL, stock: { kind: 'trade-solution', tradeStrengthGPerL: 125, strengthMeasured: true } }, estimateMgPerL: 0.64, jarVolumeL: 1 });
+    expect(measured.stock.instructions.join(' ')).not.toContain('First measure');
+    expect(measured.stock.instructions.join(' ')).toContain('was measured on the day');
+    const nominal = planJarTest({ oxidant: 'sodium-hypochlorite', product: NAOCL, estimateMgPerL: 0.64, jarVolumeL: 1 });
+    expect(nominal.stock.instructions.join(' ')).toContain("First measure the trade solution's strength");
+  });
+});
+
+describe('planJarTest: a jar count beside explicit doses', () => {
+  it('jars: 4 with three doses → 3 jars and a JARS_IGNORED warning; jars: 3 with three doses → no warning', () => {
+    const p = planJarTest(base({ jars: 4, doses: [1, 2, 3] }));
+    expect(p.jars).toHaveLength(3);
+    const w = p.warnings.find((x) => x.code === 'JARS_IGNORED')!;
+    expect(w.severity).toBe('warning');
+    expect(w.message).toContain('jars says 4 but 3 doses were given');
+    expect(codes(planJarTest(base({ jars: 3, doses: [1, 2, 3] })))).not.toContain('JARS_IGNORED');
+  });
+});

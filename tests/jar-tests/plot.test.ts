@@ -196,7 +196,7 @@ describe('residualPlotData: an exact fit prints no floating-point noise', () => 
 
   it('the zero-crossing label reads "± 0 mg/L" and no text of the SVG has e-notation', () => {
     const data = residualPlotData(exact);
-    expect(data.markers[0]!.label).toBe('apparent demand 1.1 ± 0 mg/L');
+    expect(data.markers[0]!.label).toBe('apparent demand 1.1 ± 0 mg/L (standard error)');
     expect(data.subtitle).toContain('residual = 1 × dose − 1.1');
     const svg = residualPlotSvg(exact);
     const texts = [...svg.matchAll(/>([^<]+)</g)].map((m) => m[1]!);
@@ -212,6 +212,6 @@ describe('residualPlotData: an exact fit prints no floating-point noise', () => 
       jars: [[1.3, 0.22], [1.7, 0.61], [2.1, 1.02], [2.9, 1.79], [3.3, 2.21]].map(([d, r]) => ({ doseMgPerL: d!, results: [{ contactTimeMin: 30, residualOxidantMgPerL: r! }] })),
     });
     const label = residualPlotData(noisy).markers[0]!.label;
-    expect(label).toMatch(/± 0\.0\d+ mg\/L$/);
+    expect(label).toMatch(/± 0\.0\d+ mg\/L \(standard error\)$/);
   });
 });

@@ -127,9 +127,18 @@ describe('jar tests → bench sheet and evaluation sheet', () => {
     const txt = pdfText(p);
     expect(txt).toContain('Safety: potassium permanganate');
     for (const time of plan.schedule.contactTimesMin) expect(txt).toContain(`Results after ${time} min`);
-    for (const j of plan.jars) expect(txt).toContain(String(j.aliquotMl));
+    for (const j of plan.jars) expect(txt).toContain(j.aliquotMl.toFixed(1));
     expect(txt).toContain(`${plan.stock.flaskVolumeMl} mL volumetric flask`);
     expect(run('qpdf', ['--check', p])).toContain('No syntax or stream encoding errors found');
+  });
+
+  it('bench sheet: the aliquot column prints every volume to the 0.1 mL pipette step (9.0 beside 4.1 and 12.3)', async () => {
+    const plan = planJarTest({ oxidant: 'potassium-permanganate', product: KMNO4, estimateMgPerL: 1.8, jarVolumeL: 2, doses: [2.05, 4.5, 6.15], stockStrengthGPerL: 1 });
+    // by hand: a = D·V/C = 2.05 × 2 ÷ 1 = 4.1 mL, 4.5 × 2 = 9.0 mL, 6.15 × 2 = 12.3 mL (12.3 mL = 0.6 % of 2 L, no dilution correction)
+    expect(plan.jars.map((j) => j.aliquotMl)).toEqual([4.1, 9, 12.3]);
+    const txt = squash(pdfText(pdfFile(await renderSheet(jarTestPlanDocument(plan, ctx)), 'plan-decimals')));
+    expect(txt).toMatch(/2 4\.50 9\.0 /);
+    expect(txt).not.toMatch(/ 9 (?!\.)/);
   });
 
   // Invented results from a stated model: residual = dose − 1.8 mg/L after 30 min (demand 1.8), none below.
@@ -165,5 +174,18 @@ describe('jar tests → bench sheet and evaluation sheet', () => {
     expect(txt).toMatch(new RegExp(`Recommended plant dose ${ev.recommendedDose!.doseMgPerL.toPrecision(3)} mg/L`));
     expect(txt).toContain('Apparent demand');
     expect(run('qpdf', ['--check', p])).toContain('No syntax or stream encoding errors found');
+  });
+
+  it('evaluation sheet: the jar results table has a turbidity column when any result has a turbidity reading, and none otherwise', async () => {
+    const base = evaluation();
+    const col = (t: string) => squash(t).match(/Jar results.*?Targets met/)?.[0] ?? '';
+    const without = pdfText(pdfFile(await renderSheet(jarTestEvaluationDocument(base, { ...ctx, id: 'JT-DEMO-0102' })), 'eval-no-ntu'));
+    expect(col(without)).not.toContain('Turbidity');
+    // invented readings: 0.85 NTU in jar 1, 0.42 NTU in jar 6
+    const jars = base.jars.map((j, i) => ({ ...j, results: j.results.map((r) => ({ ...r, turbidityNTU: i === 0 ? 0.85 : i === base.jars.length - 1 ? 0.42 : null })) }));
+    const txt = pdfText(pdfFile(await renderSheet(jarTestEvaluationDocument({ ...base, jars }, { ...ctx, id: 'JT-DEMO-0103' })), 'eval-ntu'));
+    expect(col(txt)).toContain('Turbidity');
+    expect(txt).toContain('0.850');
+    expect(txt).toContain('0.420');
   });
 });

@@ -140,7 +140,11 @@ export const JarEvaluationBody = z.strictObject({
   detectionLimit: ConcentrationSchema.optional().describe('Lower working limit of the residual method (default 0.05 mg/L, common practice)'),
   fitContactTimeMin: ContactTimeMin.optional().describe('Contact time whose residuals are fitted (default the longest)'),
   plantContactTimeMin: ContactTimeMin.optional().describe('Contact time the plant provides'),
-  marginPercent: z.number().min(0).max(100).optional().describe('Margin added to the bench dose for the plant dose (default 10 %, common practice)'),
+  marginPercent: z
+    .number({ error: 'marginPercent must be a number: the margin added to the bench dose, in % (0 to 100)' })
+    .min(0, { error: 'marginPercent, the margin added to the bench dose, must be from 0 to 100 % (10 % is common practice)' })
+    .max(100, { error: 'marginPercent, the margin added to the bench dose, must be from 0 to 100 % (10 % is common practice)' })
+    .optional().describe('Margin added to the bench dose for the plant dose (default 10 %, common practice)'),
   plantId: z
     .string()
     .min(1)
@@ -321,7 +325,7 @@ export const EvaluationResultOut = z.object({
     interceptUnit: z.string(),
     n: z.number().int(),
     contactTimeMin: z.number(),
-    contactTimeChoice: z.enum(['caller', 'longest']),
+    contactTimeChoice: z.enum(['caller', 'plant-contact', 'longest']).describe("caller: fitContactTimeMin; plant-contact: the longest bench time not beyond plantContactTimeMin that gives a line (the recommendation's); longest: the longest with residual readings"),
     jarsUsed: z.array(z.number().int()),
     jarsExcluded: z.array(z.object({ jar: z.number().int(), reason: z.string() })),
     slopeStdError: NullableNumber,

@@ -15,7 +15,8 @@ import type { FastifyInstance } from 'fastify';
 import { DomainError, type FieldProblem } from '../../../core/errors.js';
 import { roundSig } from '../../../core/decimal.js';
 import { toBaseDec, type Quantity } from '../../../core/quantity.js';
-import { computeDose, CONTAMINANT_FIELDS, plantResidualFor, type DoseRequest, type PlantProfile } from '../../../dosing/index.js';
+import { computeDose, CONTAMINANT_FIELDS, plantResidualFor, strengthLimitProblem, type DoseRequest, type PlantProfile } from '../../../dosing/index.js';
+import { strengthLimitFlags, strengthLimitFor } from '../../../dosing/strength-limits.js';
 import type { BackgroundDemandInput, ConcentrationInput, SampleInput } from '../../../dosing/request.js';
 import {
   aerationNotPlanned,
@@ -243,7 +244,16 @@ function productFacts(services: Services, oxidant: string, product: JarPlanBodyT
       fields: [{ pointer: '/product/strength/value', message: `a strength in ${st.unit} must be at most 100` }],
     });
   }
+  // a product strength no solution can have is refused as POST /api/v1/doses refuses it (tables/strength-limits.json)
+  if (st) {
+    const limit = strengthLimitProblem(oxidant, { strength: st, ...(product?.density ? { density: product.density } : {}) }, '/product', services.dosing.strengthLimits);
+    if (limit) throw new DomainError('QUANTITY_OUT_OF_RANGE', { detail: `${limit.message}.`, fields: [{ pointer: limit.pointer, message: limit.message }], params: { strengthLimit: limit.params } });
+  }
+  const sl = strengthLimitFor(oxidant, services.dosing.strengthLimits);
   const options: JarProductOptions = {
+    ...(sl?.kind === 'solubility' && !sl.fromSolubilityTable
+      ? { solubilityLimit: { gramsPer100gWater: Number(sl.gramsPer100gWater), temperatureC: Number(sl.temperatureC), source: sl.source, of: sl.of, fromMemory: sl.fromMemory } }
+      : {}),
     ...(conv ? { productPerBasis: conv.productPerBasis.toNumber() } : {}),
     ...(product?.purity ? { purityPercent: product.purity.value } : {}),
     ...(st
@@ -470,6 +480,18 @@ function checkOut(services: Services, body: JarCheckBodyT) {
   const solubility = facts.stock.kind === 'solid' || facts.stock.kind === 'generated' ? facts.stock.solubility : undefined;
   const jarVolumeL = litres(body.jarVolume, '/jarVolume');
   const C = stockGPerL(body.stockStrength, '/stockStrength');
+  // A stock diluted from a liquid concentrate is no stronger than the concentrate: the limits POST /api/v1/doses
+  // puts on a product strength (tables/strength-limits.json) hold for it too.
+  let strengthLimit: { severity: 'error' | 'warning'; message: string } | undefined;
+  if (facts.stock.kind === 'trade-solution') {
+    const asProduct = { strength: { value: C, unit: 'g/L' } };
+    const refused = strengthLimitProblem(body.oxidant, asProduct, '/product', services.dosing.strengthLimits);
+    if (refused) strengthLimit = { severity: 'error', message: `The stock: ${refused.message}.` };
+    else {
+      const above = strengthLimitFlags(ox, asProduct, 20, 'not used', false, services.dosing.strengthLimits);
+      if (above[0]) strengthLimit = { severity: 'warning', message: above[0].message.replace(/^The product strength, (.+?), is above /, 'A stock of $1 is above ').replace(/ Check the strength on the certificate[^]*$/, ' Check the stock strength and its unit: a jar stock is diluted from the trade product, never stronger than it.') };
+    }
+  }
   const check = mapped(
     () =>
       checkJarPlan({
@@ -484,6 +506,7 @@ function checkOut(services: Services, body: JarCheckBodyT) {
         ...(body.contactTimesMin !== undefined ? { contactTimesMin: body.contactTimesMin } : {}),
         ...(body.pipetteResolutionMl !== undefined ? { pipetteResolutionMl: body.pipetteResolutionMl } : {}),
         ...(solubility !== undefined ? { solubility } : {}),
+        ...(strengthLimit !== undefined ? { strengthLimit } : {}),
       }),
     checkPointer,
   );
