@@ -81,7 +81,7 @@ function metaFor(ctx: JarSheetContext, extra: MetaItem[], archived = false): Met
     { label: 'Sampled at', value: ctx.sampledAt ? displayTime(ctx.sampledAt) : notGiven },
     ...extra,
     ...(ctx.supersedes ? [{ label: 'Supersedes', value: ctx.supersedes }] : []),
-    ...(ctx.supersedes && ctx.correctionReason ? [{ label: 'Reason for correction', value: ctx.correctionReason }] : []),
+    ...(ctx.supersedes ? [{ label: 'Reason for correction', value: ctx.correctionReason ?? `not recorded: this evaluation replaces ${ctx.supersedes} without a stated reason` }] : []),
   ];
 }
 

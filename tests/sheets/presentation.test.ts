@@ -127,6 +127,14 @@ describe('jar-test evaluation sheet', () => {
     expect(text).toContain('Residual oxidant, largest allowed (as KMnO4) 3.00 at most');
     expect(text).not.toMatch(/\bresidualOxidant(Max)?\b|targets\.residual/);
   });
+
+  it('a corrected evaluation says why, or that no reason was recorded', () => {
+    const ev = evaluate((d) => Number((d - 1.1).toFixed(2)), { manganeseMgPerL: 0.05 });
+    const meta = (c: JarSheetContext) => JSON.stringify(jarTestEvaluationDocument(ev, c).meta);
+    expect(meta({ ...ctx, supersedes: 'JT-20261204-KB3VRK5CJ2' })).toContain('not recorded: this evaluation replaces JT-20261204-KB3VRK5CJ2 without a stated reason');
+    expect(meta({ ...ctx, supersedes: 'JT-20261204-KB3VRK5CJ2', correctionReason: 'jar 3 residual misread' })).toContain('"value":"jar 3 residual misread"');
+    expect(meta(ctx)).not.toContain('Reason for correction');
+  });
 });
 
 describe('dose sheet', () => {
