@@ -220,6 +220,10 @@ export class Archive implements ArchiveContext {
   getDefaultSigner(): StoredSigner | null {
     return getDefaultSigner(this);
   }
+  /** Whether a default signer is stored (without opening it, so an altered one does not stop a start). */
+  hasDefaultSigner(): boolean {
+    return this.statement('SELECT 1 FROM signers WHERE user_id IS NULL LIMIT 1').get() !== undefined;
+  }
   getSignerForUser(userId: string, options: { fallbackToDefault?: boolean } = {}): StoredSigner | null {
     return getSignerForUser(this, userId, options);
   }

@@ -55,6 +55,7 @@ import { DomainError } from '../core/errors.js';
 import { roundSig } from '../core/decimal.js';
 import { ZERO_HASH, canonicalJson, sha256Hex } from './canonical.js';
 import type { ArchiveContext } from './context.js';
+import { requireIntactSigner } from './signers.js';
 import { dayOf, isSheetKind, rangeBound, requirePlantId, requireSheetId, requireTimestamp, SHEET_KINDS, type SheetKind } from './ids.js';
 
 export const RECORD_FORMAT = 1;
@@ -487,6 +488,8 @@ export function appendSheet(ctx: ArchiveContext, input: AppendSheetInput): Sheet
           fields: [{ pointer: '/signerId', message: 'no such signer' }],
         });
       }
+      // the subject, name and role recorded below are the signer row's: believed only when it is as logged
+      requireIntactSigner(ctx, signer.id);
       if (!ctx.statement('SELECT 1 FROM users WHERE id = ?').get(input.createdBy)) {
         throw new DomainError('AUTH_REQUIRED', { detail: `No user with id ${JSON.stringify(input.createdBy)} to record as the sheet's creator.` });
       }

@@ -64,13 +64,15 @@ export async function dosingRoutes(app: FastifyInstance): Promise<void> {
   defineRoute(app, {
     method: 'GET',
     url: '/plants',
-    summary: 'Stored plant profiles (latest version of each)',
+    summary: 'Stored plant profiles (latest version of each); a version whose profile no longer hashes to its sha256 is marked altered',
     tags: ['plants'],
     response: { 200: z.object({ plants: z.array(PlantSummary) }) },
     handler: async () => ({
       plants: app.services.archive.listPlants().map((p) => {
         const prof = p.profile as PlantProfile;
-        return { id: p.plantId, name: prof.name, invented: prof.invented, version: p.version, savedAt: p.createdAt, sha256: p.sha256 };
+        // an altered version is listed (never hidden) and marked; its profile is not believed, so its name is not shown from it
+        if (p.altered) return { id: p.plantId, name: '(altered: fails its integrity check)', invented: false, version: p.version, savedAt: p.createdAt, sha256: p.sha256, altered: true };
+        return { id: p.plantId, name: prof.name, invented: prof.invented, version: p.version, savedAt: p.createdAt, sha256: p.sha256, altered: false };
       }),
     }),
   });
@@ -78,7 +80,7 @@ export async function dosingRoutes(app: FastifyInstance): Promise<void> {
   defineRoute(app, {
     method: 'GET',
     url: '/plants/:id',
-    summary: 'One plant profile (latest version)',
+    summary: 'One plant profile (latest version); a version that fails its integrity check is a 409 ARCHIVE_RECORD_ALTERED',
     tags: ['plants'],
     params: z.object({ id: z.string().regex(/^[a-z0-9][a-z0-9-]{0,63}$/) }),
     response: { 200: PlantOut },
