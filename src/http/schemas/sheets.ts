@@ -54,7 +54,7 @@ export const Created = z.object({
 export const Integrity = z
   .object({
     recordHashMatches: z.boolean().describe('The stored record hashes to its recordHash (recomputed on this read)'),
-    pdfHashMatches: z.boolean().nullable().describe('The stored PDF bytes hash to sha256; null when this read did not hash them (the list)'),
+    pdfHashMatches: z.boolean().nullable().describe('The stored PDF bytes hash to sha256 (hashed on every read: one record, the list and the CSV)'),
     checked: z.enum(['record hash', 'record hash and PDF hash']),
     problems: z.array(z.string()),
     message: z.string(),
