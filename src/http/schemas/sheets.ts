@@ -47,7 +47,9 @@ export const Created = z.object({
   supersedes: z.string().nullable(),
   dose: z.object({ value: z.number(), unit: z.string(), basis: z.string(), rounded: z.string() }),
   correctionReason: z.string().nullable().describe('The reason given for the correction, as stored; null when none was given'),
-  warnings: z.array(z.string()).describe('What the sheet was accepted with but should not have been, e.g. a correction without a reason'),
+  warnings: z
+    .array(z.string())
+    .describe('What the sheet was accepted with but should be checked: a correction without a reason, or one that changes the oxidant or the sample’s local month (each naming both values)'),
 });
 
 /** What a read of a record found (every GET recomputes it). */
