@@ -89,6 +89,9 @@ export async function issueDoseSheet(services: Services, user: User, body: z.out
   const content = { id, kind: 'dose' as const, plantId, plantVersion, sampledAt, supersedes: supersedes ?? null, request: body, result };
   const prepared = prepareSheetContent(content);
   const { contentSha256 } = prepared;
+  // Paper: the request's pageSize, else US Letter when the sheet leads with US units (the request's
+  // options.units, else the plant profile's preferredUnits), else A4.
+  const paper = pageSize ?? (result.units.preferred === 'US' ? 'LETTER' : 'A4');
   const { stored, signer } = services.signerFor(user.id);
   const now = new Date();
   const doc = doseSheetDocument({
@@ -104,7 +107,7 @@ export async function issueDoseSheet(services: Services, user: User, body: z.out
     ...(supersedes ? { supersedes } : {}),
     ...(supersedes && correctionReason ? { correctionReason } : {}),
     // printed as "Reason for correction"; the content hash in the footer covers it too (it is in the stored request)
-    ...(pageSize ? { pageSize } : {}),
+    pageSize: paper,
   });
   const { pdf } = await renderSignedSheet(doc, signer, { signingTime: now, contentSha256 });
   const saved = services.archive.appendSheet({ ...content, createdBy: user.id, signerId: stored.id, signedAs: { name: stored.name, role: stored.role }, pdf, prepared, contentSha256 });
@@ -121,6 +124,7 @@ export async function issueDoseSheet(services: Services, user: User, body: z.out
     supersedes: saved.supersedes,
     dose: result.dose,
     correctionReason: saved.correctionReason,
+    pageSize: paper,
     warnings,
   };
 }
