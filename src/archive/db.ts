@@ -50,6 +50,7 @@ import {
   reactivateUser,
   userEvents,
   type BootstrapOutcome,
+  type ListedUser,
   type Role,
   type User,
 } from './users.js';
@@ -173,7 +174,7 @@ export class Archive implements ArchiveContext {
   getUser(id: string): User | null {
     return getUser(this, id);
   }
-  listUsers(): User[] {
+  listUsers(): ListedUser[] {
     return listUsers(this);
   }
   deactivateUser(input: { userId: string; by: string; note?: string }): User {

@@ -200,8 +200,14 @@ function readUser(ctx: ArchiveContext, id: string): User | null {
   return row ? toUser(row) : null;
 }
 
-export function listUsers(ctx: ArchiveContext): User[] {
-  return (ctx.statement(`${USER_SELECT} ORDER BY u.created_at, u.id`).all() as UserRow[]).map(toUser);
+/** A listed user, with what its record's integrity check found (the list shows an altered record, marked, rather than hide it). */
+export type ListedUser = User & { readonly altered: boolean; readonly problems: readonly string[] };
+
+export function listUsers(ctx: ArchiveContext): ListedUser[] {
+  return (ctx.statement(`${USER_SELECT} ORDER BY u.created_at, u.id`).all() as UserRow[]).map((row) => {
+    const problems = userRecordProblems(ctx, row.id);
+    return { ...toUser(row), altered: problems.length > 0, problems };
+  });
 }
 
 function appendUserEvent(ctx: ArchiveContext, userId: string, event: 'deactivated' | 'reactivated', actor: string, note?: string): User {

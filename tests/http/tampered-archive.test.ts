@@ -93,6 +93,9 @@ describe('an app on a changed copy of the archive refuses to act on the changed 
       expect(r.json().detail).toContain(operator.id);
       const users = await app.inject({ method: 'GET', url: '/api/v1/users', headers: admin });
       expect(users.json().users.map((u: { name: string }) => u.name)).not.toContain('Evil admin (invented)');
+      // the list shows the changed row, marked, and the untouched admin as it is
+      expect(users.json().users).toContainEqual(expect.objectContaining({ id: operator.id, role: 'admin', altered: true }));
+      expect(users.json().users).toContainEqual(expect.objectContaining({ name: 'admin', altered: false, problems: [] }));
       // the untouched admin still works, and the walk names the row
       const v = await app.inject({ method: 'GET', url: '/api/v1/archive/verification' });
       expect(v.json().problems).toContainEqual(expect.objectContaining({ id: `users:${operator.id}`, check: 'registry-row-hash' }));

@@ -63,10 +63,19 @@ export async function userRoutes(app: FastifyInstance): Promise<void> {
   defineRoute(app, {
     method: 'GET',
     url: '/users',
-    summary: 'List users (admin)',
+    summary: 'List users (admin), each with the integrity of its record as found on this read',
     tags: ['users'],
     auth: true,
-    response: { 200: z.object({ users: z.array(UserOut) }) },
+    response: {
+      200: z.object({
+        users: z.array(
+          UserOut.extend({
+            altered: z.boolean().describe('The user’s record fails its integrity check (changed in the archive file): its token is refused; deactivate it and check the archive'),
+            problems: z.array(z.string()).describe('What failed, in words (empty when nothing did)'),
+          }),
+        ),
+      }),
+    },
     preHandler: requireRole('admin'),
     handler: async () => ({ users: app.services.archive.listUsers() }),
   });
