@@ -7,7 +7,7 @@ import { DomainError, isDomainError } from '../core/errors.js';
 import { localSampleTime, newSheetId, normalizeTimestamp, prepareSheetContent, type SheetRecord, type User } from '../archive/index.js';
 import { doseSheetDocument } from '../sheets/dose-sheet.js';
 import { renderSignedSheet } from '../sheets/sign.js';
-import { doseFor } from './routes/v1/dosing.js';
+import { doseWithPlantVersion } from './routes/v1/dosing.js';
 import type { SheetBody } from './schemas/sheets.js';
 import type { Services } from './services.js';
 
@@ -81,11 +81,12 @@ export async function issueDoseSheet(services: Services, user: User, body: z.out
       });
     }
   }
-  const result = doseFor(services, doseRequest);
+  // the plant version is read once, with the profile the dose is computed from, so the sheet names that version
+  const { result, plantVersion: computedWith } = doseWithPlantVersion(services, doseRequest);
   if (original) warnings.push(...correctionChangeWarnings(original, { oxidant: result.oxidant.id, sampledAt }));
   const id = newSheetId('dose');
   const plantId = result.plant?.id ?? null;
-  const plantVersion = plantId ? (services.archive.getPlant(plantId)?.version ?? null) : null;
+  const plantVersion = plantId ? computedWith : null;
   const content = { id, kind: 'dose' as const, plantId, plantVersion, sampledAt, supersedes: supersedes ?? null, request: body, result };
   const prepared = prepareSheetContent(content);
   const { contentSha256 } = prepared;

@@ -19,8 +19,8 @@ export function findPlant(services: Services, plantId: string) {
   }
 }
 
-/** The plant profile a request names, or undefined; a missing one is a 404 naming the field. */
-export function plantFor(services: Services, plantId: string | undefined): PlantProfile | undefined {
+/** The stored plant version a request names, or undefined; a missing one is a 404 naming the field. */
+export function storedPlantFor(services: Services, plantId: string | undefined) {
   if (plantId === undefined) return undefined;
   const stored = findPlant(services, plantId);
   if (!stored) {
@@ -29,12 +29,23 @@ export function plantFor(services: Services, plantId: string | undefined): Plant
       fields: [{ pointer: '/plantId', message: 'no stored plant profile with this id' }],
     });
   }
-  return stored.profile as PlantProfile;
+  return stored;
+}
+
+/** The plant profile a request names, or undefined; a missing one is a 404 naming the field. */
+export function plantFor(services: Services, plantId: string | undefined): PlantProfile | undefined {
+  return storedPlantFor(services, plantId)?.profile as PlantProfile | undefined;
+}
+
+/** The dose, and the plant profile version it was computed with (read once, so a sheet names that version). */
+export function doseWithPlantVersion(services: Services, body: DoseRequest) {
+  const stored = storedPlantFor(services, body.plantId);
+  const result = computeDose(body, services.dosing, stored ? { plant: stored.profile as PlantProfile } : {});
+  return { result, plantVersion: stored?.version ?? null };
 }
 
 export function doseFor(services: Services, body: DoseRequest) {
-  const plant = plantFor(services, body.plantId);
-  return computeDose(body, services.dosing, plant ? { plant } : {});
+  return doseWithPlantVersion(services, body).result;
 }
 
 function plantOut(p: { plantId: string; version: number; profile: unknown; sha256: string; createdAt: string; createdBy: string }) {
