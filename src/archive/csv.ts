@@ -15,15 +15,16 @@
  * One row per sheet, superseded sheets included and marked: status "superseded" and the id of the
  * sheet that corrects it in superseded_by.
  *
- * Each row's record hash is recomputed as it is exported (with the stored pdf_sha256 standing in for
- * the PDF bytes, see sheets.ts "Reading"): the `integrity` column says "record hash matches" or
- * "altered", and an altered record has status "altered" (never "current" or "superseded"), with
+ * Each row's record hash and PDF hash are recomputed from the stored bytes as it is exported (see
+ * sheets.ts "Reading"): the `integrity` column says "record hash matches" (the record hash covers the
+ * digest of the PDF bytes, so the bytes are checked too) or "altered", and an altered record has status "altered" (never "current" or "superseded"), with
  * verification_url naming where to check it. The local time of the sample as written, with its UTC
  * offset and its local day (the day the from/to filter compares), follows the UTC time's columns.
  */
 import { DomainError } from '../core/errors.js';
 import { fromBaseDec, isUnitOf, temperatureToC, toBase, type Quantity, type QuantityKind } from '../core/quantity.js';
 import type { ArchiveContext } from './context.js';
+import { sha256Hex } from './canonical.js';
 import { localSampleTime } from './ids.js';
 import { READ_COLUMNS, readSheet, sheetFilter, type ReadRow, type SheetQuery, type SheetSummary } from './sheets.js';
 
@@ -277,9 +278,9 @@ export function exportCsv(ctx: ArchiveContext, options: ExportCsvOptions = {}): 
   }
   const { where, params } = sheetFilter(options);
   const out: string[] = [options.bom ? '\uFEFF' : '', csvLine(columns.map((c) => c.header))];
-  const rows = ctx.db.prepare(`SELECT ${READ_COLUMNS} FROM sheets s ${where} ORDER BY s.sampled_at, s.seq`).all(...params) as ReadRow[];
-  for (const r of rows) {
-    const sheet: CsvSheet = readSheet(r, null);
+  // one row at a time: each PDF is hashed and dropped
+  for (const r of ctx.statement(`SELECT ${READ_COLUMNS}, s.pdf FROM sheets s ${where} ORDER BY s.sampled_at, s.seq`).iterate(...params) as IterableIterator<ReadRow & { pdf: Buffer }>) {
+    const sheet: CsvSheet = readSheet(r, sha256Hex(r.pdf));
     out.push(csvLine(columns.map((c) => c.value(sheet))));
   }
   return out.join('');

@@ -50,6 +50,7 @@ import {
   reactivateUser,
   userEvents,
   type BootstrapOutcome,
+  type ListedUser,
   type Role,
   type User,
 } from './users.js';
@@ -173,7 +174,7 @@ export class Archive implements ArchiveContext {
   getUser(id: string): User | null {
     return getUser(this, id);
   }
-  listUsers(): User[] {
+  listUsers(): ListedUser[] {
     return listUsers(this);
   }
   deactivateUser(input: { userId: string; by: string; note?: string }): User {
@@ -219,6 +220,10 @@ export class Archive implements ArchiveContext {
   }
   getDefaultSigner(): StoredSigner | null {
     return getDefaultSigner(this);
+  }
+  /** Whether a default signer is stored (without opening it, so an altered one does not stop a start). */
+  hasDefaultSigner(): boolean {
+    return this.statement('SELECT 1 FROM signers WHERE user_id IS NULL LIMIT 1').get() !== undefined;
   }
   getSignerForUser(userId: string, options: { fallbackToDefault?: boolean } = {}): StoredSigner | null {
     return getSignerForUser(this, userId, options);

@@ -3,6 +3,11 @@
  * src/dosing; here a profile is a JSON object with a string `id`. Saving a changed profile appends
  * version n+1; saving an identical one (same canonical JSON) appends nothing. Nothing is changed in
  * place; every version stays readable, and a sheet names the version it was computed with.
+ *
+ * Every read recomputes the SHA-256 of the stored profile_json: `getPlant` (the profile a dose, a
+ * sheet or a jar test is computed with, and GET /api/v1/plants/:id) refuses a version that does not
+ * hash to its sha256 with ARCHIVE_RECORD_ALTERED (409) naming the plant and the version; the lists
+ * (listPlants, plantHistory) return it marked `altered: true`, so it is seen and never used unseen.
  */
 import { DomainError } from '../core/errors.js';
 import { canonicalJson, sha256Hex } from './canonical.js';
@@ -17,6 +22,8 @@ export interface PlantVersion<P = unknown> {
   readonly sha256: string;
   readonly createdAt: string;
   readonly createdBy: string;
+  /** The stored profile does not hash to its sha256 (recomputed on this read): changed in the file; never use it. */
+  readonly altered: boolean;
 }
 
 export interface SavedPlant<P = unknown> extends PlantVersion<P> {
@@ -33,15 +40,35 @@ interface PlantRow {
   created_by: string;
 }
 
+/** JSON.parse that answers null for text that is not JSON (a damaged row is reported as altered, never a crash). */
+function parseStored(text: string): unknown {
+  try {
+    return JSON.parse(text);
+  } catch {
+    return null;
+  }
+}
+
 function toPlant<P>(row: PlantRow): PlantVersion<P> {
   return {
     plantId: row.plant_id,
     version: row.version,
-    profile: JSON.parse(row.profile_json) as P,
+    profile: parseStored(row.profile_json) as P,
     sha256: row.sha256,
     createdAt: row.created_at,
     createdBy: row.created_by,
+    altered: sha256Hex(row.profile_json) !== row.sha256,
   };
+}
+
+function alteredPlant(p: PlantVersion): DomainError {
+  return new DomainError('ARCHIVE_RECORD_ALTERED', {
+    detail:
+      `Plant ${p.plantId} version ${p.version} fails its integrity check: the stored profile does not hash to its recorded SHA-256 ${p.sha256} (it was changed in the archive file). ` +
+      'The service does not serve it or compute a dose or a sheet with it. Store the correct profile again (POST /api/v1/plants appends a new version), and check the archive at /api/v1/archive/verification.',
+    params: { table: 'plant_versions', plantId: p.plantId, version: p.version },
+    fields: [{ pointer: '/plantId', message: `plant ${p.plantId} version ${p.version} fails its integrity check` }],
+  });
 }
 
 function profileId(profile: unknown): string {
@@ -74,7 +101,7 @@ export function savePlant<P>(ctx: ArchiveContext, profile: P, options: { created
       ctx
         .statement('INSERT INTO plant_versions (plant_id, version, profile_json, sha256, created_at, created_by) VALUES (?, ?, ?, ?, ?, ?)')
         .run(plantId, version, json, sha256, createdAt, options.createdBy);
-      return { plantId, version, profile: JSON.parse(json) as P, sha256, createdAt, createdBy: options.createdBy, changed: true };
+      return { plantId, version, profile: JSON.parse(json) as P, sha256, createdAt, createdBy: options.createdBy, altered: false, changed: true };
     })
     .immediate();
 }
@@ -91,7 +118,7 @@ export function seedPlant<P>(ctx: ArchiveContext, profile: P, options: { created
     .immediate();
 }
 
-/** The latest version of a plant, or a specific one; throws PLANT_NOT_FOUND. */
+/** The latest version of a plant, or a specific one; throws PLANT_NOT_FOUND, or ARCHIVE_RECORD_ALTERED for a version that fails its hash. */
 export function getPlant<P = unknown>(ctx: ArchiveContext, plantId: string, version?: number): PlantVersion<P> {
   requirePlantId(plantId, '/plantId');
   const row = (version === undefined
@@ -109,10 +136,12 @@ export function getPlant<P = unknown>(ctx: ArchiveContext, plantId: string, vers
       fields: [{ pointer: '/plantId', message: 'no such plant profile' }],
     });
   }
-  return toPlant<P>(row);
+  const plant = toPlant<P>(row);
+  if (plant.altered) throw alteredPlant(plant);
+  return plant;
 }
 
-/** The latest version of every plant, by id. */
+/** The latest version of every plant, by id (a version that fails its hash is marked `altered`). */
 export function listPlants<P = unknown>(ctx: ArchiveContext): PlantVersion<P>[] {
   const rows = ctx
     .statement(
@@ -125,7 +154,7 @@ export function listPlants<P = unknown>(ctx: ArchiveContext): PlantVersion<P>[] 
   return rows.map((r) => toPlant<P>(r));
 }
 
-/** Every version of one plant, oldest first. */
+/** Every version of one plant, oldest first (a version that fails its hash is marked `altered`). */
 export function plantHistory<P = unknown>(ctx: ArchiveContext, plantId: string): PlantVersion<P>[] {
   requirePlantId(plantId, '/plantId');
   const rows = ctx

@@ -143,6 +143,32 @@ export function logUnloggedRows(
   return n;
 }
 
+/**
+ * The check of one registered row before the service acts on it (a token's user, a signer):
+ * the row hashes to the SHA-256 its log entry holds, the entry hashes to its record_hash, and
+ * the entry is linked to its neighbours in the log (prev_hash of the next entry, record_hash of
+ * the one before). A few indexed reads; the archive walk (verifyRegistry) checks the whole log.
+ * Returns what failed, in words, or null when the row is as it was logged. A rewrite of the whole
+ * log from that entry on is caught only against a registry head written down earlier.
+ */
+export function registryRowProblem(ctx: RegistryContext, table: RegistryTable, key: string | number, stored?: Record<string, unknown>): string | null {
+  const k = String(key);
+  const row = stored ?? readRow(ctx, table, k);
+  if (!row) return `${table} row ${k} is not stored`;
+  const e = prepare(ctx, 'SELECT * FROM registry_log WHERE table_name = ? AND row_key = ?').get(table, k) as LogRow | undefined;
+  if (!e) return `${table} row ${k} has no registry entry (inserted outside the service, or its key was changed)`;
+  if (registryRecordHash(e) !== e.record_hash) return `registry entry ${e.seq} (${table} row ${k}) does not hash to its record_hash (the entry was changed)`;
+  if (!REGISTRY_COLUMNS[e.format]) return `registry entry ${e.seq} (${table} row ${k}) has format ${e.format}, which this build cannot check`;
+  const missing = missingColumns(table, row, e.format);
+  if (missing.length) return `${table} has lost column(s) ${missing.join(', ')} that registry entry ${e.seq} hashes`;
+  if (rowDigest(table, row, e.format) !== e.row_sha256) return `${table} row ${k} does not hash to its logged SHA-256 (a column was changed)`;
+  const before = e.seq > 1 ? (prepare(ctx, 'SELECT record_hash FROM registry_log WHERE seq = ?').get(e.seq - 1) as { record_hash: string } | undefined) : { record_hash: ZERO_HASH };
+  if (!before || before.record_hash !== e.prev_hash) return `registry entry ${e.seq} (${table} row ${k}) is not linked to the entry before it`;
+  const after = prepare(ctx, 'SELECT prev_hash FROM registry_log WHERE seq = ?').get(e.seq + 1) as { prev_hash: string } | undefined;
+  if (after && after.prev_hash !== e.record_hash) return `registry entry ${e.seq + 1} does not link to entry ${e.seq} (${table} row ${k}): the entry was rewritten`;
+  return null;
+}
+
 export interface RegistryProblem {
   /** "table:key" of the row concerned; "registry_log" for the log's tail and head checks. */
   readonly id: string;

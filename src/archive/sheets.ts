@@ -31,12 +31,13 @@
  *
  * ## Reading: the integrity of every record served
  * Every read (getSheet, listSheets, the CSV export) recomputes the record hash of each row it
- * returns and reports it in `integrity` (see SheetIntegrity). getSheet also hashes the PDF bytes
- * against pdf_sha256 (`checked: "record hash and PDF hash"`); the list and the export do not read the
- * PDF bytes and recompute the record hash with the stored pdf_sha256 in place of the bytes' digest
- * (`checked: "record hash"`): every column but the PDF bytes is covered. A row that fails is given
- * `status: "altered"`, never "current" or "superseded". The chain link and the PDF signature are
- * checked by verifySheet / verifyArchive only (verify.ts).
+ * returns from the stored columns and the SHA-256 of the stored PDF bytes, and hashes the bytes
+ * against pdf_sha256 (`checked: "record hash and PDF hash"`), so recordHashMatches means the same
+ * on every route (about 60 KB hashed per sheet: a list page or a month's CSV is cheap). A row that
+ * fails is given `status: "altered"`, never "current" or "superseded". The chain link and the PDF
+ * signature are checked by verifySheet / verifyArchive only (verify.ts). (checkIntegrity still
+ * takes a null digest, `checked: "record hash"`, for a caller that cannot read the bytes; no read
+ * of the service uses it.)
  *
  * ## The reason for a correction
  * A correction's reason is the request's own `correctionReason` member (POST /api/v1/sheets, or any
@@ -55,6 +56,7 @@ import { DomainError } from '../core/errors.js';
 import { roundSig } from '../core/decimal.js';
 import { ZERO_HASH, canonicalJson, sha256Hex } from './canonical.js';
 import type { ArchiveContext } from './context.js';
+import { requireIntactSigner } from './signers.js';
 import { dayOf, isSheetKind, rangeBound, requirePlantId, requireSheetId, requireTimestamp, SHEET_KINDS, type SheetKind } from './ids.js';
 
 export const RECORD_FORMAT = 1;
@@ -217,7 +219,7 @@ export type IntegrityCheck = 'record hash' | 'record hash and PDF hash';
 export interface SheetIntegrity {
   /** The stored columns hash to record_hash (recomputed on this read). */
   readonly recordHashMatches: boolean;
-  /** The PDF bytes hash to pdf_sha256; null when this read did not hash the bytes (lists, the CSV). */
+  /** The PDF bytes hash to pdf_sha256; null only when a read did not hash the bytes (no read of the service). */
   readonly pdfHashMatches: boolean | null;
   readonly checked: IntegrityCheck;
   /** What failed, in words (empty when nothing did). */
@@ -259,7 +261,7 @@ export interface SheetSummary {
   readonly prevHash: string;
   readonly recordHash: string;
   readonly recordFormat: number;
-  /** The record hash (and, on getSheet, the PDF hash) recomputed on this read. */
+  /** The record hash and the PDF hash recomputed on this read. */
   readonly integrity: SheetIntegrity;
   readonly status: SheetStatus;
   /** The request's correctionReason (see "The reason for a correction"), or null. */
@@ -487,6 +489,8 @@ export function appendSheet(ctx: ArchiveContext, input: AppendSheetInput): Sheet
           fields: [{ pointer: '/signerId', message: 'no such signer' }],
         });
       }
+      // the subject, name and role recorded below are the signer row's: believed only when it is as logged
+      requireIntactSigner(ctx, signer.id);
       if (!ctx.statement('SELECT 1 FROM users WHERE id = ?').get(input.createdBy)) {
         throw new DomainError('AUTH_REQUIRED', { detail: `No user with id ${JSON.stringify(input.createdBy)} to record as the sheet's creator.` });
       }
@@ -656,7 +660,7 @@ export function sheetFilter(query: SheetQuery): { where: string; params: unknown
   return { where: clauses.length ? `WHERE ${clauses.join(' AND ')}` : '', params };
 }
 
-/** Sheets by sample time (then seq), without the PDF bytes; each record hash recomputed (`integrity`, checked: "record hash"). */
+/** Sheets by sample time (then seq), without the PDF bytes; each record hash and PDF hash recomputed (`integrity`, checked: "record hash and PDF hash"). */
 export function listSheets(ctx: ArchiveContext, query: SheetQuery = {}): SheetSummary[] {
   const { where, params } = sheetFilter(query);
   let limit = '';
@@ -664,8 +668,12 @@ export function listSheets(ctx: ArchiveContext, query: SheetQuery = {}): SheetSu
     if (!Number.isSafeInteger(query.limit) || query.limit < 1 || query.limit > 10_000) throw invalid('/limit', 'limit is a whole number from 1 to 10000.');
     limit = ` LIMIT ${query.limit}`;
   }
-  const rows = ctx.statement(`SELECT ${READ_COLUMNS} FROM sheets s ${where} ORDER BY s.sampled_at, s.seq${limit}`).all(...params) as ReadRow[];
-  return rows.map((r) => toSummary(r));
+  const out: SheetSummary[] = [];
+  // one row at a time: each PDF is hashed and dropped, never all of them held at once
+  for (const r of ctx.statement(`SELECT ${READ_COLUMNS}, s.pdf FROM sheets s ${where} ORDER BY s.sampled_at, s.seq${limit}`).iterate(...params) as IterableIterator<ReadRow & { pdf: Buffer }>) {
+    out.push(toSummary(r, sha256Hex(r.pdf)));
+  }
+  return out;
 }
 
 /** Number of sheets and the head of the chain (write these down to detect a truncated tail later). */

@@ -13,7 +13,10 @@
  * so a changed key gives a clear message rather than a bare decryption failure.
  *
  * Signer rows are append-only; the latest signer of a user (or the latest default signer, user_id
- * NULL) is the one used.
+ * NULL) is the one used. A signer is opened (getSigner, getDefaultSigner, getSignerForUser) only
+ * after its row is checked against the registry log (registry.ts, registryRowProblem): a changed
+ * name, role, certificate subject, PKCS#12 or password is refused with ARCHIVE_RECORD_ALTERED (409)
+ * before anything is signed with it; appendSheet checks the row again when it records the signer.
  */
 import { createCipheriv, createDecipheriv, createHash, randomBytes } from 'node:crypto';
 import { chmodSync, existsSync, linkSync, readFileSync, statSync, unlinkSync, writeFileSync } from 'node:fs';
@@ -21,7 +24,7 @@ import { join } from 'node:path';
 import { DomainError } from '../core/errors.js';
 import type { ArchiveContext } from './context.js';
 import { newSignerId } from './ids.js';
-import { logRegistryRow } from './registry.js';
+import { logRegistryRow, registryRowProblem } from './registry.js';
 
 export const SIGNER_KEY_FILE = 'signer-secret.key';
 
@@ -172,7 +175,20 @@ function summary(row: SignerRow): SignerSummary {
   };
 }
 
+/** ARCHIVE_RECORD_ALTERED for a signer row that fails its registry check, else nothing. */
+export function requireIntactSigner(ctx: ArchiveContext, signerId: string): void {
+  const problem = registryRowProblem(ctx, 'signers', signerId);
+  if (problem === null) return;
+  throw new DomainError('ARCHIVE_RECORD_ALTERED', {
+    detail:
+      `The archive's record of signer ${signerId} fails its integrity check: ${problem}. Nothing is signed with it and no sheet records it. ` +
+      "An admin should run GET /api/v1/archive/verification, restore the archive from a backup, or import the signer's .p12 again.",
+    params: { table: 'signers', signerId, problems: [problem] },
+  });
+}
+
 function open(ctx: ArchiveContext, row: SignerRow): StoredSigner {
+  requireIntactSigner(ctx, row.id);
   return { ...summary(row), p12: row.p12, password: decryptPassword(ctx.signerKey(), row.id, row.password_enc, row.key_fingerprint) };
 }
 

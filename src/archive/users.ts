@@ -8,13 +8,18 @@
  *
  * Users are never updated or deleted; deactivation is an appended user_events row and the latest
  * event decides.
+ *
+ * Nothing is acted on without its hash check: `authenticate` and `getUser` check the user's row
+ * and each of its events against the registry log (registry.ts, registryRowProblem), and that no
+ * logged event has been removed, before the role or the active state is believed. A row that fails
+ * is refused with ARCHIVE_RECORD_ALTERED (409), naming the user and what failed; never acted on.
  */
 import { randomBytes, timingSafeEqual } from 'node:crypto';
 import { DomainError } from '../core/errors.js';
 import { sha256Hex } from './canonical.js';
 import type { ArchiveContext } from './context.js';
 import { newUserId } from './ids.js';
-import { logRegistryRow } from './registry.js';
+import { logRegistryRow, registryRowProblem } from './registry.js';
 
 export const ROLES = ['operator', 'engineer', 'admin'] as const;
 export type Role = (typeof ROLES)[number];
@@ -128,7 +133,41 @@ export function createUser(ctx: ArchiveContext, input: { name: string; role: Rol
   return { user, token };
 }
 
-/** The user a bearer token belongs to, or null (unknown token, malformed, or user deactivated). */
+/**
+ * What fails the integrity check of a user's record: its users row, each of its user_events rows,
+ * and any logged user_events row no longer stored (it may have been this user's deactivation).
+ * Empty when the record is as it was logged.
+ */
+export function userRecordProblems(ctx: ArchiveContext, userId: string): string[] {
+  const problems: string[] = [];
+  const own = registryRowProblem(ctx, 'users', userId);
+  if (own) problems.push(own);
+  for (const { seq } of ctx.statement('SELECT seq FROM user_events WHERE user_id = ? ORDER BY seq').all(userId) as { seq: number }[]) {
+    const p = registryRowProblem(ctx, 'user_events', seq);
+    if (p) problems.push(p);
+  }
+  const lost = ctx
+    .statement(
+      "SELECT l.row_key AS k FROM registry_log l WHERE l.table_name = 'user_events' AND NOT EXISTS (SELECT 1 FROM user_events e WHERE e.seq = CAST(l.row_key AS INTEGER)) LIMIT 5",
+    )
+    .all() as { k: string }[];
+  if (lost.length) problems.push(`user event(s) ${lost.map((l) => l.k).join(', ')} are logged but no longer stored (a deactivation may have been removed)`);
+  return problems;
+}
+
+function recordAltered(user: { id: string; name: string }, problems: readonly string[], use: string): DomainError {
+  return new DomainError('ARCHIVE_RECORD_ALTERED', {
+    detail:
+      `The archive's record of user ${user.id} (${JSON.stringify(user.name)}) fails its integrity check: ${problems.join('; ')}. ` +
+      `The service does not ${use} on it. An admin should run GET /api/v1/archive/verification and restore the archive from a backup.`,
+    params: { table: 'users', userId: user.id, problems: [...problems] },
+  });
+}
+
+/**
+ * The user a bearer token belongs to, or null (unknown token, malformed, or user deactivated).
+ * Throws ARCHIVE_RECORD_ALTERED when the user's record fails its integrity check.
+ */
 export function authenticate(ctx: ArchiveContext, token: unknown): User | null {
   if (typeof token !== 'string' || token.length === 0 || token.length > MAX_TOKEN_LENGTH) return null;
   const presented = Buffer.from(sha256Hex(token), 'hex');
@@ -136,6 +175,8 @@ export function authenticate(ctx: ArchiveContext, token: unknown): User | null {
   if (!row) return null;
   const stored = Buffer.from(row.token_sha256, 'hex');
   if (stored.length !== presented.length || !timingSafeEqual(stored, presented)) return null;
+  const problems = userRecordProblems(ctx, row.id);
+  if (problems.length) throw recordAltered(row, problems, 'act');
   const user = toUser(row);
   return user.active ? user : null;
 }
@@ -144,19 +185,35 @@ export function countUsers(ctx: ArchiveContext): number {
   return (ctx.statement('SELECT count(*) AS n FROM users').get() as { n: number }).n;
 }
 
+/** A user by id, or null; throws ARCHIVE_RECORD_ALTERED when the user's record fails its integrity check. */
 export function getUser(ctx: ArchiveContext, id: string): User | null {
+  const user = readUser(ctx, id);
+  if (!user) return null;
+  const problems = userRecordProblems(ctx, id);
+  if (problems.length) throw recordAltered(user, problems, 'rely');
+  return user;
+}
+
+/** A user by id without the integrity check (deactivating a user is allowed whatever its record says). */
+function readUser(ctx: ArchiveContext, id: string): User | null {
   const row = ctx.statement(`${USER_SELECT} WHERE u.id = ?`).get(id) as UserRow | undefined;
   return row ? toUser(row) : null;
 }
 
-export function listUsers(ctx: ArchiveContext): User[] {
-  return (ctx.statement(`${USER_SELECT} ORDER BY u.created_at, u.id`).all() as UserRow[]).map(toUser);
+/** A listed user, with what its record's integrity check found (the list shows an altered record, marked, rather than hide it). */
+export type ListedUser = User & { readonly altered: boolean; readonly problems: readonly string[] };
+
+export function listUsers(ctx: ArchiveContext): ListedUser[] {
+  return (ctx.statement(`${USER_SELECT} ORDER BY u.created_at, u.id`).all() as UserRow[]).map((row) => {
+    const problems = userRecordProblems(ctx, row.id);
+    return { ...toUser(row), altered: problems.length > 0, problems };
+  });
 }
 
 function appendUserEvent(ctx: ArchiveContext, userId: string, event: 'deactivated' | 'reactivated', actor: string, note?: string): User {
   return ctx.db
     .transaction(() => {
-      const user = getUser(ctx, userId);
+      const user = readUser(ctx, userId);
       if (!user) {
         throw new DomainError('VALIDATION_FAILED', {
           detail: `No user with id ${JSON.stringify(userId)}.`,

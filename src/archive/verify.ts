@@ -4,7 +4,9 @@
  * Per record: the PDF bytes hash to pdf_sha256 (hashMatches); the row hashes to record_hash
  * (recordHashMatches, see sheets.ts for the serialisation); prev_hash equals the record_hash of the
  * record with the previous seq, and seq follows it without a gap (chainValid); the PDF signature
- * checks out (signatureValid, through the function passed in: the archive does not parse PDFs).
+ * checks out (signatureValid, through the function passed in: the archive does not parse PDFs), and
+ * the signer subject the record names is the subject of the certificate inside that signature
+ * (signerSubjectMatches, when the check says which certificate signed).
  *
  * The archive walk also reports a cut tail: the AUTOINCREMENT counter (sqlite_sequence) remembers
  * the highest seq ever stored, so deleting the last records leaves the counter ahead of the last
@@ -26,7 +28,14 @@ import { DomainError } from '../core/errors.js';
  */
 export type PdfSignatureOutcome =
   | boolean
-  | { readonly signatureValid?: boolean; readonly valid?: boolean; readonly coversWholeFile?: boolean; readonly problems?: readonly string[] };
+  | {
+      readonly signatureValid?: boolean;
+      readonly valid?: boolean;
+      readonly coversWholeFile?: boolean;
+      readonly problems?: readonly string[];
+      /** The subject of the certificate inside the signature ("CN=…, O=…"); compared with the subject the record names. */
+      readonly signerSubject?: string | null;
+    };
 /** A PDF signature check, e.g. `verifySignedPdf` from src/sheets/verify.ts (passed in: the archive does not parse PDFs). */
 export type PdfSignatureCheck = (pdf: Buffer) => PdfSignatureOutcome | Promise<PdfSignatureOutcome>;
 
@@ -43,18 +52,37 @@ export interface SheetVerification {
   readonly chainValid: boolean;
   /** The PDF signature is valid; null when no verifier was passed. */
   readonly signatureValid: boolean | null;
+  /**
+   * The signer subject the record names equals the subject of the certificate inside the PDF
+   * signature; null when the verifier does not say which certificate signed (or none was passed).
+   */
+  readonly signerSubjectMatches: boolean | null;
   readonly problems: readonly string[];
 }
 
-async function checkSignature(check: PdfSignatureCheck, pdf: Buffer): Promise<{ ok: boolean; error?: string }> {
+async function checkSignature(check: PdfSignatureCheck, pdf: Buffer): Promise<{ ok: boolean; error?: string; subject?: string | null }> {
   try {
     const r = await check(pdf);
     if (typeof r === 'boolean') return { ok: r };
     const ok = (r.signatureValid ?? r.valid) === true && r.coversWholeFile !== false;
-    return ok ? { ok } : { ok, ...(r.problems && r.problems.length > 0 ? { error: r.problems.join('; ') } : {}) };
+    const subject = r.signerSubject !== undefined ? { subject: r.signerSubject } : {};
+    return ok ? { ok, ...subject } : { ok, ...subject, ...(r.problems && r.problems.length > 0 ? { error: r.problems.join('; ') } : {}) };
   } catch (e) {
     return { ok: false, error: e instanceof Error ? e.message : String(e) };
   }
+}
+
+/**
+ * Whether the record's signer subject is the certificate's that signed (null when the check did
+ * not say which certificate signed, e.g. an unreadable signature, which is reported as such).
+ */
+function subjectCheck(recorded: string, s: { subject?: string | null }): { matches: boolean | null; problem?: string } {
+  if (typeof s.subject !== 'string') return { matches: null };
+  if (s.subject === recorded) return { matches: true };
+  return {
+    matches: false,
+    problem: `the record names the signer certificate ${JSON.stringify(recorded)}, but the PDF was signed with the certificate ${JSON.stringify(s.subject)}`,
+  };
 }
 
 /**
@@ -98,25 +126,30 @@ export async function verifySheet(
     if (!linked) problems.push(`prev_hash does not match the record_hash of seq ${prev.seq}`);
   }
   let signatureValid: boolean | null = null;
+  let signerSubjectMatches: boolean | null = null;
   if (options.verifyPdfSignature) {
     const s = await checkSignature(options.verifyPdfSignature, row.pdf);
     signatureValid = s.ok;
     if (!s.ok) problems.push(`the PDF signature is not valid${s.error ? `: ${s.error}` : ''}`);
+    const subject = subjectCheck(row.signer_subject, s);
+    signerSubjectMatches = subject.matches;
+    if (subject.problem) problems.push(subject.problem);
   }
   return {
     id: row.id,
     seq: row.seq,
-    valid: hashMatches && recordHashMatches && chainValid && signatureValid !== false,
+    valid: hashMatches && recordHashMatches && chainValid && signatureValid !== false && signerSubjectMatches !== false,
     hashMatches,
     recordHashMatches,
     chainValid,
     signatureValid,
+    signerSubjectMatches,
     problems,
   };
 }
 
 export type ArchiveCheck =
-  | 'sequence' | 'chain' | 'pdf-hash' | 'record-hash' | 'record-format' | 'supersedes' | 'signature' | 'tail' | 'head' | 'plant-hash' | 'plant-version'
+  | 'sequence' | 'chain' | 'pdf-hash' | 'record-hash' | 'record-format' | 'supersedes' | 'signature' | 'signer-subject' | 'tail' | 'head' | 'plant-hash' | 'plant-version'
   | RegistryProblem['check'];
 
 export interface ArchiveProblem {
@@ -255,11 +288,13 @@ export async function verifyArchive(ctx: ArchiveContext, options: VerifyArchiveO
   let signaturesChecked = 0;
   if (options.verifyPdfSignature) {
     for (const at of walk.ids) {
-      const row = ctx.statement('SELECT pdf FROM sheets WHERE seq = ?').get(at.seq) as { pdf: Buffer } | undefined;
+      const row = ctx.statement('SELECT pdf, signer_subject FROM sheets WHERE seq = ?').get(at.seq) as { pdf: Buffer; signer_subject: string } | undefined;
       if (!row) continue;
       const s = await checkSignature(options.verifyPdfSignature, row.pdf);
       signaturesChecked++;
       if (!s.ok) add({ ...at, check: 'signature', message: `the PDF signature is not valid${s.error ? `: ${s.error}` : ''}` });
+      const subject = subjectCheck(row.signer_subject, s);
+      if (subject.problem) add({ ...at, check: 'signer-subject', message: subject.problem });
     }
   }
   return {

@@ -98,6 +98,8 @@ export const ERROR_CATALOGUE = {
   SIGNER_INVALID: { kind: 'invalid', title: 'The signing certificate cannot be used' },
   ARCHIVE_TOO_NEW: { kind: 'unavailable', title: 'The archive was written by a newer version' },
   ARCHIVE_CORRUPT: { kind: 'internal', title: 'The archive failed verification' },
+  // a stored row the request depends on (the token's user, a signer, a plant profile version) fails its hash check: the service refuses to act on it
+  ARCHIVE_RECORD_ALTERED: { kind: 'conflict', title: 'An archived record fails its integrity check' },
   ID_INVALID: { kind: 'invalid', title: 'The id is not valid' },
   CONFIG_INVALID: { kind: 'internal', title: 'A configuration setting is not valid' },
 

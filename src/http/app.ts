@@ -149,7 +149,11 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
       });
     }
     if (err.statusCode === 429) {
-      return sendProblem(reply, problem('RATE_LIMITED', err.message || 'Too many requests for this token; wait and try again.'));
+      const limit = (err as { rateLimit?: Record<string, number> }).rateLimit;
+      return sendProblem(reply, {
+        ...problem('RATE_LIMITED', err.message || 'Too many requests for this token; wait and try again.', limit ? { params: limit } : {}),
+        instance: req.url,
+      });
     }
     if (err.statusCode && err.statusCode >= 400 && err.statusCode < 500) {
       return sendProblem(reply, { ...problem('VALIDATION_FAILED', err.message), status: err.statusCode, title: 'Bad request' });
@@ -182,8 +186,14 @@ export async function buildApp(options: AppOptions): Promise<FastifyInstance> {
       return auth ? `token:${createHash('sha256').update(auth).digest('hex')}` : `ip:${req.ip}`;
     },
     errorResponseBuilder: (_req, ctx) => {
-      const e = new Error(`Rate limit of ${ctx.max} requests per ${ctx.after} reached for this token; try again in ${ctx.after}.`) as Error & { statusCode: number };
+      // the window is one minute; ctx.after (and ttl) is the time left in it, not the window
+      const retryAfterSeconds = Math.max(1, Math.ceil(ctx.ttl / 1000));
+      const e = new Error(`Rate limit of ${ctx.max} requests per minute reached for this token; try again in ${retryAfterSeconds} s.`) as Error & {
+        statusCode: number;
+        rateLimit: { limit: number; windowSeconds: number; retryAfterSeconds: number };
+      };
       e.statusCode = 429;
+      e.rateLimit = { limit: ctx.max, windowSeconds: 60, retryAfterSeconds };
       return e;
     },
   });

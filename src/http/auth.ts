@@ -1,7 +1,9 @@
 /**
  * Bearer tokens. A token is looked up by its SHA-256 in the archive; the user's role decides
  * what it may do: operator (computes, creates sheets), engineer (also jar tests and plant
- * profiles), admin (users; everything).
+ * profiles), admin (users; everything). The role is believed only after the user's record passes its
+ * registry check (archive/users.ts): a record changed in the archive file is a 409
+ * ARCHIVE_RECORD_ALTERED problem naming the user, thrown by authenticate, never a request acted on.
  */
 import type { FastifyReply, FastifyRequest } from 'fastify';
 import { DomainError } from '../core/errors.js';

@@ -4,10 +4,10 @@
  */
 import { z } from 'zod';
 import { DomainError, isDomainError } from '../core/errors.js';
-import { newSheetId, prepareSheetContent, type User } from '../archive/index.js';
+import { localSampleTime, newSheetId, normalizeTimestamp, prepareSheetContent, type SheetRecord, type User } from '../archive/index.js';
 import { doseSheetDocument } from '../sheets/dose-sheet.js';
 import { renderSignedSheet } from '../sheets/sign.js';
-import { doseFor } from './routes/v1/dosing.js';
+import { doseWithPlantVersion } from './routes/v1/dosing.js';
 import type { SheetBody } from './schemas/sheets.js';
 import type { Services } from './services.js';
 
@@ -29,15 +29,50 @@ export function correctionWarnings(supersedes: string | undefined, correctionRea
   ];
 }
 
+/** The local calendar month (YYYY-MM) and day of a sample, as its sampledAt was written (with its offset). */
+function localSample(written: unknown, utc: string): { day: string; month: string } {
+  const day = localSampleTime(written, utc).day;
+  return { day, month: day.slice(0, 7) };
+}
+
+/**
+ * What a correction changes that a reviewer should see: another oxidant than the sheet it
+ * supersedes, or a sample in another calendar month (local date, as the monthly report and the
+ * from/to filter count it), which takes a row out of one month's report and puts it in another's.
+ * Each names both values. Legal (a correction may put right a wrong oxidant or date), so warnings.
+ */
+export function correctionChangeWarnings(
+  original: Pick<SheetRecord, 'id' | 'oxidant' | 'sampledAt' | 'request'>,
+  correction: { readonly oxidant: string; readonly sampledAt: string },
+): string[] {
+  const warnings: string[] = [];
+  if (original.oxidant !== null && original.oxidant !== correction.oxidant) {
+    warnings.push(
+      `This correction is for ${correction.oxidant}; the sheet it corrects, ${original.id}, is for ${original.oxidant}. ` +
+        'A correction replaces that sheet in the plant’s record with a dose of another product: check that the oxidant is the one dosed.',
+    );
+  }
+  const before = localSample((original.request as { sampledAt?: unknown } | null)?.sampledAt, original.sampledAt);
+  const after = localSample(correction.sampledAt, normalizeTimestamp(correction.sampledAt) ?? correction.sampledAt);
+  if (before.month !== after.month) {
+    warnings.push(
+      `This correction's sample is dated ${after.day} (local), in ${after.month}; the sheet it corrects, ${original.id}, was sampled on ${before.day}, in ${before.month}. ` +
+        `The monthly report for ${before.month} loses this row and the one for ${after.month} gains it: check sampledAt.`,
+    );
+  }
+  return warnings;
+}
+
 export async function issueDoseSheet(services: Services, user: User, body: z.output<typeof SheetBody>) {
   const { sampledAt, supersedes, correctionReason, samplingPoint, sampleLabel, pageSize, ...doseRequest } = body;
   // The reason is stored in the request (request_json, so inside both hashes; see src/archive/sheets.ts).
   const warnings = correctionWarnings(supersedes, correctionReason, 'sheet');
   // archive.getSheet throws SHEET_NOT_FOUND (404, pointer /id); a correction naming an unknown
   // sheet is a bad request field instead (400, /supersedes). The append re-checks both rules.
+  let original: SheetRecord | undefined;
   if (supersedes !== undefined) {
     try {
-      services.archive.getSheet(supersedes);
+      original = services.archive.getSheet(supersedes);
     } catch (e) {
       if (!isDomainError(e) || e.code !== 'SHEET_NOT_FOUND') throw e;
       throw new DomainError('SHEET_SUPERSEDES_UNKNOWN', {
@@ -46,13 +81,18 @@ export async function issueDoseSheet(services: Services, user: User, body: z.out
       });
     }
   }
-  const result = doseFor(services, doseRequest);
+  // the plant version is read once, with the profile the dose is computed from, so the sheet names that version
+  const { result, plantVersion: computedWith } = doseWithPlantVersion(services, doseRequest);
+  if (original) warnings.push(...correctionChangeWarnings(original, { oxidant: result.oxidant.id, sampledAt }));
   const id = newSheetId('dose');
   const plantId = result.plant?.id ?? null;
-  const plantVersion = plantId ? (services.archive.getPlant(plantId)?.version ?? null) : null;
+  const plantVersion = plantId ? computedWith : null;
   const content = { id, kind: 'dose' as const, plantId, plantVersion, sampledAt, supersedes: supersedes ?? null, request: body, result };
   const prepared = prepareSheetContent(content);
   const { contentSha256 } = prepared;
+  // Paper: the request's pageSize, else US Letter when the sheet leads with US units (the request's
+  // options.units, else the plant profile's preferredUnits), else A4.
+  const paper = pageSize ?? (result.units.preferred === 'US' ? 'LETTER' : 'A4');
   const { stored, signer } = services.signerFor(user.id);
   const now = new Date();
   const doc = doseSheetDocument({
@@ -68,7 +108,7 @@ export async function issueDoseSheet(services: Services, user: User, body: z.out
     ...(supersedes ? { supersedes } : {}),
     ...(supersedes && correctionReason ? { correctionReason } : {}),
     // printed as "Reason for correction"; the content hash in the footer covers it too (it is in the stored request)
-    ...(pageSize ? { pageSize } : {}),
+    pageSize: paper,
   });
   const { pdf } = await renderSignedSheet(doc, signer, { signingTime: now, contentSha256 });
   const saved = services.archive.appendSheet({ ...content, createdBy: user.id, signerId: stored.id, signedAs: { name: stored.name, role: stored.role }, pdf, prepared, contentSha256 });
@@ -85,6 +125,7 @@ export async function issueDoseSheet(services: Services, user: User, body: z.out
     supersedes: saved.supersedes,
     dose: result.dose,
     correctionReason: saved.correctionReason,
+    pageSize: paper,
     warnings,
   };
 }

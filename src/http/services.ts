@@ -147,7 +147,7 @@ export async function createServices(options: ServiceOptions): Promise<Services>
   // A clearly labelled self-signed demo signer, made once, so sheets can be signed with no setup.
   // The key is made outside the write lock; the store checks again inside it, so two processes
   // starting at once on an empty folder keep one demo signer.
-  if (!archive.getDefaultSigner()) {
+  if (!archive.hasDefaultSigner()) {
     const demo = createDemoSigner({ name: 'Demo signer', role: 'Demonstration only', organisation: 'oxidant-dosing demo' });
     archive.addDefaultSignerIfNone({
       name: 'Demo signer',

@@ -171,7 +171,13 @@ function parseCms(buf: Buffer): ParsedCms {
   if (certNode) {
     certificates = children(buf, certNode)
       .filter((n) => n.tag === 0x30)
-      .map((n) => new X509Certificate(buf.subarray(n.start, n.end)));
+      .map((n) => {
+        try {
+          return new X509Certificate(buf.subarray(n.start, n.end));
+        } catch (e) {
+          throw new Error(`a certificate in it is not a readable X.509 certificate: ${e instanceof Error ? e.message : String(e)}`);
+        }
+      });
   }
   const signerInfos = expect(sdItems[sdItems.length - 1], 0x31, 'signerInfos SET');
   const infos = children(buf, signerInfos);
@@ -209,6 +215,21 @@ function parseCms(buf: Buffer): ParsedCms {
   return { signedAttrs, messageDigest, signingTime, signature, digestOid, certificate, problems };
 }
 
+/**
+ * The CMS SignedData in a /Contents value. Whatever fails to parse in it (the DER structure, a
+ * certificate inside it) is reported as corrupt signature data, in the service's words; the
+ * parser's or the library's own message follows as a detail.
+ */
+function readCms(contents: Buffer): ParsedCms {
+  try {
+    const der = contents.subarray(0, readNode(contents, 0).end);
+    return parseCms(der);
+  } catch (e) {
+    const why = e instanceof Error ? e.message : String(e);
+    throw new Error(`the signature data (the CMS SignedData in /Contents) is corrupt or unreadable, so the signature cannot be checked (detail: ${why})`);
+  }
+}
+
 /** Check the (last) signature of a PDF. */
 export function verifySignedPdf(pdf: Buffer): SignatureCheck {
   const problems: string[] = [];
@@ -221,8 +242,7 @@ export function verifySignedPdf(pdf: Buffer): SignatureCheck {
     const [a, b, c, d] = loc.byteRange;
     const coversWholeFile = a === 0 && c + d === pdf.length && loc.contentsStart === b && loc.contentsEnd === c;
     if (!coversWholeFile) problems.push('the signed ranges do not cover the whole file');
-    const der = loc.contents.subarray(0, readNode(loc.contents, 0).end);
-    const cms = parseCms(der);
+    const cms = readCms(loc.contents);
     problems.push(...cms.problems);
     const algorithm = DIGESTS[cms.digestOid];
     if (!algorithm) throw new Error(`unsupported digest algorithm ${cms.digestOid}`);

@@ -47,7 +47,7 @@ describe('integrity on every read', () => {
     expect(got.integrity).toEqual({ recordHashMatches: true, pdfHashMatches: true, checked: 'record hash and PDF hash', problems: [] });
     expect(got.status).toBe('current');
     expect(sha256(archive.getSheetPdf(s.id))).toBe(got.pdfSha256);
-    expect(archive.listSheets()[0]).toMatchObject({ status: 'current', integrity: { recordHashMatches: true, pdfHashMatches: null, checked: 'record hash' } });
+    expect(archive.listSheets()[0]).toMatchObject({ status: 'current', integrity: { recordHashMatches: true, pdfHashMatches: true, checked: 'record hash and PDF hash' } });
     expect(csvRecords(archive.exportCsv()).rows[0]).toMatchObject({ status: 'current', integrity: 'record hash matches', verification_url: `/api/v1/sheets/${s.id}/verification` });
   });
 
@@ -79,7 +79,7 @@ describe('integrity on every read', () => {
     expect(a.getSheet(ids[2]!).status).toBe('current'); // its own columns still hash; its chain link is verification's check
 
     const listed = new Map(a.listSheets().map((s) => [s.id, s]));
-    expect(listed.get(ids[1]!)).toMatchObject({ status: 'altered', integrity: { recordHashMatches: false, checked: 'record hash' } });
+    expect(listed.get(ids[1]!)).toMatchObject({ status: 'altered', integrity: { recordHashMatches: false, checked: 'record hash and PDF hash' } });
     expect([listed.get(ids[0]!)!.status, listed.get(ids[2]!)!.status]).toEqual(['current', 'current']);
 
     const rows = new Map(csvRecords(a.exportCsv()).rows.map((r) => [r['sheet_id'], r]));
@@ -87,7 +87,7 @@ describe('integrity on every read', () => {
     expect(rows.get(ids[0]!)).toMatchObject({ status: 'current', integrity: 'record hash matches' });
   });
 
-  it('changed PDF bytes: getSheet (which hashes them) says altered; the list, which does not read them, says what it checked', async () => {
+  it('changed PDF bytes (one byte flipped): getSheet, the list and the CSV all hash the bytes and say altered, as the walk does', async () => {
     const { archive, author, dir, reopen } = fresh();
     const id = archive.appendSheet(doseSheetInput(author)).id;
     archive.close();
@@ -99,7 +99,14 @@ describe('integrity on every read', () => {
     });
     const a = reopen();
     expect(a.getSheet(id)).toMatchObject({ status: 'altered', integrity: { pdfHashMatches: false, recordHashMatches: false, checked: 'record hash and PDF hash' } });
-    expect(a.listSheets()[0]!.integrity).toMatchObject({ pdfHashMatches: null, checked: 'record hash' });
+    const listed = a.listSheets()[0]!;
+    expect(listed).toMatchObject({ status: 'altered', integrity: { pdfHashMatches: false, recordHashMatches: false, checked: 'record hash and PDF hash' } });
+    // the same words on every route: the digest of the bytes as stored (node:crypto, FIPS 180-4)
+    const stored = a.getSheetPdf(id);
+    expect(listed.integrity.problems).toContain(`the stored PDF hashes to ${sha256(stored)}, not to the recorded ${listed.pdfSha256}`);
+    expect(listed.integrity).toEqual(a.getSheet(id).integrity);
+    expect(csvRecords(a.exportCsv()).rows[0]).toMatchObject({ sheet_id: id, status: 'altered', integrity: 'altered' });
+    expect((await a.verifyArchive()).firstBrokenId).toBe(id);
   });
 
   it('an altered record that was corrected is "altered", not "superseded"; its correction stays "current"', async () => {

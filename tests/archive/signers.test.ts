@@ -5,6 +5,7 @@ import { afterEach, describe, expect, it } from 'vitest';
 import { DomainError } from '../../src/core/errors.js';
 import { SIGNER_KEY_FILE, openArchive, type AddSignerInput } from '../../src/archive/index.js';
 import { rawTamper, tempDataDir } from './fixtures/archive-fixture.js';
+import { decryptPassword } from '../../src/archive/signers.js';
 
 const cleanups: (() => void)[] = [];
 afterEach(() => {
@@ -158,9 +159,15 @@ describe('signers', () => {
     });
     const b = openArchive({ dataDir: d, signerKeySecret: 'cd'.repeat(32) });
     expect(b.getSigner(s1.id)?.password).toBe('first');
+    // the registry check of the row refuses it before anything is decrypted …
     const e = await caught(() => b.getSigner(s2.id));
-    expect(e.code).toBe('SIGNER_INVALID');
+    expect(e.code).toBe('ARCHIVE_RECORD_ALTERED');
     expect(e.detail).toMatch(/integrity/);
+    // … and the moved ciphertext would not open under the other signer's id anyway (AES-GCM additional data)
+    const row = b.db.prepare('SELECT password_enc, key_fingerprint FROM signers WHERE id = ?').get(s2.id) as { password_enc: Buffer; key_fingerprint: string };
+    const e2 = await caught(() => decryptPassword(b.signerKey(), s2.id, row.password_enc, row.key_fingerprint));
+    expect(e2.code).toBe('SIGNER_INVALID');
+    expect(e2.detail).toMatch(/integrity/);
     b.close();
   });
 

@@ -53,6 +53,7 @@ describe('an untouched archive', () => {
         recordHashMatches: true,
         chainValid: true,
         signatureValid: true,
+        signerSubjectMatches: null, // the stand-in check does not say which certificate signed
         problems: [],
       });
     }

@@ -112,7 +112,7 @@ describe('integrity, oxidant, dose, local time and correction reason through the
     expect((await app.inject({ method: 'GET', url: '/api/v1/archive/verification' })).json().records).toBe(before);
   });
 
-  it('the list carries oxidant, the printed dose, status and the integrity found (record hash) for every sheet', async () => {
+  it('the list carries oxidant, the printed dose, status and the integrity found (record hash and PDF hash) for every sheet', async () => {
     const r = await app.inject({ method: 'GET', url: `/api/v1/sheets?plantId=demo-groundwater&from=${sample.localDay}&to=${sample.localDay}` });
     expect(r.statusCode).toBe(200);
     const sheets = r.json().sheets as Record<string, any>[];
@@ -121,7 +121,7 @@ describe('integrity, oxidant, dose, local time and correction reason through the
       expect(s.oxidant).toBe('potassium-permanganate');
       expect(s.dose).toMatchObject({ unit: 'mg/L', basis: 'as KMnO4', rounded: '2.18', what: 'dose' });
       expect(Math.abs(s.dose.value - EXPECTED_DOSE)).toBeLessThan(1e-9);
-      expect(s.integrity).toMatchObject({ recordHashMatches: true, pdfHashMatches: null, checked: 'record hash', problems: [], verificationUrl: `/api/v1/sheets/${s.id}/verification` });
+      expect(s.integrity).toMatchObject({ recordHashMatches: true, pdfHashMatches: true, checked: 'record hash and PDF hash', problems: [], verificationUrl: `/api/v1/sheets/${s.id}/verification` });
       // the contract fields are all still there
       for (const k of ['id', 'seq', 'kind', 'plantId', 'sampledAt', 'sha256', 'contentSha256', 'supersedes', 'supersededBy', 'prevHash', 'recordHash', 'pdfUrl', 'verificationUrl']) expect(s).toHaveProperty(k);
     }
@@ -194,7 +194,7 @@ describe('integrity, oxidant, dose, local time and correction reason through the
     const list = (await app.inject({ method: 'GET', url: '/api/v1/sheets?plantId=demo-groundwater' })).json().sheets as Record<string, any>[];
     const listed = list.find((s) => s.id === target)!;
     expect(listed.status).toBe('altered');
-    expect(listed.integrity).toMatchObject({ recordHashMatches: false, checked: 'record hash' });
+    expect(listed.integrity).toMatchObject({ recordHashMatches: false, pdfHashMatches: true, checked: 'record hash and PDF hash' });
     // the untouched sheets still read as they were
     expect(list.filter((s) => s.id !== target).map((s) => s.status).sort()).toEqual(['current', 'superseded', 'superseded']);
 
@@ -205,6 +205,52 @@ describe('integrity, oxidant, dose, local time and correction reason through the
     const pdf = await app.inject({ method: 'GET', url: `/api/v1/sheets/${target}/pdf` });
     expect(pdf.statusCode).toBe(200); // the signed bytes as stored: the evidence of what was issued
     expect(pdf.headers['x-sheet-integrity']).toBe('altered');
+  });
+});
+
+describe('a sheet whose stored PDF bytes were changed reads "altered" on every route', () => {
+  let app: FastifyInstance;
+  let dataDir: string;
+  beforeAll(async () => {
+    dataDir = mkdtempSync(join(tmpdir(), 'oxd-http-integrity-pdf-'));
+    app = await buildApp({ dataDir, bootstrapToken: BOOTSTRAP });
+  });
+  afterAll(async () => {
+    await app?.close();
+  });
+
+  it('byte 30000 of the PDF flipped: the record, the list, the CSV, the PDF header and the verification agree', async () => {
+    const sampledAt = new Date(Date.now() - 3_600_000).toISOString();
+    const ok = await app.inject({ method: 'POST', url: '/api/v1/sheets', headers: admin, payload: sheetBody(sampledAt) });
+    const bad = await app.inject({ method: 'POST', url: '/api/v1/sheets', headers: admin, payload: sheetBody(sampledAt, { sampleLabel: 'second tap (invented)' }) });
+    expect([ok.statusCode, bad.statusCode]).toEqual([201, 201]);
+    const target = bad.json().id as string;
+    const raw = new Database(join(dataDir, 'oxidant-dosing.sqlite'));
+    let changed: Buffer;
+    try {
+      raw.exec('DROP TRIGGER IF EXISTS sheets_no_update');
+      const { pdf } = raw.prepare('SELECT pdf FROM sheets WHERE id = ?').get(target) as { pdf: Buffer };
+      expect(pdf.length).toBeGreaterThan(30_000);
+      changed = Buffer.from(pdf);
+      changed[30_000] = changed[30_000]! ^ 0x01;
+      expect(raw.prepare('UPDATE sheets SET pdf = ? WHERE id = ?').run(changed, target).changes).toBe(1);
+    } finally {
+      raw.close();
+    }
+    const recorded = bad.json().sha256 as string;
+    const problem = `the stored PDF hashes to ${sha256(changed)}, not to the recorded ${recorded}`;
+    const one = await app.inject({ method: 'GET', url: `/api/v1/sheets/${target}` });
+    expect(one.json()).toMatchObject({ status: 'altered', integrity: { recordHashMatches: false, pdfHashMatches: false } });
+    const list = (await app.inject({ method: 'GET', url: '/api/v1/sheets?plantId=demo-groundwater' })).json().sheets as Record<string, any>[];
+    const listed = list.find((s) => s.id === target)!;
+    expect(listed).toMatchObject({ status: 'altered', integrity: { recordHashMatches: false, pdfHashMatches: false, checked: 'record hash and PDF hash' } });
+    expect(listed.integrity.problems).toContain(problem);
+    expect(list.find((s) => s.id === ok.json().id)).toMatchObject({ status: 'current', integrity: { recordHashMatches: true, pdfHashMatches: true } });
+    const { rows } = csvRecords((await app.inject({ method: 'GET', url: '/api/v1/sheets/export.csv?plantId=demo-groundwater' })).body);
+    expect(rows.find((x) => x['sheet_id'] === target)).toMatchObject({ status: 'altered', integrity: 'altered' });
+    expect(rows.find((x) => x['sheet_id'] === ok.json().id)).toMatchObject({ status: 'current', integrity: 'record hash matches' });
+    expect((await app.inject({ method: 'GET', url: `/api/v1/sheets/${target}/pdf` })).headers['x-sheet-integrity']).toBe('altered');
+    expect((await app.inject({ method: 'GET', url: `/api/v1/sheets/${target}/verification` })).json()).toMatchObject({ valid: false, hashMatches: false, recordHashMatches: false });
   });
 });
 

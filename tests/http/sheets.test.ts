@@ -434,7 +434,14 @@ describe('rate limit per token', () => {
       const over = await list(admin);
       expect(over.statusCode).toBe(429);
       expect(over.headers['content-type']).toMatch(/^application\/problem\+json/);
-      expect(over.json().detail).toMatch(/Rate limit of 3 requests/);
+      // the window is one minute; the figure is the time left in it, the same as Retry-After (RFC 9110 §10.2.3, seconds)
+      const m = /^Rate limit of 3 requests per minute reached for this token; try again in (\d+) s\.$/.exec(over.json().detail);
+      expect(m, over.json().detail).not.toBeNull();
+      const left = Number(m![1]);
+      expect(left).toBeGreaterThanOrEqual(1);
+      expect(left).toBeLessThanOrEqual(60);
+      expect(Number(over.headers['retry-after'])).toBe(left);
+      expect(over.json()).toMatchObject({ code: 'RATE_LIMITED', status: 429, instance: '/api/v1/users', params: { limit: 3, windowSeconds: 60, retryAfterSeconds: left } });
       expect((await list(other)).statusCode).toBe(200);
       expect((await app.inject({ method: 'GET', url: '/health' })).statusCode).toBe(200);
     } finally {

@@ -103,10 +103,26 @@ export const IsoDateTime = z
   .regex(ISO_DATETIME_RE, { error: (iss) => (typeof iss.input === 'string' ? calendarProblem(iss.input) : undefined) ?? DATETIME_FORM })
   .describe('ISO 8601 date and time with a zone, e.g. 2026-12-01T07:30:00+01:00 (a real calendar date: 2026-02-30 is refused)');
 
-/** A day (YYYY-MM-DD) or an instant (ISO 8601 with its zone), for listing and export bounds. */
+/** A date-time whose zone sign is a space: a "+" sent unencoded in a query string, which reads "+" as a space. */
+const PLUS_READ_AS_SPACE = /^(\d{4}-\d{2}-\d{2}T\d{2}:\d{2}(?::\d{2}(?:\.\d{1,9})?)?) (\d{2}:\d{2})$/;
+
+/**
+ * Why a query-string date-time arrived with a space where its zone's "+" was: in a URL query "+"
+ * means a space (application/x-www-form-urlencoded), so the "+" must be sent as %2B. Undefined
+ * when the text has no such space.
+ */
+export function plusAsSpaceProblem(text: string): string | undefined {
+  const m = PLUS_READ_AS_SPACE.exec(text);
+  if (!m) return undefined;
+  return `the zone's "+" arrived as a space: in a query string "+" stands for a space, so send it as %2B, e.g. ${m[1]}%2B${m[2]}`;
+}
+
+/** A day (YYYY-MM-DD) or an instant (ISO 8601 with its zone), for listing and export bounds (query strings). */
 export const DateOrTime = z
   .string()
-  .regex(DATE_OR_DATETIME_RE, { error: (iss) => (typeof iss.input === 'string' ? calendarProblem(iss.input, 'date-or-date-time') : undefined) ?? DATE_OR_DATETIME_FORM })
+  .regex(DATE_OR_DATETIME_RE, {
+    error: (iss) => (typeof iss.input === 'string' ? plusAsSpaceProblem(iss.input) ?? calendarProblem(iss.input, 'date-or-date-time') : undefined) ?? DATE_OR_DATETIME_FORM,
+  })
   .describe('YYYY-MM-DD (the sample’s own day, as written with its offset in sampledAt) or an ISO 8601 date-time (an instant)');
 
 // ---------------------------------------------------------------------------------------------

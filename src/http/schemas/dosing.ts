@@ -12,6 +12,7 @@ export const PlantSummary = z.object({
   version: z.number().int(),
   savedAt: z.string(),
   sha256: z.string(),
+  altered: z.boolean().describe('The stored profile no longer hashes to sha256 (changed in the archive file): it is not served or used; GET /api/v1/plants/:id answers 409'),
 });
 
 export const PlantOut = z.object({

@@ -31,6 +31,7 @@ export const SheetBody = DoseBody.extend({
   correctionReason: CorrectionReason.optional(),
   samplingPoint: z.string().min(1).max(200).optional(),
   sampleLabel: z.string().min(1).max(200).optional(),
+  // default: LETTER when the sheet leads with US units (options.units, else the plant profile's preferredUnits), A4 otherwise
   pageSize: PageSize.optional(),
 });
 
@@ -47,14 +48,17 @@ export const Created = z.object({
   supersedes: z.string().nullable(),
   dose: z.object({ value: z.number(), unit: z.string(), basis: z.string(), rounded: z.string() }),
   correctionReason: z.string().nullable().describe('The reason given for the correction, as stored; null when none was given'),
-  warnings: z.array(z.string()).describe('What the sheet was accepted with but should not have been, e.g. a correction without a reason'),
+  pageSize: z.enum(['A4', 'LETTER']).describe('The paper of the PDF: the request’s pageSize, else LETTER when the sheet leads with US units (options.units or the plant’s preferredUnits), else A4'),
+  warnings: z
+    .array(z.string())
+    .describe('What the sheet was accepted with but should be checked: a correction without a reason, or one that changes the oxidant or the sample’s local month (each naming both values)'),
 });
 
 /** What a read of a record found (every GET recomputes it). */
 export const Integrity = z
   .object({
     recordHashMatches: z.boolean().describe('The stored record hashes to its recordHash (recomputed on this read)'),
-    pdfHashMatches: z.boolean().nullable().describe('The stored PDF bytes hash to sha256; null when this read did not hash them (the list)'),
+    pdfHashMatches: z.boolean().nullable().describe('The stored PDF bytes hash to sha256 (hashed on every read: one record, the list and the CSV)'),
     checked: z.enum(['record hash', 'record hash and PDF hash']),
     problems: z.array(z.string()),
     message: z.string(),

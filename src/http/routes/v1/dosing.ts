@@ -19,8 +19,8 @@ export function findPlant(services: Services, plantId: string) {
   }
 }
 
-/** The plant profile a request names, or undefined; a missing one is a 404 naming the field. */
-export function plantFor(services: Services, plantId: string | undefined): PlantProfile | undefined {
+/** The stored plant version a request names, or undefined; a missing one is a 404 naming the field. */
+export function storedPlantFor(services: Services, plantId: string | undefined) {
   if (plantId === undefined) return undefined;
   const stored = findPlant(services, plantId);
   if (!stored) {
@@ -29,12 +29,23 @@ export function plantFor(services: Services, plantId: string | undefined): Plant
       fields: [{ pointer: '/plantId', message: 'no stored plant profile with this id' }],
     });
   }
-  return stored.profile as PlantProfile;
+  return stored;
+}
+
+/** The plant profile a request names, or undefined; a missing one is a 404 naming the field. */
+export function plantFor(services: Services, plantId: string | undefined): PlantProfile | undefined {
+  return storedPlantFor(services, plantId)?.profile as PlantProfile | undefined;
+}
+
+/** The dose, and the plant profile version it was computed with (read once, so a sheet names that version). */
+export function doseWithPlantVersion(services: Services, body: DoseRequest) {
+  const stored = storedPlantFor(services, body.plantId);
+  const result = computeDose(body, services.dosing, stored ? { plant: stored.profile as PlantProfile } : {});
+  return { result, plantVersion: stored?.version ?? null };
 }
 
 export function doseFor(services: Services, body: DoseRequest) {
-  const plant = plantFor(services, body.plantId);
-  return computeDose(body, services.dosing, plant ? { plant } : {});
+  return doseWithPlantVersion(services, body).result;
 }
 
 function plantOut(p: { plantId: string; version: number; profile: unknown; sha256: string; createdAt: string; createdBy: string }) {
@@ -64,13 +75,15 @@ export async function dosingRoutes(app: FastifyInstance): Promise<void> {
   defineRoute(app, {
     method: 'GET',
     url: '/plants',
-    summary: 'Stored plant profiles (latest version of each)',
+    summary: 'Stored plant profiles (latest version of each); a version whose profile no longer hashes to its sha256 is marked altered',
     tags: ['plants'],
     response: { 200: z.object({ plants: z.array(PlantSummary) }) },
     handler: async () => ({
       plants: app.services.archive.listPlants().map((p) => {
         const prof = p.profile as PlantProfile;
-        return { id: p.plantId, name: prof.name, invented: prof.invented, version: p.version, savedAt: p.createdAt, sha256: p.sha256 };
+        // an altered version is listed (never hidden) and marked; its profile is not believed, so its name is not shown from it
+        if (p.altered) return { id: p.plantId, name: '(altered: fails its integrity check)', invented: false, version: p.version, savedAt: p.createdAt, sha256: p.sha256, altered: true };
+        return { id: p.plantId, name: prof.name, invented: prof.invented, version: p.version, savedAt: p.createdAt, sha256: p.sha256, altered: false };
       }),
     }),
   });
@@ -78,7 +91,7 @@ export async function dosingRoutes(app: FastifyInstance): Promise<void> {
   defineRoute(app, {
     method: 'GET',
     url: '/plants/:id',
-    summary: 'One plant profile (latest version)',
+    summary: 'One plant profile (latest version); a version that fails its integrity check is a 409 ARCHIVE_RECORD_ALTERED',
     tags: ['plants'],
     params: z.object({ id: z.string().regex(/^[a-z0-9][a-z0-9-]{0,63}$/) }),
     response: { 200: PlantOut },

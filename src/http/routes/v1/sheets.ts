@@ -1,6 +1,6 @@
 import type { FastifyInstance } from 'fastify';
 import { z } from 'zod';
-import { DomainError } from '../../../core/errors.js';
+import { DomainError, isDomainError } from '../../../core/errors.js';
 import { isIntact, isValidSheetId, type SheetSummary } from '../../../archive/index.js';
 import { issueDoseSheet } from '../../issue-sheet.js';
 import { verifySignedPdf } from '../../../sheets/verify.js';
@@ -145,8 +145,16 @@ export async function sheetRoutes(app: FastifyInstance): Promise<void> {
       const sheets = app.services.archive.listSheets(req.query).map(summaryOut);
       const notes: string[] = [];
       // An empty list for a mistyped plant id must not read as "no sheets were issued".
-      if (req.query.plantId !== undefined && !findPlant(app.services, req.query.plantId)) {
-        notes.push(`No plant profile "${req.query.plantId}" is stored, so no sheet can name it; GET /api/v1/plants lists the stored ones.`);
+      if (req.query.plantId !== undefined) {
+        let stored: ReturnType<typeof findPlant> | 'altered';
+        try {
+          stored = findPlant(app.services, req.query.plantId);
+        } catch (e) {
+          if (!isDomainError(e) || e.code !== 'ARCHIVE_RECORD_ALTERED') throw e;
+          stored = 'altered';
+        }
+        if (stored === 'altered') notes.push(`The latest stored profile of plant "${req.query.plantId}" fails its integrity check (GET /api/v1/plants/${req.query.plantId} says why); the sheets listed were archived with their own records.`);
+        else if (!stored) notes.push(`No plant profile "${req.query.plantId}" is stored, so no sheet can name it; GET /api/v1/plants lists the stored ones.`);
       }
       return { sheets, notes };
     },
@@ -201,7 +209,7 @@ export async function sheetRoutes(app: FastifyInstance): Promise<void> {
   defineRoute(app, {
     method: 'GET',
     url: '/sheets/:id/verification',
-    summary: 'Check one sheet: PDF hash, PDF signature, record hash and its link in the chain',
+    summary: 'Check one sheet: PDF hash, PDF signature (and that its certificate is the signer the record names), record hash and its link in the chain',
     tags: ['sheets'],
     params: z.object({ id: SheetId }),
     response: {
@@ -212,13 +220,17 @@ export async function sheetRoutes(app: FastifyInstance): Promise<void> {
         signatureValid: z.boolean(),
         chainValid: z.boolean(),
         recordHashMatches: z.boolean(),
+        signerSubjectMatches: z
+          .boolean()
+          .nullable()
+          .describe('The signer certificate subject the record names is the subject of the certificate inside the PDF signature; null when the signature is unreadable'),
         problems: z.array(z.string()),
       }),
     },
     handler: async (req) => {
       requireSheet(app.services, req.params.id);
       const v = await app.services.archive.verifySheet(req.params.id, { verifyPdfSignature: verifySignedPdf });
-      return { id: v.id, valid: v.valid, hashMatches: v.hashMatches, signatureValid: v.signatureValid === true, chainValid: v.chainValid, recordHashMatches: v.recordHashMatches, problems: [...v.problems] };
+      return { id: v.id, valid: v.valid, hashMatches: v.hashMatches, signatureValid: v.signatureValid === true, chainValid: v.chainValid, recordHashMatches: v.recordHashMatches, signerSubjectMatches: v.signerSubjectMatches, problems: [...v.problems] };
     },
   });
 

@@ -17,6 +17,29 @@ const SignerOut = z.object({
   createdAt: z.string(),
 });
 
+/** The common name (CN) of a one-line subject "CN=…, O=…", or null when it has none. */
+export function commonNameOf(subject: string): string | null {
+  const m = /(?:^|,\s*)CN=([^,]*)/.exec(subject);
+  return m ? m[1]!.trim() : null;
+}
+
+const folded = (text: string) => text.normalize('NFKC').toLowerCase().replace(/\s+/g, ' ').trim();
+
+/**
+ * Warnings of a signer import: the sheets print the user's name as the signer while the PDF signature
+ * names the certificate's holder, so a certificate whose CN does not contain the user's name
+ * (compared case- and space-insensitively) is said, with both names.
+ */
+export function signerWarnings(userName: string, certificateSubject: string): string[] {
+  const cn = commonNameOf(certificateSubject);
+  if (cn !== null && folded(cn).includes(folded(userName))) return [];
+  return [
+    `The certificate is issued to ${cn === null ? `a subject with no common name (${certificateSubject})` : `"${cn}"`}, but it is imported for the user "${userName}": ` +
+      `the sheets will print "${userName}" as the signer while the PDF signature names ${cn === null ? 'the certificate subject' : `"${cn}"`} (the sheet prints the certificate subject beside the name). ` +
+      'If the certificate is not this person’s, import the right one; a user signs with their own certificate.',
+  ];
+}
+
 export async function userRoutes(app: FastifyInstance): Promise<void> {
   defineRoute(app, {
     method: 'POST',
@@ -40,10 +63,19 @@ export async function userRoutes(app: FastifyInstance): Promise<void> {
   defineRoute(app, {
     method: 'GET',
     url: '/users',
-    summary: 'List users (admin)',
+    summary: 'List users (admin), each with the integrity of its record as found on this read',
     tags: ['users'],
     auth: true,
-    response: { 200: z.object({ users: z.array(UserOut) }) },
+    response: {
+      200: z.object({
+        users: z.array(
+          UserOut.extend({
+            altered: z.boolean().describe('The user’s record fails its integrity check (changed in the archive file): its token is refused; deactivate it and check the archive'),
+            problems: z.array(z.string()).describe('What failed, in words (empty when nothing did)'),
+          }),
+        ),
+      }),
+    },
     preHandler: requireRole('admin'),
     handler: async () => ({ users: app.services.archive.listUsers() }),
   });
@@ -62,7 +94,13 @@ export async function userRoutes(app: FastifyInstance): Promise<void> {
       password: z.string().max(512).optional(),
       passwordEnv: z.string().regex(/^[A-Z][A-Z0-9_]{0,63}$/).optional().describe('Name of an environment variable holding the password'),
     }),
-    response: { 201: SignerOut },
+    response: {
+      201: SignerOut.extend({
+        warnings: z
+          .array(z.string())
+          .describe('What the import was accepted with but should be checked, e.g. a certificate whose common name (CN) is not the user’s name'),
+      }),
+    },
     preHandler: requireRole('operator'),
     handler: async (req, reply) => {
       const b = req.body;
@@ -105,7 +143,7 @@ export async function userRoutes(app: FastifyInstance): Promise<void> {
       });
       app.services.forgetSigner(userId);
       reply.code(201);
-      return saved;
+      return { ...saved, warnings: signerWarnings(user.name, signer.identity.certificateSubject) };
     },
   });
 }
