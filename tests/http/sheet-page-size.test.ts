@@ -57,3 +57,32 @@ describe('the page size of a dose sheet follows the units it leads with', () => 
     expect(run('pdfinfo', [pdfFile(pdf.rawPayload, `page-${pageSize}`)])).toMatch(size);
   });
 });
+
+describe('jar-test bench plans follow the plant the same way', () => {
+  let app: FastifyInstance;
+  beforeAll(async () => {
+    requireTools('pdfinfo');
+    app = await buildApp({ dataDir: mkdtempSync(join(tmpdir(), 'oxd-http-page-jar-')), bootstrapToken: BOOTSTRAP });
+    const p = await app.inject({ method: 'POST', url: '/api/v1/plants', headers: admin, payload: US_PLANT });
+    expect(p.statusCode, p.body).toBe(201);
+  });
+  afterAll(async () => {
+    await app?.close();
+  });
+
+  it.each([
+    ['a US plant', { plantId: 'probe-us' }, LETTER],
+    ['an SI plant', { plantId: 'demo-groundwater' }, A4],
+    ['a US plant, the request asking for A4', { plantId: 'probe-us', pageSize: 'A4' }, A4],
+    ['no plant', {}, A4],
+  ])('%s', async (_what, extra, size) => {
+    const r = await app.inject({
+      method: 'POST',
+      url: '/api/v1/jar-tests/plans',
+      headers: { accept: 'application/pdf' },
+      payload: { oxidant: 'potassium-permanganate', sample, jarVolume: { value: 1, unit: 'L' }, ...extra },
+    });
+    expect(r.statusCode, r.body).toBe(200);
+    expect(run('pdfinfo', [pdfFile(r.rawPayload, 'jar-page')])).toMatch(size);
+  });
+});

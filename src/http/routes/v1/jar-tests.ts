@@ -357,7 +357,7 @@ export function makeJarPlan(services: Services, body: JarPlanBodyT) {
   if (plantResidualNote !== null && !fromPlant.includes('targetResidual')) flagWarnings.push({ code: 'PLANT_RESIDUAL_FOR_OTHER_OXIDANT', severity: 'warning', message: plantResidualNote });
   const withFlags: JarTestPlan = flagWarnings.length > 0 ? { ...plan, warnings: [...plan.warnings, ...flagWarnings] } : plan;
   const residualSource: 'request' | 'plant profile' | 'not given' = fromPlant.includes('targetResidual') ? 'plant profile' : targetResidual !== undefined ? 'request' : 'not given';
-  const plantInfo = plant === null ? null : { id: plant.profile.id, name: plant.profile.name, version: plant.version, invented: plant.profile.invented, fromPlant };
+  const plantInfo = plant === null ? null : { id: plant.profile.id, name: plant.profile.name, version: plant.version, invented: plant.profile.invented, preferredUnits: plant.profile.preferredUnits, fromPlant };
   const residualReason = fromPlant.includes('targetResidual') && plantResidualNote !== null ? `${residual.reason.replace(/\.$/, '')} (${plantResidualNote}).` : residual.reason;
   const residualFrom = fromPlant.includes('targetResidual') ? plantResidualNote : null;
   return { plan: withFlags, estimate, background, residual: { ...residual, reason: residualReason, source: residualSource }, residualFrom, plant: plantInfo, oxidant: ox };
@@ -441,7 +441,7 @@ export async function renderJarPlanPdf(
   body: JarPlanBodyT,
   plan: JarTestPlan,
   now = new Date(),
-  plant: { id: string; name: string; version: number } | null = null,
+  plant: { id: string; name: string; version: number; preferredUnits?: 'SI' | 'US' } | null = null,
   residualFrom: string | null = null,
 ): Promise<{ id: string; pdf: Buffer }> {
   const ox = services.dosing.oxidants.get(body.oxidant)!;
@@ -457,7 +457,8 @@ export async function renderJarPlanPdf(
     ...(body.sampleLabel ? { sampleLabel: body.sampleLabel } : {}),
     ...(body.samplingPoint ? { samplingPoint: body.samplingPoint } : {}),
     ...(body.sampledAt ? { sampledAt: body.sampledAt } : {}),
-    ...(body.pageSize ? { pageSize: body.pageSize } : {}),
+    // paper as for dose sheets: the request's pageSize, else Letter for a plant that works in US units
+    pageSize: body.pageSize ?? (plant?.preferredUnits === 'US' ? 'LETTER' : 'A4'),
   };
   return { id, pdf: await renderSheet(jarTestPlanDocument(plan, ctx)) };
 }
@@ -824,7 +825,7 @@ export async function issueJarTestEvaluation(services: Services, user: User, bod
     ...(body.sampledAt ? { sampledAt: body.sampledAt } : {}),
     ...(body.supersedes ? { supersedes: body.supersedes } : {}),
     ...(body.supersedes && body.correctionReason ? { correctionReason: body.correctionReason } : {}),
-    ...(body.pageSize ? { pageSize: body.pageSize } : {}),
+    pageSize: body.pageSize ?? (plant?.profile.preferredUnits === 'US' ? 'LETTER' : 'A4'),
   };
   const { pdf } = await renderSignedSheet(jarTestEvaluationDocument(evaluation, ctx, plot), signer, { signingTime: now, contentSha256 });
   const saved = services.archive.appendSheet({ ...content, createdBy: user.id, signerId: stored.id, signedAs: { name: stored.name, role: stored.role }, pdf, contentSha256 });
