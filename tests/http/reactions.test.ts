@@ -61,6 +61,10 @@ describe('POST /api/v1/reactions/balance', () => {
     // hydrogen sulfide and chlorine: H2S + Cl2 → S + 2HCl, 2 electrons
     [['H2S', 'Cl2'], ['S', 'HCl'], 'H2S + Cl2 -> S + 2HCl', 2],
     [['Fe2+', 'MnO4-', 'H+'], ['Fe3+', 'Mn2+', 'H2O'], '5Fe2+ + MnO4- + 8H+ -> 5Fe3+ + Mn2+ + 4H2O', 5],
+    // one element in two states: NH4NO3 → N2O + 2H2O (N −3 → +1 and +5 → +1, 4 electrons) and
+    // the ammonium dichromate decomposition (2 Cr +6 → +3, 2 N −3 → 0: 6); textbook, from memory
+    [['NH4NO3'], ['N2O', 'H2O'], 'NH4NO3 -> N2O + 2H2O', 4],
+    [['(NH4)2Cr2O7'], ['Cr2O3', 'N2', 'H2O'], '(NH4)2Cr2O7 -> Cr2O3 + N2 + 4H2O', 6],
   ])('a redox reaction given as species counts its electrons from the oxidation states: %j', async (reactants, products, equation, electrons) => {
     const r = await post({ reactants, products });
     expect(r.statusCode, r.body).toBe(200);

@@ -47,14 +47,16 @@ export function reversedEquation(r: Pick<Reaction, 'terms'>): string {
 
 function electronNote(count: ReturnType<typeof electronsTransferred>): string | null {
   if (count.undetermined.length > 0) {
+    const readings = count.undetermined.filter((u) => u.readings && u.readings.length > 1);
     return (
-      `The oxidation states of ${count.undetermined.map((u) => `${u.elements.join(' and ')} in ${u.species}`).join('; ')} do not follow from the formula rules, ` +
-      'so the electrons transferred are not given; write the reaction as an oxidant couple and a reductant couple to have them counted.'
+      `The oxidation states of ${count.undetermined.map((u) => `${u.elements.join(' and ')} in ${u.species}`).join('; ')} do not follow from the formula rules` +
+      (readings.length > 0 ? ` (${readings.map((u) => `${u.species} reads ${u.readings!.join(', or ')}`).join('; ')})` : '') +
+      ', so the electrons transferred are not given; write the reaction as an oxidant couple and a reductant couple to have them counted.'
     );
   }
   const parts: string[] = [];
-  if (count.conventions.length > 0 && count.electrons !== 0) {
-    parts.push(`Oxidation states by the common-oxyanion convention: ${count.conventions.map((c) => `${c.elements.join(', ')} in ${c.species}`).join('; ')}.`);
+  if (count.ions.length > 0 && count.electrons !== 0) {
+    parts.push(`Oxidation states read with the polyatomic ions in ${count.ions.map((c) => `${c.species}: ${c.ions.join(', ')}`).join('; ')}.`);
   }
   if (count.mixedValence.length > 0 && count.electrons !== null) {
     parts.push(

@@ -35,6 +35,24 @@ describe('balanceService: oxidation-state changes of a reaction given as species
     });
   });
 
+  // which element is oxidised and which reduced, counted by hand from the textbook states
+  // (ammonium N −3, sulfite S +4, sulfate S +6, dichromate Cr +6; Greenwood & Earnshaw, from memory)
+  it.each([
+    [['(NH4)2Cr2O7'], ['Cr2O3', 'N2', 'H2O'], 6, [{ element: 'Cr', electronsLost: '0', electronsGained: '6' }, { element: 'N', electronsLost: '6', electronsGained: '0' }]],
+    [['(NH4)2SO3', 'O2'], ['(NH4)2SO4'], 4, [{ element: 'O', electronsLost: '0', electronsGained: '4' }, { element: 'S', electronsLost: '4', electronsGained: '0' }]],
+    [['FeSO3', 'O2'], ['FeSO4'], 4, [{ element: 'O', electronsLost: '0', electronsGained: '4' }, { element: 'S', electronsLost: '4', electronsGained: '0' }]],
+    [['NH4NO3'], ['N2O', 'H2O'], 4, [{ element: 'N', electronsLost: '4', electronsGained: '4' }]],
+  ] as [string[], string[], number, unknown[]][])('a salt with polyatomic ions: %j → %j moves %i electrons, the right element oxidised', (reactants, products, electrons, changes) => {
+    const r = balanceService({ reactants, products });
+    expect(r).toMatchObject({ electrons, oxidationStateChanges: changes });
+    expect((r as { electronsNote?: string }).electronsNote).toMatch(/polyatomic ions/);
+  });
+
+  it('the ions named are those whose elements change state (ammonium dichromate: NH4+ only)', () => {
+    const r = balanceService({ reactants: ['(NH4)2Cr2O7'], products: ['Cr2O3', 'N2', 'H2O'] }) as { electronsNote?: string };
+    expect(r.electronsNote).toBe('Oxidation states read with the polyatomic ions in (NH4)2Cr2O7: NH4+ (N −3).');
+  });
+
   it('a half-reaction written with e-: its e- coefficient, and no oxidation-state report', () => {
     const r = balanceService({ reactants: ['MnO4-', 'H+', 'e-'], products: ['Mn2+', 'H2O'] });
     expect(r.electrons).toBe(5);
