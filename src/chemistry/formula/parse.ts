@@ -26,8 +26,10 @@
  *              the same digits before a repeated sign: Fe2++ (Fe^2+ with the sign doubled, or the dimer
  *                Fe2^2+?), Hg2++, O2--, SO42--, [Fe(H2O)6]3++. One digit after a formula of more than one
  *                element, or after ")", stays a count: SO4--, Cr2O7--, Fe(OH)2++.
- *            Note: by the one-sign rule FeOH2+ reads as FeOH2^+ (count 2); write FeOH^2+ for the
- *            hydroxo-iron(III) ion. Likewise O2- reads as the oxide ion O^2-; write O2^- for superoxide.
+ *              a metal with one OH or halide and then 2 or 3 before one sign: FeOH2+ (FeOH^2+, the
+ *                hydroxo-iron(III) ion, or FeOH2^+?), AlOH2+, AlF2+, FeCl2+. With brackets the digit stays
+ *                a count: Fe(OH)2+ is Fe(OH)2^+.
+ *            Note: O2- reads as the oxide ion O^2- (a monatomic ion); write O2^- for superoxide.
  *            A charge is not written after a number or inside parentheses: Fe+2, Fe^+2, SO4-2 and Fe(2+)
  *            are refused, the message spelling the formula typed with its charge in the notation (Fe2+, Fe^2+).
  * Phase      At the very end, after any charge: (s), (l), (g), (aq): Fe(OH)3(s), Fe2+(aq), O2(g).
@@ -580,7 +582,26 @@ class Parser {
       return sign * Number(digits);
     }
     if (unclear) throw this.ambiguous(last.token, sign, last.afterClose === ']');
+    // the likelier reading first: a hydroxo or halo cation (FeOH^2+), a halo anion (CuCl2^-)
+    if (this.ligandCount(parts, last.item, digits)) throw this.ambiguous(last.token, sign, true, sign < 0);
     return sign;
+  }
+
+  /**
+   * A complex ion written without brackets whose last digit can as well be its charge: a metal
+   * with one hydroxide or halide and then 2 or 3 before one sign (FeOH2+: FeOH^2+, the
+   * hydroxo-iron(III) ion, or FeOH2^+; AlF2+: AlF^2+ or AlF2^+; FeCl2+). Oxyanions and the
+   * hydrides stay counts (ClO2-, MnO4-, NO2-, NH4+, H2PO4-): their digit follows O, or H after
+   * something other than O.
+   */
+  private ligandCount(parts: readonly FormulaPart[], item: Item, digits: string): boolean {
+    if (parts.length !== 1 || (digits !== '2' && digits !== '3') || item.kind !== 'element') return false;
+    const items = parts[0]!.items;
+    const k = items.indexOf(item);
+    if (k !== items.length - 1 || k < 1) return false;
+    const before = items[k - 1]!;
+    if (item.symbol === 'H') return before.kind === 'element' && before.symbol === 'O' && before.count === 1 && k >= 2;
+    return ['F', 'Cl', 'Br', 'I'].includes(item.symbol) && before.kind === 'element' && before.count === 1 && before.symbol !== 'O' && before.symbol !== 'H' && k === 1;
   }
 
   private signs(): Extract<Token, { kind: 'sign' }>[] {
@@ -621,7 +642,7 @@ class Parser {
     return this.fail(t.pos, head + fix);
   }
 
-  private ambiguous(token: NumberToken, sign: 1 | -1, afterBracket: boolean): DomainError {
+  private ambiguous(token: NumberToken, sign: 1 | -1, afterBracket: boolean, countFirst = false): DomainError {
     const prefix = this.source.slice(this.start, token.pos);
     const digits = token.digits;
     const s = sign > 0 ? '+' : '-';
@@ -635,12 +656,12 @@ class Parser {
     }
     // the most likely intent first: the last digit (or the whole number after "]") as the charge
     readings.sort((a, b) => (a.count.length === b.count.length ? 0 : a.count.length < b.count.length ? -1 : 1));
-    const likely = afterBracket ? readings[0] : readings.find((r) => r.count === digits.slice(0, -1)) ?? readings[0];
+    const likely = countFirst ? readings.find((r) => r.count === digits) : afterBracket ? readings[0] : readings.find((r) => r.count === digits.slice(0, -1)) ?? readings[0];
     const ordered = likely ? [likely, ...readings.filter((r) => r !== likely)] : readings;
     const listed = ordered.map((r) => `${quote(r.text)} (count ${r.count}, charge ${r.charge})`);
     const options = listed.length === 2 ? `${listed[0]} or ${listed[1]}` : listed.slice(0, -1).join(', ') + ` or ${listed[listed.length - 1]}`;
     return new DomainError('FORMULA_AMBIGUOUS_CHARGE', {
-      detail: `In ${quote(this.source)} the digits ${quote(digits)} at position ${token.pos} before the sign can be read ${ordered.length === 2 ? 'two' : 'several'} ways: ${options}. Write the charge with ^ to say which you mean, e.g. ${quote(ordered[0]?.text ?? '')}`,
+      detail: `In ${quote(this.source)} the ${digits.length === 1 ? 'digit' : 'digits'} ${quote(digits)} at position ${token.pos} before the sign can be read ${ordered.length === 2 ? 'two' : 'several'} ways: ${options}. Write the charge with ^ to say which you mean, e.g. ${quote(ordered[0]?.text ?? '')}`,
       text: this.source,
       position: token.pos,
       params: { formula: this.source, readings: ordered.map((r) => r.text) },
