@@ -114,6 +114,26 @@ describe('POST /api/v1/reactions/balance', () => {
     expect(water.json().detail).toMatch(/H2O is among both the reactants and the products/);
   });
 
+  it.each([
+    // a fractional hydrate (hemihydrate): refused, the formula in whole numbers suggested
+    [['CaSO4·0.5H2O'], 'FORMULA_SYNTAX', /fractional hydrate multipliers are not supported.*\(CaSO4\)2·H2O/],
+    // a hydroxo ion written without ^: both readings named
+    [['FeOH2+'], 'FORMULA_AMBIGUOUS_CHARGE', /"FeOH\^2\+" \(count 1, charge 2\+\) or "FeOH2\^\+" \(count 2, charge 1\+\)/],
+  ] as [string[], string, RegExp][])('%j is a 400 naming the field: %s', async (products, code, detail) => {
+    const r = await post({ reactants: ['Fe3+', 'H2O'], products: [...products, 'H+'] });
+    expect(r.statusCode).toBe(400);
+    const p = r.json();
+    expect(p.code).toBe(code);
+    expect(p.errors[0].pointer).toBe('/products/0');
+    expect(p.detail).toMatch(detail);
+  });
+
+  it('Fe3+ + H2O → FeOH^2+ + H+ written with ^ balances with no electrons (first hydrolysis of iron(III); Stumm & Morgan, from memory)', async () => {
+    const r = await post({ reactants: ['Fe3+', 'H2O'], products: ['FeOH^2+', 'H+'] });
+    expect(r.statusCode, r.body).toBe(200);
+    expect(r.json()).toMatchObject({ equation: 'Fe3+ + H2O -> FeOH^2+ + H+', electrons: 0 });
+  });
+
   it('a malformed formula is a 400 naming the field and the position', async () => {
     const r = await post({ reactants: ['Fe(OH3'], products: ['Fe3+'] });
     expect(r.statusCode).toBe(400);

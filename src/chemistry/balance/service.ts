@@ -68,6 +68,13 @@ function electronNote(count: ReturnType<typeof electronsTransferred>): string | 
   return parts.length ? parts.join(' ') : null;
 }
 
+/** The note for species written with a thermodynamic table's solid label, (cr) or (am): read as the solid (s). */
+export function solidLabelNote(species: readonly Species[]): string | null {
+  const labelled = species.filter((sp) => sp.phase === 's' && /\((cr|am)\)\s*$/.test(sp.text)).map((sp) => sp.text);
+  if (labelled.length === 0) return null;
+  return `${[...new Set(labelled)].join(', ')}: (cr) crystalline and (am) amorphous are read as the solid phase (s), at unit activity; which solid forms is not told apart.`;
+}
+
 export function chooseMedium(medium: Medium | undefined, pH: number | undefined): { medium: Medium; reason: string } {
   if (medium) return { medium, reason: 'medium given by the caller' };
   if (pH !== undefined) {
@@ -95,6 +102,15 @@ export function balanceService(input: BalanceTextInput, elements?: ReadonlySet<s
       });
     }
     const r = balanceReaction({ reactants, products });
+    const notes: string[] = [];
+    // pH and medium complete half-reactions of couples; a species balance uses the species given
+    if (input.pH !== undefined || input.medium !== undefined) {
+      notes.push(
+        `${[input.pH !== undefined ? `pH ${input.pH}` : '', input.medium !== undefined ? `medium ${input.medium}` : ''].filter(Boolean).join(' and ')} not used: a balance of given species uses exactly the species listed (add H+, OH- or H2O to them to balance in a medium); pH and medium choose how couples (oxidant, reductant) are completed.`,
+      );
+    }
+    const solidLabels = solidLabelNote([...reactants, ...products]);
+    if (solidLabels) notes.push(solidLabels);
     // written with e-: a half-reaction, its electrons are its e- coefficient; otherwise they
     // follow from the oxidation states of the species (0 for a non-redox reaction)
     const explicit = r.terms.some((t) => isElectron(t.species));
@@ -112,14 +128,7 @@ export function balanceService(input: BalanceTextInput, elements?: ReadonlySet<s
         ? { oxidationStateChanges: count.changes === null ? null : count.changes.map((c) => ({ element: c.element, electronsLost: c.oxidised, electronsGained: c.reduced })) }
         : {}),
       ...(electronsNote ? { electronsNote } : {}),
-      // pH and medium complete half-reactions of couples; a species balance uses the species given
-      ...(input.pH !== undefined || input.medium !== undefined
-        ? {
-            notes: [
-              `${[input.pH !== undefined ? `pH ${input.pH}` : '', input.medium !== undefined ? `medium ${input.medium}` : ''].filter(Boolean).join(' and ')} not used: a balance of given species uses exactly the species listed (add H+, OH- or H2O to them to balance in a medium); pH and medium choose how couples (oxidant, reductant) are completed.`,
-            ],
-          }
-        : {}),
+      ...(notes.length > 0 ? { notes } : {}),
       method: 'Null space of the element-and-charge matrix over exact rationals; smallest whole coefficients',
     };
   }

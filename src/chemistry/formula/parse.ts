@@ -33,6 +33,8 @@
  *            A charge is not written after a number or inside parentheses: Fe+2, Fe^+2, SO4-2 and Fe(2+)
  *            are refused, the message spelling the formula typed with its charge in the notation (Fe2+, Fe^2+).
  * Phase      At the very end, after any charge: (s), (l), (g), (aq): Fe(OH)3(s), Fe2+(aq), O2(g).
+ *            The solid labels of thermodynamic tables, (cr) crystalline and (am) amorphous, are read
+ *            as (s): Fe(OH)3(am), Fe2O3(cr).
  *            A space before the label is allowed.
  * Electron   "e-" (also "e^-", "e−"): composition {}, charge 1-.
  * Spaces     Not allowed inside a formula except around a hydrate dot and before a phase label.
@@ -78,6 +80,8 @@ export interface FormulaAst {
   readonly parts: readonly FormulaPart[];
   readonly charge: number;
   readonly phase: Phase | null;
+  /** The phase label as written when it is not the phase's own ("cr" or "am" for phase "s"). */
+  readonly phaseLabel?: string;
 }
 
 export interface ParseOptions {
@@ -357,6 +361,7 @@ class Parser {
         if (parts.length === 0) {
           throw this.fail(t.pos, `the formula starts with the number ${quote(t.digits)} at position ${t.pos}; a formula starts with an element symbol or a bracket (coefficients belong in an equation, e.g. "2H2O = ...")`);
         }
+        this.refuseFractionalMultiplier(t, parts);
         if (t.value === 0) throw this.fail(t.pos, `the hydrate multiplier at position ${t.pos} is 0; it must be a whole number of at least 1`);
         multiplier = t.value;
         this.next();
@@ -378,14 +383,48 @@ class Parser {
 
     const charge = this.charge(parts);
     let phase: Phase | null = null;
+    let phaseLabel: string | undefined;
     const p = this.peek();
     if (p.kind === 'phase') {
       phase = p.phase;
+      if (p.label !== p.phase) phaseLabel = p.label;
       this.next();
     }
     const e = this.peek();
     if (e.kind !== 'end') throw this.trailing(e, charge !== 0, phase !== null);
-    return { electron: false, parts, charge, phase };
+    return { electron: false, parts, charge, phase, ...(phaseLabel ? { phaseLabel } : {}) };
+  }
+
+  /**
+   * A hydrate multiplier written as a decimal fraction ("CaSO4·0.5H2O", "1.5H2O"): the lexer sees
+   * a number, a hydrate dot and a number. Refused, with the formula in whole numbers where the
+   * hydrated part is the first one ("(CaSO4)2·H2O").
+   */
+  private refuseFractionalMultiplier(t: NumberToken, parts: readonly FormulaPart[]): void {
+    const dot = this.tokens[this.i + 1];
+    const frac = this.tokens[this.i + 2];
+    if (dot?.kind !== 'dot' || dot.char !== '.' || dot.pos !== t.end || frac?.kind !== 'number' || frac.pos !== dot.end || frac.subscript) return;
+    const written = this.source.slice(t.pos, frac.end);
+    // p/q in lowest terms
+    let p = BigInt(t.digits + frac.digits);
+    let q = 10n ** BigInt(frac.digits.length);
+    const gcd = (a: bigint, b: bigint): bigint => (b === 0n ? a : gcd(b, a % b));
+    const g = gcd(p, q);
+    p /= g;
+    q /= g;
+    let fix = '';
+    const rest = this.source.slice(frac.end, this.end);
+    const later = this.tokens.slice(this.i + 3).some((k) => k.kind === 'dot');
+    if (parts.length === 1 && !later && p > 0n && q > 1n && q <= 1000n) {
+      const first = this.source.slice(this.start, (this.tokens.find((k) => k.kind === 'dot') as Token).pos).trim();
+      const single = parts[0]!.items.length === 1 && parts[0]!.items[0]!.kind === 'group';
+      const head = single ? `${first}${q}` : `(${first})${q}`;
+      const dotChar = this.source.slice(this.tokens.find((k) => k.kind === 'dot')!.pos, t.pos).trim();
+      fix = `; write it in whole numbers, e.g. ${quote(`${head}${dotChar}${p === 1n ? '' : p}${rest}`)} for ${quote(this.source.slice(this.start, this.end))}`;
+    } else {
+      fix = '; write the formula in whole numbers, e.g. "(CaSO4)2·H2O" for CaSO4·0.5H2O';
+    }
+    throw this.fail(t.pos, `the hydrate multiplier ${quote(written)} at position ${t.pos} is a fraction; fractional hydrate multipliers are not supported${fix}`);
   }
 
   private items(open: Extract<Token, { kind: 'open' }> | null): Item[] {
@@ -717,7 +756,7 @@ class Parser {
       return this.numberAfterCharge(t, this.written);
     }
     if (hadCharge) {
-      return this.fail(t.pos, `${describe(t)} at position ${t.pos} follows the charge; only a phase label ((s), (l), (g), (aq)) may come after the charge`);
+      return this.fail(t.pos, `${describe(t)} at position ${t.pos} follows the charge; only a phase label ((s), (l), (g), (aq), or (cr)/(am) for a solid) may come after the charge`);
     }
     if (t.kind === 'close') {
       return this.fail(t.pos, `the ${quote(t.bracket)} at position ${t.pos} has no matching opening bracket`);

@@ -53,6 +53,14 @@ describe('balanceService: oxidation-state changes of a reaction given as species
     expect(r.electronsNote).toBe('Oxidation states read with the polyatomic ions in (NH4)2Cr2O7: NH4+ (N −3).');
   });
 
+  it('a solid written with a thermodynamic table label, (cr) or (am), balances as the solid and the answer says how it was read', () => {
+    // Fe3+ + 3H2O → Fe(OH)3 + 3H+: hydrolysis of iron(III), no electrons (textbook, from memory)
+    const r = balanceService({ reactants: ['Fe3+', 'H2O'], products: ['Fe(OH)3(am)', 'H+'] }) as { equation: string; electrons: number; notes?: string[] };
+    expect(r.equation).toBe('Fe3+ + 3H2O -> Fe(OH)3(am) + 3H+');
+    expect(r.electrons).toBe(0);
+    expect(r.notes?.join(' ')).toMatch(/Fe\(OH\)3\(am\): \(cr\) crystalline and \(am\) amorphous are read as the solid phase \(s\)/);
+  });
+
   it('a half-reaction written with e-: its e- coefficient, and no oxidation-state report', () => {
     const r = balanceService({ reactants: ['MnO4-', 'H+', 'e-'], products: ['Mn2+', 'H2O'] });
     expect(r.electrons).toBe(5);

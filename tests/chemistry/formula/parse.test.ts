@@ -106,6 +106,10 @@ describe('parseFormula: the notation', () => {
     ['O3', { O: 3 }, 0, null],
     ['Fe(OH)3', { Fe: 1, O: 3, H: 3 }, 0, null],
     ['Fe(OH)3(s)', { Fe: 1, O: 3, H: 3 }, 0, 's'],
+    // the solid labels of thermodynamic tables (crystalline, amorphous; NBS tables notation) read as (s)
+    ['Fe(OH)3(cr)', { Fe: 1, O: 3, H: 3 }, 0, 's'],
+    ['Fe(OH)3(am)', { Fe: 1, O: 3, H: 3 }, 0, 's'],
+    ['Fe2O3 (cr)', { Fe: 2, O: 3 }, 0, 's'],
     ['Fe2(SO4)3', { Fe: 2, S: 3, O: 12 }, 0, null],
     ['K4[Fe(CN)6]', { K: 4, Fe: 1, C: 6, N: 6 }, 0, null],
     ['K4Fe(CN)6', { K: 4, Fe: 1, C: 6, N: 6 }, 0, null],
@@ -222,6 +226,12 @@ describe('parseFormula: errors carry the formula and the position of the bad cha
     ['Xx2', 'FORMULA_UNKNOWN_ELEMENT', 0, 'the symbol "Xx" at position 0 is not an element symbol'],
     ['CL2', 'FORMULA_UNKNOWN_ELEMENT', 1, 'did you mean "Cl"'],
     ['NaQ', 'FORMULA_UNKNOWN_ELEMENT', 2, '"Q"'],
+    // a hydrate multiplier written as a decimal: refused, with the formula in whole numbers (hemihydrate CaSO4·0.5H2O is (CaSO4)2·H2O)
+    ['CaSO4·0.5H2O', 'FORMULA_SYNTAX', 6, 'fractional hydrate multipliers are not supported; write it in whole numbers, e.g. "(CaSO4)2·H2O"'],
+    ['CaSO4.0.5H2O', 'FORMULA_SYNTAX', 6, '"(CaSO4)2.H2O"'],
+    ['CaSO4·1.5H2O', 'FORMULA_SYNTAX', 6, 'the hydrate multiplier "1.5" at position 6 is a fraction; fractional hydrate multipliers are not supported; write it in whole numbers, e.g. "(CaSO4)2·3H2O"'],
+    ['MgSO4·0.25H2O', 'FORMULA_SYNTAX', 6, '"(MgSO4)4·H2O"'],
+    ['Fe(OH)3(c)', 'FORMULA_SYNTAX', 7, '"(c)" at position 7 is not a phase label this service reads; the phase labels are (s), (l), (g) and (aq), with (cr) and (am) read as (s)'],
     ['SO42-', 'FORMULA_AMBIGUOUS_CHARGE', 2, '"SO4^2-" (count 4, charge 2-) or "SO42^-" (count 42, charge 1-)'],
     ['MnO42-', 'FORMULA_AMBIGUOUS_CHARGE', 3, '"MnO4^2-"'],
     ['HPO42-', 'FORMULA_AMBIGUOUS_CHARGE', 3, '"HPO4^2-"'],
