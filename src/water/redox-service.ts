@@ -741,6 +741,22 @@ export interface ConcentrationIn {
   unit: 'mg/L' | 'ug/L' | 'µg/L' | 'g/m3' | 'g/L' | 'ppm' | 'ppb' | 'mol/L' | 'mmol/L' | 'umol/L' | 'µmol/L' | 'atm';
 }
 
+const MN2 = speciesKey(parseFormula('Mn2+'));
+
+/**
+ * The note every feasible cell carries: E > 0 says the reaction can run, not how fast. Where a
+ * well-known slow case applies it is named: dissolved oxygen oxidises Mn(II) very slowly below
+ * about pH 9 (common practice; from memory of water-treatment texts, e.g. Stumm & Morgan).
+ */
+function rateNote(oxidant: Species, reductant: Species, pH: number): string {
+  const general = 'Feasible is thermodynamic only (E > 0): it says nothing about the rate.';
+  const oxygen = Object.keys(oxidant.composition).length === 1 && oxidant.composition['O'] === 2;
+  if (oxygen && speciesKey(reductant) === MN2 && pH < 9) {
+    return `${general} Dissolved oxygen oxidises Mn(II) very slowly below about pH 9 (common practice): check with a jar test or a stronger oxidant.`;
+  }
+  return general;
+}
+
 export interface CellInputText {
   oxidant: { from: string; to: string };
   reductant: { from: string; to: string };
@@ -954,6 +970,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
         'it can be wrong by many orders of magnitude; give the concentrations of the species named above for a meaningful floor.',
     );
   }
+  if (cell.feasible) notes.push(rateNote(ox.from, red.from, input.pH));
   const davies = I > 0;
   return {
     reaction: overall.equation,

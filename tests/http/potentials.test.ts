@@ -146,6 +146,25 @@ describe('errors name the fields the request has', () => {
     expect(wrong.errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/from', '/to']);
   });
 
+  // feasibility is E > 0 (thermodynamics); the slow oxygenation of Mn(II) below about pH 9 is common practice (from memory)
+  it.each([
+    [{ oxidant: { from: 'O2(g)', to: 'H2O' }, reductant: { from: 'Mn2+', to: 'MnO2' }, pH: 7, temperatureC: 25 }, true, /Dissolved oxygen oxidises Mn\(II\) very slowly below about pH 9/],
+    [{ oxidant: { from: 'O2', to: 'H2O' }, reductant: { from: 'Mn2+', to: 'MnO2' }, pH: 7.5, temperatureC: 15 }, true, /very slowly below about pH 9/],
+    [{ oxidant: { from: 'MnO4-', to: 'MnO2' }, reductant: { from: 'Mn2+', to: 'MnO2' }, pH: 7.2, temperatureC: 25 }, true, /^(?![\s\S]*Dissolved oxygen)[\s\S]*Feasible is thermodynamic only \(E > 0\): it says nothing about the rate\./],
+  ] as [object, boolean, RegExp][])('a feasible cell says feasible is thermodynamic only: %j', async (body, feasible, note) => {
+    const r = await post('/api/v1/cells/evaluate', body);
+    expect(r.statusCode, r.body).toBe(200);
+    const b = r.json();
+    expect(b.feasible).toBe(feasible);
+    expect(b.notes.join(' ')).toMatch(note);
+  });
+
+  it('an infeasible cell carries no rate note (Fe3+ cannot oxidise Mn2+ to MnO2 at pH 2)', async () => {
+    const b = (await post('/api/v1/cells/evaluate', { oxidant: { from: 'Fe3+', to: 'Fe2+' }, reductant: { from: 'Mn2+', to: 'MnO2' }, pH: 2, temperatureC: 25 })).json();
+    expect(b.feasible).toBe(false);
+    expect(b.notes.join(' ')).not.toMatch(/thermodynamic only/);
+  });
+
   it('an underivable couple points at its from and to; a cell at /oxidant; the equation in the formulas as written', async () => {
     // selenate/selenite: no row of the tables holds selenium
     const none = await post('/api/v1/couples/potential', { from: 'SeO4^2-', to: 'SeO3^2-' });
