@@ -68,6 +68,45 @@ function electronNote(count: ReturnType<typeof electronsTransferred>): string | 
   return parts.length ? parts.join(' ') : null;
 }
 
+/**
+ * A species written with a digit and then one sign after a formula of several elements (CrO2+,
+ * MnO2+) reads the digit as a count and the charge as 1. When the species do not balance so but
+ * would with the digit read as the charge (CrO^2+), the error says so, naming both readings, rather
+ * than suggesting electrons: the caller may have meant either.
+ */
+function withChargeReading(e: DomainError, reactants: readonly Species[], products: readonly Species[], elements?: ReadonlySet<string>): DomainError {
+  const all = [...reactants, ...products];
+  for (let i = 0; i < all.length; i++) {
+    const sp = all[i]!;
+    const m = /^(.*[A-Za-z)\]])([2-9])([+-])(\s*\((?:s|l|g|aq|cr|am)\))?$/.exec(sp.text);
+    if (!m || sp.text.includes('^') || Math.abs(sp.charge) !== 1) continue;
+    const other = `${m[1]}^${m[2]}${m[3]}${m[4] ?? ''}`;
+    let alt: Species;
+    try {
+      alt = elements ? parseFormula(other, { elements }) : parseFormula(other);
+    } catch {
+      continue;
+    }
+    const swap = (list: readonly Species[], offset: number) => list.map((x, j) => (j + offset === i ? alt : x));
+    try {
+      const balanced = balanceReaction({ reactants: swap(reactants, 0), products: swap(products, reactants.length) });
+      const counted = `${m[1]}${m[2]}^${m[3]}${m[4] ?? ''}`;
+      const pointer = i < reactants.length ? `/reactants/${i}` : `/products/${i - reactants.length}`;
+      const hint =
+        ` ${sp.text} was read as ${counted} (a single sign after a digit is a charge of 1, the digit a count); ` +
+        `read as ${other} (the digit as the charge) the species balance: ${balanced.equation}. Write the charge with ^ to say which you mean.`;
+      return new DomainError(e.code, {
+        detail: (/[.!?]$/.test(e.detail) ? e.detail : `${e.detail}.`) + hint,
+        params: { ...e.params, chargeReading: { species: sp.text, read: counted, alternative: other, balancedEquation: balanced.equation } },
+        fields: [{ pointer, message: `read as ${counted}; as ${other} the species balance` }, ...e.fields.filter((f) => f.pointer !== pointer)],
+      });
+    } catch {
+      // that reading does not balance either
+    }
+  }
+  return e;
+}
+
 /** The note for species written with a thermodynamic table's solid label, (cr) or (am): read as the solid (s). */
 export function solidLabelNote(species: readonly Species[]): string | null {
   const labelled = species.filter((sp) => sp.phase === 's' && /\((cr|am)\)\s*$/.test(sp.text)).map((sp) => sp.text);
@@ -101,7 +140,13 @@ export function balanceService(input: BalanceTextInput, elements?: ReadonlySet<s
         ],
       });
     }
-    const r = balanceReaction({ reactants, products });
+    let r;
+    try {
+      r = balanceReaction({ reactants, products });
+    } catch (e) {
+      if (isDomainError(e) && e.code === 'BALANCE_IMPOSSIBLE') throw withChargeReading(e, reactants, products, elements);
+      throw e;
+    }
     const notes: string[] = [];
     // pH and medium complete half-reactions of couples; a species balance uses the species given
     if (input.pH !== undefined || input.medium !== undefined) {
