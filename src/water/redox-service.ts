@@ -87,7 +87,7 @@ function notInEitherHalf(halves: readonly NernstResult[], given: ReadonlyMap<str
   for (const [key, text] of given) {
     const mine = terms.filter((a) => a.key === key);
     if (key === PH_KEYS[0] || key === PH_KEYS[1]) {
-      notes.push(`${text} is set by the pH; the ${what} given for it was not used.`);
+      notes.push(`${text} is set by the pH; the ${what} given for it agrees with the pH (within ${PH_AGREEMENT_UNITS} pH units) and was not used.`);
     } else if (mine.length === 0) {
       notes.push(`${text} is not in ${halves.length > 1 ? 'either half-reaction' : 'the half-reaction'}; the ${what} given for it was not used.`);
     } else if (mine.every((a) => a.reason === 'water')) {
@@ -229,11 +229,13 @@ function potentialFor(
         throw e.withFields((fields) => fields.map((f) => (f.pointer === '/override/medium' ? { pointer: at, message: f.message } : f)), e.detail);
       }
       // the ledger speaks of the half-reaction's equation; in this request that is the couple itself
+      // (its from and to on the couple route, the oxidant or reductant on a cell), and the
+      // equation is shown with the formulas as the request wrote them (Cr3+, not the key Cr^3+)
       if (!isDomainError(e) || !e.fields.some((f) => f.pointer === '/equation')) throw e;
-      throw e.withFields(
-        (fields) => fields.map((f) => (f.pointer === '/equation' ? { pointer, message: f.message } : f)),
-        e.detail.replace('(standardPotentialV)', `(${siteField})`),
-      );
+      const ledgerEquation = typeof e.params['equation'] === 'string' ? e.params['equation'] : null;
+      const detail = (ledgerEquation ? e.detail.replace(ledgerEquation, half.equation) : e.detail).replace('(standardPotentialV)', `(${siteField})`);
+      const at = pointer === '' ? ['/from', '/to'] : [pointer];
+      throw e.withFields((fields) => fields.flatMap((f) => (f.pointer === '/equation' ? at.map((q) => ({ pointer: q, message: f.message })) : [f])), detail);
     }
   });
 }
@@ -481,8 +483,16 @@ interface RequestPH {
  * so); H+ and OH- both given without a pH are refused, as two settings of one quantity.
  */
 function pHOfRequest(pH: number | undefined, activities: ReadonlyMap<string, number>, seen: ReadonlyMap<string, GivenAt>, temperatureC: number, deps: RedoxDeps): RequestPH {
-  if (pH !== undefined) return { pH, pHNote: `pH ${pH}: a(H+) = 10^-${pH}` };
   const [hKey, ohKey] = PH_KEYS;
+  if (pH !== undefined) {
+    // an H+ or OH- activity beside the pH: the same pH (a note says it is not used) or a contradiction (400)
+    for (const key of [hKey, ohKey]) {
+      const a = activities.get(key);
+      const at = seen.get(key);
+      if (a !== undefined && a > 0 && at) checkPHAgreement(pH, { key, text: at.text, pointer: at.pointer, log10Values: [Math.log10(a)] }, temperatureC, deps, 'activity', true);
+    }
+    return { pH, pHNote: `pH ${pH}: a(H+) = 10^-${pH}` };
+  }
   const h = activities.has(hKey) ? seen.get(hKey) : undefined;
   const oh = activities.has(ohKey) ? seen.get(ohKey) : undefined;
   if (h === undefined && oh === undefined) return { pH: undefined, pHNote: 'No pH given: H+ at unit activity (pH 0), its standard state.' };
@@ -512,6 +522,42 @@ function pHOfRequest(pH: number | undefined, activities: ReadonlyMap<string, num
   }
   const text = `No pH given: the activity given for ${g.text} (${a}) sets it, ${how} = ${Number(value.toFixed(4))}${kwText}.`;
   return { pH: value, pHNote: text, key, note: text };
+}
+
+/** How far (pH units) an H+ or OH- value may lie from the pH given beside it and still be read as the same pH. */
+export const PH_AGREEMENT_UNITS = 0.02;
+
+/**
+ * An H+ or OH- value given beside a pH: the pH it implies (pH = −log10 a(H+), or pKw + log10
+ * a(OH-) at the temperature) must agree with the pH within PH_AGREEMENT_UNITS, else the request
+ * says two different things and is refused naming both fields. `log10Values` are the readings
+ * accepted as the species' activity (a concentration is checked as given and with its activity
+ * coefficient, since a caller may mean either).
+ */
+function checkPHAgreement(
+  pH: number,
+  entry: { readonly key: string; readonly text: string; readonly pointer: string; readonly log10Values: readonly number[] },
+  temperatureC: number,
+  deps: RedoxDeps,
+  what: 'activity' | 'concentration',
+  pHOptional: boolean,
+): void {
+  const isH = entry.key === PH_KEYS[0];
+  const pKw = -Math.log10(deps.kwAt(temperatureC));
+  const implied = entry.log10Values.map((l) => (isH ? -l : pKw + l));
+  if (implied.some((v) => Math.abs(v - pH) <= PH_AGREEMENT_UNITS)) return;
+  const shown = implied[implied.length - 1]!;
+  const how = isH ? 'pH = −log10 a(H+)' : `pH = pKw + log10 a(OH-), pKw ${pKw.toFixed(3)} at ${temperatureC} °C`;
+  throw new DomainError('ACTIVITY_INVALID', {
+    detail:
+      `The ${what} given for ${entry.text} sets pH ${shown.toFixed(2)} (${how}), but pH ${pH} is given too: they differ by ${Math.abs(shown - pH).toFixed(2)} pH units ` +
+      `(more than ${PH_AGREEMENT_UNITS}). The pH sets ${isH ? 'H+' : 'OH-'}; ${pHOptional ? `give the pH alone, or leave out the pH and give ${entry.text} alone` : `give the pH alone (leave out ${entry.text})`}.`,
+    params: { pH, impliedPH: shown },
+    fields: [
+      { pointer: '/pH', message: `pH ${pH}, while ${entry.pointer} sets pH ${shown.toFixed(2)}` },
+      { pointer: entry.pointer, message: `sets pH ${shown.toFixed(2)}, while /pH is ${pH}` },
+    ],
+  });
 }
 
 export interface CoupleInput {
@@ -695,6 +741,22 @@ export interface ConcentrationIn {
   unit: 'mg/L' | 'ug/L' | 'µg/L' | 'g/m3' | 'g/L' | 'ppm' | 'ppb' | 'mol/L' | 'mmol/L' | 'umol/L' | 'µmol/L' | 'atm';
 }
 
+const MN2 = speciesKey(parseFormula('Mn2+'));
+
+/**
+ * The note every feasible cell carries: E > 0 says the reaction can run, not how fast. Where a
+ * well-known slow case applies it is named: dissolved oxygen oxidises Mn(II) very slowly below
+ * about pH 9 (common practice; from memory of water-treatment texts, e.g. Stumm & Morgan).
+ */
+function rateNote(oxidant: Species, reductant: Species, pH: number): string {
+  const general = 'Feasible is thermodynamic only (E > 0): it says nothing about the rate.';
+  const oxygen = Object.keys(oxidant.composition).length === 1 && oxidant.composition['O'] === 2;
+  if (oxygen && speciesKey(reductant) === MN2 && pH < 9) {
+    return `${general} Dissolved oxygen oxidises Mn(II) very slowly below about pH 9 (common practice): check with a jar test or a stronger oxidant.`;
+  }
+  return general;
+}
+
 export interface CellInputText {
   oxidant: { from: string; to: string };
   reductant: { from: string; to: string };
@@ -818,6 +880,9 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
     }
     checkAmount(molPerL, 'molPerL', text, `${pointer}/value`, q.unit === 'mol/L' ? undefined : `${q.value} ${q.unit} (${molPerL.toPrecision(3)} mol/L)`);
     const gamma = s.charge === 0 ? 1 : daviesGamma(s.charge, I, A);
+    if ((key === PH_KEYS[0] || key === PH_KEYS[1]) && input.pH !== undefined) {
+      checkPHAgreement(input.pH, { key, text, pointer, log10Values: [Math.log10(molPerL), Math.log10(molPerL * gamma)] }, T, deps, 'concentration', false);
+    }
     activities.set(key, molPerL * gamma);
     givenSpecies.push({ key, text, species: s, log10Activity: Math.log10(molPerL * gamma) });
     if (key !== PH_KEYS[0] && key !== PH_KEYS[1]) charges.set(key, s.charge);
@@ -905,6 +970,7 @@ export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
         'it can be wrong by many orders of magnitude; give the concentrations of the species named above for a meaningful floor.',
     );
   }
+  if (cell.feasible) notes.push(rateNote(ox.from, red.from, input.pH));
   const davies = I > 0;
   return {
     reaction: overall.equation,

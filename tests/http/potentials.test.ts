@@ -146,11 +146,35 @@ describe('errors name the fields the request has', () => {
     expect(wrong.errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/from', '/to']);
   });
 
-  it('an underivable couple points at the whole request; a cell at /oxidant', async () => {
+  // feasibility is E > 0 (thermodynamics); the slow oxygenation of Mn(II) below about pH 9 is common practice (from memory)
+  it.each([
+    [{ oxidant: { from: 'O2(g)', to: 'H2O' }, reductant: { from: 'Mn2+', to: 'MnO2' }, pH: 7, temperatureC: 25 }, true, /Dissolved oxygen oxidises Mn\(II\) very slowly below about pH 9/],
+    [{ oxidant: { from: 'O2', to: 'H2O' }, reductant: { from: 'Mn2+', to: 'MnO2' }, pH: 7.5, temperatureC: 15 }, true, /very slowly below about pH 9/],
+    [{ oxidant: { from: 'MnO4-', to: 'MnO2' }, reductant: { from: 'Mn2+', to: 'MnO2' }, pH: 7.2, temperatureC: 25 }, true, /^(?![\s\S]*Dissolved oxygen)[\s\S]*Feasible is thermodynamic only \(E > 0\): it says nothing about the rate\./],
+  ] as [object, boolean, RegExp][])('a feasible cell says feasible is thermodynamic only: %j', async (body, feasible, note) => {
+    const r = await post('/api/v1/cells/evaluate', body);
+    expect(r.statusCode, r.body).toBe(200);
+    const b = r.json();
+    expect(b.feasible).toBe(feasible);
+    expect(b.notes.join(' ')).toMatch(note);
+  });
+
+  it('an infeasible cell carries no rate note (Fe3+ cannot oxidise Mn2+ to MnO2 at pH 2)', async () => {
+    const b = (await post('/api/v1/cells/evaluate', { oxidant: { from: 'Fe3+', to: 'Fe2+' }, reductant: { from: 'Mn2+', to: 'MnO2' }, pH: 2, temperatureC: 25 })).json();
+    expect(b.feasible).toBe(false);
+    expect(b.notes.join(' ')).not.toMatch(/thermodynamic only/);
+  });
+
+  it('an underivable couple points at its from and to; a cell at /oxidant; the equation in the formulas as written', async () => {
     // selenate/selenite: no row of the tables holds selenium
     const none = await post('/api/v1/couples/potential', { from: 'SeO4^2-', to: 'SeO3^2-' });
     expect(none.statusCode).toBe(422);
-    expect(none.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(['']);
+    expect(none.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/from', '/to']);
+    // dichromate/chromium(III): no chromium row either; the detail writes Cr3+ as the request did, not the key Cr^3+
+    const cr = (await post('/api/v1/couples/potential', { from: 'Cr2O7^2-', to: 'Cr3+' })).json();
+    expect(cr.errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/from', '/to']);
+    expect(cr.detail).toContain('Cr2O7^2- + 14H+ + 6e- -> 2Cr3+ + 7H2O');
+    expect(cr.detail).not.toContain('Cr^3+');
     const cell = (await post('/api/v1/cells/evaluate', { oxidant: { from: 'SeO4^2-', to: 'SeO3^2-' }, reductant: { from: 'Fe2+', to: 'Fe3+' }, pH: 5, temperatureC: 20 })).json();
     expect(cell.errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/oxidant']);
   });
@@ -424,11 +448,12 @@ describe('POST /api/v1/cells/evaluate', () => {
 
     const extra = (await post('/api/v1/cells/evaluate', {
       ...MN_CELL,
-      concentrations: { ...MN_CELL.concentrations, 'Fe2+': { value: 1, unit: 'mg/L' }, 'H+': { value: 1e-7, unit: 'mol/L' } },
+      // H+ at 10^-7.2 mol/L: the pH 7.2 of MN_CELL written again
+      concentrations: { ...MN_CELL.concentrations, 'Fe2+': { value: 1, unit: 'mg/L' }, 'H+': { value: 6.31e-8, unit: 'mol/L' } },
     })).json();
     const notes = extra.notes.join(' ');
     expect(notes).toMatch(/Fe2\+ is not in either half-reaction; the concentration given for it was not used/);
-    expect(notes).toMatch(/H\+ is set by the pH; the concentration given for it was not used/);
+    expect(notes).toMatch(/H\+ is set by the pH; the concentration given for it agrees with the pH \(within 0.02 pH units\) and was not used/);
     const couple = (await post('/api/v1/couples/potential', { from: 'Fe3+', to: 'Fe2+', pH: 3, activities: { 'Fe3+': 1e-4, 'Fe2+': 1e-5, 'Mn2+': 0.1 } })).json();
     expect(couple.notes.join(' ')).toMatch(/Mn2\+ is not in the half-reaction; the activity given for it was not used/);
   });
@@ -676,9 +701,29 @@ describe('H+ or OH- given as an activity on the couple route', () => {
     expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(pointers);
   });
 
-  it('with a pH given, the pH governs and the note says the H+ value was not used (as on the cell route)', async () => {
-    const b = (await post('/api/v1/couples/potential', { ...fe, pH: 7, activities: { 'H+': 0.1 } })).json();
+  it('with a pH given, an H+ value that agrees with it (within 0.02 pH units) is noted as not used (as on the cell route)', async () => {
+    const b = (await post('/api/v1/couples/potential', { ...fe, pH: 7, activities: { 'H+': 1.02e-7 } })).json();
     expect(b.nernst.pH).toBe(7);
-    expect(b.notes.join(' ')).toMatch(/H\+ is set by the pH; the activity given for it was not used/);
+    expect(b.notes.join(' ')).toMatch(/H\+ is set by the pH; the activity given for it agrees with the pH \(within 0.02 pH units\) and was not used/);
+  });
+
+  // pH = −log10 a(H+) (the definition; IUPAC), pH = pKw + log10 a(OH-) with pKw 13.995 at 25 °C (from the tables)
+  it.each([
+    ['/api/v1/couples/potential', { from: 'HOCl', to: 'Cl-', pH: 7, activities: { 'H+': 1e-5 } }, '/activities/H+', /sets pH 5\.00 .*but pH 7 is given too: they differ by 2\.00 pH units/],
+    ['/api/v1/couples/potential', { from: 'HOCl', to: 'Cl-', pH: 7, activities: { 'OH-': 1e-5 } }, '/activities/OH-', /sets pH (8\.99|9\.00) /],
+    ['/api/v1/couples/potential', { from: 'HOCl', to: 'Cl-', pH: 7, activities: { 'H+': 0.93e-7 } }, '/activities/H+', /sets pH 7\.03 /],
+    [
+      '/api/v1/cells/evaluate',
+      { oxidant: { from: 'HOCl', to: 'Cl-' }, reductant: { from: 'Mn2+', to: 'MnO2' }, pH: 7, temperatureC: 25, concentrations: { 'H+': { value: 1e-5, unit: 'mol/L' } } },
+      '/concentrations/H+',
+      /sets pH 5\.00 .*give the pH alone \(leave out H\+\)/,
+    ],
+  ] as [string, object, string, RegExp][])('%s: an H+ or OH- value that contradicts the pH is a 400 naming both fields (%j)', async (url, body, pointer, detail) => {
+    const r = await post(url, body);
+    expect(r.statusCode).toBe(400);
+    const p = r.json();
+    expect(p.code).toBe('ACTIVITY_INVALID');
+    expect(p.errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/pH', pointer]);
+    expect(p.detail).toMatch(detail);
   });
 });

@@ -61,6 +61,10 @@ describe('POST /api/v1/reactions/balance', () => {
     // hydrogen sulfide and chlorine: H2S + Cl2 → S + 2HCl, 2 electrons
     [['H2S', 'Cl2'], ['S', 'HCl'], 'H2S + Cl2 -> S + 2HCl', 2],
     [['Fe2+', 'MnO4-', 'H+'], ['Fe3+', 'Mn2+', 'H2O'], '5Fe2+ + MnO4- + 8H+ -> 5Fe3+ + Mn2+ + 4H2O', 5],
+    // one element in two states: NH4NO3 → N2O + 2H2O (N −3 → +1 and +5 → +1, 4 electrons) and
+    // the ammonium dichromate decomposition (2 Cr +6 → +3, 2 N −3 → 0: 6); textbook, from memory
+    [['NH4NO3'], ['N2O', 'H2O'], 'NH4NO3 -> N2O + 2H2O', 4],
+    [['(NH4)2Cr2O7'], ['Cr2O3', 'N2', 'H2O'], '(NH4)2Cr2O7 -> Cr2O3 + N2 + 4H2O', 6],
   ])('a redox reaction given as species counts its electrons from the oxidation states: %j', async (reactants, products, equation, electrons) => {
     const r = await post({ reactants, products });
     expect(r.statusCode, r.body).toBe(200);
@@ -108,6 +112,26 @@ describe('POST /api/v1/reactions/balance', () => {
     const water = await post({ reactants: ['Fe2+', 'O2', 'H2O'], products: ['Fe(OH)3', 'H2O', 'H+'] });
     expect(water.statusCode).toBe(422);
     expect(water.json().detail).toMatch(/H2O is among both the reactants and the products/);
+  });
+
+  it.each([
+    // a fractional hydrate (hemihydrate): refused, the formula in whole numbers suggested
+    [['CaSO4·0.5H2O'], 'FORMULA_SYNTAX', /fractional hydrate multipliers are not supported.*\(CaSO4\)2·H2O/],
+    // a hydroxo ion written without ^: both readings named
+    [['FeOH2+'], 'FORMULA_AMBIGUOUS_CHARGE', /"FeOH\^2\+" \(count 1, charge 2\+\) or "FeOH2\^\+" \(count 2, charge 1\+\)/],
+  ] as [string[], string, RegExp][])('%j is a 400 naming the field: %s', async (products, code, detail) => {
+    const r = await post({ reactants: ['Fe3+', 'H2O'], products: [...products, 'H+'] });
+    expect(r.statusCode).toBe(400);
+    const p = r.json();
+    expect(p.code).toBe(code);
+    expect(p.errors[0].pointer).toBe('/products/0');
+    expect(p.detail).toMatch(detail);
+  });
+
+  it('Fe3+ + H2O → FeOH^2+ + H+ written with ^ balances with no electrons (first hydrolysis of iron(III); Stumm & Morgan, from memory)', async () => {
+    const r = await post({ reactants: ['Fe3+', 'H2O'], products: ['FeOH^2+', 'H+'] });
+    expect(r.statusCode, r.body).toBe(200);
+    expect(r.json()).toMatchObject({ equation: 'Fe3+ + H2O -> FeOH^2+ + H+', electrons: 0 });
   });
 
   it('a malformed formula is a 400 naming the field and the position', async () => {

@@ -47,14 +47,16 @@ export function reversedEquation(r: Pick<Reaction, 'terms'>): string {
 
 function electronNote(count: ReturnType<typeof electronsTransferred>): string | null {
   if (count.undetermined.length > 0) {
+    const readings = count.undetermined.filter((u) => u.readings && u.readings.length > 1);
     return (
-      `The oxidation states of ${count.undetermined.map((u) => `${u.elements.join(' and ')} in ${u.species}`).join('; ')} do not follow from the formula rules, ` +
-      'so the electrons transferred are not given; write the reaction as an oxidant couple and a reductant couple to have them counted.'
+      `The oxidation states of ${count.undetermined.map((u) => `${u.elements.join(' and ')} in ${u.species}`).join('; ')} do not follow from the formula rules` +
+      (readings.length > 0 ? ` (${readings.map((u) => `${u.species} reads ${u.readings!.join(', or ')}`).join('; ')})` : '') +
+      ', so the electrons transferred are not given; write the reaction as an oxidant couple and a reductant couple to have them counted.'
     );
   }
   const parts: string[] = [];
-  if (count.conventions.length > 0 && count.electrons !== 0) {
-    parts.push(`Oxidation states by the common-oxyanion convention: ${count.conventions.map((c) => `${c.elements.join(', ')} in ${c.species}`).join('; ')}.`);
+  if (count.ions.length > 0 && count.electrons !== 0) {
+    parts.push(`Oxidation states read with the polyatomic ions in ${count.ions.map((c) => `${c.species}: ${c.ions.join(', ')}`).join('; ')}.`);
   }
   if (count.mixedValence.length > 0 && count.electrons !== null) {
     parts.push(
@@ -64,6 +66,52 @@ function electronNote(count: ReturnType<typeof electronsTransferred>): string | 
   }
   if (count.electrons === null) parts.push('The oxidation-state changes do not add up to a whole number of electrons.');
   return parts.length ? parts.join(' ') : null;
+}
+
+/**
+ * A species written with a digit and then one sign after a formula of several elements (CrO2+,
+ * MnO2+) reads the digit as a count and the charge as 1. When the species do not balance so but
+ * would with the digit read as the charge (CrO^2+), the error says so, naming both readings, rather
+ * than suggesting electrons: the caller may have meant either.
+ */
+function withChargeReading(e: DomainError, reactants: readonly Species[], products: readonly Species[], elements?: ReadonlySet<string>): DomainError {
+  const all = [...reactants, ...products];
+  for (let i = 0; i < all.length; i++) {
+    const sp = all[i]!;
+    const m = /^(.*[A-Za-z)\]])([2-9])([+-])(\s*\((?:s|l|g|aq|cr|am)\))?$/.exec(sp.text);
+    if (!m || sp.text.includes('^') || Math.abs(sp.charge) !== 1) continue;
+    const other = `${m[1]}^${m[2]}${m[3]}${m[4] ?? ''}`;
+    let alt: Species;
+    try {
+      alt = elements ? parseFormula(other, { elements }) : parseFormula(other);
+    } catch {
+      continue;
+    }
+    const swap = (list: readonly Species[], offset: number) => list.map((x, j) => (j + offset === i ? alt : x));
+    try {
+      const balanced = balanceReaction({ reactants: swap(reactants, 0), products: swap(products, reactants.length) });
+      const counted = `${m[1]}${m[2]}^${m[3]}${m[4] ?? ''}`;
+      const pointer = i < reactants.length ? `/reactants/${i}` : `/products/${i - reactants.length}`;
+      const hint =
+        ` ${sp.text} was read as ${counted} (a single sign after a digit is a charge of 1, the digit a count); ` +
+        `read as ${other} (the digit as the charge) the species balance: ${balanced.equation}. Write the charge with ^ to say which you mean.`;
+      return new DomainError(e.code, {
+        detail: (/[.!?]$/.test(e.detail) ? e.detail : `${e.detail}.`) + hint,
+        params: { ...e.params, chargeReading: { species: sp.text, read: counted, alternative: other, balancedEquation: balanced.equation } },
+        fields: [{ pointer, message: `read as ${counted}; as ${other} the species balance` }, ...e.fields.filter((f) => f.pointer !== pointer)],
+      });
+    } catch {
+      // that reading does not balance either
+    }
+  }
+  return e;
+}
+
+/** The note for species written with a thermodynamic table's solid label, (cr) or (am): read as the solid (s). */
+export function solidLabelNote(species: readonly Species[]): string | null {
+  const labelled = species.filter((sp) => sp.phase === 's' && /\((cr|am)\)\s*$/.test(sp.text)).map((sp) => sp.text);
+  if (labelled.length === 0) return null;
+  return `${[...new Set(labelled)].join(', ')}: (cr) crystalline and (am) amorphous are read as the solid phase (s), at unit activity; which solid forms is not told apart.`;
 }
 
 export function chooseMedium(medium: Medium | undefined, pH: number | undefined): { medium: Medium; reason: string } {
@@ -92,7 +140,22 @@ export function balanceService(input: BalanceTextInput, elements?: ReadonlySet<s
         ],
       });
     }
-    const r = balanceReaction({ reactants, products });
+    let r;
+    try {
+      r = balanceReaction({ reactants, products });
+    } catch (e) {
+      if (isDomainError(e) && e.code === 'BALANCE_IMPOSSIBLE') throw withChargeReading(e, reactants, products, elements);
+      throw e;
+    }
+    const notes: string[] = [];
+    // pH and medium complete half-reactions of couples; a species balance uses the species given
+    if (input.pH !== undefined || input.medium !== undefined) {
+      notes.push(
+        `${[input.pH !== undefined ? `pH ${input.pH}` : '', input.medium !== undefined ? `medium ${input.medium}` : ''].filter(Boolean).join(' and ')} not used: a balance of given species uses exactly the species listed (add H+, OH- or H2O to them to balance in a medium); pH and medium choose how couples (oxidant, reductant) are completed.`,
+      );
+    }
+    const solidLabels = solidLabelNote([...reactants, ...products]);
+    if (solidLabels) notes.push(solidLabels);
     // written with e-: a half-reaction, its electrons are its e- coefficient; otherwise they
     // follow from the oxidation states of the species (0 for a non-redox reaction)
     const explicit = r.terms.some((t) => isElectron(t.species));
@@ -110,14 +173,7 @@ export function balanceService(input: BalanceTextInput, elements?: ReadonlySet<s
         ? { oxidationStateChanges: count.changes === null ? null : count.changes.map((c) => ({ element: c.element, electronsLost: c.oxidised, electronsGained: c.reduced })) }
         : {}),
       ...(electronsNote ? { electronsNote } : {}),
-      // pH and medium complete half-reactions of couples; a species balance uses the species given
-      ...(input.pH !== undefined || input.medium !== undefined
-        ? {
-            notes: [
-              `${[input.pH !== undefined ? `pH ${input.pH}` : '', input.medium !== undefined ? `medium ${input.medium}` : ''].filter(Boolean).join(' and ')} not used: a balance of given species uses exactly the species listed (add H+, OH- or H2O to them to balance in a medium); pH and medium choose how couples (oxidant, reductant) are completed.`,
-            ],
-          }
-        : {}),
+      ...(notes.length > 0 ? { notes } : {}),
       method: 'Null space of the element-and-charge matrix over exact rationals; smallest whole coefficients',
     };
   }

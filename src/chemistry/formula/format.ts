@@ -93,7 +93,7 @@ export function astRuns(ast: FormulaAst): Run[] {
     const magnitude = Math.abs(ast.charge);
     out.push({ text: `${magnitude === 1 ? '' : magnitude}${ast.charge > 0 ? '+' : MINUS}`, script: 'sup' });
   }
-  if (ast.phase !== null) out.push({ text: `(${ast.phase})`, script: 'base' });
+  if (ast.phase !== null) out.push({ text: `(${ast.phaseLabel ?? ast.phase})`, script: 'base' });
   return mergeRuns(out);
 }
 

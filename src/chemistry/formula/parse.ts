@@ -26,11 +26,15 @@
  *              the same digits before a repeated sign: Fe2++ (Fe^2+ with the sign doubled, or the dimer
  *                Fe2^2+?), Hg2++, O2--, SO42--, [Fe(H2O)6]3++. One digit after a formula of more than one
  *                element, or after ")", stays a count: SO4--, Cr2O7--, Fe(OH)2++.
- *            Note: by the one-sign rule FeOH2+ reads as FeOH2^+ (count 2); write FeOH^2+ for the
- *            hydroxo-iron(III) ion. Likewise O2- reads as the oxide ion O^2-; write O2^- for superoxide.
+ *              a metal with one OH or halide and then 2 or 3 before one sign: FeOH2+ (FeOH^2+, the
+ *                hydroxo-iron(III) ion, or FeOH2^+?), AlOH2+, AlF2+, FeCl2+. With brackets the digit stays
+ *                a count: Fe(OH)2+ is Fe(OH)2^+.
+ *            Note: O2- reads as the oxide ion O^2- (a monatomic ion); write O2^- for superoxide.
  *            A charge is not written after a number or inside parentheses: Fe+2, Fe^+2, SO4-2 and Fe(2+)
  *            are refused, the message spelling the formula typed with its charge in the notation (Fe2+, Fe^2+).
  * Phase      At the very end, after any charge: (s), (l), (g), (aq): Fe(OH)3(s), Fe2+(aq), O2(g).
+ *            The solid labels of thermodynamic tables, (cr) crystalline and (am) amorphous, are read
+ *            as (s): Fe(OH)3(am), Fe2O3(cr).
  *            A space before the label is allowed.
  * Electron   "e-" (also "e^-", "e−"): composition {}, charge 1-.
  * Spaces     Not allowed inside a formula except around a hydrate dot and before a phase label.
@@ -76,6 +80,8 @@ export interface FormulaAst {
   readonly parts: readonly FormulaPart[];
   readonly charge: number;
   readonly phase: Phase | null;
+  /** The phase label as written when it is not the phase's own ("cr" or "am" for phase "s"). */
+  readonly phaseLabel?: string;
 }
 
 export interface ParseOptions {
@@ -355,6 +361,7 @@ class Parser {
         if (parts.length === 0) {
           throw this.fail(t.pos, `the formula starts with the number ${quote(t.digits)} at position ${t.pos}; a formula starts with an element symbol or a bracket (coefficients belong in an equation, e.g. "2H2O = ...")`);
         }
+        this.refuseFractionalMultiplier(t, parts);
         if (t.value === 0) throw this.fail(t.pos, `the hydrate multiplier at position ${t.pos} is 0; it must be a whole number of at least 1`);
         multiplier = t.value;
         this.next();
@@ -376,14 +383,48 @@ class Parser {
 
     const charge = this.charge(parts);
     let phase: Phase | null = null;
+    let phaseLabel: string | undefined;
     const p = this.peek();
     if (p.kind === 'phase') {
       phase = p.phase;
+      if (p.label !== p.phase) phaseLabel = p.label;
       this.next();
     }
     const e = this.peek();
     if (e.kind !== 'end') throw this.trailing(e, charge !== 0, phase !== null);
-    return { electron: false, parts, charge, phase };
+    return { electron: false, parts, charge, phase, ...(phaseLabel ? { phaseLabel } : {}) };
+  }
+
+  /**
+   * A hydrate multiplier written as a decimal fraction ("CaSO4·0.5H2O", "1.5H2O"): the lexer sees
+   * a number, a hydrate dot and a number. Refused, with the formula in whole numbers where the
+   * hydrated part is the first one ("(CaSO4)2·H2O").
+   */
+  private refuseFractionalMultiplier(t: NumberToken, parts: readonly FormulaPart[]): void {
+    const dot = this.tokens[this.i + 1];
+    const frac = this.tokens[this.i + 2];
+    if (dot?.kind !== 'dot' || dot.char !== '.' || dot.pos !== t.end || frac?.kind !== 'number' || frac.pos !== dot.end || frac.subscript) return;
+    const written = this.source.slice(t.pos, frac.end);
+    // p/q in lowest terms
+    let p = BigInt(t.digits + frac.digits);
+    let q = 10n ** BigInt(frac.digits.length);
+    const gcd = (a: bigint, b: bigint): bigint => (b === 0n ? a : gcd(b, a % b));
+    const g = gcd(p, q);
+    p /= g;
+    q /= g;
+    let fix = '';
+    const rest = this.source.slice(frac.end, this.end);
+    const later = this.tokens.slice(this.i + 3).some((k) => k.kind === 'dot');
+    if (parts.length === 1 && !later && p > 0n && q > 1n && q <= 1000n) {
+      const first = this.source.slice(this.start, (this.tokens.find((k) => k.kind === 'dot') as Token).pos).trim();
+      const single = parts[0]!.items.length === 1 && parts[0]!.items[0]!.kind === 'group';
+      const head = single ? `${first}${q}` : `(${first})${q}`;
+      const dotChar = this.source.slice(this.tokens.find((k) => k.kind === 'dot')!.pos, t.pos).trim();
+      fix = `; write it in whole numbers, e.g. ${quote(`${head}${dotChar}${p === 1n ? '' : p}${rest}`)} for ${quote(this.source.slice(this.start, this.end))}`;
+    } else {
+      fix = '; write the formula in whole numbers, e.g. "(CaSO4)2·H2O" for CaSO4·0.5H2O';
+    }
+    throw this.fail(t.pos, `the hydrate multiplier ${quote(written)} at position ${t.pos} is a fraction; fractional hydrate multipliers are not supported${fix}`);
   }
 
   private items(open: Extract<Token, { kind: 'open' }> | null): Item[] {
@@ -580,7 +621,26 @@ class Parser {
       return sign * Number(digits);
     }
     if (unclear) throw this.ambiguous(last.token, sign, last.afterClose === ']');
+    // the likelier reading first: a hydroxo or halo cation (FeOH^2+), a halo anion (CuCl2^-)
+    if (this.ligandCount(parts, last.item, digits)) throw this.ambiguous(last.token, sign, true, sign < 0);
     return sign;
+  }
+
+  /**
+   * A complex ion written without brackets whose last digit can as well be its charge: a metal
+   * with one hydroxide or halide and then 2 or 3 before one sign (FeOH2+: FeOH^2+, the
+   * hydroxo-iron(III) ion, or FeOH2^+; AlF2+: AlF^2+ or AlF2^+; FeCl2+). Oxyanions and the
+   * hydrides stay counts (ClO2-, MnO4-, NO2-, NH4+, H2PO4-): their digit follows O, or H after
+   * something other than O.
+   */
+  private ligandCount(parts: readonly FormulaPart[], item: Item, digits: string): boolean {
+    if (parts.length !== 1 || (digits !== '2' && digits !== '3') || item.kind !== 'element') return false;
+    const items = parts[0]!.items;
+    const k = items.indexOf(item);
+    if (k !== items.length - 1 || k < 1) return false;
+    const before = items[k - 1]!;
+    if (item.symbol === 'H') return before.kind === 'element' && before.symbol === 'O' && before.count === 1 && k >= 2;
+    return ['F', 'Cl', 'Br', 'I'].includes(item.symbol) && before.kind === 'element' && before.count === 1 && before.symbol !== 'O' && before.symbol !== 'H' && k === 1;
   }
 
   private signs(): Extract<Token, { kind: 'sign' }>[] {
@@ -621,7 +681,7 @@ class Parser {
     return this.fail(t.pos, head + fix);
   }
 
-  private ambiguous(token: NumberToken, sign: 1 | -1, afterBracket: boolean): DomainError {
+  private ambiguous(token: NumberToken, sign: 1 | -1, afterBracket: boolean, countFirst = false): DomainError {
     const prefix = this.source.slice(this.start, token.pos);
     const digits = token.digits;
     const s = sign > 0 ? '+' : '-';
@@ -635,12 +695,12 @@ class Parser {
     }
     // the most likely intent first: the last digit (or the whole number after "]") as the charge
     readings.sort((a, b) => (a.count.length === b.count.length ? 0 : a.count.length < b.count.length ? -1 : 1));
-    const likely = afterBracket ? readings[0] : readings.find((r) => r.count === digits.slice(0, -1)) ?? readings[0];
+    const likely = countFirst ? readings.find((r) => r.count === digits) : afterBracket ? readings[0] : readings.find((r) => r.count === digits.slice(0, -1)) ?? readings[0];
     const ordered = likely ? [likely, ...readings.filter((r) => r !== likely)] : readings;
     const listed = ordered.map((r) => `${quote(r.text)} (count ${r.count}, charge ${r.charge})`);
     const options = listed.length === 2 ? `${listed[0]} or ${listed[1]}` : listed.slice(0, -1).join(', ') + ` or ${listed[listed.length - 1]}`;
     return new DomainError('FORMULA_AMBIGUOUS_CHARGE', {
-      detail: `In ${quote(this.source)} the digits ${quote(digits)} at position ${token.pos} before the sign can be read ${ordered.length === 2 ? 'two' : 'several'} ways: ${options}. Write the charge with ^ to say which you mean, e.g. ${quote(ordered[0]?.text ?? '')}`,
+      detail: `In ${quote(this.source)} the ${digits.length === 1 ? 'digit' : 'digits'} ${quote(digits)} at position ${token.pos} before the sign can be read ${ordered.length === 2 ? 'two' : 'several'} ways: ${options}. Write the charge with ^ to say which you mean, e.g. ${quote(ordered[0]?.text ?? '')}`,
       text: this.source,
       position: token.pos,
       params: { formula: this.source, readings: ordered.map((r) => r.text) },
@@ -696,7 +756,7 @@ class Parser {
       return this.numberAfterCharge(t, this.written);
     }
     if (hadCharge) {
-      return this.fail(t.pos, `${describe(t)} at position ${t.pos} follows the charge; only a phase label ((s), (l), (g), (aq)) may come after the charge`);
+      return this.fail(t.pos, `${describe(t)} at position ${t.pos} follows the charge; only a phase label ((s), (l), (g), (aq), or (cr)/(am) for a solid) may come after the charge`);
     }
     if (t.kind === 'close') {
       return this.fail(t.pos, `the ${quote(t.bracket)} at position ${t.pos} has no matching opening bracket`);

@@ -52,8 +52,8 @@ export type Token =
   | { readonly kind: 'sign'; readonly sign: 1 | -1; readonly pos: number; readonly end: number }
   /** A charge written in superscript (e.g. "²⁻", "⁺"): always explicit. */
   | { readonly kind: 'supcharge'; readonly charge: number; readonly pos: number; readonly end: number }
-  /** A phase label "(s)", "(l)", "(g)" or "(aq)" (spaces before it allowed). */
-  | { readonly kind: 'phase'; readonly phase: Phase; readonly pos: number; readonly end: number }
+  /** A phase label "(s)", "(l)", "(g)" or "(aq)", or "(cr)"/"(am)" read as (s) (spaces before it allowed); `label` as written, without brackets. */
+  | { readonly kind: 'phase'; readonly phase: Phase; readonly label: string; readonly pos: number; readonly end: number }
   | { readonly kind: 'end'; readonly pos: number; readonly end: number };
 
 export type TokenKind = Token['kind'];
@@ -70,11 +70,18 @@ const PHASE_LABELS: readonly { readonly label: string; readonly phase: Phase }[]
   { label: '(s)', phase: 's' },
   { label: '(l)', phase: 'l' },
   { label: '(g)', phase: 'g' },
+  // thermodynamic tables label solids crystalline (cr) or amorphous (am) (e.g. the NBS tables,
+  // Fe(OH)3(am)); both are the solid phase here, at unit activity
+  { label: '(cr)', phase: 's' },
+  { label: '(am)', phase: 's' },
 ];
+
+/** Phase labels read as another (the solid labels of thermodynamic tables), for the notes that say so. */
+export const SOLID_LABELS: ReadonlySet<string> = new Set(['cr', 'am']);
 
 export const ACCEPTED_CHARACTERS =
   'element symbols (a capital letter and any lowercase letters, e.g. Fe, Cl), counts (digits), ( ) [ ], ' +
-  'a hydrate dot (·, . or *), a charge (^2-, ^+, a trailing + or -) and a phase label at the end ((s), (l), (g), (aq))';
+  'a hydrate dot (·, . or *), a charge (^2-, ^+, a trailing + or -) and a phase label at the end ((s), (l), (g), (aq); (cr) and (am) read as (s))';
 
 function isUpper(c: string): boolean {
   return c >= 'A' && c <= 'Z';
@@ -138,6 +145,10 @@ export function lex(slice: SourceSlice, elements: ReadonlySet<string>): Token[] 
       while (j < end && isLower(source[j] as string)) j++;
       const word = source.slice(i, j);
       const capital = word.charAt(0).toUpperCase() + word.slice(1);
+      if (source[i - 1] === '(' && source[j] === ')' && source.slice(j + 1, end).trim() === '') {
+        // a lowercase word in brackets at the end: meant as a phase label
+        throw syntax(i - 1, `${quote(`(${word})`)} at position ${i - 1} is not a phase label this service reads; the phase labels are (s), (l), (g) and (aq), with (cr) and (am) read as (s)`);
+      }
       const hint = elements.has(capital) ? `; did you mean ${quote(capital)}?` : '';
       throw syntax(i, `the letter ${quote(c)} at position ${i} does not start an element symbol; an element symbol starts with a capital letter (Fe, Cl, Mn)${hint}`);
     }
@@ -188,7 +199,7 @@ export function lex(slice: SourceSlice, elements: ReadonlySet<string>): Token[] 
     if (c === '(') {
       const label = PHASE_LABELS.find((p) => source.startsWith(p.label, i) && i + p.label.length <= end);
       if (label) {
-        tokens.push({ kind: 'phase', phase: label.phase, pos: i, end: i + label.label.length });
+        tokens.push({ kind: 'phase', phase: label.phase, label: label.label.slice(1, -1), pos: i, end: i + label.label.length });
         i += label.label.length;
         continue;
       }

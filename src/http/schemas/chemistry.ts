@@ -39,10 +39,10 @@ export const BalanceResponse = z.object({
     .nullable()
     .optional()
     .describe('Per element that changes oxidation state: the electrons its atoms give up (oxidation) and take up (reduction) in the reaction as written, exact; null when the formula rules cannot settle a species (the reason is in electronsNote)'),
-  electronsNote: z.string().optional(),
+  electronsNote: z.string().optional().describe('How the oxidation states were read (the polyatomic ions used, a mixed-valence split), or why electrons is null'),
   medium: Medium.optional(),
   mediumReason: z.string().optional(),
-  notes: z.array(z.string()).optional().describe('What the request gave that the balance did not use, and why'),
+  notes: z.array(z.string()).optional().describe('What the request gave that the balance did not use, and why; how a formula was read (a (cr) or (am) solid label as (s))'),
   halfReactions: z.object({ reduction: HalfOut, oxidation: HalfOut }).optional(),
   multipliers: z.object({ oxidant: z.number().int(), reductant: z.number().int() }).optional(),
   method: z.string(),

@@ -75,6 +75,14 @@ describe('parseFormula: the notation', () => {
     ['NO3-', { N: 1, O: 3 }, -1, null],
     ['H2PO4-', { H: 2, P: 1, O: 4 }, -1, null],
     ['Fe(OH)2+', { Fe: 1, O: 2, H: 2 }, 1, null],
+    // the hydroxo and halo complexes written with ^ (either reading), and the counts the OH/halide rule leaves alone
+    ['FeOH^2+', { Fe: 1, O: 1, H: 1 }, 2, null],
+    ['FeOH2^+', { Fe: 1, O: 1, H: 2 }, 1, null],
+    ['FeOH+', { Fe: 1, O: 1, H: 1 }, 1, null],
+    ['AuCl4-', { Au: 1, Cl: 4 }, -1, null],
+    ['NH2-', { N: 1, H: 2 }, -1, null],
+    ['H2PO4-', { H: 2, P: 1, O: 4 }, -1, null],
+    ['ClO2-', { Cl: 1, O: 2 }, -1, null],
     // repeated signs: one digit after a formula of several elements, or after ")", stays a count
     ['SO4--', { S: 1, O: 4 }, -2, null],
     ['Cr2O7--', { Cr: 2, O: 7 }, -2, null],
@@ -98,6 +106,10 @@ describe('parseFormula: the notation', () => {
     ['O3', { O: 3 }, 0, null],
     ['Fe(OH)3', { Fe: 1, O: 3, H: 3 }, 0, null],
     ['Fe(OH)3(s)', { Fe: 1, O: 3, H: 3 }, 0, 's'],
+    // the solid labels of thermodynamic tables (crystalline, amorphous; NBS tables notation) read as (s)
+    ['Fe(OH)3(cr)', { Fe: 1, O: 3, H: 3 }, 0, 's'],
+    ['Fe(OH)3(am)', { Fe: 1, O: 3, H: 3 }, 0, 's'],
+    ['Fe2O3 (cr)', { Fe: 2, O: 3 }, 0, 's'],
     ['Fe2(SO4)3', { Fe: 2, S: 3, O: 12 }, 0, null],
     ['K4[Fe(CN)6]', { K: 4, Fe: 1, C: 6, N: 6 }, 0, null],
     ['K4Fe(CN)6', { K: 4, Fe: 1, C: 6, N: 6 }, 0, null],
@@ -214,11 +226,24 @@ describe('parseFormula: errors carry the formula and the position of the bad cha
     ['Xx2', 'FORMULA_UNKNOWN_ELEMENT', 0, 'the symbol "Xx" at position 0 is not an element symbol'],
     ['CL2', 'FORMULA_UNKNOWN_ELEMENT', 1, 'did you mean "Cl"'],
     ['NaQ', 'FORMULA_UNKNOWN_ELEMENT', 2, '"Q"'],
+    // a hydrate multiplier written as a decimal: refused, with the formula in whole numbers (hemihydrate CaSO4·0.5H2O is (CaSO4)2·H2O)
+    ['CaSO4·0.5H2O', 'FORMULA_SYNTAX', 6, 'fractional hydrate multipliers are not supported; write it in whole numbers, e.g. "(CaSO4)2·H2O"'],
+    ['CaSO4.0.5H2O', 'FORMULA_SYNTAX', 6, '"(CaSO4)2.H2O"'],
+    ['CaSO4·1.5H2O', 'FORMULA_SYNTAX', 6, 'the hydrate multiplier "1.5" at position 6 is a fraction; fractional hydrate multipliers are not supported; write it in whole numbers, e.g. "(CaSO4)2·3H2O"'],
+    ['MgSO4·0.25H2O', 'FORMULA_SYNTAX', 6, '"(MgSO4)4·H2O"'],
+    ['Fe(OH)3(c)', 'FORMULA_SYNTAX', 7, '"(c)" at position 7 is not a phase label this service reads; the phase labels are (s), (l), (g) and (aq), with (cr) and (am) read as (s)'],
     ['SO42-', 'FORMULA_AMBIGUOUS_CHARGE', 2, '"SO4^2-" (count 4, charge 2-) or "SO42^-" (count 42, charge 1-)'],
     ['MnO42-', 'FORMULA_AMBIGUOUS_CHARGE', 3, '"MnO4^2-"'],
     ['HPO42-', 'FORMULA_AMBIGUOUS_CHARGE', 3, '"HPO4^2-"'],
     ['S22-', 'FORMULA_AMBIGUOUS_CHARGE', 1, '"S2^2-"'],
     ['[Fe(H2O)6]3+', 'FORMULA_AMBIGUOUS_CHARGE', 10, '"[Fe(H2O)6]^3+"'],
+    // a metal with one OH or halide, then 2 or 3 and one sign: FeOH^2+ (hydroxo-iron(III)) or FeOH2^+?
+    // (both kinds of ion exist: AlF^2+ and AlF2^+, FeCl^2+ and FeCl2^+; Stumm & Morgan, from memory)
+    ['FeOH2+', 'FORMULA_AMBIGUOUS_CHARGE', 4, '"FeOH^2+" (count 1, charge 2+) or "FeOH2^+" (count 2, charge 1+)'],
+    ['AlOH2+', 'FORMULA_AMBIGUOUS_CHARGE', 4, '"AlOH^2+" (count 1, charge 2+) or "AlOH2^+" (count 2, charge 1+)'],
+    ['AlF2+', 'FORMULA_AMBIGUOUS_CHARGE', 3, '"AlF^2+" (count 1, charge 2+) or "AlF2^+" (count 2, charge 1+)'],
+    ['FeCl2+', 'FORMULA_AMBIGUOUS_CHARGE', 4, 'the digit "2" at position 4 before the sign can be read two ways'],
+    ['CuCl2-', 'FORMULA_AMBIGUOUS_CHARGE', 4, '"CuCl2^-" (count 2, charge 1-) or "CuCl^2-" (count 1, charge 2-)'],
     // digits before a repeated sign where a single sign would not read them as a plain count
     ['Fe2++', 'FORMULA_AMBIGUOUS_CHARGE', 2, 'the digit "2" at position 2 before the repeated sign "++" can be read two ways'],
     ['Fe2++', 'FORMULA_AMBIGUOUS_CHARGE', 2, 'Write "Fe2+" or "Fe^2+" for count 1 and charge 2+; "Fe2^2+" for count 2 and charge 2+'],
