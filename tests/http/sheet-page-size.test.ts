@@ -12,19 +12,10 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { buildApp } from '../../src/http/app.js';
 import { pdfFile, requireTools, run } from '../sheets/tools.js';
+import { US_PLANT } from './fixtures/us-plant.js';
 
 const BOOTSTRAP = 'sheet-page-size-bootstrap-token-0123456789';
 const admin = { authorization: `Bearer ${BOOTSTRAP}` };
-const US_PLANT = {
-  id: 'probe-us',
-  name: 'US demo plant (invented)',
-  invented: true,
-  flow: { value: 1.5, unit: 'MGD' },
-  products: [{ oxidant: 'potassium-permanganate', strength: { value: 2, unit: '% w/w' }, purity: { value: 97, unit: '%' } }],
-  pumps: [],
-  targets: { residual: { value: 0, unit: 'mg/L' } },
-  preferredUnits: 'US',
-};
 const sampledAt = new Date(Date.now() - 3_600_000).toISOString();
 const sample = { pH: 7.2, temperatureC: 12, iron: { value: 1.2, unit: 'mg/L' }, manganese: { value: 0.1, unit: 'mg/L' } };
 const LETTER = /Page size:\s+612 x 792 pts \(letter\)/;

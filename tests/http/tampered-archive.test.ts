@@ -19,22 +19,12 @@ import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import { buildApp } from '../../src/http/app.js';
 import { registryRecordHash, rowDigest } from '../../src/archive/registry.js';
+import { US_PLANT } from './fixtures/us-plant.js';
 
 const BOOTSTRAP = 'tampered-archive-bootstrap-token-0123456789';
 const admin = { authorization: `Bearer ${BOOTSTRAP}` };
 const FILE = 'oxidant-dosing.sqlite';
 
-/** An invented US plant: 1.5 MGD, potassium permanganate. */
-const PLANT = {
-  id: 'probe-us',
-  name: 'Probe US plant (invented)',
-  invented: true,
-  flow: { value: 1.5, unit: 'MGD' },
-  products: [{ oxidant: 'potassium-permanganate', strength: { value: 2, unit: '% w/w' }, purity: { value: 97, unit: '%' } }],
-  pumps: [],
-  targets: { residual: { value: 0, unit: 'mg/L' } },
-  preferredUnits: 'US',
-};
 const sampledAt = new Date(Date.now() - 3_600_000).toISOString();
 const sheetBody = (extra: Record<string, unknown> = {}) => ({
   oxidant: 'potassium-permanganate',
@@ -70,7 +60,7 @@ describe('an app on a changed copy of the archive refuses to act on the changed 
       const u = await app.inject({ method: 'POST', url: '/api/v1/users', headers: admin, payload: { name: 'Probe operator (invented)', role: 'operator' } });
       expect(u.statusCode, u.body).toBe(201);
       operator = { id: u.json().id, token: u.json().token };
-      const p = await app.inject({ method: 'POST', url: '/api/v1/plants', headers: admin, payload: PLANT });
+      const p = await app.inject({ method: 'POST', url: '/api/v1/plants', headers: admin, payload: US_PLANT });
       expect(p.statusCode, p.body).toBe(201);
       // before any change: the operator is an operator, the plant serves 1.5 MGD
       const denied = await app.inject({ method: 'POST', url: '/api/v1/users', headers: { authorization: `Bearer ${operator.token}` }, payload: { name: 'x', role: 'admin' } });
