@@ -160,6 +160,31 @@ CREATE TABLE registry_log (
 ${appendOnlyTriggers('registry_log', [['seq'], ['prev_hash'], ['record_hash'], ['table_name', 'row_key']], 'registry entries')}
 `;
 
+const V3_SQL = `
+-- The registry log widened to plant_versions. SQLite cannot change a CHECK in place, so the table
+-- is rebuilt as V2_SQL foresaw: every entry copied unchanged (same seq, hashes and links, so the
+-- chain verifies as before), then the append-only triggers made again.
+CREATE TABLE registry_log_v3 (
+  seq         INTEGER PRIMARY KEY AUTOINCREMENT,
+  format      INTEGER NOT NULL,
+  table_name  TEXT NOT NULL CHECK (table_name IN ('users', 'user_events', 'signers', 'plant_versions')),
+  row_key     TEXT NOT NULL,
+  row_sha256  TEXT NOT NULL CHECK (length(row_sha256) = 64),
+  logged_at   TEXT NOT NULL,
+  prev_hash   TEXT NOT NULL UNIQUE CHECK (length(prev_hash) = 64),
+  record_hash TEXT NOT NULL UNIQUE CHECK (length(record_hash) = 64),
+  UNIQUE (table_name, row_key)
+) STRICT;
+INSERT INTO registry_log_v3 (seq, format, table_name, row_key, row_sha256, logged_at, prev_hash, record_hash)
+  SELECT seq, format, table_name, row_key, row_sha256, logged_at, prev_hash, record_hash FROM registry_log ORDER BY seq;
+DROP TRIGGER registry_log_no_update;
+DROP TRIGGER registry_log_no_delete;
+DROP TRIGGER registry_log_no_replace;
+DROP TABLE registry_log;
+ALTER TABLE registry_log_v3 RENAME TO registry_log;
+${appendOnlyTriggers('registry_log', [['seq'], ['prev_hash'], ['record_hash'], ['table_name', 'row_key']], 'registry entries')}
+`;
+
 /** The migrations this build knows, in order. */
 export const MIGRATIONS: readonly Migration[] = [
   {
@@ -174,6 +199,23 @@ export const MIGRATIONS: readonly Migration[] = [
       db.exec(V2_SQL);
       // Rows stored under version 1 are logged in registry format 1 (the columns version 1 created).
       logUnloggedRows({ db }, at, { tables: ['users', 'user_events', 'signers'], format: 1, order: { users: 'created_at, id', user_events: 'seq', signers: 'seq' } });
+    },
+  },
+  {
+    version: 3,
+    description: 'registry log also chains plant profile versions; versions stored before it are logged as found',
+    up: (db, at) => {
+      const digest = (): { n: number; last: string | null } => {
+        const r = db.prepare('SELECT count(*) AS n, (SELECT record_hash FROM registry_log ORDER BY seq DESC LIMIT 1) AS last FROM registry_log').get() as { n: number; last: string | null };
+        return { n: r.n, last: r.last };
+      };
+      const before = digest();
+      db.exec(V3_SQL);
+      const after = digest();
+      if (after.n !== before.n || after.last !== before.last) {
+        throw new Error(`migration 3: the rebuilt registry log holds ${after.n} entries ending ${after.last}, not the ${before.n} ending ${before.last} it copied`);
+      }
+      logUnloggedRows({ db }, at, { tables: ['plant_versions'], format: 1, order: { plant_versions: 'created_at, plant_id, version' } });
     },
   },
 ];

@@ -13,6 +13,7 @@ import { DomainError } from '../core/errors.js';
 import { canonicalJson, sha256Hex } from './canonical.js';
 import type { ArchiveContext } from './context.js';
 import { requirePlantId } from './ids.js';
+import { logRegistryRow, plantVersionKey, registryRowProblem } from './registry.js';
 
 export interface PlantVersion<P = unknown> {
   readonly plantId: string;
@@ -22,7 +23,7 @@ export interface PlantVersion<P = unknown> {
   readonly sha256: string;
   readonly createdAt: string;
   readonly createdBy: string;
-  /** The stored profile does not hash to its sha256 (recomputed on this read): changed in the file; never use it. */
+  /** The stored profile does not hash to its sha256, or the row is not as the registry log chained it (both checked on this read): changed in the file; never use it. */
   readonly altered: boolean;
 }
 
@@ -49,7 +50,15 @@ function parseStored(text: string): unknown {
   }
 }
 
-function toPlant<P>(row: PlantRow): PlantVersion<P> {
+/**
+ * A stored version as read, with its integrity: the profile hashes to its own SHA-256, and the row
+ * is as the registry log chained it (so a profile rewritten together with its SHA-256 is caught too).
+ */
+function toPlant<P>(ctx: ArchiveContext, row: PlantRow): PlantVersion<P> & { readonly alteredWhy: string | null } {
+  const alteredWhy =
+    sha256Hex(row.profile_json) !== row.sha256
+      ? `the stored profile does not hash to its recorded SHA-256 ${row.sha256}`
+      : registryRowProblem(ctx, 'plant_versions', plantVersionKey(row.plant_id, row.version), { ...row });
   return {
     plantId: row.plant_id,
     version: row.version,
@@ -57,14 +66,15 @@ function toPlant<P>(row: PlantRow): PlantVersion<P> {
     sha256: row.sha256,
     createdAt: row.created_at,
     createdBy: row.created_by,
-    altered: sha256Hex(row.profile_json) !== row.sha256,
+    altered: alteredWhy !== null,
+    alteredWhy,
   };
 }
 
-function alteredPlant(p: PlantVersion): DomainError {
+function alteredPlant(p: PlantVersion & { readonly alteredWhy: string | null }): DomainError {
   return new DomainError('ARCHIVE_RECORD_ALTERED', {
     detail:
-      `Plant ${p.plantId} version ${p.version} fails its integrity check: the stored profile does not hash to its recorded SHA-256 ${p.sha256} (it was changed in the archive file). ` +
+      `Plant ${p.plantId} version ${p.version} fails its integrity check (${p.alteredWhy ?? 'it does not match what was stored'}): it was changed in the archive file. ` +
       'The service does not serve it or compute a dose or a sheet with it. Store the correct profile again (POST /api/v1/plants appends a new version), and check the archive at /api/v1/archive/verification.',
     params: { table: 'plant_versions', plantId: p.plantId, version: p.version },
     fields: [{ pointer: '/plantId', message: `plant ${p.plantId} version ${p.version} fails its integrity check` }],
@@ -95,12 +105,13 @@ export function savePlant<P>(ctx: ArchiveContext, profile: P, options: { created
   return ctx.db
     .transaction((): SavedPlant<P> => {
       const latest = ctx.statement(LATEST_SQL).get(plantId) as PlantRow | undefined;
-      if (latest && latest.sha256 === sha256 && latest.profile_json === json) return { ...toPlant<P>(latest), changed: false };
+      if (latest && latest.sha256 === sha256 && latest.profile_json === json) return { ...toPlant<P>(ctx, latest), changed: false };
       const version = (latest?.version ?? 0) + 1;
       const createdAt = ctx.now().toISOString();
       ctx
         .statement('INSERT INTO plant_versions (plant_id, version, profile_json, sha256, created_at, created_by) VALUES (?, ?, ?, ?, ?, ?)')
         .run(plantId, version, json, sha256, createdAt, options.createdBy);
+      logRegistryRow(ctx, 'plant_versions', plantVersionKey(plantId, version), createdAt);
       return { plantId, version, profile: JSON.parse(json) as P, sha256, createdAt, createdBy: options.createdBy, altered: false, changed: true };
     })
     .immediate();
@@ -112,7 +123,7 @@ export function seedPlant<P>(ctx: ArchiveContext, profile: P, options: { created
   return ctx.db
     .transaction((): SavedPlant<P> => {
       const latest = ctx.statement(LATEST_SQL).get(plantId) as PlantRow | undefined;
-      if (latest) return { ...toPlant<P>(latest), changed: false };
+      if (latest) return { ...toPlant<P>(ctx, latest), changed: false };
       return savePlant(ctx, profile, { createdBy: options.createdBy ?? 'system:seed' });
     })
     .immediate();
@@ -136,7 +147,7 @@ export function getPlant<P = unknown>(ctx: ArchiveContext, plantId: string, vers
       fields: [{ pointer: '/plantId', message: 'no such plant profile' }],
     });
   }
-  const plant = toPlant<P>(row);
+  const plant = toPlant<P>(ctx, row);
   if (plant.altered) throw alteredPlant(plant);
   return plant;
 }
@@ -151,7 +162,7 @@ export function listPlants<P = unknown>(ctx: ArchiveContext): PlantVersion<P>[] 
        ORDER BY p.plant_id`,
     )
     .all() as PlantRow[];
-  return rows.map((r) => toPlant<P>(r));
+  return rows.map((r) => toPlant<P>(ctx, r));
 }
 
 /** Every version of one plant, oldest first (a version that fails its hash is marked `altered`). */
@@ -160,5 +171,5 @@ export function plantHistory<P = unknown>(ctx: ArchiveContext, plantId: string):
   const rows = ctx
     .statement('SELECT plant_id, version, profile_json, sha256, created_at, created_by FROM plant_versions WHERE plant_id = ? ORDER BY version')
     .all(plantId) as PlantRow[];
-  return rows.map((r) => toPlant<P>(r));
+  return rows.map((r) => toPlant<P>(ctx, r));
 }

@@ -1,8 +1,9 @@
 /**
  * The registry log: a second hash chain over the rows that say who may act and who signs
- * (users, user events, signers). Sheets have their own chain (sheets.ts) and plant profile
- * versions carry their own SHA-256; without this log a user's token hash, role or a signer's
- * certificate could be changed in the file and nothing would notice.
+ * (users, user events, signers) and over the plant profile versions doses are computed with.
+ * Sheets have their own chain (sheets.ts). Without this log a user's token hash, role or a
+ * signer's certificate could be changed in the file and nothing would notice, and a plant
+ * profile rewritten together with its own SHA-256 would pass its check.
  *
  * Each insert into a registered table appends, in the same transaction, one log entry:
  *   row_sha256  = SHA-256 of the canonical JSON of {format, row} where row holds the columns that
@@ -26,6 +27,8 @@ export const REGISTRY_TABLES = {
   users: 'id',
   user_events: 'seq',
   signers: 'id',
+  /** Composite key (plant id, version) as one text: "demo-groundwater#3" (plant ids hold no "#"). */
+  plant_versions: "plant_id || '#' || version",
 } as const;
 export type RegistryTable = keyof typeof REGISTRY_TABLES;
 
@@ -39,8 +42,15 @@ export const REGISTRY_COLUMNS: Readonly<Record<number, Readonly<Record<RegistryT
     users: ['id', 'name', 'role', 'token_sha256', 'created_at', 'created_by'],
     user_events: ['seq', 'user_id', 'event', 'at', 'actor', 'note'],
     signers: ['seq', 'id', 'name', 'role', 'certificate_subject', 'user_id', 'demo', 'p12', 'password_enc', 'key_fingerprint', 'created_at', 'created_by'],
+    // logged from schema version 3 on (plant versions stored earlier are logged as found by that migration)
+    plant_versions: ['plant_id', 'version', 'profile_json', 'sha256', 'created_at', 'created_by'],
   },
 };
+
+/** The registry key of a plant profile version. */
+export function plantVersionKey(plantId: string, version: number): string {
+  return `${plantId}#${version}`;
+}
 
 interface LogRow {
   seq: number;

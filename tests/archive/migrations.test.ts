@@ -1,3 +1,4 @@
+import { createHash } from 'node:crypto';
 import { existsSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import Database from 'better-sqlite3';
@@ -153,14 +154,49 @@ describe('migrations', () => {
     }
   });
 
-  it('version 2 is the registry log as released: its CHECK refuses an entry for a table it does not register', () => {
+  it('version 3 widens the registry log to plant versions: its CHECK lists them and still refuses a table it does not register', () => {
     const a = openArchive({ dataDir: dir(), signerKeySecret: SECRET });
     try {
       const sql = (a.db.prepare("SELECT sql FROM sqlite_schema WHERE name = 'registry_log'").get() as { sql: string }).sql;
-      expect(sql).toContain("CHECK (table_name IN ('users', 'user_events', 'signers'))");
+      expect(sql).toContain("CHECK (table_name IN ('users', 'user_events', 'signers', 'plant_versions'))");
       expect(() =>
         a.db.prepare('INSERT INTO registry_log (format, table_name, row_key, row_sha256, logged_at, prev_hash, record_hash) VALUES (1, ?, ?, ?, ?, ?, ?)').run('plants', 'x', 'a'.repeat(64), '2026-12-01T00:00:00.000Z', 'b'.repeat(64), 'c'.repeat(64)),
       ).toThrow(/CHECK constraint failed/);
+      // the rebuilt table is append-only like the one it replaced
+      a.createUser({ name: 'an admin', role: 'admin', createdBy: 'system:bootstrap' });
+      expect(() => a.db.prepare('DELETE FROM registry_log').run()).toThrow(/append-only/);
+      expect(() => a.db.prepare("UPDATE registry_log SET logged_at = 'x'").run()).toThrow(/append-only/);
+    } finally {
+      a.close();
+    }
+  });
+
+  it('version 3 keeps every version-2 registry entry as it was and logs the plant versions already stored, after them', async () => {
+    const d = dir();
+    const raw = new Database(join(d, ARCHIVE_FILE_NAME));
+    migrate(raw, { migrations: MIGRATIONS.slice(0, 2) });
+    raw.close();
+    // a version-2 archive as that build left it: users and signers logged, plant versions not
+    const a2 = openArchive({ dataDir: d, signerKeySecret: SECRET, migrations: MIGRATIONS.slice(0, 2) });
+    a2.createUser({ name: 'old admin', role: 'admin', createdBy: 'system:bootstrap' });
+    a2.db
+      .prepare('INSERT INTO plant_versions (plant_id, version, profile_json, sha256, created_at, created_by) VALUES (?, ?, ?, ?, ?, ?)')
+      .run('old-plant', 1, '{"id":"old-plant"}', createHash('sha256').update('{"id":"old-plant"}').digest('hex'), '2026-01-01T00:00:00.000Z', 'system:seed');
+    const before = a2.db.prepare('SELECT * FROM registry_log ORDER BY seq').all();
+    a2.close();
+    const at = new Date('2026-12-04T21:00:00.000Z');
+    const a = openArchive({ dataDir: d, signerKeySecret: SECRET, now: () => at });
+    try {
+      expect(a.migration?.applied).toContain(3);
+      const after = a.db.prepare('SELECT * FROM registry_log ORDER BY seq').all() as { seq: number; table_name: string; row_key: string; logged_at: string; prev_hash: string }[];
+      expect(after.slice(0, before.length)).toEqual(before);
+      const added = after.slice(before.length);
+      expect(added.map((e) => [e.table_name, e.row_key, e.logged_at])).toEqual([['plant_versions', 'old-plant#1', at.toISOString()]]);
+      expect(added[0]!.prev_hash).toBe((before[before.length - 1] as { record_hash: string }).record_hash);
+      const v = await a.verifyArchive();
+      expect(v).toMatchObject({ valid: true, registryEntries: after.length });
+      // from now on the version is held by the chain: its profile rewritten with a fresh SHA-256 is caught
+      expect(a.getPlant('old-plant').altered).toBe(false);
     } finally {
       a.close();
     }

@@ -8,7 +8,7 @@ import { afterEach, describe, expect, it } from 'vitest';
 import { recordHash, type Archive, type SheetSummary } from '../../src/archive/index.js';
 import { REGISTRY_COLUMNS as REGISTRY_COLUMNS_BY_FORMAT, REGISTRY_FORMAT, missingColumns, rowDigest } from '../../src/archive/registry.js';
 import type { SheetRow } from '../../src/archive/sheets.js';
-import { doseSheetInput, ensureAuthor, fakeVerifyPdf, openTestArchive, rawTamper, tempDataDir } from './fixtures/archive-fixture.js';
+import { caught, doseSheetInput, ensureAuthor, fakeVerifyPdf, openTestArchive, rawTamper, tempDataDir } from './fixtures/archive-fixture.js';
 
 const cleanups: (() => void)[] = [];
 afterEach(() => {
@@ -207,7 +207,22 @@ describe('tampering is detected', () => {
     await rawTamper(file, ['plant_versions'], (db) => db.prepare(`UPDATE plant_versions SET profile_json = '{"id":"demo-plant","name":"changed"}'`).run());
     const v = await reopen().verifyArchive();
     expect(v.valid).toBe(false);
-    expect(v.problems).toEqual([expect.objectContaining({ id: 'demo-plant@v1', check: 'plant-hash' })]);
+    // its own SHA-256 and its registry entry both disagree
+    expect(v.problems).toEqual([
+      expect.objectContaining({ id: 'demo-plant@v1', check: 'plant-hash' }),
+      expect.objectContaining({ id: 'plant_versions:demo-plant#1', check: 'registry-row-hash' }),
+    ]);
+  });
+  it('a plant profile rewritten together with its SHA-256: the registry log still catches it, and the service will not use it', async () => {
+    const { file, reopen } = built(1);
+    const forged = '{"id":"demo-plant","name":"changed"}';
+    await rawTamper(file, ['plant_versions'], (db) => db.prepare('UPDATE plant_versions SET profile_json = ?, sha256 = ?').run(forged, sha256(forged)));
+    const a = reopen();
+    const v = await a.verifyArchive();
+    expect(v.valid).toBe(false);
+    expect(v.problems).toEqual([expect.objectContaining({ id: 'plant_versions:demo-plant#1', check: 'registry-row-hash' })]);
+    expect(caught(() => a.getPlant('demo-plant')).code).toBe('ARCHIVE_RECORD_ALTERED');
+    expect(a.listPlants().find((p) => p.plantId === 'demo-plant')?.altered).toBe(true);
   });
 });
 
@@ -257,7 +272,7 @@ describe('every stored column is covered', () => {
 describe('users, user events and signers are covered by the registry log', () => {
   /** Every column of every registered table, with the row it is changed in. */
   const REGISTRY_COLUMNS: Record<string, readonly string[]> = { ...REGISTRY_COLUMNS_BY_FORMAT[REGISTRY_FORMAT]! };
-  const KEY: Record<string, string> = { users: 'id', user_events: 'seq', signers: 'id' };
+  const KEY: Record<string, readonly string[]> = { users: ['id'], user_events: ['seq'], signers: ['id'], plant_versions: ['plant_id', 'version'] };
 
   /** A value that differs from the stored one and still satisfies the table's CHECK constraints. */
   function changed(table: string, column: string, value: unknown): unknown {
@@ -268,10 +283,10 @@ describe('users, user events and signers are covered by the registry log', () =>
     return tweak(value);
   }
 
-  it('an untouched archive logs every user, user event and signer, and verifies', async () => {
+  it('an untouched archive logs every user, user event, signer and plant version, and verifies', async () => {
     const { reopen } = built(2);
     const a = reopen();
-    const counts = ['users', 'user_events', 'signers'].map((t) => (a.db.prepare(`SELECT count(*) AS n FROM ${t}`).get() as { n: number }).n);
+    const counts = ['users', 'user_events', 'signers', 'plant_versions'].map((t) => (a.db.prepare(`SELECT count(*) AS n FROM ${t}`).get() as { n: number }).n);
     const v = await a.verifyArchive();
     expect(v.valid).toBe(true);
     expect(v.registryEntries).toBe(counts.reduce((x, y) => x + y, 0));
@@ -290,12 +305,13 @@ describe('users, user events and signers are covered by the registry log', () =>
     const { file, reopen } = built(1);
     await rawTamper(file, [table], (db) => {
       const row = db.prepare(`SELECT * FROM ${table} ORDER BY rowid LIMIT 1`).get() as Record<string, unknown>;
-      db.prepare(`UPDATE ${table} SET ${column} = ? WHERE ${KEY[table]} = ?`).run(changed(table, column, row[column]), row[KEY[table]!]);
+      const keys = KEY[table]!;
+      db.prepare(`UPDATE ${table} SET ${column} = ? WHERE ${keys.map((k) => `${k} = ?`).join(' AND ')}`).run(changed(table, column, row[column]), ...keys.map((k) => row[k]));
     });
     const v = await reopen().verifyArchive();
     expect(v.valid).toBe(false);
     const checks = v.problems.map((p) => p.check);
-    if (column === KEY[table]) expect(checks).toEqual(expect.arrayContaining(['registry-row-missing', 'registry-unlogged']));
+    if (KEY[table]!.includes(column)) expect(checks).toEqual(expect.arrayContaining(['registry-row-missing', 'registry-unlogged']));
     else expect(checks).toContain('registry-row-hash');
   });
 
@@ -340,10 +356,11 @@ describe('users, user events and signers are covered by the registry log', () =>
     expect(recorded.entries).toBeGreaterThanOrEqual(3);
     expect(recorded.recordHash).toMatch(/^[0-9a-f]{64}$/);
     first.close();
-    await rawTamper(file, ['registry_log', 'signers'], (db) => {
+    await rawTamper(file, ['registry_log', 'signers', 'plant_versions'], (db) => {
       const last = db.prepare('SELECT seq, table_name, row_key FROM registry_log ORDER BY seq DESC LIMIT 1').get() as { seq: number; table_name: string; row_key: string };
       db.prepare('DELETE FROM registry_log WHERE seq = ?').run(last.seq);
-      db.prepare(`DELETE FROM ${last.table_name} WHERE ${last.table_name === 'user_events' ? 'seq' : 'id'} = ?`).run(last.table_name === 'user_events' ? Number(last.row_key) : last.row_key);
+      const where = { user_events: 'seq = CAST(? AS INTEGER)', plant_versions: "plant_id || '#' || version = ?" }[last.table_name] ?? 'id = ?';
+      db.prepare(`DELETE FROM ${last.table_name} WHERE ${where}`).run(last.row_key);
       db.prepare("UPDATE sqlite_sequence SET seq = seq - 1 WHERE name = 'registry_log'").run();
     });
     const a = reopen();

@@ -144,12 +144,12 @@ describe('an app on a changed copy of the archive refuses to act on the changed 
     const copy = tamperedCopy(dataDir, (db) => {
       db.prepare("UPDATE signers SET certificate_subject = 'CN=Chief Engineer (fake), O=Nowhere' WHERE user_id IS NULL").run();
       const entries = db.prepare('SELECT * FROM registry_log ORDER BY seq').all() as {
-        seq: number; format: number; table_name: 'users' | 'user_events' | 'signers'; row_key: string; row_sha256: string; logged_at: string; prev_hash: string; record_hash: string;
+        seq: number; format: number; table_name: 'users' | 'user_events' | 'signers' | 'plant_versions'; row_key: string; row_sha256: string; logged_at: string; prev_hash: string; record_hash: string;
       }[];
       let prev = '0'.repeat(64);
       for (const e of entries) {
-        const key = e.table_name === 'user_events' ? Number(e.row_key) : e.row_key;
-        const row = db.prepare(`SELECT * FROM ${e.table_name} WHERE ${e.table_name === 'user_events' ? 'seq' : 'id'} = ?`).get(key) as Record<string, unknown>;
+        const where = { user_events: 'seq = CAST(? AS INTEGER)', plant_versions: "plant_id || '#' || version = ?" }[e.table_name as string] ?? 'id = ?';
+        const row = db.prepare(`SELECT * FROM ${e.table_name} WHERE ${where}`).get(e.row_key) as Record<string, unknown>;
         const next = { ...e, row_sha256: rowDigest(e.table_name, row, e.format)!, prev_hash: prev };
         const hash = registryRecordHash(next);
         db.prepare('UPDATE registry_log SET row_sha256 = ?, prev_hash = ?, record_hash = ? WHERE seq = ?').run(next.row_sha256, prev, hash, e.seq);
