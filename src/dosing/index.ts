@@ -303,6 +303,20 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
     const T = t + constants.zeroCelsiusK.value;
     return Math.exp(a0 + a1 / T + a2 / T ** 2 + a3 / T ** 3 + a4 / T ** 4);
   };
+  // Above the table: Henry's law with air's O2 (20.946 % of dry air, ISO 2533 / US Standard Atmosphere, from
+  // memory) at 1 atm less the water vapour pressure, which takes the saturation to zero at the boiling point
+  // (the Benson–Krause fit, made for 0–40 °C, does not); scaled to meet the table at its warmest point.
+  const vapour = tables.oxygenSaturation.find((r): r is Extract<typeof r, { kind: 'vapour-pressure' }> => r.kind === 'vapour-pressure');
+  const O2_IN_DRY_AIR = 0.20946;
+  const o2MolarMgPerMol = molarMassOf('O2').toNumber() * 1000;
+  const henrySaturation = (t: number): number | null => {
+    if (!vapour) return null;
+    const [A, B, C] = vapour.coefficients.map(Number) as [number, number, number];
+    const pw = 10 ** (A - B / (C + t)) / 760; // atm
+    return o2HenryAt(t) * O2_IN_DRY_AIR * Math.max(0, 1 - pw) * o2MolarMgPerMol;
+  };
+  const warmest = satPoints[satPoints.length - 1];
+  const henryAtWarmest = warmest ? henrySaturation(warmest.t) : null;
   const o2SaturationAt = (t: number): number => {
     if (satPoints.length === 0) throw new DomainError('TABLE_INVALID', { detail: 'tables/oxygen-saturation.json has no points.' });
     if (t <= satPoints[0]!.t) return satPoints[0]!.c;
@@ -311,7 +325,9 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
       const b = satPoints[i]!;
       if (t <= b.t) return a.c + ((b.c - a.c) * (t - a.t)) / (b.t - a.t);
     }
-    return bensonKrause(t) ?? satPoints[satPoints.length - 1]!.c;
+    const h = henrySaturation(t);
+    if (h !== null && henryAtWarmest) return (h * warmest!.c) / henryAtWarmest;
+    return bensonKrause(t) ?? warmest!.c;
   };
   const temperatureRangeNotes = (equilibriumIds: readonly string[], t: number): { text: string; source: string }[] => {
     const notes: { text: string; source: string }[] = [];
@@ -576,6 +592,12 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
   const s = req.sample;
   const pH = s.pH;
   const temperatureC = s.temperatureC ?? temperatureToC(s.temperature!, '/sample/temperature');
+  if (ox.id === 'oxygen' && context.o2SaturationAt(temperatureC) <= 0) {
+    // at the boiling point the water vapour alone is 1 atm: water under air holds no oxygen to dose
+    const pointer = s.temperatureC !== undefined ? '/sample/temperatureC' : '/sample/temperature/value';
+    const message = `at ${temperatureC} °C water in contact with air holds no dissolved oxygen (its vapour pressure reaches 1 atm): aeration cannot supply any; check the temperature, or choose another oxidant`;
+    throw new DomainError('CONDITIONS_OUT_OF_RANGE', { detail: `${pointer}: ${message}.`, fields: [{ pointer, message }] });
+  }
   // a possible but unusual strength (the impossible ones were refused by checkDoseRequest): above the strongest grade, or dissolving only in a warm tank
   if (req.product?.strength) {
     const tankC = req.batch?.temperatureC ?? temperatureC;
@@ -857,7 +879,7 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
     const beyond = [...context.temperatureRangeNotes(equilibria, temperatureC, usesOxygen)];
     if (usesOxygen && temperatureC > context.o2SaturationTableMaxC) {
       beyond.push({
-        text: `the dissolved oxygen at saturation (tables/oxygen-saturation.json ends at ${context.o2SaturationTableMaxC} °C; the Benson–Krause equation is extended to ${temperatureC} °C, giving ${roundSigNumber(context.o2SaturationAt(temperatureC), 3)} mg/L)`,
+        text: `the dissolved oxygen at saturation (tables/oxygen-saturation.json ends at ${context.o2SaturationTableMaxC} °C; beyond it Henry's law with the water vapour pressure gives ${roundSigNumber(context.o2SaturationAt(temperatureC), 3)} mg/L at ${temperatureC} °C, scaled to meet the table at ${context.o2SaturationTableMaxC} °C)`,
         source: 'benson-krause-1984',
       });
     }

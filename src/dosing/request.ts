@@ -267,6 +267,10 @@ export function checkDoseRequest(req: DoseRequest, strengthLimits?: readonly Str
   if (st && st.unit !== 'g/L' && st.value > 100) {
     fields.push({ pointer: '/product/strength/value', message: `a strength in ${st.unit} must be more than 0 and at most 100` });
   }
+  // a background demand as TOC × factor needs the TOC reading (listed with the other problems, not after them)
+  if (req.backgroundDemand && 'tocFactor' in req.backgroundDemand && s.toc === undefined) {
+    missing.push({ pointer: '/sample/toc', message: 'TOC is required when backgroundDemand.tocFactor is given (the background demand is TOC × that factor)' });
+  }
   // flow, contact, strength, pump, stock, batch, residual and demand within a plant's range (src/dosing/bounds.ts)
   fields.push(...quantityBoundProblems(req));
   // a strength no solution of the product can have: above its solubility, or far above its strongest grade (tables/strength-limits.json)
@@ -286,7 +290,14 @@ export function checkDoseRequest(req: DoseRequest, strengthLimits?: readonly Str
   const alsoOf = (fs: readonly FieldProblem[]) => (fs.length > 0 ? ` Also: ${list(fs)}.` : '');
   if (missing.length > 0) {
     throw new DomainError('DOSE_INPUT_MISSING', {
-      detail: 'The sample temperature is needed: give sample.temperatureC (0 to 100 °C) or sample.temperature {value, unit: °C | °F | K}.' + alsoOf([...fields, ...implausibleFields]),
+      detail:
+        missing
+          .map((m) =>
+            m.pointer === '/sample/toc'
+              ? 'The sample TOC is needed: backgroundDemand.tocFactor gives the background demand as TOC × that factor; give sample.toc {value, unit}.'
+              : 'The sample temperature is needed: give sample.temperatureC (0 to 100 °C) or sample.temperature {value, unit: °C | °F | K}.',
+          )
+          .join(' ') + alsoOf([...fields, ...implausibleFields]),
       fields: [...missing, ...fields, ...implausibleFields],
       params,
     });

@@ -165,6 +165,18 @@ export const OxygenSaturationRowSchema = z.discriminatedUnion('kind', [
     source: SourceId,
     note: Note.optional(),
   }),
+  z.strictObject({
+    id: z.string(),
+    kind: z.literal('vapour-pressure'),
+    text: z.string(),
+    /** Antoine: log10 p_w = A − B/(C + t), t in °C, p_w in mmHg (760 mmHg = 1 atm): water vapour over pure water. */
+    coefficients: z.array(DecimalText).length(3),
+    unit: z.literal('mmHg'),
+    validFromC: z.number(),
+    validToC: z.number(),
+    source: SourceId,
+    note: Note.optional(),
+  }),
 ]);
 export type OxygenSaturationRow = z.infer<typeof OxygenSaturationRowSchema>;
 

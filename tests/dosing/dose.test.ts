@@ -311,27 +311,44 @@ describe('flags', () => {
     const r = dose({ ...base, oxidant: 'oxygen', sample: { pH: 7.5, temperatureC: 15, iron: { value: 80, unit: 'mg/L' } } });
     expect(r.flags.find((x) => x.code === 'OXYGEN_ABOVE_SATURATION')?.severity).toBe('danger');
   });
-  it('warm water beyond the 0–40 °C saturation table: the Benson–Krause equation is extended and the flag says so', () => {
-    // Benson & Krause (1984) as Standard Methods 4500-O prints it (coefficients from memory, verify):
-    // ln C* = −139.34411 + 1.575701e5/T − 6.642308e7/T² + 1.243800e10/T³ − 8.621949e11/T⁴
-    const bk = (c: number) => {
-      const T = c + 273.15;
-      return Math.exp(-139.34411 + 1.575701e5 / T - 6.642308e7 / T ** 2 + 1.2438e10 / T ** 3 - 8.621949e11 / T ** 4);
-    };
-    expect(bk(50)).toBeCloseTo(5.49, 2); // published tables give about 5.5 mg/L at 50 °C (from memory)
+  it('warm water beyond the 0–40 °C saturation table: Henry\'s law with the water vapour pressure, falling to zero at the boiling point, and the flag says so', () => {
+    // Independent: C* = K_H(T) × 0.20946 × (1 atm − p_w(T)) × 31 998 mg/mol. p_w from the steam tables
+    // (from memory): 19.95 kPa at 60 °C, 70.18 kPa at 90 °C, 97.85 kPa at 99 °C, 101.325 kPa at 100 °C.
+    // K_H of O2 from phreeqc.dat's expression (log K = −7.5001 + 7.8981e-3·T + 2.0027e5/T²) — the service
+    // scales its curve to meet the 40 °C table point (6.412 mg/L), so allow a few per cent.
+    const kH = (c: number) => 10 ** (-7.5001 + 7.8981e-3 * (c + 273.15) + 2.0027e5 / (c + 273.15) ** 2);
+    const byHand = (c: number, pwKPa: number) => kH(c) * 0.20946 * (1 - pwKPa / 101.325) * 31998;
+    const sat = (c: number) => context.o2SaturationAt(c);
+    expect(sat(40)).toBeCloseTo(6.412, 3); // the table point itself
+    for (const [c, pw] of [[60, 19.95], [90, 70.18], [99, 97.85]] as const) {
+      expect(Math.abs(sat(c) - byHand(c, pw)) / byHand(c, pw), `${c} °C`).toBeLessThan(0.05);
+    }
+    expect(sat(60)).toBeGreaterThan(4.5); // published tables give about 4.7 mg/L at 60 °C (from memory)
+    expect(sat(99)).toBeLessThan(0.25);
+    expect(sat(100)).toBe(0);
     // 3 mg/L sulfide to sulfate needs 2 × 31.998 / 32.06 × 3 = 5.99 mg/L O2: above what 50 °C water holds
     const hot = dose({ ...base, oxidant: 'oxygen', sample: { pH: 7.5, temperatureC: 50, sulfide: { value: 3, unit: 'mg/L' } }, options: { sulfideProduct: 'sulfate' } });
-    expect(hot.flags.find((x) => x.code === 'OXYGEN_ABOVE_SATURATION')?.message).toContain(`(${bk(50).toFixed(2)} mg/L)`);
+    expect(hot.flags.find((x) => x.code === 'OXYGEN_ABOVE_SATURATION')?.message).toContain(`(${sat(50).toFixed(2)} mg/L)`);
     const beyond = hot.flags.find((x) => x.code === 'TEMPERATURE_BEYOND_CORRELATION')!;
     expect(beyond.severity).toBe('info');
-    expect(beyond.message).toMatch(/ends at 40 °C.*Benson–Krause/);
-    // the contact check's oxygen pressure: air is 20.95 % O2 of the dry gas, and water vapour at 60 °C is
-    // 19.93 kPa (CRC vapour pressure of water, from memory), so pO2 ≈ 0.2095 × (101.325 − 19.93)/101.325 = 0.168 atm
+    expect(beyond.message).toMatch(/ends at 40 °C; beyond it Henry's law with the water vapour pressure/);
+    // at 99 °C 1.4 mg/L of O2 for 10 mg/L iron is beyond what the water can hold
+    const at99 = dose({ ...base, oxidant: 'oxygen', sample: { pH: 7.5, temperatureC: 99, iron: { value: 10, unit: 'mg/L' } } });
+    expect(at99.flags.map((x) => x.code)).toContain('OXYGEN_ABOVE_SATURATION');
+    // the contact check's oxygen pressure: 0.2095 × (101.325 − 19.95)/101.325 = 0.168 atm at 60 °C
     const at60 = dose({ ...base, oxidant: 'oxygen', sample: { pH: 7, temperatureC: 60, iron: { value: 3, unit: 'mg/L' } }, contactTime: { value: 10, unit: 'min' } });
     const detail = at60.contact!.entries[0]!.detail as { dissolvedOxygenMgPerL: number; pO2Atm: number };
-    expect(detail.dissolvedOxygenMgPerL).toBeCloseTo(bk(60), 3);
-    expect(detail.pO2Atm).toBeCloseTo((0.2095 * (101.325 - 19.93)) / 101.325, 1);
-    expect(Math.abs(detail.pO2Atm - 0.168) / 0.168).toBeLessThan(0.05);
+    expect(detail.dissolvedOxygenMgPerL).toBeCloseTo(sat(60), 6);
+    expect(Math.abs(detail.pO2Atm - 0.168) / 0.168).toBeLessThan(0.03);
+    // boiling water holds none: oxygen is refused naming the temperature
+    let boiling: unknown;
+    try {
+      dose({ ...base, oxidant: 'oxygen', sample: { pH: 7, temperatureC: 100, iron: { value: 1, unit: 'mg/L' } } });
+    } catch (e) {
+      boiling = e;
+    }
+    expect(isDomainError(boiling) && boiling.code).toBe('CONDITIONS_OUT_OF_RANGE');
+    expect(isDomainError(boiling) && boiling.fields.map((f) => f.pointer)).toEqual(['/sample/temperatureC']);
     // within the table and the correlations' ranges, no such flag
     expect(dose({ ...base, oxidant: 'oxygen', sample: { pH: 7, temperatureC: 25, iron: { value: 3, unit: 'mg/L' } } }).flags.map((x) => x.code)).not.toContain('TEMPERATURE_BEYOND_CORRELATION');
   });
@@ -490,6 +507,10 @@ describe('bad input names the field and what is accepted', () => {
     const e = fails({ ...ok, backgroundDemand: { tocFactor: 0.5 } });
     expect(e.code).toBe('DOSE_INPUT_MISSING');
     expect(e.pointers).toEqual(['/sample/toc']);
+    // listed together with the other problems of the request, not after they are put right
+    const both = fails({ ...ok, flow: { value: 1e9, unit: 'm3/d' }, backgroundDemand: { tocFactor: 0.5 } });
+    expect(both.code).toBe('DOSE_INPUT_MISSING');
+    expect(both.pointers).toEqual(['/sample/toc', '/flow/value']);
   });
   it('a bad plant profile is PLANT_INVALID naming the field', () => {
     try {
