@@ -85,16 +85,16 @@ export function rawWaterFlags(input: {
     if (over.length === 0) continue;
     const what =
       r.parameter === 'arsenic'
-        ? 'Oxidation turns arsenite into arsenate but removes no arsenic: a removal step (coagulation, adsorption) must follow to meet'
+        ? 'Oxidation turns arsenite into arsenate but removes no arsenic: a removal step (coagulation, adsorption) must follow to meet the limit in the finished water.'
         : r.parameter === 'nitrite'
-          ? 'Oxidation (chlorine, ozone, permanganate) turns nitrite into nitrate, which has its own limit (10 mg/L as N, 40 CFR 141.62(b)); confirm that the finished water meets'
-          : 'Oxidation and solids removal (settling, filtration) must bring it below';
+          ? 'Oxidation (chlorine, ozone, permanganate) turns nitrite into nitrate, which has its own limit (10 mg/L as N, 40 CFR 141.62(b)): measure nitrite and nitrate in the finished water.'
+          : 'Oxidation and solids removal (settling, filtration) must bring it below the limit in the finished water.';
     const text = (x: { l: LimitRow; value: number; converted: boolean }) =>
       x.converted ? limitText(x.l).replace(`${x.l.valueText} mg/L ${x.l.basis}`, `${x.l.valueText} mg/L ${x.l.basis} (${roundSigNumber(x.value)} mg/L ${r.basis})`) : limitText(x.l);
     flags.push({
       code: `RAW_${r.parameter.toUpperCase()}_ABOVE_LIMIT`,
       severity: r.parameter === 'arsenic' || r.parameter === 'nitrite' ? 'warning' : 'info',
-      message: `Raw ${r.name} ${roundSigNumber(v)} mg/L${r.basis ? ` ${r.basis}` : ''} is above ${over.map(text).join(' and ')}. ${what} the limit in the finished water. ${GOVERN}`,
+      message: `Raw ${r.name} ${roundSigNumber(v)} mg/L${r.basis ? ` ${r.basis}` : ''} is above ${over.map(text).join(' and ')}. ${what} ${GOVERN}`,
       source: over[0]!.l.source,
     });
   }

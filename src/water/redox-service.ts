@@ -134,6 +134,12 @@ function handbookGasKeys(ledger: Ledger): ReadonlySet<string> {
 
 /** A couple's species read as the handbook tables write it; the note says when a bare formula was read as the gas. */
 function asHandbookGas(s: Species, text: string, deps: RedoxDeps, notes: string[]): Species {
+  if (s.phase === 's' && /\((cr|am)\)\s*$/.test(s.text)) {
+    // the tables hold one constant per solid formula; which solid forms is not told apart
+    const note = `${text} is read as the solid ${s.text.replace(/\((cr|am)\)\s*$/, '(s)')}, at unit activity: the tables hold one solid of that formula (its row is in the derivation), whether crystalline (cr) or amorphous (am) was written. Crystalline solids are less soluble than amorphous ones, so give standardPotentialV with a site value and its source for another solid.`;
+    if (!notes.includes(note)) notes.push(note);
+    return s;
+  }
   if (s.phase !== null || s.charge !== 0) return s;
   let gas: Species;
   try {
@@ -550,7 +556,7 @@ function checkPHAgreement(
   const how = isH ? 'pH = −log10 a(H+)' : `pH = pKw + log10 a(OH-), pKw ${pKw.toFixed(3)} at ${temperatureC} °C`;
   throw new DomainError('ACTIVITY_INVALID', {
     detail:
-      `The ${what} given for ${entry.text} sets pH ${shown.toFixed(2)} (${how}), but pH ${pH} is given too: they differ by ${Math.abs(shown - pH).toFixed(2)} pH units ` +
+      `The ${what} given for ${entry.text} sets pH ${shown.toFixed(2)} (${how}), but pH ${pH} is given too: they differ by ${Math.abs(shown - pH).toFixed(3)} pH units ` +
       `(more than ${PH_AGREEMENT_UNITS}). The pH sets ${isH ? 'H+' : 'OH-'}; ${pHOptional ? `give the pH alone, or leave out the pH and give ${entry.text} alone` : `give the pH alone (leave out ${entry.text})`}.`,
     params: { pH, impliedPH: shown },
     fields: [

@@ -51,6 +51,17 @@ describe('POST /api/v1/couples/potential', () => {
     expect(b.standardPotentialV).toBeLessThan(1.07);
   });
 
+  it('Fe(OH)3(cr) and (am) are read as the tabled solid, with a note saying so and how to give another solid (couples and cells)', async () => {
+    const plain = (await post('/api/v1/couples/potential', { from: 'Fe(OH)3', to: 'Fe2+', pH: 7.2 })).json();
+    for (const label of ['cr', 'am']) {
+      const b = (await post('/api/v1/couples/potential', { from: `Fe(OH)3(${label})`, to: 'Fe2+', pH: 7.2 })).json();
+      expect(b.potentialV).toBe(plain.potentialV);
+      expect(b.notes.join(' ')).toMatch(new RegExp(`Fe\\(OH\\)3\\(${label}\\) is read as the solid Fe\\(OH\\)3\\(s\\).*standardPotentialV`));
+    }
+    const cell = (await post('/api/v1/cells/evaluate', { oxidant: { from: 'HOCl', to: 'Cl-' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3(cr)' }, pH: 7.2, temperatureC: 12 })).json();
+    expect(JSON.stringify(cell)).toMatch(/is read as the solid Fe\(OH\)3\(s\)/);
+  });
+
   it('a site value of E° replaces the tabled one and the answer says so', async () => {
     const r = await post('/api/v1/couples/potential', { from: 'Fe(OH)3', to: 'Fe2+', standardPotentialV: { value: 0.95, source: 'site study: aged ferrihydrite' } });
     const b = r.json();

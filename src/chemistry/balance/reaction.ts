@@ -123,6 +123,15 @@ export function diagnoseImpossible(columns: readonly Column[], rows: readonly st
     const where = side === 'reactant' ? 'reactants' : 'products';
     const missing = side === 'reactant' ? 'products' : 'reactants';
     if (row === CHARGE_ROW) {
+      const sides = new Set(columns.filter((_, j) => !(r[j] as Rational).isZero()).map((c) => c.side));
+      if (sides.size > 1) {
+        // charged species on both sides, but of signs that add up (a negative reactant against a positive product)
+        const on = (sd: string) => listNames(columns.filter((c, j) => c.side === sd && !(r[j] as Rational).isZero()).map((c) => formatFormula(c.species)));
+        return {
+          row,
+          cause: `The charge cannot balance: the charged reactants (${on('reactant')}) and the charged products (${on('product')}) carry charges of opposite sign, so no positive coefficients make the two sides' charges equal; add electrons (e-) or the missing ions, or check the charges written`,
+        };
+      }
       return {
         row,
         cause: `The charge cannot balance: only the ${where} carry charge (${listNames(holders)}) and the ${missing} are all neutral; add electrons (e-) or the missing ions`,

@@ -91,6 +91,13 @@ describe('balanceReaction: why a balance fails', () => {
     expect(e.params['cause']).toBe('charge');
     expect(e.detail).toContain('only the products carry charge');
   });
+  it('BALANCE_IMPOSSIBLE says when charged species on both sides have charges that add up (Fe(OH)3- → Fe3+ + H2O)', () => {
+    // −1 on the left and +3 on the right: a·(−1) = b·(+3) has no positive solution
+    const e = fails(['Fe(OH)3-'], ['Fe3+', 'H2O']);
+    expect(e.params['cause']).toBe('charge');
+    expect(e.detail).toContain('the charged reactants ("Fe(OH)3-") and the charged products ("Fe3+") carry charges of opposite sign');
+    expect(e.detail).not.toContain('only the');
+  });
   it('BALANCE_IMPOSSIBLE says a species takes no part (zero coefficient)', () => {
     const e = fails(['H2', 'O2', 'NaCl'], ['H2O']);
     expect(e.code).toBe('BALANCE_IMPOSSIBLE');
