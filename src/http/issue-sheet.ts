@@ -29,6 +29,20 @@ export function correctionWarnings(supersedes: string | undefined, correctionRea
   ];
 }
 
+/** A sample more than this long before the sheet is unusual for a daily record (a late entry, or a mistyped year). */
+export const SAMPLED_AT_OLD_DAYS = 90;
+
+/** A warning for a sample time long before now (a sample after now is refused by the archive). */
+export function sampleAgeWarnings(sampledAt: string, now: Date): string[] {
+  const days = (now.getTime() - Date.parse(sampledAt)) / 86_400_000;
+  if (!(days > SAMPLED_AT_OLD_DAYS)) return [];
+  const { month } = localSample(sampledAt, new Date(Date.parse(sampledAt)).toISOString());
+  return [
+    `The sample time ${sampledAt} is ${Math.floor(days)} days before now: the sheet is filed in the report for ${month}, not in this month's. ` +
+      'Check the date (a mistyped year files a sheet silently outside every recent report); a late entry of an old sample is allowed.',
+  ];
+}
+
 /** The local calendar month (YYYY-MM) and day of a sample, as its sampledAt was written (with its offset). */
 function localSample(written: unknown, utc: string): { day: string; month: string } {
   const day = localSampleTime(written, utc).day;
@@ -81,6 +95,17 @@ export async function issueDoseSheet(services: Services, user: User, body: z.out
       });
     }
   }
+  if (original && original.status === 'altered') {
+    // a correction builds on the record it names: one that fails its integrity check is not corrected but restored
+    throw new DomainError('ARCHIVE_RECORD_ALTERED', {
+      detail:
+        `Sheet ${original.id} fails its integrity check (it was changed in the archive file), so it is not corrected by a new sheet: ` +
+        'an admin checks the archive at /api/v1/archive/verification and restores it from a backup; a correction can then be issued.',
+      params: { table: 'sheets', id: original.id },
+      fields: [{ pointer: '/supersedes', message: `sheet ${original.id} fails its integrity check` }],
+    });
+  }
+  warnings.push(...sampleAgeWarnings(sampledAt, new Date()));
   // the plant version is read once, with the profile the dose is computed from, so the sheet names that version
   const { result, plantVersion: computedWith } = doseWithPlantVersion(services, doseRequest);
   if (original) warnings.push(...correctionChangeWarnings(original, { oxidant: result.oxidant.id, sampledAt }));

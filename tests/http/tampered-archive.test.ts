@@ -39,7 +39,7 @@ function tamperedCopy(dataDir: string, tamper: (db: Database.Database) => void):
   cpSync(dataDir, copy, { recursive: true });
   const db = new Database(join(copy, FILE));
   try {
-    for (const t of ['users', 'user_events', 'signers', 'plant_versions', 'registry_log']) {
+    for (const t of ['users', 'user_events', 'signers', 'plant_versions', 'registry_log', 'sheets']) {
       for (const suffix of ['no_update', 'no_delete', 'no_replace']) db.exec(`DROP TRIGGER IF EXISTS ${t}_${suffix}`);
     }
     tamper(db);
@@ -180,6 +180,41 @@ describe('an app on a changed copy of the archive refuses to act on the changed 
       expect(v.json()).toMatchObject({ valid: true, signatureValid: true, signerSubjectMatches: true, problems: [] });
     } finally {
       await app.close();
+    }
+  });
+
+  it('a correction naming a sheet that fails its integrity check is a 409 naming /supersedes; the correction of an intact sheet is not', async () => {
+    const source = mkdtempSync(join(tmpdir(), 'oxd-http-tamper-sheet-'));
+    let firstId = '';
+    {
+      const app = await buildApp({ dataDir: source, bootstrapToken: BOOTSTRAP });
+      try {
+        const r = await app.inject({ method: 'POST', url: '/api/v1/sheets', headers: admin, payload: sheetBody() });
+        expect(r.statusCode, r.body).toBe(201);
+        firstId = r.json().id;
+      } finally {
+        await app.close();
+      }
+    }
+    const copy = tamperedCopy(source, (db) => {
+      expect(db.prepare("UPDATE sheets SET result_json = replace(result_json, '\"oxidant\"', '\"oxidant \"') WHERE id = ?").run(firstId).changes).toBe(1);
+    });
+    const app = await buildApp({ dataDir: copy, bootstrapToken: BOOTSTRAP });
+    try {
+      const r = await app.inject({ method: 'POST', url: '/api/v1/sheets', headers: admin, payload: sheetBody({ supersedes: firstId, correctionReason: 'iron reading corrected' }) });
+      expect(r.statusCode, r.body).toBe(409);
+      expect(r.json().code).toBe('ARCHIVE_RECORD_ALTERED');
+      expect(r.json().errors.map((e: { pointer: string }) => e.pointer)).toEqual(['/supersedes']);
+    } finally {
+      await app.close();
+    }
+    // on the untouched archive the same correction is made
+    const ok = await buildApp({ dataDir: source, bootstrapToken: BOOTSTRAP });
+    try {
+      const r = await ok.inject({ method: 'POST', url: '/api/v1/sheets', headers: admin, payload: sheetBody({ supersedes: firstId, correctionReason: 'iron reading corrected' }) });
+      expect(r.statusCode, r.body).toBe(201);
+    } finally {
+      await ok.close();
     }
   });
 });

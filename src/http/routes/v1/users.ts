@@ -70,7 +70,7 @@ export async function userRoutes(app: FastifyInstance): Promise<void> {
       200: z.object({
         users: z.array(
           UserOut.extend({
-            altered: z.boolean().describe('The user’s record fails its integrity check (changed in the archive file): its token is refused; deactivate it and check the archive'),
+            altered: z.boolean().describe('The user’s record fails its integrity check (changed in the archive file): its token is refused; check the archive (GET /api/v1/archive/verification) and restore it from a backup'),
             problems: z.array(z.string()).describe('What failed, in words (empty when nothing did)'),
           }),
         ),
