@@ -556,6 +556,17 @@ export function computeFeed(input: FeedInput): FeedResult {
     };
   }
 
+  if (input.batch && batch === null && (ox.form === 'solid' || ox.form === 'solution')) {
+    // a batch is made up from a solid at the strength given; otherwise there is nothing to weigh out
+    flags.push({
+      code: 'BATCH_NOT_USED',
+      severity: 'info',
+      message: isSolid
+        ? `The batch (${input.batch.volume.value} ${input.batch.volume.unit}) was not computed: give product.strength, the strength the batch is made up to, for the mass of ${lowerName(ox.name)} to weigh out per batch.`
+        : `The batch (${input.batch.volume.value} ${input.batch.volume.unit}) was not computed: ${lowerName(ox.name)} is delivered as a solution, so no solid is weighed out; the stock on hand goes in stock.`,
+      source: 'input',
+    });
+  }
   const lPerH = solution ? solution.toNumber() : null;
   let pump: FeedResult['pump'] = null;
   if (input.pump && lPerH !== null) {

@@ -576,6 +576,16 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
       }),
     );
   }
+  if (req.batch && oxidantFedAsGas(ox)) {
+    const how = ox.form === 'gas' ? 'is fed as a gas' : 'is generated on site and transferred to the water as a gas';
+    const name = ox.name.replace(/\s*\([^)]*\)$/, '');
+    throw namePlantFields(
+      new DomainError('VALIDATION_FAILED', {
+        detail: `${name} ${how}: there is no batch solution to make up, so batch does not apply. Remove batch; the feeder is set by the mass rate (feed.massRate).`,
+        fields: [{ pointer: '/batch', message: `${name} ${how}; a batch solution does not apply: remove batch` }],
+      }),
+    );
+  }
   const per = context.perOxidant.get(ox.id)!;
   const flags: Flag[] = [];
   if (req.product?.purity && ox.form !== 'solid') {
@@ -748,12 +758,15 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
   if (req.contactTime) {
     availableMinutes = toBaseDec('time', req.contactTime, '/contactTime').toNumber();
     availableFrom = 'given';
-    if (req.contactVolume && flowM3PerD) {
+    // the plant's contact volume when the request gave a time instead (the merge keeps the request's time)
+    const volume = req.contactVolume ?? (plantInfo !== null ? options.plant?.contactVolume : undefined);
+    if (volume && flowM3PerD) {
       // both given: the contact time wins (it may already allow for short-circuiting, a baffle factor or T10);
       // what the volume would give is said, so a mismatch is seen
-      const fromVolume = toBaseDec('volume', req.contactVolume, '/contactVolume').dividedBy(1000).dividedBy(flowM3PerD).times(1440).toNumber();
+      const fromVolume = toBaseDec('volume', volume, '/contactVolume').dividedBy(1000).dividedBy(flowM3PerD).times(1440).toNumber();
       if (Number.isFinite(fromVolume)) {
-        const where = (k: string) => (fromPlant.includes(k) ? ` (from plant profile "${plantInfo!.id}")` : '');
+        const where = (k: string) =>
+          fromPlant.includes(k) || (k === 'contactVolume' && !req.contactVolume) ? ` (from plant profile "${plantInfo!.id}")` : '';
         notes.push(
           `Contact: the contact time given${where('contactTime')}, ${req.contactTime.value} ${req.contactTime.unit}, was used; the contact volume${where('contactVolume')} ÷ flow would give ${roundSigNumber(fromVolume, 3)} min at this flow, which was not used.`,
         );

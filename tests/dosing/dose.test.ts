@@ -385,6 +385,22 @@ describe('flags', () => {
     expect(msg({ arsenite: { value: 0.8, unit: 'mg/L' } }, 'ARSENITE_UNUSUALLY_HIGH')).toMatch(/the dose scales with it/);
     expect(msg({ nitrite: { value: 2, unit: 'mg/L' } }, 'NITRITE_UNUSUALLY_HIGH')).not.toMatch(/solids/);
   });
+  it('a batch for a gas is refused naming /batch; for a solution it is not computed, with a note saying why', () => {
+    let err: unknown;
+    try {
+      dose({ ...base, oxidant: 'chlorine-gas', sample: { pH: 7.2, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } }, batch: { volume: { value: 100, unit: 'L' }, temperatureC: 20 } });
+    } catch (e) {
+      err = e;
+    }
+    expect(isDomainError(err) && err.fields.map((f) => f.pointer)).toEqual(['/batch']);
+    const hypo = dose({ ...base, oxidant: 'sodium-hypochlorite', sample: { pH: 7.2, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } }, product: { strength: { value: 12.5, unit: '% w/v' } }, batch: { volume: { value: 100, unit: 'L' } } });
+    expect(hypo.feed!.batch).toBeNull();
+    expect(hypo.flags.find((f) => f.code === 'BATCH_NOT_USED')?.message).toMatch(/delivered as a solution/);
+    // a solid with a strength makes up the batch (no such note)
+    const km = dose({ ...base, oxidant: 'potassium-permanganate', sample: { pH: 7.2, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } }, product: { strength: { value: 2, unit: '% w/w' } }, batch: { volume: { value: 100, unit: 'L' } } });
+    expect(km.feed!.batch).not.toBeNull();
+    expect(km.flags.map((f) => f.code)).not.toContain('BATCH_NOT_USED');
+  });
   it('every flag source is a sources.json id or "input"', () => {
     const ids = new Set([...tables.sources.map((s) => s.id), 'input']);
     const r = dose({ ...base, oxidant: 'chlorine-dioxide', sample: { pH: 4.5, temperatureC: 15, iron: { value: 25, unit: 'mg/L' }, manganese: { value: 0.5, unit: 'mg/L' }, ammoniaN: { value: 1, unit: 'mg/L' } }, targetResidual: { value: 1, unit: 'mg/L' } });

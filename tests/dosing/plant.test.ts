@@ -222,6 +222,14 @@ describe('plant products and bounds', () => {
     expect(plantProfileWarnings(ok, context.oxidants)).toEqual([]);
   });
 
+  it("a contact time in the request is used over the plant's contact volume, and the note says what the volume would give (60 m3 ÷ 2500 m3/d = 34.6 min)", () => {
+    const p = profile(['sodium-hypochlorite'], {});
+    const r = dose('sodium-hypochlorite', p, { contactTime: { value: 5, unit: 'min' } });
+    expect(r.contact!.availableMinutes).toBe(5);
+    // the invented profile: 60 m3 at 2500 m3/d → 60 / 2500 × 1440 = 34.56 min
+    expect(r.notes.find((n) => n.startsWith('Contact:'))).toMatch(/5 min, was used; the contact volume \(from plant profile "invented-plant"\) ÷ flow would give 34\.6 min/);
+  });
+
   it('a residual target above the MRDL (4.0 mg/L as Cl2 and 0.8 mg/L as ClO2, 40 CFR 141.65(a)) is stored with a warning naming its field', () => {
     const p = profile(['sodium-hypochlorite'], { residualByOxidant: { 'sodium-hypochlorite': { value: 5, unit: 'mg/L' }, 'chlorine-dioxide': { value: 1, unit: 'mg/L' } } });
     const w = plantProfileWarnings(p, context.oxidants, context.limits).filter((x) => x.code === 'RESIDUAL_ABOVE_MRDL');
