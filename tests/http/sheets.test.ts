@@ -164,6 +164,13 @@ describe('listing, CSV export, corrections, tokens and users', () => {
     await app?.close();
   });
 
+  it('a samplingPoint over 200 characters is a 400 that names the field and says what it is for', async () => {
+    const r = await createSheet(app, sheetBody(late, { samplingPoint: 'x'.repeat(201) }));
+    expect(r.statusCode).toBe(400);
+    const e = r.json().errors.find((x: { pointer: string }) => x.pointer === '/samplingPoint');
+    expect(e.message).toMatch(/samplingPoint is at most 200 characters \(a tap or station name/);
+  });
+
   it('GET /api/v1/sheets?plantId&from&to lists the sheets sampled in the range only', async () => {
     const all = await app.inject({ method: 'GET', url: `/api/v1/sheets?plantId=demo-groundwater&from=${day(daysAgo(30))}&to=${day(daysAgo(0))}` });
     expect(all.statusCode).toBe(200);

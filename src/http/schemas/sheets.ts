@@ -29,8 +29,8 @@ export const SheetBody = DoseBody.extend({
   sampledAt: IsoDateTime,
   supersedes: SheetId.optional().describe('Id of the sheet this one corrects'),
   correctionReason: CorrectionReason.optional(),
-  samplingPoint: z.string().min(1).max(200).optional(),
-  sampleLabel: z.string().min(1).max(200).optional(),
+  samplingPoint: z.string().min(1, { error: 'samplingPoint must not be empty' }).max(200, { error: 'samplingPoint is at most 200 characters (a tap or station name, e.g. "SP-02 filter inlet")' }).optional(),
+  sampleLabel: z.string().min(1, { error: 'sampleLabel must not be empty' }).max(200, { error: 'sampleLabel is at most 200 characters' }).optional(),
   // default: LETTER when the sheet leads with US units (options.units, else the plant profile's preferredUnits), A4 otherwise
   pageSize: PageSize.optional(),
 });
