@@ -180,7 +180,8 @@ export const DOSE_CSV_COLUMNS: readonly CsvColumn[] = [
     header: 'contact_time_available_min',
     value: (s) => numberAt('result', 'contact', 'availableMinutes')(s) ?? quantityIn('time', ['request', 'contactTime'])(s),
   },
-  { header: 'contact_time_from', value: textAt('result', 'contact', 'availableFrom') },
+  // ASCII, so a spreadsheet that opens the file as a legacy code page reads it too ("contact volume / flow")
+  { header: 'contact_time_from', value: (sh) => textAt('result', 'contact', 'availableFrom')(sh)?.replace(/÷/g, '/') ?? null },
   {
     // the product strength as given (request or plant profile), with its unit: "12.5 % w/v"
     header: 'product_strength_given',

@@ -157,7 +157,7 @@ describe('integrity, oxidant, dose, local time and correction reason through the
     // the demo plant (tables/demo/demo-plant.json, invented): target residual 0, contact volume ÷ flow,
     // a 2 % w/w permanganate batch (20 g/L at the density of water); the request's alkalinity
     expect(Number(row['target_residual_mg_per_L'])).toBe(0);
-    expect(row['contact_time_from']).toBe('contact volume ÷ flow');
+    expect(row['contact_time_from']).toBe('contact volume / flow'); // written in ASCII in the CSV
     expect(Number(row['contact_time_available_min'])).toBeGreaterThan(0);
     expect(row['product_strength_given']).toBe('2 % w/w');
     expect(Number(row['product_strength_g_per_L'])).toBeCloseTo(20, 9);
