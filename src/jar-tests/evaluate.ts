@@ -20,6 +20,7 @@ import {
   type JarProblem,
 } from './common.js';
 import { defaultResidualMethod } from './product.js';
+import { readingBound } from '../dosing/bounds.js';
 import { inversePrediction, olsFit, studentTQuantile, type LinearFit } from './stats.js';
 
 export interface JarResultInput {
@@ -182,6 +183,28 @@ export interface JarTestEvaluation {
   readonly notes: readonly string[];
 }
 
+/**
+ * Turbidity above this (NTU) is not a water sample: raw waters in flood read hundreds to a few
+ * thousand NTU, and ratio turbidimeters read to about 10 000 NTU (common practice).
+ */
+export const TURBIDITY_MAX_NTU = 10000;
+
+/**
+ * A dissolved iron or manganese figure (a jar's reading or a target): not negative and at most the
+ * bound POST /api/v1/doses refuses a raw-water reading above (src/dosing/bounds.ts): a jar holds the
+ * raw water, so it cannot carry more than the raw water can.
+ */
+function metalReading(c: FieldCheck, value: unknown, pointer: string, field: 'iron' | 'manganese', what: string): void {
+  if (!c.nonNegative(value, pointer, `${what} (mg/L)`)) return;
+  const b = readingBound(field);
+  if ((value as number) > b.refuseAbove) {
+    c.add(
+      pointer,
+      `${what} must be at most ${b.refuseAbove} mg/L ${b.basis} (got ${fmt(value as number)} mg/L), the most POST /api/v1/doses takes as a raw-water ${b.name} reading: ${b.refuseWhy}. Check the value and its unit (µg/L entered as mg/L?)`,
+    );
+  }
+}
+
 function validate(input: EvaluateJarTestInput): void {
   const c = new FieldCheck();
   if (typeof input.oxidant !== 'string' || input.oxidant.length === 0) c.add('/oxidant', 'give the oxidant product id');
@@ -206,17 +229,26 @@ function validate(input: EvaluateJarTestInput): void {
         }
         for (const key of ['residualOxidantMgPerL', 'ironMgPerL', 'manganeseMgPerL', 'turbidityNTU'] as const) {
           if (r[key] === undefined) continue;
-          if (key === 'residualOxidantMgPerL') c.doseMgPerL(r[key], `${q}/${key}`, `the residual of jar ${i + 1} at ${r.contactTimeMin} min (mg/L)`);
-          else c.nonNegative(r[key], `${q}/${key}`, key);
+          const when = `of jar ${i + 1} at ${r.contactTimeMin} min`;
+          if (key === 'residualOxidantMgPerL') c.doseMgPerL(r[key], `${q}/${key}`, `the residual ${when} (mg/L)`);
+          else if (key === 'ironMgPerL') metalReading(c, r[key], `${q}/${key}`, 'iron', `the dissolved iron ${when}`);
+          else if (key === 'manganeseMgPerL') metalReading(c, r[key], `${q}/${key}`, 'manganese', `the dissolved manganese ${when}`);
+          else if (c.nonNegative(r[key], `${q}/${key}`, key) && r[key] > TURBIDITY_MAX_NTU) {
+            c.add(
+              `${q}/${key}`,
+              `the turbidity ${when} must be at most ${TURBIDITY_MAX_NTU} NTU (got ${fmt(r[key])} NTU): raw waters in flood read hundreds to a few thousand NTU, and above ${TURBIDITY_MAX_NTU} NTU the sample is a slurry, not a jar-test water (common practice); check the value and the meter's range`,
+            );
+          }
         }
       });
     });
   }
   const t = input.targets;
   if (t !== undefined) {
-    for (const key of ['ironMgPerL', 'manganeseMgPerL', 'residualOxidantMgPerL', 'residualOxidantMaxMgPerL'] as const) {
-      if (t[key] !== undefined) c.nonNegative(t[key], `/targets/${key}`, `the target ${key}`);
-    }
+    if (t.ironMgPerL !== undefined) metalReading(c, t.ironMgPerL, '/targets/ironMgPerL', 'iron', 'the iron target');
+    if (t.manganeseMgPerL !== undefined) metalReading(c, t.manganeseMgPerL, '/targets/manganeseMgPerL', 'manganese', 'the manganese target');
+    if (t.residualOxidantMgPerL !== undefined) c.doseMgPerL(t.residualOxidantMgPerL, '/targets/residualOxidantMgPerL', 'the target residual (mg/L)');
+    if (t.residualOxidantMaxMgPerL !== undefined) c.doseMgPerL(t.residualOxidantMaxMgPerL, '/targets/residualOxidantMaxMgPerL', 'the largest residual allowed (mg/L)');
     if (t.residualOxidantMgPerL !== undefined && t.residualOxidantMaxMgPerL !== undefined && t.residualOxidantMaxMgPerL < t.residualOxidantMgPerL) {
       c.add('/targets/residualOxidantMaxMgPerL', 'the largest residual allowed must not be below the residual required');
     }

@@ -856,3 +856,42 @@ describe('POST /api/v1/jar-tests/evaluations: corrections say why', () => {
     expect(lone.json().errors[0].pointer).toBe('/correctionReason');
   });
 });
+
+// ---------------------------------------------------------------------------------------------
+describe('POST /api/v1/jar-tests/evaluations: figures no jar test can give are refused, naming the field', () => {
+  // Jars of hypochlorite at 1, 2, 3, 4 mg/L against a 0.8 mg/L demand (residual = dose − 0.8 at 30 min).
+  const lin = (extra: (i: number) => Record<string, unknown> = () => ({})) =>
+    [1, 2, 3, 4].map((d, i) => ({ dose: mgL(d), results: [{ contactTimeMin: 30, residualOxidant: mgL(Math.max(0, d - 0.8)), ...extra(i) }] }));
+  const base = { oxidant: 'sodium-hypochlorite', sample: { pH: 7.2, temperatureC: 12, iron: mgL(1.0) }, jarVolume: { value: 2, unit: 'L' } };
+
+  it.each([
+    // 1000 mg/L: the bound src/dosing/bounds.ts puts on a dose request's targetResidual (common practice)
+    ['a target residual of 2000 mg/L (above 1000)', { jars: lin(), targets: { residualOxidant: mgL(2000) } }, '/targets/residualOxidant/value', '1000 mg/L'],
+    ['a largest residual of 2000 mg/L (above 1000)', { jars: lin(), targets: { residualOxidantMax: mgL(2000) } }, '/targets/residualOxidantMax/value', '1000 mg/L'],
+    // 100 mg/L Fe and 50 mg/L Mn: the dose route's refusal bounds on raw-water readings (src/dosing/bounds.ts, common practice)
+    ['an iron target of 150 mg/L', { jars: lin(), targets: { iron: mgL(150) } }, '/targets/iron/value', '100 mg/L'],
+    ['a manganese target of 60 mg/L', { jars: lin(), targets: { manganese: mgL(60) } }, '/targets/manganese/value', '50 mg/L'],
+    ['a jar reading 1e6 mg/L of iron', { jars: lin((i) => (i === 1 ? { iron: mgL(1e6) } : {})) }, '/jars/1/results/0/iron/value', '100 mg/L'],
+    ['a jar reading 51 000 µg/L of manganese (51 mg/L)', { jars: lin((i) => (i === 2 ? { manganese: { value: 51000, unit: 'µg/L' } } : {})) }, '/jars/2/results/0/manganese/value', '50 mg/L'],
+    // 10 000 NTU: above it the sample is a slurry (common practice)
+    ['a jar reading 1e9 NTU', { jars: lin((i) => (i === 0 ? { turbidityNTU: 1e9 } : {})) }, '/jars/0/results/0/turbidityNTU', '10000 NTU'],
+  ])('%s → 400 at %s', async (_n, over, pointer, bound) => {
+    const r = await post('/api/v1/jar-tests/evaluations', { ...base, ...over }, asAdmin);
+    expect(r.statusCode, r.body).toBe(400);
+    expect(r.headers['content-type']).toContain('application/problem+json');
+    const p = r.json();
+    const f = p.errors.find((x: { pointer: string }) => x.pointer === pointer);
+    expect(f, JSON.stringify(p.errors)).toBeDefined();
+    expect(f.message).toContain(bound);
+    expect(f.message).not.toMatch(/MgPerL/);
+  });
+
+  it.each([
+    ['iron 100 mg/L, at the bound', { jars: lin((i) => (i === 0 ? { iron: mgL(100) } : {})) }],
+    ['turbidity 10 000 NTU, at the bound', { jars: lin((i) => (i === 0 ? { turbidityNTU: 10000 } : {})) }],
+    ['a target residual of 1000 mg/L, at the bound', { jars: lin(), targets: { residualOxidant: mgL(1000) } }],
+  ])('%s is taken (201)', async (_n, over) => {
+    const r = await post('/api/v1/jar-tests/evaluations', { ...base, ...over }, asAdmin);
+    expect(r.statusCode, r.body).toBe(201);
+  });
+});

@@ -64,6 +64,13 @@ describe('evaluateJarTest: bad input and too few points (edge cases first)', () 
     ['negative manganese', { jars: [{ doseMgPerL: 1, results: [{ contactTimeMin: 5, manganeseMgPerL: -0.1 }] }] }, '/jars/0/results/0/manganeseMgPerL'],
     ['margin of 10 (not a fraction)', { margin: { kind: 'relative', fraction: 10 } }, '/margin/fraction'],
     ['negative target', { targets: { ironMgPerL: -0.3 } }, '/targets/ironMgPerL'],
+    // 1000 mg/L: the dose route's bound on a target residual; 100 mg/L Fe, 50 mg/L Mn: its refusal bounds on
+    // raw-water readings (src/dosing/bounds.ts, common practice); 10 000 NTU: a slurry, not a sample (common practice)
+    ['target residual 2000 mg/L', { targets: { residualOxidantMgPerL: 2000 } }, '/targets/residualOxidantMgPerL'],
+    ['iron target 101 mg/L', { targets: { ironMgPerL: 101 } }, '/targets/ironMgPerL'],
+    ['iron reading 1e6 mg/L', { jars: [{ doseMgPerL: 1, results: [{ contactTimeMin: 5, ironMgPerL: 1e6 }] }] }, '/jars/0/results/0/ironMgPerL'],
+    ['manganese reading 50.1 mg/L', { jars: [{ doseMgPerL: 1, results: [{ contactTimeMin: 5, manganeseMgPerL: 50.1 }] }] }, '/jars/0/results/0/manganeseMgPerL'],
+    ['turbidity 1e9 NTU', { jars: [{ doseMgPerL: 1, results: [{ contactTimeMin: 5, turbidityNTU: 1e9 }] }] }, '/jars/0/results/0/turbidityNTU'],
     ['zero jar volume', { jarVolumeL: 0 }, '/jarVolumeL'],
     ['a 1 mL jar (1 L written in mL), below the 0.25 L bench minimum', { jarVolumeL: 0.001 }, '/jarVolumeL'],
   ] as const)('%s → JAR_TEST_INVALID at %s', (_n, over, pointer) => {
