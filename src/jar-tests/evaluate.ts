@@ -190,6 +190,23 @@ export interface JarTestEvaluation {
 export const TURBIDITY_MAX_NTU = 10000;
 
 /**
+ * The problems an evaluation raises when it recommends no plant dose, one of them for each way the
+ * recommendation is withheld (readings in doubt, no jar meeting the targets, a control jar that
+ * contradicts the dosed jars, a residual not kept through the plant's contact, no line and no jar).
+ */
+export const NO_RECOMMENDATION_CODES: readonly string[] = ['CONTROL_JAR_CONTRADICTS_DOSED_JARS', 'RESIDUAL_NOT_KEPT', 'NO_JAR_MET_TARGETS', 'NO_RECOMMENDATION'];
+
+/** The problem that withheld the recommendation, or null when there is a recommendation (or none of them was raised). */
+export function whyNoRecommendation(ev: Pick<JarTestEvaluation, 'recommendedDose' | 'problems'>): JarProblem | null {
+  if (ev.recommendedDose !== null) return null;
+  for (const code of NO_RECOMMENDATION_CODES) {
+    const p = ev.problems.find((x) => x.code === code);
+    if (p !== undefined) return p;
+  }
+  return null;
+}
+
+/**
  * A dissolved iron or manganese figure (a jar's reading or a target): not negative and at most the
  * bound POST /api/v1/doses refuses a raw-water reading above (src/dosing/bounds.ts): a jar holds the
  * raw water, so it cannot carry more than the raw water can.
