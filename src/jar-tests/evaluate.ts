@@ -348,6 +348,31 @@ function residualLineAt(jars: readonly EvaluatedJar[], time: number, dl: number)
 }
 
 /**
+ * How the demand changed between the last two contact times with residual readings: the apparent
+ * demand of the residual line at each (−intercept/slope) when both give a rising line, else the mean
+ * oxidant consumed at each over the jars that kept a measurable residual at both (in such a jar the
+ * consumption is the demand). Null when neither can be had.
+ */
+function demandGrowth(jars: readonly EvaluatedJar[], residualTimes: readonly number[], dl: number): { fromMin: number; toMin: number; from: number; to: number; how: string } | null {
+  if (residualTimes.length < 2) return null;
+  const fromMin = residualTimes[residualTimes.length - 2]!;
+  const toMin = residualTimes[residualTimes.length - 1]!;
+  const a = residualLineAt(jars, fromMin, dl);
+  const b = residualLineAt(jars, toMin, dl);
+  if (a !== null && b !== null && a.slope > 0 && b.slope > 0) {
+    return { fromMin, toMin, from: -a.intercept / a.slope, to: -b.intercept / b.slope, how: 'where the residual line at each time crosses zero' };
+  }
+  const both = jars.flatMap((j) => {
+    const r1 = j.results.find((x) => x.contactTimeMin === fromMin);
+    const r2 = j.results.find((x) => x.contactTimeMin === toMin);
+    return r1?.residualOxidantMgPerL != null && r2?.residualOxidantMgPerL != null && r1.residualOxidantMgPerL > dl && r2.residualOxidantMgPerL > dl ? [{ jar: j.jar, c1: r1.consumedMgPerL!, c2: r2.consumedMgPerL! }] : [];
+  });
+  if (both.length === 0) return null;
+  const mean = (xs: number[]) => xs.reduce((s, x) => s + x, 0) / xs.length;
+  return { fromMin, toMin, from: mean(both.map((x) => x.c1)), to: mean(both.map((x) => x.c2)), how: `the mean consumed in jar${both.length === 1 ? '' : 's'} ${both.map((x) => x.jar).join(', ')}, which kept a residual at both times` };
+}
+
+/**
  * Evaluate a jar test.
  * Throws DomainError JAR_TEST_INVALID (field pointers) for bad input, and JAR_TEST_TOO_FEW_POINTS when fewer
  * than 3 jars (at 2 or more doses) kept a residual above the detection limit at the fitted contact time.
@@ -511,7 +536,9 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
           choice === 'caller'
             ? 'chosen by the caller'
             : choice === 'plant-contact'
-              ? `the longest bench time with a residual line not beyond the plant's ${fmt(input.plantContactTimeMin!)} min of contact, the time the recommendation is for`
+              ? input.plantContactTimeMin! > times[times.length - 1]!
+                ? `the longest bench time with a residual line, shorter than the plant's ${fmt(input.plantContactTimeMin!)} min of contact: the demand may grow beyond it`
+                : `the longest bench time with a residual line not beyond the plant's ${fmt(input.plantContactTimeMin!)} min of contact`
               : input.plantContactTimeMin !== undefined
                 ? `the longest contact time with residual readings: no bench time within the plant's ${fmt(input.plantContactTimeMin)} min of contact gives a line`
                 : 'the longest contact time with residual readings'
@@ -643,6 +670,24 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
         message: `The plant's contact time (${fmt(input.plantContactTimeMin)} min) is shorter than the first bench sample (${fmt(times[0]!)} min); the recommendation at ${fmt(benchTime)} min may be low. Sample the jars earlier.`,
       });
     } else benchTime = within[within.length - 1]!;
+    const last = times[times.length - 1]!;
+    if (input.plantContactTimeMin > last) {
+      const growth = demandGrowth(jars, residualTimes, dl);
+      const grew =
+        growth === null
+          ? 'The bench readings do not show how the demand was still changing (that needs residuals at two contact times in jars that kept one).'
+          : growth.to > growth.from + 1e-9 * Math.max(1, growth.to)
+            ? `Between ${fmt(growth.fromMin)} and ${fmt(growth.toMin)} min the demand grew from ${fmt(growth.from, 3, scale)} to ${fmt(growth.to, 3, scale)} mg/L (+${fmt(growth.to - growth.from, 3, scale)} mg/L, ${growth.how}), so it was still rising when the bench stopped.`
+            : `Between ${fmt(growth.fromMin)} and ${fmt(growth.toMin)} min the demand went from ${fmt(growth.from, 3, scale)} to ${fmt(growth.to, 3, scale)} mg/L (${growth.how}): it had levelled off on the bench, but a slow reaction may still go on.`;
+      problems.push({
+        code: 'PLANT_CONTACT_LONGER_THAN_BENCH',
+        severity: 'warning',
+        message:
+          `The plant's contact time (${fmt(input.plantContactTimeMin)} min) is longer than the longest bench sample (${fmt(last)} min); the recommendation is for ${fmt(benchTime)} min of contact. ` +
+          `Demand may go on growing after ${fmt(last)} min, so the residual after the plant's ${fmt(input.plantContactTimeMin)} min may be lower than predicted. ${grew} ` +
+          `Sample the jars at ${fmt(input.plantContactTimeMin)} min too, or check the residual at the end of the plant's contact.`,
+      });
+    }
   }
   let atBench = lowest.find((l) => l.contactTimeMin === benchTime);
   const residualTarget = input.targets?.residualOxidantMgPerL ?? 0;

@@ -689,3 +689,37 @@ describe('evaluateJarTest: a recommendation below the ladder, and jar figures be
     expect(() => evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: 1, jarVolumeL: 1, jars })).not.toThrow();
   });
 });
+
+describe('evaluateJarTest: a plant contact longer than the longest bench time', () => {
+  // Stated model (invented): demand D(t) = 0.8, 1.0, 1.2 mg/L at 5, 15, 30 min (still rising),
+  // residual = max(0, dose − D(t)) for hypochlorite doses 1, 2, 3, 4 mg/L; the plant gives 120 min.
+  // By the model the residual lines at 15 and 30 min cross zero at 1.0 and 1.2 mg/L: +0.2 mg/L in 15 min.
+  const DEM: Record<number, number> = { 5: 0.8, 15: 1.0, 30: 1.2 };
+  const input = (plantContactTimeMin: number): EvaluateJarTestInput => ({
+    oxidant: 'sodium-hypochlorite',
+    basis: 'Cl2',
+    estimateMgPerL: 0.64,
+    jarVolumeL: 2,
+    targets: { residualOxidantMgPerL: 0.5 },
+    plantContactTimeMin,
+    jars: [1, 2, 3, 4].map((d) => ({ doseMgPerL: d, results: [5, 15, 30].map((t) => ({ contactTimeMin: t, residualOxidantMgPerL: Math.max(0, Number((d - DEM[t]!).toFixed(10))) })) })),
+  });
+
+  it('warns that the demand may go on growing, with how much it grew between 15 and 30 min', () => {
+    const ev = evaluateJarTest(input(120));
+    expect(ev.recommendedDose!.contactTimeMin).toBe(30);
+    const w = ev.problems.find((p) => p.code === 'PLANT_CONTACT_LONGER_THAN_BENCH')!;
+    expect(w.severity).toBe('warning');
+    expect(w.message).toContain('(120 min) is longer than the longest bench sample (30 min)');
+    expect(w.message).toContain('may be lower than predicted');
+    expect(w.message).toContain('Between 15 and 30 min the demand grew from 1 to 1.2 mg/L (+0.2 mg/L');
+    const note = ev.notes.find((n) => n.startsWith('Residual line fitted at 30 min'))!;
+    expect(note).toContain("shorter than the plant's 120 min of contact");
+    expect(note).not.toContain('the time the recommendation is for');
+  });
+
+  it.each([30, 20])('no such warning when the plant gives %s min (within the bench times)', (t) => {
+    const ev = evaluateJarTest(input(t));
+    expect(ev.problems.map((p) => p.code)).not.toContain('PLANT_CONTACT_LONGER_THAN_BENCH');
+  });
+});
