@@ -525,6 +525,38 @@ describe('POST /api/v1/jar-tests/checks', () => {
     if (severity === 'error') expect(r.json().ok).toBe(false);
   });
 
+  // Sodium permanganate: the stock is as KMnO4, the limits as NaMnO4 (tables/strength-limits.json: strongest grade
+  // 40 % w/w × 1.37 kg/L = 548 g/L NaMnO4, refused above 50 % w/w × 1.37 = 685 g/L). Molar masses (IUPAC 2021):
+  // NaMnO4 22.990 + 54.938 + 4 × 15.999 = 141.924, KMnO4 39.098 + 54.938 + 63.996 = 158.032; 141.924/158.032 = 0.89807.
+  //   560 as KMnO4 = 502.9 g/L NaMnO4 (below 548: nothing); 700 = 628.6 (above 548, below 685: the grade warning);
+  //   800 = 718.5 (above 685: the product limit). The plan refuses a stock above the 548/0.89807 = 610.2 g/L as KMnO4.
+  const NA_PER_K = 141.924 / 158.032;
+  it.each([
+    [560, null, null],
+    [700, 'STOCK_ABOVE_TRADE_GRADE', 'warning'],
+    [800, 'STOCK_ABOVE_PRODUCT_LIMIT', 'error'],
+  ] as const)('sodium permanganate stock %s g/L as KMnO4 is judged as NaMnO4 → %s', async (gPerL, code, severity) => {
+    const r = await post('/api/v1/jar-tests/checks', { ...base, oxidant: 'sodium-permanganate', stockStrength: { value: gPerL, unit: 'g/L' }, jars: [{ aliquotMl: 0.1 }, { aliquotMl: 0.2 }, { aliquotMl: 0.3 }] });
+    expect(r.statusCode).toBe(200);
+    const stockProblems = r.json().problems.filter((x: { code: string }) => x.code.startsWith('STOCK_ABOVE'));
+    if (code === null) {
+      expect(stockProblems).toEqual([]);
+      return;
+    }
+    expect(stockProblems.map((x: { code: string }) => x.code)).toEqual([code]);
+    expect(stockProblems[0].severity).toBe(severity);
+    expect(stockProblems[0].message).toContain(`${gPerL} g/L as KMnO4, is ${(gPerL * NA_PER_K).toPrecision(4)} g/L NaMnO4`);
+  });
+
+  it('the plan agrees: a sodium permanganate stock above 610.2 g/L as KMnO4 (548 g/L NaMnO4) is refused, 600 is not refused for strength', async () => {
+    const plan = (v: number) => post('/api/v1/jar-tests/plans', { oxidant: 'sodium-permanganate', sample: SAMPLE, jarVolume: { value: 2, unit: 'L' }, stockStrength: { value: v, unit: 'g/L' } });
+    const over = await plan(620);
+    expect(over.statusCode).toBe(400);
+    expect(over.json().errors[0].message).toContain(`${(548 / NA_PER_K).toFixed(1)} g/L`);
+    const under = await plan(600);
+    expect(JSON.stringify(under.json())).not.toContain('trade strength');
+  });
+
   it('a stock within every limit (hypochlorite 10 g/L, calcium hypochlorite 10 g/L) raises none of them', async () => {
     for (const oxidant of ['sodium-hypochlorite', 'calcium-hypochlorite']) {
       const r = await post('/api/v1/jar-tests/checks', { ...base, oxidant, stockStrength: { value: 10, unit: 'g/L' }, jars: goodJars });
