@@ -1007,7 +1007,8 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
         message:
           `The recommended ${fmt(recommendedDose.doseMgPerL, 3)} mg/L is below every jar tested (the lowest is jar ${lowestJar.jar}, ${fmt(lowestJar.doseMgPerL, 3)} mg/L): ` +
           `it is read off the residual line extrapolated below the ladder to the apparent demand ${fmt(demand, 3, scale)} mg/L, and no jar shows what the water does there ` +
-          '(with ammonia in the water chlorine follows a breakpoint curve, not a line). ' +
+          (basis === 'Cl2' ? '(with ammonia in the water chlorine follows a breakpoint curve, not a line)' : '(at low doses the demand need not follow the line: a fast demand may take all of the oxidant)') +
+          '. ' +
           `Repeat the test with doses from about ${fmt(demand / 2, 2)} to ${fmt(lowestJar.doseMgPerL, 3)} mg/L before using it.`,
       });
     }

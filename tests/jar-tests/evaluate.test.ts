@@ -675,6 +675,24 @@ describe('evaluateJarTest: a recommendation below the ladder, and jar figures be
     expect(wider.problems.map((p) => p.code)).not.toContain('RECOMMENDATION_BELOW_LADDER');
   });
 
+  // Breakpoint chlorination (White's Handbook, from memory): with ammonia, free chlorine appears only past the
+  // breakpoint (about 7.6 mg Cl2 per mg NH3-N), a curve chlorine-based oxidants follow and the others do not.
+  it.each([
+    ['sodium-hypochlorite', 'Cl2', true],
+    ['calcium-hypochlorite', 'Cl2', true],
+    ['potassium-permanganate', 'KMnO4', false],
+    ['ozone', 'O3', false],
+    ['hydrogen-peroxide', 'H2O2', false],
+    ['chlorine-dioxide', 'ClO2', false],
+  ] as const)('RECOMMENDATION_BELOW_LADDER for %s (as %s) names the breakpoint curve: %s', (oxidant, basis, breakpoint) => {
+    const jars = [3, 4, 5].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: Number((d - 1.2).toFixed(10)) }] }));
+    const e = evaluateJarTest({ oxidant, basis, estimateMgPerL: 0.64, jarVolumeL: 1, jars, plantContactTimeMin: 30 });
+    const w = e.problems.find((p) => p.code === 'RECOMMENDATION_BELOW_LADDER')!;
+    expect(w).toBeDefined();
+    expect(w.message.includes('breakpoint')).toBe(breakpoint);
+    expect(w.message.includes('ammonia')).toBe(breakpoint);
+  });
+
   it.each([
     ['a jar dose of 1e9 mg/L', { jars: [{ doseMgPerL: 1e9, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 1 }] }] }, '/jars/0/doseMgPerL'],
     ['a residual of 5000 mg/L', { jars: [{ doseMgPerL: 5, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 5000 }] }] }, '/jars/0/results/0/residualOxidantMgPerL'],
