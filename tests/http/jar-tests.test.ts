@@ -418,6 +418,33 @@ describe('POST /api/v1/jar-tests/plans', () => {
   });
 });
 
+describe('POST /api/v1/jar-tests/plans: a hypochlorite stock made up in one step', () => {
+  // 12.5 % w/v = 125 g/L available chlorine (1 % w/v = 10 g/L). The weakest stock made from at least 1.0 mL of
+  // trade solution (common practice) in the largest 1000 mL flask: 1.0 × 125 ÷ 1000 = 0.125 g/L; in 0.5 L jars each
+  // aliquot is D × 0.5 L ÷ 0.125 mg/mL = 4·D mL. The listed 0.1 g/L would need 0.8 mL of trade solution.
+  const body = { oxidant: 'sodium-hypochlorite', sample: { pH: 7.2, temperatureC: 12, iron: mgL(1.0) }, jarVolume: { value: 0.5, unit: 'L' }, product: { strength: { value: 12.5, unit: '% w/v' } } };
+
+  it('the default ladder gets 0.125 g/L from 1.0 mL of trade solution in 1000 mL, with no trade-volume warning', async () => {
+    const r = await post('/api/v1/jar-tests/plans', body);
+    expect(r.statusCode, r.body).toBe(200);
+    const b = r.json();
+    expect(b.stock.strength.value).toBeCloseTo(0.125, 12);
+    expect(b.stock.flaskVolume).toEqual({ value: 1000, unit: 'mL' });
+    expect(b.stock.preparation.tradeVolume.value).toBeCloseTo(1.0, 12);
+    for (const j of b.jars) expect(j.aliquotMl).toBeCloseTo(Math.round(4 * j.dose.value * 10) / 10, 9);
+    expect(b.warnings.map((w: { code: string }) => w.code)).not.toContain('TRADE_VOLUME_BELOW_MINIMUM');
+  });
+
+  it('a caller\'s 0.1 g/L (0.8 mL of trade): the 1 + 9 pre-dilution gives the same 0.1 g/L, and the warning says so plainly', async () => {
+    // 8 mL of 12.5 g/L into 1000 mL = 0.1 g/L, as 0.8 mL of 125 g/L: no "off by 0 %"
+    const r = await post('/api/v1/jar-tests/plans', { ...body, stockStrength: { value: 0.1, unit: 'g/L' } });
+    const w = r.json().warnings.find((x: { code: string }) => x.code === 'TRADE_VOLUME_BELOW_MINIMUM');
+    expect(w.message).toContain('pipette 8 mL of that into the 1000 mL flask, which gives 0.1 g/L');
+    expect(w.message).not.toMatch(/off by 0 %|plan again with stockStrength 0\.1 g\/L/);
+    expect(w.message).toContain('they hold for the two-step stock');
+  });
+});
+
 // ---------------------------------------------------------------------------------------------
 describe('POST /api/v1/jar-tests/checks', () => {
   const base = {
