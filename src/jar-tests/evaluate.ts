@@ -572,7 +572,12 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
     problems.push({
       code: 'FIT_SLOPE_NOT_POSITIVE',
       severity: 'error',
-      message: `The residual at ${fmt(fitTime)} min does not rise with dose (slope ${fmt(f.slope, 3, 1)}), so the line never crosses zero residual and gives no demand. Check the stock strength and the residual readings, or widen the ladder.`,
+      message:
+        `The residual at ${fmt(fitTime)} min does not rise with dose (slope ${fmt(f.slope, 3, 1)}), so the line gives no demand: ` +
+        (f.slope < 0 && f.intercept > 0
+          ? `it crosses zero residual at ${fmt(-f.intercept / f.slope, 3)} mg/L only because it falls, and a residual that falls as more oxidant is added has no demand meaning. `
+          : 'a line that falls or stays flat as more oxidant is added has no demand meaning. ') +
+        'Check the stock strength and the residual readings, or widen the ladder.',
     });
   } else {
     const inv = inversePrediction(f, 0);

@@ -954,3 +954,16 @@ describe('POST /api/v1/jar-tests/evaluations: figures no jar test can give are r
     expect(r.statusCode, r.body).toBe(201);
   });
 });
+
+describe('POST /api/v1/jar-tests/checks: pipette resolution', () => {
+  // 0.001 mL (1 µL) is the finest step of a bench micropipette (common practice); below it the aliquots print as 2.53917092 mL
+  const check = (pipetteResolutionMl: number) =>
+    post('/api/v1/jar-tests/checks', { oxidant: 'potassium-permanganate', jarVolume: { value: 1, unit: 'L' }, stockStrength: { value: 1, unit: 'g/L' }, pipetteResolutionMl, jars: [{ aliquotMl: 1 }, { aliquotMl: 2 }, { aliquotMl: 3 }] });
+  it('1e-9 mL is a 400 naming /pipetteResolutionMl; 0.001 mL is taken', async () => {
+    const bad = await check(1e-9);
+    expect(bad.statusCode).toBe(400);
+    const e = bad.json().errors.find((x: { pointer: string }) => x.pointer === '/pipetteResolutionMl');
+    expect(e.message).toContain('at least 0.001 mL');
+    expect((await check(0.001)).statusCode).toBe(200);
+  });
+});

@@ -741,3 +741,15 @@ describe('evaluateJarTest: a plant contact longer than the longest bench time', 
     expect(ev.problems.map((p) => p.code)).not.toContain('PLANT_CONTACT_LONGER_THAN_BENCH');
   });
 });
+
+describe('evaluateJarTest: a falling residual line', () => {
+  it('slope −0.44, intercept 1.9 (invented): the message gives the crossing, 1.9 ÷ 0.44 = 4.32 mg/L, and says a falling line has no demand meaning', () => {
+    // residual = 1.9 − 0.44 × dose exactly at doses 1, 2, 3 mg/L: 1.46, 1.02, 0.58 mg/L (by hand)
+    const jars = [1, 2, 3].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: Number((1.9 - 0.44 * d).toFixed(10)) }] }));
+    const e = evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: 0.64, jarVolumeL: 1, jars, plantContactTimeMin: 30 });
+    const p = e.problems.find((x) => x.code === 'FIT_SLOPE_NOT_POSITIVE')!;
+    expect(p.message).toContain('slope -0.44');
+    expect(p.message).toContain('crosses zero residual at 4.32 mg/L only because it falls');
+    expect(p.message).not.toContain('never crosses');
+  });
+});
