@@ -720,7 +720,7 @@ describe('H+ or OH- given as an activity on the couple route', () => {
 
   // pH = −log10 a(H+) (the definition; IUPAC), pH = pKw + log10 a(OH-) with pKw 13.995 at 25 °C (from the tables)
   it.each([
-    ['/api/v1/couples/potential', { from: 'HOCl', to: 'Cl-', pH: 7, activities: { 'H+': 1e-5 } }, '/activities/H+', /sets pH 5\.00 .*but pH 7 is given too: they differ by 2\.00 pH units/],
+    ['/api/v1/couples/potential', { from: 'HOCl', to: 'Cl-', pH: 7, activities: { 'H+': 1e-5 } }, '/activities/H+', /sets pH 5\.00 .*but pH 7 is given too: they differ by 2\.000 pH units/],
     ['/api/v1/couples/potential', { from: 'HOCl', to: 'Cl-', pH: 7, activities: { 'OH-': 1e-5 } }, '/activities/OH-', /sets pH (8\.99|9\.00) /],
     ['/api/v1/couples/potential', { from: 'HOCl', to: 'Cl-', pH: 7, activities: { 'H+': 0.93e-7 } }, '/activities/H+', /sets pH 7\.03 /],
     [
