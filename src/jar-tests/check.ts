@@ -23,6 +23,7 @@ import type { Solubility } from './product.js';
 export const CHECK_CODES = {
   MISSING_DOSE_AND_ALIQUOT: 'MISSING_DOSE_AND_ALIQUOT',
   DOSE_MISMATCH: 'DOSE_MISMATCH',
+  DOSE_OFF_PIPETTE_STEP: 'DOSE_OFF_PIPETTE_STEP',
   DOSE_UNREACHABLE: 'DOSE_UNREACHABLE',
   ALIQUOT_TOO_LARGE: 'ALIQUOT_TOO_LARGE',
   BELOW_PIPETTE_RESOLUTION: 'BELOW_PIPETTE_RESOLUTION',
@@ -224,21 +225,41 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
       });
     }
 
+    const dilution = Math.abs(nominal - recomputed);
+    const tolerance = dilution + roundingAllowance(recomputed) + Math.max(FIGURE_ROUNDING_RELATIVE * recomputed, FIGURE_ROUNDING_ABSOLUTE_MG_PER_L);
+    // a stock with which the dose takes at least the minimum aliquot (10 pipette steps), so rounding moves it by 5 % at most
+    const weaker = (d: number) => `${fmt(strengthForAliquot(d, V, minAliquot))} g/L gives ${fmt(d)} mg/L in at least ${fmt(minAliquot)} mL`;
     if (stated !== null && statedAliquot !== null && stated < 1000 * C) {
-      const dilution = Math.abs(nominal - recomputed);
-      const tolerance = dilution + roundingAllowance(recomputed) + Math.max(FIGURE_ROUNDING_RELATIVE * recomputed, FIGURE_ROUNDING_ABSOLUTE_MG_PER_L);
       const diff = stated - recomputed;
       if (Math.abs(diff) > tolerance) {
-        const needed = roundToResolution(aliquotForDose(stated, C, V, aliquot > maxAliquot), res);
+        const exactNeeded = aliquotForDose(stated, C, V, aliquotForDose(stated, C, V, false) > maxAliquot);
+        const needed = roundToResolution(exactNeeded, res);
+        const fix =
+          needed === aliquot || needed === 0
+            ? `${fmt(stated)} mg/L cannot be made at the ${fmt(res)} mL pipette step with the ${fmt(C)} g/L stock: it needs ${fmt(exactNeeded, 3)} mL, and the nearest step, ${fmt(needed)} mL, gives ${fmt(doseFromAliquot(needed, C, V), 3)} mg/L. Use a weaker stock: ${weaker(stated)}.`
+            : `For ${fmt(stated)} mg/L add ${fmt(needed)} mL.`;
         problems.push({
           code: CHECK_CODES.DOSE_MISMATCH,
           severity: 'error',
           jar: n,
           message:
             `Jar ${n}: ${fmt(aliquot)} mL of ${fmt(C)} g/L in ${fmt(V)} L gives ${fmt(recomputed, 3)} mg/L (a·C/(V + a/1000)), not the stated ${fmt(stated)} mg/L ` +
-            `(off by ${fmt(Math.abs(diff), 2)} mg/L, more than the ${fmt(tolerance, 2)} mg/L rounding explains). For ${fmt(stated)} mg/L add ${fmt(needed)} mL.`,
+            `(off by ${fmt(Math.abs(diff), 2)} mg/L, more than the ${fmt(tolerance, 2)} mg/L rounding explains). ${fix}`,
         });
       }
+    }
+    // A dose written without its aliquot gets the aliquot rounded to the pipette: that rounded volume is what
+    // is pipetted, so it is held to the same rule as a written one (5 % at most, common practice).
+    if (fromDose && stated !== null && stated > 0 && aliquot > 0 && stated < 1000 * C && Math.abs(stated - recomputed) > tolerance) {
+      const exact = aliquotForDose(stated, C, V, aliquotForDose(stated, C, V, false) > maxAliquot);
+      problems.push({
+        code: CHECK_CODES.DOSE_OFF_PIPETTE_STEP,
+        severity: 'error',
+        jar: n,
+        message:
+          `Jar ${n}: ${fmt(stated)} mg/L needs ${fmt(exact, 3)} mL of the ${fmt(C)} g/L stock, which the ${fmt(res)} mL pipette step makes ${fmt(aliquot)} mL: the jar gets ${fmt(recomputed, 3)} mg/L ` +
+          `(${recomputed > stated ? '+' : '−'}${fmt((Math.abs(recomputed - stated) / stated) * 100, 2)} %), more than the 5 % rounding may change a dose (common practice). Use a weaker stock: ${weaker(stated)}.`,
+      });
     }
 
     if (aliquot > maxAliquot) {
@@ -266,9 +287,10 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
   });
 
   // Plan-level and cross-jar problems, on the dose each jar really gets: the one its stated
-  // aliquot gives (a mismatch with the stated dose is reported per jar above), else the stated dose.
-  const effective = jars.map((j) => (j.aliquotMl !== null ? j.recomputedDoseMgPerL : (j.doseMgPerL ?? j.recomputedDoseMgPerL)));
-  const mismatched = jars.some((j) => j.problems.some((p) => p.code === CHECK_CODES.DOSE_MISMATCH));
+  // aliquot gives (a mismatch with the stated dose is reported per jar above), or the one its dose's aliquot
+  // gives once rounded to the pipette (that volume is what is pipetted), else the stated dose.
+  const effective = jars.map((j) => j.recomputedDoseMgPerL ?? j.doseMgPerL);
+  const mismatched = jars.some((j) => j.problems.some((p) => p.code === CHECK_CODES.DOSE_MISMATCH || p.code === CHECK_CODES.DOSE_OFF_PIPETTE_STEP));
   const dosesLabel = mismatched ? 'doses the aliquots give' : 'doses';
   effective.forEach((d, i) => {
     if (d === null) return;
@@ -278,7 +300,7 @@ export function checkJarPlan(input: CheckJarPlanInput): JarPlanCheck {
         code: CHECK_CODES.DUPLICATE_DOSE,
         severity: 'warning',
         jar: i + 1,
-        message: `Jar ${i + 1} repeats the dose of jar ${prev + 1} (${fmt(d, 3)} mg/L); a repeat adds no point to the demand curve unless it is meant as a replicate.`,
+        message: `Jar ${i + 1} repeats the dose of jar ${prev + 1} (${fmt(d, 3)} mg/L${jars[i]!.aliquotMl === null && jars[i]!.recomputedAliquotMl !== null && jars[i]!.recomputedAliquotMl === jars[prev]!.recomputedAliquotMl ? `: both pipette ${fmt(jars[i]!.recomputedAliquotMl!)} mL at the ${fmt(res)} mL step` : ''}); a repeat adds no point to the demand curve unless it is meant as a replicate.`,
       });
     }
   });

@@ -20,6 +20,7 @@ import {
   type JarProblem,
 } from './common.js';
 import { defaultResidualMethod } from './product.js';
+import { readingBound } from '../dosing/bounds.js';
 import { inversePrediction, olsFit, studentTQuantile, type LinearFit } from './stats.js';
 
 export interface JarResultInput {
@@ -182,6 +183,45 @@ export interface JarTestEvaluation {
   readonly notes: readonly string[];
 }
 
+/**
+ * Turbidity above this (NTU) is not a water sample: raw waters in flood read hundreds to a few
+ * thousand NTU, and ratio turbidimeters read to about 10 000 NTU (common practice).
+ */
+export const TURBIDITY_MAX_NTU = 10000;
+
+/**
+ * The problems an evaluation raises when it recommends no plant dose, one of them for each way the
+ * recommendation is withheld (readings in doubt, no jar meeting the targets, a control jar that
+ * contradicts the dosed jars, a residual not kept through the plant's contact, no line and no jar).
+ */
+export const NO_RECOMMENDATION_CODES: readonly string[] = ['CONTROL_JAR_CONTRADICTS_DOSED_JARS', 'RESIDUAL_NOT_KEPT', 'NO_JAR_MET_TARGETS', 'NO_RECOMMENDATION'];
+
+/** The problem that withheld the recommendation, or null when there is a recommendation (or none of them was raised). */
+export function whyNoRecommendation(ev: Pick<JarTestEvaluation, 'recommendedDose' | 'problems'>): JarProblem | null {
+  if (ev.recommendedDose !== null) return null;
+  for (const code of NO_RECOMMENDATION_CODES) {
+    const p = ev.problems.find((x) => x.code === code);
+    if (p !== undefined) return p;
+  }
+  return null;
+}
+
+/**
+ * A dissolved iron or manganese figure (a jar's reading or a target): not negative and at most the
+ * bound POST /api/v1/doses refuses a raw-water reading above (src/dosing/bounds.ts): a jar holds the
+ * raw water, so it cannot carry more than the raw water can.
+ */
+function metalReading(c: FieldCheck, value: unknown, pointer: string, field: 'iron' | 'manganese', what: string): void {
+  if (!c.nonNegative(value, pointer, `${what} (mg/L)`)) return;
+  const b = readingBound(field);
+  if ((value as number) > b.refuseAbove) {
+    c.add(
+      pointer,
+      `${what} must be at most ${b.refuseAbove} mg/L ${b.basis} (got ${fmt(value as number)} mg/L), the most POST /api/v1/doses takes as a raw-water ${b.name} reading: ${b.refuseWhy}. Check the value and its unit (µg/L entered as mg/L?)`,
+    );
+  }
+}
+
 function validate(input: EvaluateJarTestInput): void {
   const c = new FieldCheck();
   if (typeof input.oxidant !== 'string' || input.oxidant.length === 0) c.add('/oxidant', 'give the oxidant product id');
@@ -206,17 +246,26 @@ function validate(input: EvaluateJarTestInput): void {
         }
         for (const key of ['residualOxidantMgPerL', 'ironMgPerL', 'manganeseMgPerL', 'turbidityNTU'] as const) {
           if (r[key] === undefined) continue;
-          if (key === 'residualOxidantMgPerL') c.doseMgPerL(r[key], `${q}/${key}`, `the residual of jar ${i + 1} at ${r.contactTimeMin} min (mg/L)`);
-          else c.nonNegative(r[key], `${q}/${key}`, key);
+          const when = `of jar ${i + 1} at ${r.contactTimeMin} min`;
+          if (key === 'residualOxidantMgPerL') c.doseMgPerL(r[key], `${q}/${key}`, `the residual ${when} (mg/L)`);
+          else if (key === 'ironMgPerL') metalReading(c, r[key], `${q}/${key}`, 'iron', `the dissolved iron ${when}`);
+          else if (key === 'manganeseMgPerL') metalReading(c, r[key], `${q}/${key}`, 'manganese', `the dissolved manganese ${when}`);
+          else if (c.nonNegative(r[key], `${q}/${key}`, key) && r[key] > TURBIDITY_MAX_NTU) {
+            c.add(
+              `${q}/${key}`,
+              `the turbidity ${when} must be at most ${TURBIDITY_MAX_NTU} NTU (got ${fmt(r[key])} NTU): raw waters in flood read hundreds to a few thousand NTU, and above ${TURBIDITY_MAX_NTU} NTU the sample is a slurry, not a jar-test water (common practice); check the value and the meter's range`,
+            );
+          }
         }
       });
     });
   }
   const t = input.targets;
   if (t !== undefined) {
-    for (const key of ['ironMgPerL', 'manganeseMgPerL', 'residualOxidantMgPerL', 'residualOxidantMaxMgPerL'] as const) {
-      if (t[key] !== undefined) c.nonNegative(t[key], `/targets/${key}`, `the target ${key}`);
-    }
+    if (t.ironMgPerL !== undefined) metalReading(c, t.ironMgPerL, '/targets/ironMgPerL', 'iron', 'the iron target');
+    if (t.manganeseMgPerL !== undefined) metalReading(c, t.manganeseMgPerL, '/targets/manganeseMgPerL', 'manganese', 'the manganese target');
+    if (t.residualOxidantMgPerL !== undefined) c.doseMgPerL(t.residualOxidantMgPerL, '/targets/residualOxidantMgPerL', 'the target residual (mg/L)');
+    if (t.residualOxidantMaxMgPerL !== undefined) c.doseMgPerL(t.residualOxidantMaxMgPerL, '/targets/residualOxidantMaxMgPerL', 'the largest residual allowed (mg/L)');
     if (t.residualOxidantMgPerL !== undefined && t.residualOxidantMaxMgPerL !== undefined && t.residualOxidantMaxMgPerL < t.residualOxidantMgPerL) {
       c.add('/targets/residualOxidantMaxMgPerL', 'the largest residual allowed must not be below the residual required');
     }
@@ -296,6 +345,31 @@ function residualLineAt(jars: readonly EvaluatedJar[], time: number, dl: number)
   });
   if (pts.length < 3 || new Set(pts.map((p) => p.x)).size < 2) return null;
   return olsFit(pts.map((p) => p.x), pts.map((p) => p.y));
+}
+
+/**
+ * How the demand changed between the last two contact times with residual readings: the apparent
+ * demand of the residual line at each (−intercept/slope) when both give a rising line, else the mean
+ * oxidant consumed at each over the jars that kept a measurable residual at both (in such a jar the
+ * consumption is the demand). Null when neither can be had.
+ */
+function demandGrowth(jars: readonly EvaluatedJar[], residualTimes: readonly number[], dl: number): { fromMin: number; toMin: number; from: number; to: number; how: string } | null {
+  if (residualTimes.length < 2) return null;
+  const fromMin = residualTimes[residualTimes.length - 2]!;
+  const toMin = residualTimes[residualTimes.length - 1]!;
+  const a = residualLineAt(jars, fromMin, dl);
+  const b = residualLineAt(jars, toMin, dl);
+  if (a !== null && b !== null && a.slope > 0 && b.slope > 0) {
+    return { fromMin, toMin, from: -a.intercept / a.slope, to: -b.intercept / b.slope, how: 'where the residual line at each time crosses zero' };
+  }
+  const both = jars.flatMap((j) => {
+    const r1 = j.results.find((x) => x.contactTimeMin === fromMin);
+    const r2 = j.results.find((x) => x.contactTimeMin === toMin);
+    return r1?.residualOxidantMgPerL != null && r2?.residualOxidantMgPerL != null && r1.residualOxidantMgPerL > dl && r2.residualOxidantMgPerL > dl ? [{ jar: j.jar, c1: r1.consumedMgPerL!, c2: r2.consumedMgPerL! }] : [];
+  });
+  if (both.length === 0) return null;
+  const mean = (xs: number[]) => xs.reduce((s, x) => s + x, 0) / xs.length;
+  return { fromMin, toMin, from: mean(both.map((x) => x.c1)), to: mean(both.map((x) => x.c2)), how: `the mean consumed in jar${both.length === 1 ? '' : 's'} ${both.map((x) => x.jar).join(', ')}, which kept a residual at both times` };
 }
 
 /**
@@ -462,7 +536,9 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
           choice === 'caller'
             ? 'chosen by the caller'
             : choice === 'plant-contact'
-              ? `the longest bench time with a residual line not beyond the plant's ${fmt(input.plantContactTimeMin!)} min of contact, the time the recommendation is for`
+              ? input.plantContactTimeMin! > times[times.length - 1]!
+                ? `the longest bench time with a residual line, shorter than the plant's ${fmt(input.plantContactTimeMin!)} min of contact: the demand may grow beyond it`
+                : `the longest bench time with a residual line not beyond the plant's ${fmt(input.plantContactTimeMin!)} min of contact`
               : input.plantContactTimeMin !== undefined
                 ? `the longest contact time with residual readings: no bench time within the plant's ${fmt(input.plantContactTimeMin)} min of contact gives a line`
                 : 'the longest contact time with residual readings'
@@ -496,7 +572,12 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
     problems.push({
       code: 'FIT_SLOPE_NOT_POSITIVE',
       severity: 'error',
-      message: `The residual at ${fmt(fitTime)} min does not rise with dose (slope ${fmt(f.slope, 3, 1)}), so the line never crosses zero residual and gives no demand. Check the stock strength and the residual readings, or widen the ladder.`,
+      message:
+        `The residual at ${fmt(fitTime)} min does not rise with dose (slope ${fmt(f.slope, 3, 1)}), so the line gives no demand: ` +
+        (f.slope < 0 && f.intercept > 0
+          ? `it crosses zero residual at ${fmt(-f.intercept / f.slope, 3)} mg/L only because it falls, and a residual that falls as more oxidant is added has no demand meaning. `
+          : 'a line that falls or stays flat as more oxidant is added has no demand meaning. ') +
+        'Check the stock strength and the residual readings, or widen the ladder.',
     });
   } else {
     const inv = inversePrediction(f, 0);
@@ -594,6 +675,24 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
         message: `The plant's contact time (${fmt(input.plantContactTimeMin)} min) is shorter than the first bench sample (${fmt(times[0]!)} min); the recommendation at ${fmt(benchTime)} min may be low. Sample the jars earlier.`,
       });
     } else benchTime = within[within.length - 1]!;
+    const last = times[times.length - 1]!;
+    if (input.plantContactTimeMin > last) {
+      const growth = demandGrowth(jars, residualTimes, dl);
+      const grew =
+        growth === null
+          ? 'The bench readings do not show how the demand was still changing (that needs residuals at two contact times in jars that kept one).'
+          : growth.to > growth.from + 1e-9 * Math.max(1, growth.to)
+            ? `Between ${fmt(growth.fromMin)} and ${fmt(growth.toMin)} min the demand grew from ${fmt(growth.from, 3, scale)} to ${fmt(growth.to, 3, scale)} mg/L (+${fmt(growth.to - growth.from, 3, scale)} mg/L, ${growth.how}), so it was still rising when the bench stopped.`
+            : `Between ${fmt(growth.fromMin)} and ${fmt(growth.toMin)} min the demand went from ${fmt(growth.from, 3, scale)} to ${fmt(growth.to, 3, scale)} mg/L (${growth.how}): it had levelled off on the bench, but a slow reaction may still go on.`;
+      problems.push({
+        code: 'PLANT_CONTACT_LONGER_THAN_BENCH',
+        severity: 'warning',
+        message:
+          `The plant's contact time (${fmt(input.plantContactTimeMin)} min) is longer than the longest bench sample (${fmt(last)} min); the recommendation is for ${fmt(benchTime)} min of contact. ` +
+          `Demand may go on growing after ${fmt(last)} min, so the residual after the plant's ${fmt(input.plantContactTimeMin)} min may be lower than predicted. ${grew} ` +
+          `Sample the jars at ${fmt(input.plantContactTimeMin)} min too, or check the residual at the end of the plant's contact.`,
+      });
+    }
   }
   let atBench = lowest.find((l) => l.contactTimeMin === benchTime);
   const residualTarget = input.targets?.residualOxidantMgPerL ?? 0;
@@ -913,7 +1012,8 @@ export function evaluateJarTest(input: EvaluateJarTestInput): JarTestEvaluation 
         message:
           `The recommended ${fmt(recommendedDose.doseMgPerL, 3)} mg/L is below every jar tested (the lowest is jar ${lowestJar.jar}, ${fmt(lowestJar.doseMgPerL, 3)} mg/L): ` +
           `it is read off the residual line extrapolated below the ladder to the apparent demand ${fmt(demand, 3, scale)} mg/L, and no jar shows what the water does there ` +
-          '(with ammonia in the water chlorine follows a breakpoint curve, not a line). ' +
+          (basis === 'Cl2' ? '(with ammonia in the water chlorine follows a breakpoint curve, not a line)' : '(at low doses the demand need not follow the line: a fast demand may take all of the oxidant)') +
+          '. ' +
           `Repeat the test with doses from about ${fmt(demand / 2, 2)} to ${fmt(lowestJar.doseMgPerL, 3)} mg/L before using it.`,
       });
     }

@@ -3,7 +3,7 @@ export { planJarTest, aerationNotPlanned } from './plan.js';
 export type { PlanJarTestInput, JarTestPlan, PlannedJar, PlannedStock, StockPreparation, JarTestSchedule, ScheduleStep, Measurement } from './plan.js';
 export { checkJarPlan, CHECK_CODES } from './check.js';
 export type { CheckJarPlanInput, JarPlanCheck, CheckedJar, CheckCode } from './check.js';
-export { evaluateJarTest } from './evaluate.js';
+export { evaluateJarTest, whyNoRecommendation, NO_RECOMMENDATION_CODES, TURBIDITY_MAX_NTU } from './evaluate.js';
 export type {
   EvaluateJarTestInput,
   JarTestEvaluation,

@@ -301,7 +301,16 @@ function chooseStock(input: PlanJarTestInput, targets: readonly number[], minAli
   const inRange = (C: number) => aliquots(C).min >= minAliquotMl && aliquots(C).max <= maxAliquotMl;
   // Lowest strength that keeps every aliquot within [minAliquot, maxAliquot]: the largest aliquots, so the
   // finest relative resolution, while dilution stays negligible; one that can be made up in one step first.
-  const feasible = allowed.find((C) => inRange(C) && preparable(C)) ?? allowed.find(inRange);
+  // When no strength on the list does both, the weakest stock a trade solution makes up in one step (the
+  // minimum trade volume in the largest flask: 1.0 mL of 125 g/L in 1000 mL is 0.125 g/L) may.
+  const oneStep =
+    stockRoute.kind === 'trade-solution'
+      ? (() => {
+          const C = (D.minTradeVolumeMl.value * stockRoute.tradeStrengthGPerL) / largestFlask;
+          return (ceiling === null || C <= ceiling.gPerL) && 1000 * C > maxDose && inRange(C) && preparable(C) ? C : undefined;
+        })()
+      : undefined;
+  const feasible = allowed.find((C) => inRange(C) && preparable(C)) ?? oneStep ?? allowed.find(inRange);
   if (feasible !== undefined) return { strengthGPerL: feasible, choice: 'chosen', correctDilution: false };
   // No strength does both: keep the smallest aliquot measurable and correct the large ones for dilution.
   const measurable = allowed.filter((C) => aliquots(C).min >= minAliquotMl);
@@ -419,7 +428,9 @@ function planStock(
           `Only ${fmt(exactFor(flask))} mL of trade solution makes ${flask} mL of ${fmt(C)} g/L, below the ${minVol} mL a pipette measures well; ` +
           `measured as ${fmt(volFor(flask))} mL it gives ${fmt((volFor(flask) * T) / flask)} g/L, and half a pipette step is ${fmt((res / 2 / volFor(flask)) * 100, 2)} % of it. ` +
           `Better: dilute the trade solution 1 + 9 first (10 mL to 100 mL: ${fmt(T / 10)} g/L), then pipette ${fmt(predilutedVol)} mL of that into the ${flask} mL flask, which gives ${fmt(predilutedStrength)} g/L; ` +
-          `the aliquots below are computed for the single step (${fmt((volFor(flask) * T) / flask)} g/L), so for the two-step stock plan again with stockStrength ${fmt(predilutedStrength)} g/L, or the jars will be off by ${fmt(Math.abs(predilutedStrength / ((volFor(flask) * T) / flask) - 1) * 100, 2)} %.`,
+          (Math.abs(predilutedStrength / ((volFor(flask) * T) / flask) - 1) < 1e-9
+            ? `that is the strength the aliquots below are computed for, so they hold for the two-step stock.`
+            : `the aliquots below are computed for the single step (${fmt((volFor(flask) * T) / flask)} g/L), so for the two-step stock plan again with stockStrength ${fmt(predilutedStrength)} g/L, or the jars will be off by ${fmt(Math.abs(predilutedStrength / ((volFor(flask) * T) / flask) - 1) * 100, 2)} %.`),
       });
     }
     assumptions.push(

@@ -4,7 +4,7 @@
  * (3 significant figures, half to even, `roundSig`); nothing is computed but the rounding.
  */
 import { Dec, roundSig } from '../core/decimal.js';
-import { residualPlotData, type JarTestEvaluation, type JarTestPlan, type ResidualPlotData } from '../jar-tests/index.js';
+import { residualPlotData, whyNoRecommendation, type JarTestEvaluation, type JarTestPlan, type ResidualPlotData } from '../jar-tests/index.js';
 import { inWords, isNegligible } from './wording.js';
 import {
   autoRich,
@@ -266,6 +266,8 @@ const PROBLEMS_SECTION = 4;
 /** Why no dose is recommended, in words, by the evaluation's problem code. */
 const WHY_NONE: Readonly<Record<string, string>> = {
   NO_JAR_MET_TARGETS: 'no jar met every target',
+  CONTROL_JAR_CONTRADICTS_DOSED_JARS: 'the control jar (no oxidant) met every target while dosed jars did not, so a reading or a jar is wrong',
+  RESIDUAL_NOT_KEPT: "no jar that met the targets still held the target residual after the plant's contact",
   NO_RECOMMENDATION: 'no dose can be recommended from these results',
 };
 
@@ -291,7 +293,7 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
   const ap = ev.apparentDemand;
   const rec = ev.recommendedDose;
   // Why there is none: the evaluation's own error (no jar met the targets, or readings in doubt)
-  const why = ev.problems.find((p) => p.code === 'NO_JAR_MET_TARGETS') ?? ev.problems.find((p) => p.code === 'NO_RECOMMENDATION');
+  const why = whyNoRecommendation(ev);
   // the size of the mg/L figures of the test: a standard error far below it is rounding noise
   const doseScale = Math.max(ev.estimateMgPerL, ...ev.jars.map((j) => Math.abs(j.doseMgPerL)), ...ev.jars.flatMap((j) => j.results.map((r) => Math.abs(r.residualOxidantMgPerL ?? 0))));
   const apExact = ap !== null && isNegligible(ap.stdError, Math.max(Math.abs(ap.doseMgPerL), doseScale));
@@ -300,7 +302,7 @@ export function jarTestEvaluationDocument(ev: JarTestEvaluation, ctx: JarSheetCo
       label: 'Recommended plant dose',
       value: rec
         ? [{ text: `${n3(rec.doseMgPerL)} mg/L`, style: 'bold' }, t(' as '), f(b)]
-        : [{ text: 'none', style: 'bold' }, t(`: ${why ? (WHY_NONE[why.code] ?? 'no dose can be recommended from these results') : 'no usable fit or jar meeting the targets'}; see section ${PROBLEMS_SECTION}, ${PROBLEMS_HEADING}`)],
+        : [{ text: 'none', style: 'bold' }, t(`: ${why ? (WHY_NONE[why.code] ?? 'no dose can be recommended from these results') : 'no dose can be recommended from these results'}; see section ${PROBLEMS_SECTION}, ${PROBLEMS_HEADING}`)],
       ...(rec ? { source: autoRich(rec.reason) } : why ? { source: autoRich(why.message) } : {}),
     },
     {

@@ -418,6 +418,33 @@ describe('POST /api/v1/jar-tests/plans', () => {
   });
 });
 
+describe('POST /api/v1/jar-tests/plans: a hypochlorite stock made up in one step', () => {
+  // 12.5 % w/v = 125 g/L available chlorine (1 % w/v = 10 g/L). The weakest stock made from at least 1.0 mL of
+  // trade solution (common practice) in the largest 1000 mL flask: 1.0 × 125 ÷ 1000 = 0.125 g/L; in 0.5 L jars each
+  // aliquot is D × 0.5 L ÷ 0.125 mg/mL = 4·D mL. The listed 0.1 g/L would need 0.8 mL of trade solution.
+  const body = { oxidant: 'sodium-hypochlorite', sample: { pH: 7.2, temperatureC: 12, iron: mgL(1.0) }, jarVolume: { value: 0.5, unit: 'L' }, product: { strength: { value: 12.5, unit: '% w/v' } } };
+
+  it('the default ladder gets 0.125 g/L from 1.0 mL of trade solution in 1000 mL, with no trade-volume warning', async () => {
+    const r = await post('/api/v1/jar-tests/plans', body);
+    expect(r.statusCode, r.body).toBe(200);
+    const b = r.json();
+    expect(b.stock.strength.value).toBeCloseTo(0.125, 12);
+    expect(b.stock.flaskVolume).toEqual({ value: 1000, unit: 'mL' });
+    expect(b.stock.preparation.tradeVolume.value).toBeCloseTo(1.0, 12);
+    for (const j of b.jars) expect(j.aliquotMl).toBeCloseTo(Math.round(4 * j.dose.value * 10) / 10, 9);
+    expect(b.warnings.map((w: { code: string }) => w.code)).not.toContain('TRADE_VOLUME_BELOW_MINIMUM');
+  });
+
+  it('a caller\'s 0.1 g/L (0.8 mL of trade): the 1 + 9 pre-dilution gives the same 0.1 g/L, and the warning says so plainly', async () => {
+    // 8 mL of 12.5 g/L into 1000 mL = 0.1 g/L, as 0.8 mL of 125 g/L: no "off by 0 %"
+    const r = await post('/api/v1/jar-tests/plans', { ...body, stockStrength: { value: 0.1, unit: 'g/L' } });
+    const w = r.json().warnings.find((x: { code: string }) => x.code === 'TRADE_VOLUME_BELOW_MINIMUM');
+    expect(w.message).toContain('pipette 8 mL of that into the 1000 mL flask, which gives 0.1 g/L');
+    expect(w.message).not.toMatch(/off by 0 %|plan again with stockStrength 0\.1 g\/L/);
+    expect(w.message).toContain('they hold for the two-step stock');
+  });
+});
+
 // ---------------------------------------------------------------------------------------------
 describe('POST /api/v1/jar-tests/checks', () => {
   const base = {
@@ -523,6 +550,38 @@ describe('POST /api/v1/jar-tests/checks', () => {
     expect(p, JSON.stringify(r.json().problems)).toBeDefined();
     expect(p.severity).toBe(severity);
     if (severity === 'error') expect(r.json().ok).toBe(false);
+  });
+
+  // Sodium permanganate: the stock is as KMnO4, the limits as NaMnO4 (tables/strength-limits.json: strongest grade
+  // 40 % w/w × 1.37 kg/L = 548 g/L NaMnO4, refused above 50 % w/w × 1.37 = 685 g/L). Molar masses (IUPAC 2021):
+  // NaMnO4 22.990 + 54.938 + 4 × 15.999 = 141.924, KMnO4 39.098 + 54.938 + 63.996 = 158.032; 141.924/158.032 = 0.89807.
+  //   560 as KMnO4 = 502.9 g/L NaMnO4 (below 548: nothing); 700 = 628.6 (above 548, below 685: the grade warning);
+  //   800 = 718.5 (above 685: the product limit). The plan refuses a stock above the 548/0.89807 = 610.2 g/L as KMnO4.
+  const NA_PER_K = 141.924 / 158.032;
+  it.each([
+    [560, null, null],
+    [700, 'STOCK_ABOVE_TRADE_GRADE', 'warning'],
+    [800, 'STOCK_ABOVE_PRODUCT_LIMIT', 'error'],
+  ] as const)('sodium permanganate stock %s g/L as KMnO4 is judged as NaMnO4 → %s', async (gPerL, code, severity) => {
+    const r = await post('/api/v1/jar-tests/checks', { ...base, oxidant: 'sodium-permanganate', stockStrength: { value: gPerL, unit: 'g/L' }, jars: [{ aliquotMl: 0.1 }, { aliquotMl: 0.2 }, { aliquotMl: 0.3 }] });
+    expect(r.statusCode).toBe(200);
+    const stockProblems = r.json().problems.filter((x: { code: string }) => x.code.startsWith('STOCK_ABOVE'));
+    if (code === null) {
+      expect(stockProblems).toEqual([]);
+      return;
+    }
+    expect(stockProblems.map((x: { code: string }) => x.code)).toEqual([code]);
+    expect(stockProblems[0].severity).toBe(severity);
+    expect(stockProblems[0].message).toContain(`${gPerL} g/L as KMnO4, is ${(gPerL * NA_PER_K).toPrecision(4)} g/L NaMnO4`);
+  });
+
+  it('the plan agrees: a sodium permanganate stock above 610.2 g/L as KMnO4 (548 g/L NaMnO4) is refused, 600 is not refused for strength', async () => {
+    const plan = (v: number) => post('/api/v1/jar-tests/plans', { oxidant: 'sodium-permanganate', sample: SAMPLE, jarVolume: { value: 2, unit: 'L' }, stockStrength: { value: v, unit: 'g/L' } });
+    const over = await plan(620);
+    expect(over.statusCode).toBe(400);
+    expect(over.json().errors[0].message).toContain(`${(548 / NA_PER_K).toFixed(1)} g/L`);
+    const under = await plan(600);
+    expect(JSON.stringify(under.json())).not.toContain('trade strength');
   });
 
   it('a stock within every limit (hypochlorite 10 g/L, calcium hypochlorite 10 g/L) raises none of them', async () => {
@@ -854,5 +913,57 @@ describe('POST /api/v1/jar-tests/evaluations: corrections say why', () => {
     const lone = await post('/api/v1/jar-tests/evaluations', { ...body, correctionReason: reason }, asAdmin);
     expect(lone.statusCode).toBe(400);
     expect(lone.json().errors[0].pointer).toBe('/correctionReason');
+  });
+});
+
+// ---------------------------------------------------------------------------------------------
+describe('POST /api/v1/jar-tests/evaluations: figures no jar test can give are refused, naming the field', () => {
+  // Jars of hypochlorite at 1, 2, 3, 4 mg/L against a 0.8 mg/L demand (residual = dose − 0.8 at 30 min).
+  const lin = (extra: (i: number) => Record<string, unknown> = () => ({})) =>
+    [1, 2, 3, 4].map((d, i) => ({ dose: mgL(d), results: [{ contactTimeMin: 30, residualOxidant: mgL(Math.max(0, d - 0.8)), ...extra(i) }] }));
+  const base = { oxidant: 'sodium-hypochlorite', sample: { pH: 7.2, temperatureC: 12, iron: mgL(1.0) }, jarVolume: { value: 2, unit: 'L' } };
+
+  it.each([
+    // 1000 mg/L: the bound src/dosing/bounds.ts puts on a dose request's targetResidual (common practice)
+    ['a target residual of 2000 mg/L (above 1000)', { jars: lin(), targets: { residualOxidant: mgL(2000) } }, '/targets/residualOxidant/value', '1000 mg/L'],
+    ['a largest residual of 2000 mg/L (above 1000)', { jars: lin(), targets: { residualOxidantMax: mgL(2000) } }, '/targets/residualOxidantMax/value', '1000 mg/L'],
+    // 100 mg/L Fe and 50 mg/L Mn: the dose route's refusal bounds on raw-water readings (src/dosing/bounds.ts, common practice)
+    ['an iron target of 150 mg/L', { jars: lin(), targets: { iron: mgL(150) } }, '/targets/iron/value', '100 mg/L'],
+    ['a manganese target of 60 mg/L', { jars: lin(), targets: { manganese: mgL(60) } }, '/targets/manganese/value', '50 mg/L'],
+    ['a jar reading 1e6 mg/L of iron', { jars: lin((i) => (i === 1 ? { iron: mgL(1e6) } : {})) }, '/jars/1/results/0/iron/value', '100 mg/L'],
+    ['a jar reading 51 000 µg/L of manganese (51 mg/L)', { jars: lin((i) => (i === 2 ? { manganese: { value: 51000, unit: 'µg/L' } } : {})) }, '/jars/2/results/0/manganese/value', '50 mg/L'],
+    // 10 000 NTU: above it the sample is a slurry (common practice)
+    ['a jar reading 1e9 NTU', { jars: lin((i) => (i === 0 ? { turbidityNTU: 1e9 } : {})) }, '/jars/0/results/0/turbidityNTU', '10000 NTU'],
+  ])('%s → 400 at %s', async (_n, over, pointer, bound) => {
+    const r = await post('/api/v1/jar-tests/evaluations', { ...base, ...over }, asAdmin);
+    expect(r.statusCode, r.body).toBe(400);
+    expect(r.headers['content-type']).toContain('application/problem+json');
+    const p = r.json();
+    const f = p.errors.find((x: { pointer: string }) => x.pointer === pointer);
+    expect(f, JSON.stringify(p.errors)).toBeDefined();
+    expect(f.message).toContain(bound);
+    expect(f.message).not.toMatch(/MgPerL/);
+  });
+
+  it.each([
+    ['iron 100 mg/L, at the bound', { jars: lin((i) => (i === 0 ? { iron: mgL(100) } : {})) }],
+    ['turbidity 10 000 NTU, at the bound', { jars: lin((i) => (i === 0 ? { turbidityNTU: 10000 } : {})) }],
+    ['a target residual of 1000 mg/L, at the bound', { jars: lin(), targets: { residualOxidant: mgL(1000) } }],
+  ])('%s is taken (201)', async (_n, over) => {
+    const r = await post('/api/v1/jar-tests/evaluations', { ...base, ...over }, asAdmin);
+    expect(r.statusCode, r.body).toBe(201);
+  });
+});
+
+describe('POST /api/v1/jar-tests/checks: pipette resolution', () => {
+  // 0.001 mL (1 µL) is the finest step of a bench micropipette (common practice); below it the aliquots print as 2.53917092 mL
+  const check = (pipetteResolutionMl: number) =>
+    post('/api/v1/jar-tests/checks', { oxidant: 'potassium-permanganate', jarVolume: { value: 1, unit: 'L' }, stockStrength: { value: 1, unit: 'g/L' }, pipetteResolutionMl, jars: [{ aliquotMl: 1 }, { aliquotMl: 2 }, { aliquotMl: 3 }] });
+  it('1e-9 mL is a 400 naming /pipetteResolutionMl; 0.001 mL is taken', async () => {
+    const bad = await check(1e-9);
+    expect(bad.statusCode).toBe(400);
+    const e = bad.json().errors.find((x: { pointer: string }) => x.pointer === '/pipetteResolutionMl');
+    expect(e.message).toContain('at least 0.001 mL');
+    expect((await check(0.001)).statusCode).toBe(200);
   });
 });

@@ -257,3 +257,57 @@ describe('checkJarPlan: a control jar (dose 0) is a blank, not a bracket', () =>
     expect(r.problems.find((p) => p.code === CHECK_CODES.CONTROL_JAR)!.severity).toBe('info');
   });
 });
+
+describe('checkJarPlan: doses written without aliquots are judged on the aliquot the pipette really delivers', () => {
+  // By hand: 1 g/L stock (1 mg/mL), 1 L jars, 0.5 mL pipette step. Exact aliquot = D × 1 L ÷ 1 mg/mL = D mL;
+  // rounded half to even at 0.5 mL steps: 0.3 → 0.5, 0.8 → 1.0, 1.2 → 1.0, 1.6 → 1.5 mL;
+  // doses a·C/(V + a/1000): 0.5/1.0005 = 0.49975, 1/1.001 = 0.99900, 1.5/1.0015 = 1.49775 mg/L.
+  // Jar 1 gets +66.6 %, far above the 5 % a rounding may move a dose (ten-step minimum aliquot, common practice);
+  // jars 2 and 3 both pipette 1.0 mL, so they are the same jar.
+  const input: CheckJarPlanInput = {
+    oxidant: 'potassium-permanganate',
+    jarVolumeL: 1,
+    stockStrengthGPerL: 1,
+    pipetteResolutionMl: 0.5,
+    contactTimesMin: [5, 15, 30],
+    jars: [0.3, 0.8, 1.2, 1.6].map((d) => ({ doseMgPerL: d })),
+  };
+
+  it('recomputed doses, DOSE_OFF_PIPETTE_STEP for jar 1 (+67 %) and DUPLICATE_DOSE for jar 3', () => {
+    const r = checkJarPlan(input);
+    expect(r.ok).toBe(false);
+    expect(r.jars.map((j) => j.recomputedAliquotMl)).toEqual([0.5, 1, 1, 1.5]);
+    [0.5 / 1.0005, 1 / 1.001, 1 / 1.001, 1.5 / 1.0015].forEach((d, i) => expect(r.jars[i]!.recomputedDoseMgPerL).toBeCloseTo(d, 12));
+    const off = r.jars[0]!.problems.find((p) => p.code === CHECK_CODES.DOSE_OFF_PIPETTE_STEP)!;
+    expect(off.severity).toBe('error');
+    expect(off.message).toContain('+67 %');
+    // weaker stock for at least 5 mL (10 steps of 0.5 mL): 0.3 mg/L × 1 L ÷ 5 mL = 0.06 g/L
+    expect(off.message).toContain('0.06 g/L');
+    const dup = r.jars[2]!.problems.find((p) => p.code === CHECK_CODES.DUPLICATE_DOSE)!;
+    expect(dup.message).toContain('repeats the dose of jar 2');
+    expect(dup.message).toContain('both pipette 1 mL');
+    expect(r.jars[1]!.problems.map((p) => p.code)).not.toContain(CHECK_CODES.DUPLICATE_DOSE);
+  });
+
+  it('the same doses with a 0.01 mL pipette are within rounding: no dose problem, no duplicate', () => {
+    const r = checkJarPlan({ ...input, pipetteResolutionMl: 0.01, minAliquotMl: 0.1 });
+    const codes = allCodes(r);
+    expect(codes).not.toContain(CHECK_CODES.DOSE_OFF_PIPETTE_STEP);
+    expect(codes).not.toContain(CHECK_CODES.DUPLICATE_DOSE);
+  });
+
+  it('DOSE_MISMATCH whose exact aliquot rounds back to the written one suggests a weaker stock, not the same aliquot', () => {
+    // By hand: 10 g/L in 0.5 L; 1.5 mg/L needs 1.5 × 0.5 ÷ 10 = 0.075 mL, which rounds to 0.1 mL (the one written),
+    // and 0.1 mL gives 0.1 × 10 ÷ 0.5001 = 1.9996 mg/L. A stock for 1 mL: 1.5 × 0.5 ÷ 1 = 0.75 g/L.
+    const r = checkJarPlan({ oxidant: 'potassium-permanganate', jarVolumeL: 0.5, stockStrengthGPerL: 10, contactTimesMin: [30], jars: [{ doseMgPerL: 1.5, aliquotMl: 0.1 }, { doseMgPerL: 4, aliquotMl: 0.2 }, { doseMgPerL: 6, aliquotMl: 0.3 }] });
+    const m = r.jars[0]!.problems.find((p) => p.code === CHECK_CODES.DOSE_MISMATCH)!;
+    expect(m.message).not.toContain('add 0.1 mL');
+    expect(m.message).toContain('cannot be made at the 0.1 mL pipette step');
+    expect(m.message).toContain('0.075 mL');
+    expect(m.message).toContain('0.75 g/L');
+    // a mismatch the pipette can fix still names the aliquot: 2 mg/L written beside 0.3 mL (about 6 mg/L)
+    const fixable = checkJarPlan({ oxidant: 'potassium-permanganate', jarVolumeL: 0.5, stockStrengthGPerL: 10, contactTimesMin: [30], jars: [{ doseMgPerL: 2, aliquotMl: 0.3 }, { doseMgPerL: 4, aliquotMl: 0.2 }, { doseMgPerL: 6, aliquotMl: 0.3 }] });
+    // 2 mg/L needs 2 × 0.5 ÷ 10 = 0.1 mL
+    expect(fixable.jars[0]!.problems.find((p) => p.code === CHECK_CODES.DOSE_MISMATCH)!.message).toContain('For 2 mg/L add 0.1 mL');
+  });
+});

@@ -64,6 +64,13 @@ describe('evaluateJarTest: bad input and too few points (edge cases first)', () 
     ['negative manganese', { jars: [{ doseMgPerL: 1, results: [{ contactTimeMin: 5, manganeseMgPerL: -0.1 }] }] }, '/jars/0/results/0/manganeseMgPerL'],
     ['margin of 10 (not a fraction)', { margin: { kind: 'relative', fraction: 10 } }, '/margin/fraction'],
     ['negative target', { targets: { ironMgPerL: -0.3 } }, '/targets/ironMgPerL'],
+    // 1000 mg/L: the dose route's bound on a target residual; 100 mg/L Fe, 50 mg/L Mn: its refusal bounds on
+    // raw-water readings (src/dosing/bounds.ts, common practice); 10 000 NTU: a slurry, not a sample (common practice)
+    ['target residual 2000 mg/L', { targets: { residualOxidantMgPerL: 2000 } }, '/targets/residualOxidantMgPerL'],
+    ['iron target 101 mg/L', { targets: { ironMgPerL: 101 } }, '/targets/ironMgPerL'],
+    ['iron reading 1e6 mg/L', { jars: [{ doseMgPerL: 1, results: [{ contactTimeMin: 5, ironMgPerL: 1e6 }] }] }, '/jars/0/results/0/ironMgPerL'],
+    ['manganese reading 50.1 mg/L', { jars: [{ doseMgPerL: 1, results: [{ contactTimeMin: 5, manganeseMgPerL: 50.1 }] }] }, '/jars/0/results/0/manganeseMgPerL'],
+    ['turbidity 1e9 NTU', { jars: [{ doseMgPerL: 1, results: [{ contactTimeMin: 5, turbidityNTU: 1e9 }] }] }, '/jars/0/results/0/turbidityNTU'],
     ['zero jar volume', { jarVolumeL: 0 }, '/jarVolumeL'],
     ['a 1 mL jar (1 L written in mL), below the 0.25 L bench minimum', { jarVolumeL: 0.001 }, '/jarVolumeL'],
   ] as const)('%s → JAR_TEST_INVALID at %s', (_n, over, pointer) => {
@@ -668,6 +675,24 @@ describe('evaluateJarTest: a recommendation below the ladder, and jar figures be
     expect(wider.problems.map((p) => p.code)).not.toContain('RECOMMENDATION_BELOW_LADDER');
   });
 
+  // Breakpoint chlorination (White's Handbook, from memory): with ammonia, free chlorine appears only past the
+  // breakpoint (about 7.6 mg Cl2 per mg NH3-N), a curve chlorine-based oxidants follow and the others do not.
+  it.each([
+    ['sodium-hypochlorite', 'Cl2', true],
+    ['calcium-hypochlorite', 'Cl2', true],
+    ['potassium-permanganate', 'KMnO4', false],
+    ['ozone', 'O3', false],
+    ['hydrogen-peroxide', 'H2O2', false],
+    ['chlorine-dioxide', 'ClO2', false],
+  ] as const)('RECOMMENDATION_BELOW_LADDER for %s (as %s) names the breakpoint curve: %s', (oxidant, basis, breakpoint) => {
+    const jars = [3, 4, 5].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: Number((d - 1.2).toFixed(10)) }] }));
+    const e = evaluateJarTest({ oxidant, basis, estimateMgPerL: 0.64, jarVolumeL: 1, jars, plantContactTimeMin: 30 });
+    const w = e.problems.find((p) => p.code === 'RECOMMENDATION_BELOW_LADDER')!;
+    expect(w).toBeDefined();
+    expect(w.message.includes('breakpoint')).toBe(breakpoint);
+    expect(w.message.includes('ammonia')).toBe(breakpoint);
+  });
+
   it.each([
     ['a jar dose of 1e9 mg/L', { jars: [{ doseMgPerL: 1e9, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 1 }] }] }, '/jars/0/doseMgPerL'],
     ['a residual of 5000 mg/L', { jars: [{ doseMgPerL: 5, results: [{ contactTimeMin: 30, residualOxidantMgPerL: 5000 }] }] }, '/jars/0/results/0/residualOxidantMgPerL'],
@@ -680,5 +705,51 @@ describe('evaluateJarTest: a recommendation below the ladder, and jar figures be
   it('1000 mg/L itself is taken (the bound is inclusive)', () => {
     const jars = [500, 750, 1000].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: d - 100 }] }));
     expect(() => evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: 1, jarVolumeL: 1, jars })).not.toThrow();
+  });
+});
+
+describe('evaluateJarTest: a plant contact longer than the longest bench time', () => {
+  // Stated model (invented): demand D(t) = 0.8, 1.0, 1.2 mg/L at 5, 15, 30 min (still rising),
+  // residual = max(0, dose − D(t)) for hypochlorite doses 1, 2, 3, 4 mg/L; the plant gives 120 min.
+  // By the model the residual lines at 15 and 30 min cross zero at 1.0 and 1.2 mg/L: +0.2 mg/L in 15 min.
+  const DEM: Record<number, number> = { 5: 0.8, 15: 1.0, 30: 1.2 };
+  const input = (plantContactTimeMin: number): EvaluateJarTestInput => ({
+    oxidant: 'sodium-hypochlorite',
+    basis: 'Cl2',
+    estimateMgPerL: 0.64,
+    jarVolumeL: 2,
+    targets: { residualOxidantMgPerL: 0.5 },
+    plantContactTimeMin,
+    jars: [1, 2, 3, 4].map((d) => ({ doseMgPerL: d, results: [5, 15, 30].map((t) => ({ contactTimeMin: t, residualOxidantMgPerL: Math.max(0, Number((d - DEM[t]!).toFixed(10))) })) })),
+  });
+
+  it('warns that the demand may go on growing, with how much it grew between 15 and 30 min', () => {
+    const ev = evaluateJarTest(input(120));
+    expect(ev.recommendedDose!.contactTimeMin).toBe(30);
+    const w = ev.problems.find((p) => p.code === 'PLANT_CONTACT_LONGER_THAN_BENCH')!;
+    expect(w.severity).toBe('warning');
+    expect(w.message).toContain('(120 min) is longer than the longest bench sample (30 min)');
+    expect(w.message).toContain('may be lower than predicted');
+    expect(w.message).toContain('Between 15 and 30 min the demand grew from 1 to 1.2 mg/L (+0.2 mg/L');
+    const note = ev.notes.find((n) => n.startsWith('Residual line fitted at 30 min'))!;
+    expect(note).toContain("shorter than the plant's 120 min of contact");
+    expect(note).not.toContain('the time the recommendation is for');
+  });
+
+  it.each([30, 20])('no such warning when the plant gives %s min (within the bench times)', (t) => {
+    const ev = evaluateJarTest(input(t));
+    expect(ev.problems.map((p) => p.code)).not.toContain('PLANT_CONTACT_LONGER_THAN_BENCH');
+  });
+});
+
+describe('evaluateJarTest: a falling residual line', () => {
+  it('slope −0.44, intercept 1.9 (invented): the message gives the crossing, 1.9 ÷ 0.44 = 4.32 mg/L, and says a falling line has no demand meaning', () => {
+    // residual = 1.9 − 0.44 × dose exactly at doses 1, 2, 3 mg/L: 1.46, 1.02, 0.58 mg/L (by hand)
+    const jars = [1, 2, 3].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: Number((1.9 - 0.44 * d).toFixed(10)) }] }));
+    const e = evaluateJarTest({ oxidant: 'sodium-hypochlorite', basis: 'Cl2', estimateMgPerL: 0.64, jarVolumeL: 1, jars, plantContactTimeMin: 30 });
+    const p = e.problems.find((x) => x.code === 'FIT_SLOPE_NOT_POSITIVE')!;
+    expect(p.message).toContain('slope -0.44');
+    expect(p.message).toContain('crosses zero residual at 4.32 mg/L only because it falls');
+    expect(p.message).not.toContain('never crosses');
   });
 });

@@ -113,6 +113,24 @@ describe('jar-test evaluation sheet', () => {
     expect(text).toContain(`(SE ${ev.apparentDemand!.stdError.toPrecision(3)}; 95 % interval`);
   });
 
+  it('"none" names the problem that withheld the dose: a control jar that contradicts the dosed jars', async () => {
+    // Invented: the control jar (0 mg/L) reads Mn 0.02 mg/L, every dosed jar Mn 0.10 mg/L, against the 0.05 mg/L
+    // target (40 CFR 143.3). Oxidant does not raise dissolved manganese, so the two cannot both be right (common practice).
+    const ev = evaluateJarTest({
+      oxidant: 'potassium-permanganate',
+      basis: 'KMnO4',
+      estimateMgPerL: 1.0,
+      jarVolumeL: 2,
+      targets: { ironMgPerL: 0.3, manganeseMgPerL: 0.05 },
+      jars: [0, ...DOSES].map((d) => ({ doseMgPerL: d, results: [{ contactTimeMin: 30, residualOxidantMgPerL: Math.max(0, Number((d - 1.1).toFixed(2))), ironMgPerL: 0.05, manganeseMgPerL: d === 0 ? 0.02 : 0.1 }] })),
+    });
+    expect(ev.recommendedDose).toBeNull();
+    expect(ev.problems.map((p) => p.code)).toContain('CONTROL_JAR_CONTRADICTS_DOSED_JARS');
+    const text = pdfText(pdfFile(await renderSheet(jarTestEvaluationDocument(ev, ctx)), 'eval-none-control')).replace(/\s+/g, ' ');
+    expect(text).toContain('Recommended plant dose none: the control jar (no oxidant) met every target while dosed jars did not');
+    expect(text).not.toContain('no usable fit or jar meeting the targets');
+  });
+
   it('targets are named in words, and "none" says why in words and points to the section that lists the problems', async () => {
     const ev = evaluate((d) => Number((d - 1.1).toFixed(2)), { ironMgPerL: 0.01, manganeseMgPerL: 0.001, residualOxidantMgPerL: 0.2, residualOxidantMaxMgPerL: 3 });
     expect(ev.recommendedDose).toBeNull();

@@ -48,7 +48,7 @@ export const StockStrengthSchema = z.strictObject({
 
 const PipetteResolutionMl = z
   .number({ error: 'pipetteResolutionMl must be a number (mL)' })
-  .positive({ error: 'the pipette resolution must be more than 0 mL' })
+  .min(0.001, { error: 'the pipette resolution must be at least 0.001 mL (1 µL, the finest step of a bench micropipette; common practice)' })
   .max(10, { error: 'the pipette resolution must be at most 10 mL' })
   .describe('Smallest volume step the pipette reads, mL (default 0.1 mL, common practice)');
 

@@ -485,12 +485,29 @@ function checkOut(services: Services, body: JarCheckBodyT) {
   // puts on a product strength (tables/strength-limits.json) hold for it too.
   let strengthLimit: { severity: 'error' | 'warning'; message: string } | undefined;
   if (facts.stock.kind === 'trade-solution') {
-    const asProduct = { strength: { value: C, unit: 'g/L' } };
+    // The limits are stated on the product's strength formula (NaMnO4 for sodium permanganate); the stock
+    // strength is on the dose basis (as KMnO4): converted by the molar masses first, as the plan does.
+    const sl = strengthLimitFor(body.oxidant, services.dosing.strengthLimits);
+    const conv = services.dosing.conversions.get(body.oxidant);
+    const onProduct = sl !== undefined && sl.kind !== 'none' && sl.strengthOf === ox.productFormula && ox.productFormula !== ox.doseBasis && conv !== undefined;
+    const factor = onProduct ? conv.productPerBasis.toNumber() : 1;
+    const P = C * factor;
+    const asProduct = { strength: { value: P, unit: 'g/L' } };
+    const stockText = onProduct
+      ? `The stock, ${Number(C.toPrecision(6))} g/L as ${ox.doseBasis}, is ${roundSig(P, 4)} g/L ${ox.productFormula} (× ${roundSig(factor, 4)} g ${ox.productFormula} per g ${ox.doseBasis}, from the molar masses)`
+      : null;
+    // the converted figure as the limit's message prints it, to 4 significant figures
+    const shown = (m: string) => (onProduct ? m.split(String(P)).join(roundSig(P, 4)) : m);
     const refused = strengthLimitProblem(body.oxidant, asProduct, '/product', services.dosing.strengthLimits);
-    if (refused) strengthLimit = { severity: 'error', message: `The stock: ${refused.message}.` };
+    if (refused) strengthLimit = { severity: 'error', message: `${stockText === null ? 'The stock:' : `${stockText}:`} ${shown(refused.message)}.` };
     else {
       const above = strengthLimitFlags(ox, asProduct, 20, 'not used', false, services.dosing.strengthLimits);
-      if (above[0]) strengthLimit = { severity: 'warning', message: above[0].message.replace(/^The product strength, (.+?), is above /, 'A stock of $1 is above ').replace(/ Check the strength on the certificate[^]*$/, ' Check the stock strength and its unit: a jar stock is diluted from the trade product, never stronger than it.') };
+      if (above[0]) {
+        const m = shown(above[0].message)
+          .replace(/^The product strength, (.+?), is above /, stockText === null ? 'A stock of $1 is above ' : `${stockText}, above `)
+          .replace(/ Check the strength on the certificate[^]*$/, ' Check the stock strength and its unit: a jar stock is diluted from the trade product, never stronger than it.');
+        strengthLimit = { severity: 'warning', message: m };
+      }
     }
   }
   const check = mapped(
