@@ -141,8 +141,8 @@ export function jarProductFacts(row: OxidantRow, options: JarProductOptions = {}
         } else if (hit !== null) {
           density = hit.density.toNumber();
           notes.push(
-            `No density was given for ${fmt(value)} % w/w: ${hit.note} (tables/oxidants.json, source ${hit.source}), ${fmt(value * 10 * density, 4)} g/L. ` +
-              'The density also moves with temperature and excess caustic; give product.density from the certificate of analysis for the exact strength.',
+            `No density was given for ${fmt(value)} % w/w: ${hit.note} (tables/oxidants.json, source ${hit.source}), ${fmt(value * 10 * density, 4)} g/L as ${row.strength.basis === 'product' ? row.productFormula : row.doseBasis}. ` +
+              `The density also moves with temperature${row.doseBasis === 'Cl2' ? ' and excess caustic' : ''}; give product.density from the certificate of analysis for the exact strength.`,
           );
         } else {
           const range = series.length > 0 ? ` the table holds densities from ${fmt(series[0]!.massPercent.toNumber(), 4)} to ${fmt(series[series.length - 1]!.massPercent.toNumber(), 4)} % w/w, and` : '';

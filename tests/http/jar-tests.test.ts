@@ -339,6 +339,13 @@ describe('POST /api/v1/jar-tests/plans', () => {
     expect(r.json().stock.preparation.tradeStrength.value).toBeCloseTo(100 * rho, 9);
     const note = r.json().warnings.find((w: { message: string }) => w.message.includes('No density was given for 10 % w/w'));
     expect(note.message).toContain('1.159 kg/L interpolated');
+    expect(note.message).toMatch(/g\/L as Cl2\. The density also moves with temperature and excess caustic/);
+    // peroxide at 30 % w/w: between the tabled 27.5 % (1.10 kg/L) and 35 % (1.13 kg/L) rows → 1.11 kg/L, 333 g/L as H2O2; no caustic
+    const hp = await post('/api/v1/jar-tests/plans', { oxidant: 'hydrogen-peroxide', sample: SAMPLE, jarVolume: { value: 1, unit: 'L' }, product: { strength: { value: 30, unit: '% w/w' } } });
+    expect(hp.statusCode, hp.body).toBe(200);
+    const hpNote = hp.json().warnings.find((w: { message: string }) => w.message.includes('No density was given for 30 % w/w'));
+    expect(hpNote.message).toMatch(/333 g\/L as H2O2\. The density also moves with temperature;/);
+    expect(hpNote.message).not.toMatch(/caustic/);
     const dose = await post('/api/v1/doses', { oxidant: 'sodium-hypochlorite', sample: SAMPLE, flow: { value: 1000, unit: 'm3/d' }, product: { strength: { value: 10, unit: '% w/w' } } });
     expect(dose.statusCode).toBe(200);
     expect(JSON.stringify(dose.json().flags)).toContain('1.159 kg/L');
