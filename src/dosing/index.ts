@@ -558,33 +558,23 @@ export function computeDoseUncached(request: DoseRequest, context: DosingContext
       fields: [{ pointer: '/oxidant', message: `accepted: ${[...context.oxidants.keys()].join(', ')}` }],
     });
   }
-  if (req.product && oxidantFedAsGas(ox)) {
+  // a gas (or an oxidant generated and transferred as a gas) has no product strength, pump or batch
+  if (oxidantFedAsGas(ox)) {
     const how = ox.form === 'gas' ? 'is fed as a gas' : 'is generated on site and transferred to the water as a gas';
     const name = ox.name.replace(/\s*\([^)]*\)$/, '');
-    throw new DomainError('VALIDATION_FAILED', {
-      detail: `${name} ${how}: it has no product strength, density or solution rate, so product does not apply. Remove product; the feed is the mass rate (feed.massRate${ox.form === 'generated' ? ', and the generator output in feed.generator' : ''}).`,
-      fields: [{ pointer: '/product/strength', message: `${name} ${how}; a product ${req.product.strength ? `strength (${req.product.strength.value} ${req.product.strength.unit})` : 'entry'} does not apply: remove product` }],
-    });
-  }
-  if (req.pump && oxidantFedAsGas(ox)) {
-    const how = ox.form === 'gas' ? 'is fed as a gas' : 'is generated on site and transferred to the water as a gas';
-    const name = ox.name.replace(/\s*\([^)]*\)$/, '');
-    throw namePlantFields(
-      new DomainError('VALIDATION_FAILED', {
-        detail: `${name} ${how}: it has no solution rate, so a metering pump does not apply. Remove pump; the feeder is set by the mass rate (feed.massRate${ox.form === 'generated' ? ', and the generator output in feed.generator' : ''}).`,
-        fields: [{ pointer: '/pump', message: `${name} ${how}; a metering pump does not apply: remove pump` }],
-      }),
-    );
-  }
-  if (req.batch && oxidantFedAsGas(ox)) {
-    const how = ox.form === 'gas' ? 'is fed as a gas' : 'is generated on site and transferred to the water as a gas';
-    const name = ox.name.replace(/\s*\([^)]*\)$/, '');
-    throw namePlantFields(
-      new DomainError('VALIDATION_FAILED', {
-        detail: `${name} ${how}: there is no batch solution to make up, so batch does not apply. Remove batch; the feeder is set by the mass rate (feed.massRate).`,
-        fields: [{ pointer: '/batch', message: `${name} ${how}; a batch solution does not apply: remove batch` }],
-      }),
-    );
+    const feeder = `feed.massRate${ox.form === 'generated' ? ', and the generator output in feed.generator' : ''}`;
+    const refuse = (pointer: string, why: string, what: string) =>
+      namePlantFields(
+        new DomainError('VALIDATION_FAILED', {
+          detail: `${name} ${how}: ${why}. Remove ${pointer.split('/')[1]}; the feeder is set by the mass rate (${feeder}).`,
+          fields: [{ pointer, message: `${name} ${how}; ${what} does not apply: remove ${pointer.split('/')[1]}` }],
+        }),
+      );
+    if (req.product) {
+      throw refuse('/product/strength', 'it has no product strength, density or solution rate, so product does not apply', `a product ${req.product.strength ? `strength (${req.product.strength.value} ${req.product.strength.unit})` : 'entry'}`);
+    }
+    if (req.pump) throw refuse('/pump', 'it has no solution rate, so a metering pump does not apply', 'a metering pump');
+    if (req.batch) throw refuse('/batch', 'there is no batch solution to make up, so batch does not apply', 'a batch solution');
   }
   const per = context.perOxidant.get(ox.id)!;
   const flags: Flag[] = [];
