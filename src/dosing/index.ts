@@ -138,7 +138,7 @@ export interface DosingContext {
   readonly carbonateConstantsAt: (temperatureC: number) => CarbonateConstants;
   readonly pKaAt: (equilibriumId: string, temperatureC: number) => number;
   readonly o2SaturationAt: (temperatureC: number) => number;
-  /** The warmest temperature of tables/oxygen-saturation.json's points (°C); above it the Benson–Krause equation is extrapolated. */
+  /** The warmest temperature of tables/oxygen-saturation.json's points (°C); above it the saturation comes from Henry's law less the water vapour pressure (an extrapolation, flagged TEMPERATURE_BEYOND_CORRELATION). */
   readonly o2SaturationTableMaxC: number;
   /**
    * For Kw and the given equilibria at this temperature: a note for each whose temperature expression
@@ -293,30 +293,21 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
     .filter((r): r is Extract<typeof r, { kind: 'point' }> => r.kind === 'point')
     .map((r) => ({ t: Number(r.temperatureC), c: Number(r.valueText) }))
     .sort((a, b) => a.t - b.t);
-  // Benson & Krause (1984) as Standard Methods 4500-O prints it; the table (0–40 °C) is used where it
-  // reaches, the equation beyond it (an extrapolation, flagged by the dose route: O2_SATURATION_EXTRAPOLATED)
-  const satEquation = tables.oxygenSaturation.find((r): r is Extract<typeof r, { kind: 'equation' }> => r.kind === 'equation');
   const satTableMaxC = satPoints.length > 0 ? satPoints[satPoints.length - 1]!.t : Number.NaN;
-  const bensonKrause = (t: number): number | null => {
-    if (!satEquation) return null;
-    const [a0, a1, a2, a3, a4] = satEquation.coefficients.map(Number) as [number, number, number, number, number];
-    const T = t + constants.zeroCelsiusK.value;
-    return Math.exp(a0 + a1 / T + a2 / T ** 2 + a3 / T ** 3 + a4 / T ** 4);
-  };
   // Above the table: Henry's law with air's O2 (20.946 % of dry air, ISO 2533 / US Standard Atmosphere, from
   // memory) at 1 atm less the water vapour pressure, which takes the saturation to zero at the boiling point
   // (the Benson–Krause fit, made for 0–40 °C, does not); scaled to meet the table at its warmest point.
   const vapour = tables.oxygenSaturation.find((r): r is Extract<typeof r, { kind: 'vapour-pressure' }> => r.kind === 'vapour-pressure');
+  if (!vapour) throw new DomainError('TABLE_INVALID', { detail: 'tables/oxygen-saturation.json has no vapour-pressure row for the saturation above its points.' });
   const O2_IN_DRY_AIR = 0.20946;
-  const o2MolarMgPerMol = molarMassOf('O2').toNumber() * 1000;
-  const henrySaturation = (t: number): number | null => {
-    if (!vapour) return null;
+  const o2Molar = molarMassOf('O2').toNumber();
+  const henrySaturation = (t: number): number => {
     const [A, B, C] = vapour.coefficients.map(Number) as [number, number, number];
     const pw = 10 ** (A - B / (C + t)) / 760; // atm
-    return o2HenryAt(t) * O2_IN_DRY_AIR * Math.max(0, 1 - pw) * o2MolarMgPerMol;
+    return o2HenryAt(t) * O2_IN_DRY_AIR * Math.max(0, 1 - pw) * o2Molar * 1000;
   };
   const warmest = satPoints[satPoints.length - 1];
-  const henryAtWarmest = warmest ? henrySaturation(warmest.t) : null;
+  const henryAtWarmest = warmest ? henrySaturation(warmest.t) : 0;
   const o2SaturationAt = (t: number): number => {
     if (satPoints.length === 0) throw new DomainError('TABLE_INVALID', { detail: 'tables/oxygen-saturation.json has no points.' });
     if (t <= satPoints[0]!.t) return satPoints[0]!.c;
@@ -325,9 +316,7 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
       const b = satPoints[i]!;
       if (t <= b.t) return a.c + ((b.c - a.c) * (t - a.t)) / (b.t - a.t);
     }
-    const h = henrySaturation(t);
-    if (h !== null && henryAtWarmest) return (h * warmest!.c) / henryAtWarmest;
-    return bensonKrause(t) ?? warmest!.c;
+    return henryAtWarmest > 0 ? (henrySaturation(t) * warmest!.c) / henryAtWarmest : 0;
   };
   const temperatureRangeNotes = (equilibriumIds: readonly string[], t: number): { text: string; source: string }[] => {
     const notes: { text: string; source: string }[] = [];
@@ -340,7 +329,6 @@ export function buildDosingContext(tables: DosingTables, deps: DosingDeps = {}):
     }
     return notes;
   };
-  const o2Molar = molarMassOf('O2').toNumber();
   const pO2AirAtm = memoT((t) => o2SaturationAt(t) / 1000 / o2Molar / o2HenryAt(t));
   const daviesAAt = memoT((t) => daviesA(t, constants).A);
 

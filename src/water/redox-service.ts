@@ -132,8 +132,8 @@ function handbookGasKeys(ledger: Ledger): ReadonlySet<string> {
   return set;
 }
 
-/** A couple's species read as the handbook tables write it; the note says when a bare formula was read as the gas. */
-function asHandbookGas(s: Species, text: string, deps: RedoxDeps, notes: string[]): Species {
+/** A couple's species read as the handbook tables write it: a bare O2, O3, Cl2, H2 or N2 as the gas, a (cr) or (am) solid as the tabled solid; the note says so. */
+function asTabledSpecies(s: Species, text: string, deps: RedoxDeps, notes: string[]): Species {
   if (s.phase === 's' && /\((cr|am)\)\s*$/.test(s.text)) {
     // the tables hold one constant per solid formula; which solid forms is not told apart
     const note = `${text} is read as the solid ${s.text.replace(/\((cr|am)\)\s*$/, '(s)')}, at unit activity: the tables hold one solid of that formula (its row is in the derivation), whether crystalline (cr) or amorphous (am) was written. Crystalline solids are less soluble than amorphous ones, so give standardPotentialV with a site value and its source for another solid.`;
@@ -580,8 +580,8 @@ export interface CoupleInput {
 
 export function couplePotential(input: CoupleInput, deps: RedoxDeps) {
   const gasNotes: string[] = [];
-  const ox = asHandbookGas(parseAt(input.from, '/from', deps), input.from, deps, gasNotes);
-  const red = asHandbookGas(parseAt(input.to, '/to', deps), input.to, deps, gasNotes);
+  const ox = asTabledSpecies(parseAt(input.from, '/from', deps), input.from, deps, gasNotes);
+  const red = asTabledSpecies(parseAt(input.to, '/to', deps), input.to, deps, gasNotes);
   const temperatureC = input.temperatureC ?? 25;
   // every species given once, under one spelling, across activities and partialPressuresAtm
   const seen = new Map<string, GivenAt>();
@@ -808,7 +808,7 @@ export function evaluateCellText(input: CellInputText, deps: RedoxDeps, requestT
 
 export function evaluateCellUncached(input: CellInputText, deps: RedoxDeps) {
   const gasNotes: string[] = [];
-  const gasOf = (text: string, pointer: string) => asHandbookGas(parseAt(text, pointer, deps), text, deps, gasNotes);
+  const gasOf = (text: string, pointer: string) => asTabledSpecies(parseAt(text, pointer, deps), text, deps, gasNotes);
   const ox = { from: gasOf(input.oxidant.from, '/oxidant/from'), to: gasOf(input.oxidant.to, '/oxidant/to') };
   const red = { from: gasOf(input.reductant.from, '/reductant/from'), to: gasOf(input.reductant.to, '/reductant/to') };
   const medium = chooseMedium(input.medium, input.pH);
