@@ -73,7 +73,7 @@ export interface LinkResult {
   readonly links: ReadonlyMap<string, Link>;
   /** What the Nernst and cell code take (Conditions.linked). */
   readonly linked: ReadonlyMap<string, LinkedActivity>;
-  /** Keys of the given species whose value set a converted term. */
+  /** Keys of the given species whose value set a converted term, or that a term given itself overrode (said in notes). */
   readonly usedGiven: ReadonlySet<string>;
   /** Why a non-redox partner was not linked (several candidates, log K not derivable). */
   readonly notes: readonly string[];
@@ -143,13 +143,19 @@ export function linkGivenSpecies(
   const givenKeys = new Set(given.map((g) => g.key));
   const termKeys = new Set<string>();
   const candidates = new Map<string, Candidate>();
+  /** Dissolved or gas terms given themselves: a partner given too is not converted, and the note says so. */
+  const givenTerms = new Map<string, Species>();
   for (const { half, name } of halves) {
     const kinds = new Map(compileHalf(half, options.solids).terms.map((t) => [t.key, t.kind]));
     for (const t of half.terms) {
       const key = cachedSpeciesKey(t.species);
       termKeys.add(key);
       const kind = kinds.get(key);
-      if ((kind !== 'dissolved' && kind !== 'gas') || givenKeys.has(key)) continue;
+      if (kind !== 'dissolved' && kind !== 'gas') continue;
+      if (givenKeys.has(key)) {
+        givenTerms.set(key, t.species);
+        continue;
+      }
       const c = candidates.get(key);
       if (c) {
         if (!c.halves.includes(name)) c.halves.push(name);
@@ -159,8 +165,18 @@ export function linkGivenSpecies(
 
   const found = new Map<string, Omit<Link, 'linked' | 'perLog10Given'>[]>();
   const notes: string[] = [];
+  const overridden = new Set<string>();
   for (const g of given) {
     if (termKeys.has(g.key) || PH_OR_WATER.has(g.key) || isSolid(g.species, g.key, options.solids) || !Number.isFinite(g.log10Activity)) continue;
+    // the partner of a term that was given itself: two values for one species; the term's own value stands
+    for (const [key, term] of givenTerms) {
+      const completion = nonRedoxCompletion(g.species, g.key, term, key);
+      if (completion === null) continue;
+      overridden.add(g.key);
+      notes.push(
+        `${g.text} and ${term.text} were both given, and ${g.text} would set ${term.text} through ${completion.equation}: the value given for ${term.text} itself was used, and ${g.text} was not converted. Give one of them.`,
+      );
+    }
     for (const t of candidates.values()) {
       const completion = nonRedoxCompletion(g.species, g.key, t.species, t.key);
       if (completion === null) continue;
@@ -219,6 +235,7 @@ export function linkGivenSpecies(
     linked.set(termKey, la);
     usedGiven.add(l.from.key);
   }
+  for (const k of overridden) usedGiven.add(k);
   return { links, linked, usedGiven, notes };
 }
 

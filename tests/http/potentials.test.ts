@@ -467,6 +467,19 @@ describe('POST /api/v1/cells/evaluate', () => {
     expect(notes).toMatch(/H\+ is set by the pH; the concentration given for it agrees with the pH \(within 0.02 pH units\) and was not used/);
     const couple = (await post('/api/v1/couples/potential', { from: 'Fe3+', to: 'Fe2+', pH: 3, activities: { 'Fe3+': 1e-4, 'Fe2+': 1e-5, 'Mn2+': 0.1 } })).json();
     expect(couple.notes.join(' ')).toMatch(/Mn2\+ is not in the half-reaction; the activity given for it was not used/);
+    // dissolved O2 (mg/L) and the gas O2(g) (atm) both given: the gas term's own value is used, and the note says the other was not converted
+    const both = (await post('/api/v1/cells/evaluate', {
+      oxidant: { from: 'O2', to: 'H2O' },
+      reductant: { from: 'Fe2+', to: 'Fe(OH)3' },
+      pH: 7,
+      temperatureC: 20,
+      concentrations: { O2: { value: 1, unit: 'mg/L' }, 'O2(g)': { value: 0.9, unit: 'atm' } },
+    })).json();
+    const gasOnly = (await post('/api/v1/cells/evaluate', { oxidant: { from: 'O2', to: 'H2O' }, reductant: { from: 'Fe2+', to: 'Fe(OH)3' }, pH: 7, temperatureC: 20, concentrations: { 'O2(g)': { value: 0.9, unit: 'atm' } } })).json();
+    expect(both.cellPotentialV).toBe(gasOnly.cellPotentialV);
+    const bothNotes = both.notes.join(' ');
+    expect(bothNotes).toMatch(/were both given.*the value given for O2\(g\) itself was used/);
+    expect(bothNotes).not.toMatch(/O2 is not in either half-reaction/);
   });
 
   it('names every constant it used: row ids, source ids and relation ids all resolve through the tables routes', async () => {
