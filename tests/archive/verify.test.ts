@@ -6,7 +6,7 @@
 import { createHash } from 'node:crypto';
 import { afterEach, describe, expect, it } from 'vitest';
 import { recordHash, type Archive, type SheetSummary } from '../../src/archive/index.js';
-import { REGISTRY_COLUMNS as REGISTRY_COLUMNS_BY_FORMAT, REGISTRY_FORMAT, missingColumns, rowDigest } from '../../src/archive/registry.js';
+import { REGISTRY_COLUMNS as REGISTRY_COLUMNS_BY_FORMAT, REGISTRY_FORMAT, missingColumns, rowDigest, REGISTRY_TABLES } from '../../src/archive/registry.js';
 import type { SheetRow } from '../../src/archive/sheets.js';
 import { caught, doseSheetInput, ensureAuthor, fakeVerifyPdf, openTestArchive, rawTamper, tempDataDir } from './fixtures/archive-fixture.js';
 
@@ -359,8 +359,7 @@ describe('users, user events and signers are covered by the registry log', () =>
     await rawTamper(file, ['registry_log', 'signers', 'plant_versions'], (db) => {
       const last = db.prepare('SELECT seq, table_name, row_key FROM registry_log ORDER BY seq DESC LIMIT 1').get() as { seq: number; table_name: string; row_key: string };
       db.prepare('DELETE FROM registry_log WHERE seq = ?').run(last.seq);
-      const where = { user_events: 'seq = CAST(? AS INTEGER)', plant_versions: "plant_id || '#' || version = ?" }[last.table_name] ?? 'id = ?';
-      db.prepare(`DELETE FROM ${last.table_name} WHERE ${where}`).run(last.row_key);
+      db.prepare(`DELETE FROM ${last.table_name} WHERE CAST(${REGISTRY_TABLES[last.table_name as keyof typeof REGISTRY_TABLES]} AS TEXT) = ?`).run(last.row_key);
       db.prepare("UPDATE sqlite_sequence SET seq = seq - 1 WHERE name = 'registry_log'").run();
     });
     const a = reopen();

@@ -9,6 +9,7 @@ import { describe, expect, it } from 'vitest';
 import { buildDosingContext, computeDose, DoseResultSchema, parseDoseRequest, parsePlantProfile, type DoseResult } from '../../src/dosing/index.js';
 import { isDomainError } from '../../src/core/errors.js';
 import { context, tables } from './fixture.js';
+import { caught } from '../core/fixtures/caught.js';
 
 const M = { K: 39.098, Mn: 54.938, O: 15.999, Fe: 55.845, Cl: 35.45, N: 14.007 };
 const KMnO4 = M.K + M.Mn + 4 * M.O; // 158.032
@@ -341,14 +342,9 @@ describe('flags', () => {
     expect(detail.dissolvedOxygenMgPerL).toBeCloseTo(sat(60), 6);
     expect(Math.abs(detail.pO2Atm - 0.168) / 0.168).toBeLessThan(0.03);
     // boiling water holds none: oxygen is refused naming the temperature
-    let boiling: unknown;
-    try {
-      dose({ ...base, oxidant: 'oxygen', sample: { pH: 7, temperatureC: 100, iron: { value: 1, unit: 'mg/L' } } });
-    } catch (e) {
-      boiling = e;
-    }
-    expect(isDomainError(boiling) && boiling.code).toBe('CONDITIONS_OUT_OF_RANGE');
-    expect(isDomainError(boiling) && boiling.fields.map((f) => f.pointer)).toEqual(['/sample/temperatureC']);
+    const boiling = caught(() => dose({ ...base, oxidant: 'oxygen', sample: { pH: 7, temperatureC: 100, iron: { value: 1, unit: 'mg/L' } } }));
+    expect(boiling.code).toBe('CONDITIONS_OUT_OF_RANGE');
+    expect(boiling.fields.map((f) => f.pointer)).toEqual(['/sample/temperatureC']);
     // within the table and the correlations' ranges, no such flag
     expect(dose({ ...base, oxidant: 'oxygen', sample: { pH: 7, temperatureC: 25, iron: { value: 3, unit: 'mg/L' } } }).flags.map((x) => x.code)).not.toContain('TEMPERATURE_BEYOND_CORRELATION');
   });
@@ -386,13 +382,8 @@ describe('flags', () => {
     expect(msg({ nitrite: { value: 2, unit: 'mg/L' } }, 'NITRITE_UNUSUALLY_HIGH')).not.toMatch(/solids/);
   });
   it('a batch for a gas is refused naming /batch; for a solution it is not computed, with a note saying why', () => {
-    let err: unknown;
-    try {
-      dose({ ...base, oxidant: 'chlorine-gas', sample: { pH: 7.2, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } }, batch: { volume: { value: 100, unit: 'L' }, temperatureC: 20 } });
-    } catch (e) {
-      err = e;
-    }
-    expect(isDomainError(err) && err.fields.map((f) => f.pointer)).toEqual(['/batch']);
+    const err = caught(() => dose({ ...base, oxidant: 'chlorine-gas', sample: { pH: 7.2, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } }, batch: { volume: { value: 100, unit: 'L' }, temperatureC: 20 } }));
+    expect(err.fields.map((f) => f.pointer)).toEqual(['/batch']);
     const hypo = dose({ ...base, oxidant: 'sodium-hypochlorite', sample: { pH: 7.2, temperatureC: 15, iron: { value: 1, unit: 'mg/L' } }, product: { strength: { value: 12.5, unit: '% w/v' } }, batch: { volume: { value: 100, unit: 'L' } } });
     expect(hypo.feed!.batch).toBeNull();
     expect(hypo.flags.find((f) => f.code === 'BATCH_NOT_USED')?.message).toMatch(/delivered as a solution/);

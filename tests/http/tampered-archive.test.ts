@@ -18,7 +18,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import Database from 'better-sqlite3';
 import { buildApp } from '../../src/http/app.js';
-import { registryRecordHash, rowDigest } from '../../src/archive/registry.js';
+import { registryRecordHash, rowDigest, REGISTRY_TABLES } from '../../src/archive/registry.js';
 import { US_PLANT } from './fixtures/us-plant.js';
 
 const BOOTSTRAP = 'tampered-archive-bootstrap-token-0123456789';
@@ -148,8 +148,8 @@ describe('an app on a changed copy of the archive refuses to act on the changed 
       }[];
       let prev = '0'.repeat(64);
       for (const e of entries) {
-        const where = { user_events: 'seq = CAST(? AS INTEGER)', plant_versions: "plant_id || '#' || version = ?" }[e.table_name as string] ?? 'id = ?';
-        const row = db.prepare(`SELECT * FROM ${e.table_name} WHERE ${where}`).get(e.row_key) as Record<string, unknown>;
+        // the row by its registry key (REGISTRY_TABLES: a column, or an expression for a composite key)
+        const row = db.prepare(`SELECT * FROM ${e.table_name} WHERE CAST(${REGISTRY_TABLES[e.table_name]} AS TEXT) = ?`).get(e.row_key) as Record<string, unknown>;
         const next = { ...e, row_sha256: rowDigest(e.table_name, row, e.format)!, prev_hash: prev };
         const hash = registryRecordHash(next);
         db.prepare('UPDATE registry_log SET row_sha256 = ?, prev_hash = ?, record_hash = ? WHERE seq = ?').run(next.row_sha256, prev, hash, e.seq);

@@ -3,6 +3,7 @@ import fc from 'fast-check';
 import { DomainError } from '../../src/core/errors.js';
 import { CHECK_CODES, checkJarPlan, type CheckJarPlanInput } from '../../src/jar-tests/check.js';
 import { planJarTest } from '../../src/jar-tests/plan.js';
+import { caught as invalid } from '../core/fixtures/caught.js';
 
 // A sound plan: 1.0 g/L stock, 2 L jars, 1 mg/L per 2 mL (aliquot = D × 2 L ÷ 1.0 mg/mL),
 // doses stated as the nominal a·C/V; estimate 1.8 mg/L lies inside 0.5 … 3.0.
@@ -27,15 +28,6 @@ function allCodes(r: ReturnType<typeof checkJarPlan>): string[] {
   return [...r.problems, ...r.jars.flatMap((j) => j.problems)].map((p) => p.code);
 }
 
-function invalid(fn: () => unknown): DomainError {
-  try {
-    fn();
-  } catch (e) {
-    if (e instanceof DomainError) return e;
-    throw e;
-  }
-  throw new Error('expected a DomainError');
-}
 
 describe('checkJarPlan: bad input', () => {
   it.each([

@@ -4,16 +4,8 @@ import { DomainError } from '../../src/core/errors.js';
 import { evaluateJarTest, type EvaluateJarTestInput, type JarInput } from '../../src/jar-tests/evaluate.js';
 import { studentTQuantile } from '../../src/jar-tests/stats.js';
 import { syntheticResiduals } from './prng.js';
+import { caught as fails } from '../core/fixtures/caught.js';
 
-function fails(fn: () => unknown): DomainError {
-  try {
-    fn();
-  } catch (e) {
-    if (e instanceof DomainError) return e;
-    throw e;
-  }
-  throw new Error('expected a DomainError');
-}
 
 // US secondary drinking-water levels, 40 CFR 143.3: iron 0.3 mg/L, manganese 0.05 mg/L.
 // Passed in the way the HTTP layer passes the rows of tables/limits.json.

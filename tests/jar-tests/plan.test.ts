@@ -4,6 +4,7 @@ import { DomainError } from '../../src/core/errors.js';
 import { planJarTest, type PlanJarTestInput } from '../../src/jar-tests/plan.js';
 import type { JarProductFacts } from '../../src/jar-tests/product.js';
 import { isMultipleOf } from '../../src/jar-tests/common.js';
+import { caught as invalid } from '../core/fixtures/caught.js';
 
 // Product facts as the HTTP layer passes them in from the oxidant table. The numbers here are
 // test inputs, not reference values: the purity is an invented assay; 64 g/L is about the
@@ -37,15 +38,6 @@ function codes(p: { warnings: readonly { code: string }[] }): string[] {
   return p.warnings.map((w) => w.code);
 }
 
-function invalid(fn: () => unknown): DomainError {
-  try {
-    fn();
-  } catch (e) {
-    if (e instanceof DomainError) return e;
-    throw e;
-  }
-  throw new Error('expected a DomainError');
-}
 
 describe('planJarTest: bad input (edge cases first)', () => {
   it.each([
